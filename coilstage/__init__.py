@@ -1,0 +1,30 @@
+"""coilstage: check the DC supply of an eddy-current retarder's coil stages before power-up.
+
+The small public API::
+
+    from coilstage import load_drawing, check
+    drawing = load_drawing("configs/coach-24v-4stage.toml")
+    analysis, verdicts = check(drawing)
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+__all__ = ["__version__", "check", "load_drawing"]
+
+
+def load_drawing(path):  # noqa: ANN001, ANN201 - re-exported, documented there
+    """Read a drawing file; see :func:`coilstage.drawing.load.load_drawing`."""
+    from coilstage.drawing.load import load_drawing as _load
+
+    return _load(path)
+
+
+def check(drawing):  # noqa: ANN001, ANN201
+    """Analyse a drawing and run every rule: returns ``(analysis, verdicts)``."""
+    from coilstage.analysis.corners import analyse
+    from coilstage.checks import run_checks
+
+    a = analyse(drawing)
+    return a, run_checks(a)

@@ -1,0 +1,5 @@
+"""``python -m coilstage``."""
+
+from coilstage.cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,1 @@
+"""Turns a Drawing into physics inputs and runs the operating corners; returns plain results."""

@@ -1,0 +1,194 @@
+"""The operating corners of a drawing: cold (duty), hot (what braking remains) and limit (voltage
+ratings), plus the prospective short-circuit current at each fuse."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from coilstage.analysis.circuit import Circuit, SourceState, Solution
+from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
+
+
+@dataclass(frozen=True)
+class StageResult:
+    id: str
+    temperature: float  # winding [°C]
+    resistance: float  # stage [Ω]
+    current: float  # stage [A]
+    coil_current: float  # one coil [A]
+    terminal_voltage: float  # [V]
+    power: float  # [W]
+    ampere_turns: float  # one coil, N·I [A]
+    drop: float  # battery terminals to stage terminals [V]
+    drop_fraction: float  # of the nominal system voltage
+    stored_energy: float  # ½ L I² of the stage [J]
+
+
+@dataclass(frozen=True)
+class CornerResult:
+    name: str
+    purpose: str
+    conditions: dict[str, str]
+    solution: Solution
+    stages: list[StageResult]
+    temperatures: dict[str, float]
+    total_stage_current: float
+    bus_voltage: float  # battery terminal voltage [V]
+    battery_current: float
+    alternator_current: float
+    alternator_mode: str
+    base_load: float
+
+
+@dataclass(frozen=True)
+class Analysis:
+    drawing: Drawing
+    circuit: Circuit
+    corners: dict[str, CornerResult]
+    fault_current: dict[str, float]  # fuse id -> prospective current at its load terminal [A]
+    battery_short_circuit: float  # at the battery terminals, alternator included [A]
+    protected: dict[str, list[str]] = field(default_factory=dict)  # fuse id -> cable ids
+
+
+def _stage_results(d: Drawing, sol: Solution, temps: dict[str, float]) -> list[StageResult]:
+    out = []
+    v_bus = sol.v[d.supply.battery.node] - sol.v[d.supply.negative_node]
+    for s in d.stages:
+        i = sol.current[s.id]
+        vt = sol.v[s.a] - sol.v[s.b]
+        drop = v_bus - vt
+        ic = i * s.coil_current_factor
+        out.append(
+            StageResult(
+                s.id, temps[s.id], sol.resistance[s.id], i, ic, vt, vt * i, s.coil.turns * ic,
+                drop, drop / d.supply.system_voltage, 0.5 * s.inductance * i * i,
+            )
+        )
+    return out
+
+
+def _corner(circuit: Circuit, name: str, purpose: str, conditions: dict[str, str],
+            temps: dict[str, float], src: SourceState) -> CornerResult:
+    d = circuit.drawing
+    sol = circuit.solve(temps, src)
+    stages = _stage_results(d, sol, temps)
+    return CornerResult(
+        name, purpose, conditions, sol, stages, temps, sum(s.current for s in stages),
+        sol.v[d.supply.battery.node] - sol.v[d.supply.negative_node], sol.battery_current,
+        sol.alternator_current, sol.alternator_mode, d.supply.base_load,
+    )
+
+
+def cold_temperatures(d: Drawing) -> dict[str, float]:
+    t = d.corners.cold_ambient
+    return {e.id: t for e in d.elements if isinstance(e, (Cable, Stage))}
+
+
+def hot_temperatures(d: Drawing) -> dict[str, float]:
+    temps: dict[str, float] = {}
+    for e in d.elements:
+        if isinstance(e, Cable):
+            temps[e.id] = e.zone_temperature
+        elif isinstance(e, Stage):
+            temps[e.id] = e.coil.hot_temperature
+    return temps
+
+
+def analyse(d: Drawing) -> Analysis:
+    """Solve the three corners and the prospective fault currents of a drawing."""
+    circuit = Circuit(d)
+    c = d.corners
+    alt = d.supply.alternator
+    rated = alt.limit_rated if alt else None
+    cold_src = SourceState(c.cold_bus, c.cold_bus if alt else None, rated, hold_bus=c.cold_bus)
+    # Prospective fault current: a charged battery at the cold bus voltage behind its internal
+    # resistance, plus the alternator at its rated-speed limit (the bus cannot be held in a fault).
+    fault_src = SourceState(c.cold_bus, c.cold_bus if alt else None, rated)
+    hot_limit = {"idle": alt.limit_idle if alt else None, "rated": rated, "off": None}[c.hot_alternator]
+    hot_src = SourceState(c.hot_battery_emf, alt.setpoint if alt else None, hot_limit)
+    limit_src = SourceState(c.limit_bus, c.limit_bus if alt else None, rated, hold_bus=c.limit_bus)
+    cold_t = cold_temperatures(d)
+    hot_t = hot_temperatures(d)
+    alt_text = (
+        "absent: the battery holds the bus" if alt is None
+        else f"full rated-speed output {rated:g} A at its terminal; the battery takes the difference"
+    )
+    corners = {
+        "cold": _corner(
+            circuit, "cold", "cable, fuse and relay duty (largest current)",
+            {
+                "coils and cables": f"{c.cold_ambient:g} °C (lowest ambient)",
+                "bus": f"held at {c.cold_bus:.2f} V at the battery terminals (highest regulated voltage)",
+                "alternator": alt_text,
+            },
+            cold_t, cold_src,
+        ),
+        "hot": _corner(
+            circuit, "hot", "braking current that remains (hot coils, sagging bus)",
+            {
+                "coils": ", ".join(sorted({f"{e.coil.name} {e.coil.hot_temperature:g} °C" for e in d.stages})),
+                "cables": "at their zone temperatures",
+                "battery": f"EMF {c.hot_battery_emf:.2f} V",
+                "alternator": "off" if hot_limit is None else f"set-point {alt.setpoint:.2f} V, {c.hot_alternator} output {hot_limit:g} A",
+            },
+            hot_t, hot_src,
+        ),
+        "limit": _corner(
+            circuit, "limit", "voltage ratings of fuses, relays and suppressors (not thermal duty)",
+            {
+                "bus": f"held at {c.limit_bus:.2f} V ({d.supply.limits_source or 'drawing'} maximum)",
+                "coils and cables": f"{c.cold_ambient:g} °C",
+            },
+            cold_t, limit_src,
+        ),
+    }
+    faults: dict[str, float] = {}
+    for f in d.of_kind(Fuse):
+        sol = circuit.solve(cold_t, fault_src, short_at=f.b)
+        faults[f.id] = abs(sol.fault_current or 0.0)
+    bat_sc = circuit.solve(cold_t, fault_src, short_at=d.supply.battery.node).fault_current or 0.0  # to chassis
+    return Analysis(d, circuit, corners, faults, abs(bat_sc), protected_cables(d))
+
+
+def protected_cables(d: Drawing) -> dict[str, list[str]]:
+    """Fuse id -> the cables it protects: those named in ``protects``, or else the cables that lose
+    their connection to the battery when the fuse opens and for which it is the nearest such fuse."""
+    from collections import defaultdict
+
+    pos, neg = d.supply.battery.node, d.supply.negative_node
+    adj: dict[str, list[tuple[str, str]]] = defaultdict(list)
+    for e in d.elements:
+        if isinstance(e, Stage):
+            continue  # a path through a load is no supply path
+        adj[e.a].append((e.b, e.id))
+        adj[e.b].append((e.a, e.id))
+
+    def reachable_without(skip: str) -> set[str]:
+        seen, todo = {pos}, [pos]
+        while todo:
+            n = todo.pop()
+            for m, eid in adj[n]:
+                if eid != skip and m not in seen and m != neg:
+                    seen.add(m)
+                    todo.append(m)
+        return seen
+
+    fuses = d.of_kind(Fuse)
+    cables = [c for c in d.of_kind(Cable) if c.role == "feed"]
+    cut_by: dict[str, set[str]] = {}  # fuse -> cables cut off when it opens
+    for f in fuses:
+        live = reachable_without(f.id)
+        cut_by[f.id] = {c.id for c in cables if c.a not in live and c.b not in live}
+    out: dict[str, list[str]] = {}
+    for f in fuses:
+        if f.protects is not None:
+            out[f.id] = list(f.protects)
+            continue
+        mine = []
+        for cid in sorted(cut_by[f.id]):
+            # nearest: no other fuse that also cuts this cable is itself cut off by f
+            others = [g for g in fuses if g.id != f.id and cid in cut_by[g.id]]
+            if not any(g.id for g in others if cut_by[f.id] >= cut_by[g.id] and cut_by[g.id] != cut_by[f.id]):
+                mine.append(cid)
+        out[f.id] = mine
+    return out

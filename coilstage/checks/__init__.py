@@ -1,0 +1,20 @@
+"""The rules, in the order the report lists them, and the function that runs them all."""
+
+from __future__ import annotations
+
+from coilstage.analysis.corners import Analysis
+from coilstage.checks import cables, protection, supply
+from coilstage.checks.base import Rule, Status, Verdict
+
+RULES: list[Rule] = [*cables.RULES, *protection.RULES, *supply.RULES]
+
+
+def run_checks(a: Analysis) -> list[Verdict]:
+    """Every verdict of every rule on one analysed drawing."""
+    out: list[Verdict] = []
+    for rule in RULES:
+        out.extend(rule.evaluate(a))
+    return out
+
+
+__all__ = ["RULES", "Rule", "Status", "Verdict", "run_checks"]

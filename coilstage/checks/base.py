@@ -1,0 +1,70 @@
+"""Verdicts and rules.
+
+A rule has an id, a title, the clause it rests on, and a function from an Analysis to Verdicts.
+Margin convention (one for the whole program): the headroom as a fraction of the limit, positive
+when the value is on the safe side — ``(limit − value)/limit`` for a ceiling, ``(value − limit)/limit``
+for a floor; temperatures on the kelvin scale.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+from enum import Enum
+
+
+class Status(str, Enum):
+    PASS = "pass"
+    WARN = "warn"
+    FAIL = "fail"
+    NOT_CHECKED = "not checked"
+
+
+@dataclass(frozen=True)
+class Verdict:
+    rule: str
+    subject: str
+    status: Status
+    value: float | None
+    limit: float | None
+    unit: str
+    margin: float | None
+    clause: str
+    note: str
+    corner: str = ""
+
+    def __post_init__(self) -> None:
+        if self.status is Status.NOT_CHECKED and not self.note:
+            raise ValueError("a verdict that could not be reached needs its reason")
+        for x in (self.value, self.limit, self.margin):
+            if x is not None and not math.isfinite(x):
+                raise ValueError(f"non-finite figure in verdict {self.rule} {self.subject}")
+
+
+@dataclass(frozen=True)
+class Rule:
+    id: str
+    title: str
+    clause: str
+    evaluate: Callable[..., list[Verdict]]
+
+
+def ceiling(value: float, limit: float) -> float:
+    """Margin of a value that must not exceed ``limit``."""
+    return (limit - value) / limit if limit else -math.inf if value > 0 else 0.0
+
+
+def ceiling_temperature(value: float, limit: float) -> float:
+    """Margin of a temperature [°C] that must not exceed ``limit`` [°C], taken on the kelvin scale
+    (a fraction of a Celsius value means nothing: the scale has an arbitrary zero)."""
+    return ceiling(value + 273.15, limit + 273.15)
+
+
+def floor(value: float, limit: float) -> float:
+    """Margin of a value that must not fall below ``limit``."""
+    return (value - limit) / limit if limit else 0.0
+
+
+def not_checked(rule: Rule, subject: str, reason: str, unit: str = "", corner: str = "") -> Verdict:
+    return Verdict(rule.id, subject, Status.NOT_CHECKED, None, None, unit, None, rule.clause, reason, corner)

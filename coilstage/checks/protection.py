@@ -1,0 +1,189 @@
+"""Fuse and relay rules."""
+
+from __future__ import annotations
+
+from coilstage import tables
+from coilstage.analysis.corners import Analysis
+from coilstage.checks.base import Rule, Status, Verdict, ceiling, floor, not_checked
+from coilstage.checks.cables import cable_ampacity
+from coilstage.drawing.schema import Cable, Fuse, Relay
+
+
+def _fuse_continuous(a: Analysis) -> list[Verdict]:
+    out = []
+    frac = float(tables.fuse_rules()["continuous_fraction"])
+    for f in a.drawing.of_kind(Fuse):
+        i = abs(a.corners["cold"].solution.current[f.id])
+        rer = tables.fuse_rerating(f.zone_temperature)
+        carry = f.rating * rer
+        limit = frac * carry
+        status = Status.PASS if i <= limit else Status.WARN if i <= carry else Status.FAIL
+        note = (f"{f.rating:g} A {f.part} type {f.fuse_type} x {rer:.3f} rerating at {f.zone_temperature:g} °C "
+                f"({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to 100 %")
+        out.append(Verdict(FUSE_CONTINUOUS.id, f.id, status, i, limit, "A", ceiling(i, limit), FUSE_CONTINUOUS.clause, note, "cold"))
+    return out
+
+
+def _fuse_protects(a: Analysis) -> list[Verdict]:
+    out = []
+    cables = {c.id: c for c in a.drawing.of_kind(Cable)}
+    for f in a.drawing.of_kind(Fuse):
+        ids = a.protected.get(f.id, [])
+        unknown = [i for i in ids if i not in cables]
+        if unknown:
+            out.append(not_checked(FUSE_PROTECTS, f.id, f"protects names no cable with id {', '.join(unknown)}", "A"))
+            continue
+        if not ids:
+            out.append(not_checked(FUSE_PROTECTS, f.id, "no cable found downstream of this fuse (name them in protects)", "A"))
+            continue
+        amps = []
+        for cid in ids:
+            amp = cable_ampacity(a, cables[cid])
+            if isinstance(amp, str):
+                out.append(not_checked(FUSE_PROTECTS, f.id, f"ampacity of {cid} unknown: {amp}", "A"))
+                break
+            amps.append((amp.value, cid))
+        else:
+            weakest, cid = min(amps)
+            if f.rating <= weakest:
+                status, note = Status.PASS, f"rating within the ampacity of {cid}, the weakest cable it protects"
+            elif f.rating <= 1.5 * weakest:
+                between = [s for s in f.series if weakest < s < f.rating]
+                if f.series and not between:
+                    status = Status.PASS
+                    note = f"next standard size above the {weakest:.1f} A ampacity of {cid}, within 150 % (allowed by E-11)"
+                elif f.series:
+                    status = Status.FAIL
+                    note = f"not the next size up: {', '.join(f'{s:g}' for s in between)} A lie between ampacity {weakest:.1f} A of {cid} and the rating"
+                else:
+                    status = Status.WARN
+                    note = (f"above the {weakest:.1f} A ampacity of {cid} but within 150 %; the type has no shipped "
+                            "rating series, so 'next size up' could not be confirmed")
+            else:
+                status, note = Status.FAIL, f"rating above 150 % of the {weakest:.1f} A ampacity of {cid}"
+            out.append(Verdict(FUSE_PROTECTS.id, f.id, status, f.rating, weakest, "A", ceiling(f.rating, weakest),
+                               FUSE_PROTECTS.clause, note + f" (protects {', '.join(ids)})"))
+    return out
+
+
+def _fuse_voltage(a: Analysis) -> list[Verdict]:
+    v = a.drawing.corners.limit_bus
+    out = []
+    for f in a.drawing.of_kind(Fuse):
+        status = Status.PASS if f.voltage_rating >= v else Status.FAIL
+        out.append(Verdict(FUSE_VOLTAGE.id, f.id, status, f.voltage_rating, v, "V", floor(f.voltage_rating, v), FUSE_VOLTAGE.clause,
+                           f"fuse rated {f.voltage_rating:g} V against the system's highest voltage {v:g} V "
+                           f"({a.drawing.supply.limits_source or 'drawing'})", "limit"))
+    return out
+
+
+def _fuse_breaking(a: Analysis) -> list[Verdict]:
+    out = []
+    for f in a.drawing.of_kind(Fuse):
+        i = a.fault_current[f.id]
+        status = Status.PASS if f.breaking_capacity >= i else Status.FAIL
+        out.append(Verdict(FUSE_BREAKING.id, f.id, status, i, f.breaking_capacity, "A", ceiling(i, f.breaking_capacity),
+                           FUSE_BREAKING.clause,
+                           f"bolted short from the load terminal ({f.b}) to chassis ({a.drawing.supply.chassis_node}) at the cold corner, battery "
+                           f"and alternator feeding; breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})", "cold"))
+    return out
+
+
+def relay_rating(r: Relay, system: int) -> tuple[float | None, str]:
+    """The contact rating that applies on this system, with a note; None when there is none."""
+    if system == 24:
+        if r.rating_24v is not None:
+            return r.rating_24v, "24 V rating"
+        return None, "only a 12 V rating is given; a 12 V contact rating does not hold on a 24 V bus"
+    if r.rating_12v is not None:
+        return r.rating_12v, "12 V rating"
+    return r.rating_24v, "only a 24 V rating is given; used on the 12 V bus (conservative)"
+
+
+def relay_temperature_factor(r: Relay) -> tuple[float | None, str]:
+    """Fraction of the rating that holds in the relay's zone, with a note."""
+    t = r.zone_temperature
+    if r.max_ambient is not None and t > r.max_ambient:
+        return None, f"zone {r.zone} ({t:g} °C) is above the relay's highest ambient {r.max_ambient:g} °C"
+    if t <= r.rated_ambient:
+        return 1.0, f"zone {t:g} °C within the rated ambient {r.rated_ambient:g} °C"
+    if r.derated is None:
+        return 1.0, (f"zone {t:g} °C above the rated ambient {r.rated_ambient:g} °C and no derating given: "
+                     "rating used as stated")
+    f, td = r.derated
+    k = 1.0 + (f - 1.0) * (t - r.rated_ambient) / (td - r.rated_ambient) if td != r.rated_ambient else f
+    return max(k, 0.0), f"derated linearly to {k:.3f} at {t:g} °C (given: {f:.0%} at {td:g} °C)"
+
+
+def _relay_contact(a: Analysis) -> list[Verdict]:
+    out = []
+    system = a.drawing.supply.system_voltage
+    for r in a.drawing.of_kind(Relay):
+        i = abs(a.corners["cold"].solution.current[r.id])
+        rating, rnote = relay_rating(r, system)
+        if rating is None:
+            out.append(Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, rnote, "cold"))
+            continue
+        k, tnote = relay_temperature_factor(r)
+        if k is None:
+            out.append(Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, "cold"))
+            continue
+        limit = rating * k
+        status = Status.PASS if i <= 0.9 * limit else Status.WARN if i <= limit else Status.FAIL
+        if status is Status.PASS and r.derated is None and r.zone_temperature > r.rated_ambient:
+            status = Status.WARN
+        out.append(Verdict(RELAY_CONTACT.id, r.id, status, i, limit, "A", ceiling(i, limit), RELAY_CONTACT.clause,
+                           f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice)", "cold"))
+    return out
+
+
+def _relay_voltage(a: Analysis) -> list[Verdict]:
+    v = a.drawing.corners.limit_bus
+    out = []
+    for r in a.drawing.of_kind(Relay):
+        if r.voltage_rating is None:
+            out.append(not_checked(RELAY_VOLTAGE, r.id, "no voltage_rating given for this relay", "V", "limit"))
+            continue
+        status = Status.PASS if r.voltage_rating >= v else Status.FAIL
+        out.append(Verdict(RELAY_VOLTAGE.id, r.id, status, r.voltage_rating, v, "V", floor(r.voltage_rating, v),
+                           RELAY_VOLTAGE.clause, f"highest switching voltage {r.voltage_rating:g} V against {v:g} V", "limit"))
+    return out
+
+
+FUSE_CONTINUOUS = Rule(
+    "fuse.continuous",
+    "Fuse continuous current within 75 % of its rating rerated for its zone",
+    "75 % continuous-load rule (common practice; circuitprotection.ca fuseology); rerating curve from memory",
+    _fuse_continuous,
+)
+FUSE_PROTECTS = Rule(
+    "fuse.protects_cable",
+    "Fuse rating not above the ampacity of the cable it protects (next size up at most 150 %)",
+    "ABYC E-11 overcurrent protection of conductors (150 % next-size-up allowance)",
+    _fuse_protects,
+)
+FUSE_VOLTAGE = Rule(
+    "fuse.voltage_rating",
+    "Fuse voltage rating at least the system's highest voltage",
+    "ISO 8820-1/-3: rated voltage 32 V or 58 V; system maximum from ISO 16750-2",
+    _fuse_voltage,
+)
+FUSE_BREAKING = Rule(
+    "fuse.breaking_capacity",
+    "Fuse breaking capacity at least the prospective short-circuit current at its place",
+    "ISO 8820-3/-4 (1 000 A), -5/-6 (2 000 A) breaking capacity; fault current computed from the network",
+    _fuse_breaking,
+)
+RELAY_CONTACT = Rule(
+    "relay.contact_rating",
+    "Relay contact current within its rating at the system voltage and zone temperature",
+    "Maker's contact rating at 12 V / 24 V (a 12 V rating is about twice the 24 V one: arcs sustain at 24-28 V)",
+    _relay_contact,
+)
+RELAY_VOLTAGE = Rule(
+    "relay.voltage_rating",
+    "Relay switching voltage rating at least the system's highest voltage",
+    "ISO 16750-2 system maximum; maker's rated switching voltage",
+    _relay_voltage,
+)
+RULES = [FUSE_CONTINUOUS, FUSE_PROTECTS, FUSE_VOLTAGE, FUSE_BREAKING, RELAY_CONTACT, RELAY_VOLTAGE]

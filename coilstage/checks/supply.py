@@ -1,0 +1,50 @@
+"""Supply rules: alternator output against the demand, bus voltage against the supply code."""
+
+from __future__ import annotations
+
+from coilstage.analysis.corners import Analysis
+from coilstage.checks.base import Rule, Status, Verdict, ceiling, floor, not_checked
+
+
+def _alternator(a: Analysis) -> list[Verdict]:
+    alt = a.drawing.supply.alternator
+    if alt is None:
+        return [not_checked(ALTERNATOR, "alternator", "the drawing has no alternator", "A")]
+    cold = a.corners["cold"]
+    demand = cold.total_stage_current + cold.base_load
+    out = []
+    for label, limit in (("idle", alt.limit_idle), ("rated speed", alt.limit_rated)):
+        share = max(demand - limit, 0.0)
+        status = Status.PASS if demand <= limit else Status.WARN
+        note = (f"stages {cold.total_stage_current:.1f} A + base load {cold.base_load:.1f} A at the cold corner "
+                f"against {limit:g} A at {label}")
+        if share > 0:
+            note += f"; the battery supplies {share:.1f} A ({share / demand:.0%}) while the retarder is on"
+        out.append(Verdict(ALTERNATOR.id, f"alternator ({label})", status, demand, limit, "A", ceiling(demand, limit),
+                           ALTERNATOR.clause, note, "cold"))
+    return out
+
+
+def _bus_minimum(a: Analysis) -> list[Verdict]:
+    hot = a.corners["hot"]
+    s = a.drawing.supply
+    status = Status.PASS if hot.bus_voltage >= s.v_min else Status.FAIL
+    return [Verdict(BUS_MINIMUM.id, "bus", status, hot.bus_voltage, s.v_min, "V", floor(hot.bus_voltage, s.v_min),
+                    BUS_MINIMUM.clause,
+                    f"bus at the battery terminals in the hot corner (battery {hot.battery_current:.1f} A, alternator "
+                    f"{hot.alternator_current:.1f} A {hot.alternator_mode}) against the {s.limits_source} minimum", "hot")]
+
+
+ALTERNATOR = Rule(
+    "supply.alternator",
+    "Alternator output at idle and at rated speed against stages plus base load",
+    "ISO 8854 rating convention (output at idle and at rated speed); energy balance of the descent is the arbiter",
+    _alternator,
+)
+BUS_MINIMUM = Rule(
+    "supply.bus_minimum",
+    "Bus voltage with the retarder on stays above the supply code's minimum",
+    "ISO 16750-2:2010 Tables 1 and 2 (supply voltage codes)",
+    _bus_minimum,
+)
+RULES = [ALTERNATOR, BUS_MINIMUM]

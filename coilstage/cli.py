@@ -1,0 +1,146 @@
+"""The command line: ``coilstage check``, ``coilstage tables``, ``coilstage rules``.
+
+Exit codes: 0 no failure; 1 at least one FAIL verdict; 2 a bad drawing, table or usage; 3 an internal
+error (a bug: please report it with the drawing).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+EXIT_OK, EXIT_FAIL, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
+
+
+def _parser() -> argparse.ArgumentParser:
+    from coilstage import __version__
+
+    p = argparse.ArgumentParser(
+        prog="coilstage",
+        description="Check the DC supply of a retarder's coil stages: currents, bus, cables, fuses, relays.",
+    )
+    p.add_argument("--version", action="version", version=f"coilstage {__version__}")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    c = sub.add_parser("check", help="solve a drawing and give the verdicts")
+    c.add_argument("drawing", help="the drawing file (TOML)")
+    c.add_argument("--format", "-f", choices=["text", "json", "markdown"], default="text", help="report format (text)")
+    c.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE instead of the terminal")
+    c.add_argument("--details", "-d", action="store_true", help="text report: show the reasoning of every verdict")
+    sub.add_parser("tables", help="list the shipped data tables and their sources")
+    sub.add_parser("rules", help="list the rules with the clauses they rest on")
+    return p
+
+
+def _console(stream, to_file: bool):
+    from rich.console import Console
+
+    if to_file:
+        return Console(file=stream, width=140, color_system=None, force_terminal=False)
+    return Console(file=stream)
+
+
+def _print_problems(source: str, problems, kind: str = "drawing") -> None:
+    print(f"coilstage: {source}: the {kind} cannot be used ({len(problems)} problem{'s' * (len(problems) != 1)}):",
+          file=sys.stderr)
+    for p in problems:
+        print(f"  {p}", file=sys.stderr)
+
+
+def _check(args: argparse.Namespace) -> int:
+    from coilstage.errors import DataError, DrawingError
+
+    drawing_path = Path(args.drawing)
+    if args.output and Path(args.output).resolve() == drawing_path.resolve():
+        print("coilstage: --output would overwrite the drawing itself; choose another file", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    try:
+        from coilstage import check, load_drawing
+
+        drawing = load_drawing(drawing_path)
+        analysis, verdicts = check(drawing)
+    except DrawingError as exc:
+        _print_problems(exc.source, exc.problems)
+        return EXIT_BAD_INPUT
+    except DataError as exc:
+        _print_problems(exc.source, exc.problems, "table")
+        return EXIT_BAD_INPUT
+    from coilstage.report import document
+
+    doc = document.build(analysis, verdicts)
+    out = open(args.output, "w", encoding="utf-8") if args.output else sys.stdout  # noqa: SIM115
+    try:
+        if args.format == "json":
+            from coilstage.report import jsonout
+
+            out.write(jsonout.render(doc))
+        elif args.format == "markdown":
+            from coilstage.report import markdown
+
+            out.write(markdown.render(doc))
+        else:
+            from coilstage.report import text
+
+            text.render(doc, _console(out, bool(args.output)), details=args.details)
+    finally:
+        if args.output:
+            out.close()
+    summ = doc["summary"]
+    if args.output or args.format != "text":
+        print(
+            f"coilstage: {summ['result'].upper()} — {summ['fail']} fail, {summ['warn']} warn, {summ['pass']} pass, "
+            f"{summ['not_checked']} not checked" + (f"; report written to {args.output}" if args.output else ""),
+            file=sys.stderr,
+        )
+    return EXIT_FAIL if summ["fail"] else EXIT_OK
+
+
+def _tables() -> int:
+    from rich.table import Table
+
+    from coilstage.tables import list_tables
+
+    t = Table(title="Shipped tables (coilstage/data)", title_justify="left")
+    for col in ("file", "kind", "rows", "standard", "status"):
+        t.add_column(col, overflow="fold")
+    for row in list_tables():
+        t.add_row(row["file"], row["kind"], row["rows"], row["standard"], row["status"])
+    c = _console(sys.stdout, False)
+    c.print(t)
+    c.print("A drawing may point a cable at its own conductor table: conductor_table = \"my-cables.toml\" "
+            "(same format as the shipped conductors_*.toml files).")
+    return EXIT_OK
+
+
+def _rules() -> int:
+    from rich.table import Table
+
+    from coilstage.checks import RULES
+
+    t = Table(title="Rules", title_justify="left")
+    for col in ("id", "what it checks", "clause"):
+        t.add_column(col, overflow="fold")
+    for r in RULES:
+        t.add_row(r.id, r.title, r.clause)
+    _console(sys.stdout, False).print(t)
+    return EXIT_OK
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = _parser().parse_args(argv)
+    try:
+        if args.command == "check":
+            return _check(args)
+        if args.command == "tables":
+            return _tables()
+        return _rules()
+    except KeyboardInterrupt:
+        return 130
+    except BrokenPipeError:
+        return EXIT_OK
+    except Exception as exc:  # a bug, not bad input: say so plainly
+        print(f"coilstage: internal error ({type(exc).__name__}: {exc}). Please report it with the drawing.",
+              file=sys.stderr)
+        if "--debug" in sys.argv or __import__("os").environ.get("COILSTAGE_DEBUG"):
+            raise
+        return EXIT_INTERNAL

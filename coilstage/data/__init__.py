@@ -1,0 +1,1 @@
+"""Shipped data tables (TOML). Each file opens with a ``[table]`` header naming its source."""

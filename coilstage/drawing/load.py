@@ -1,0 +1,726 @@
+"""Read a drawing file (TOML) into a :class:`~coilstage.drawing.schema.Drawing`.
+
+Every problem is collected before anything is raised: one :class:`~coilstage.errors.DrawingError`
+lists them all, each with its TOML key path, the value found and what was expected. The file is
+only ever read.
+"""
+
+from __future__ import annotations
+
+import difflib
+import re
+import tomllib
+from collections import defaultdict
+from pathlib import Path
+from typing import Any
+
+from coilstage import tables
+from coilstage.errors import DataError, DrawingError, Problem
+from coilstage.physics.conductor import awg_area
+from coilstage.units import (
+    QuantityError,
+    parse_cable_size,
+    parse_dimensionless,
+    parse_quantity,
+    parse_resistance_at,
+    parse_temperature,
+    parse_value_at,
+)
+
+from .schema import (
+    Alternator,
+    Battery,
+    Cable,
+    CoilType,
+    CornerSettings,
+    Drawing,
+    Element,
+    Environment,
+    Fuse,
+    Limits,
+    Relay,
+    Resistor,
+    Stage,
+    Supply,
+)
+
+_MISSING = object()
+
+TOP_KEYS = {"drawing", "tables", "supply", "environment", "coils", "corners", "limits", "harness"}
+KEYS = {
+    "drawing": {"title", "note", "format"},
+    "tables": {"conductors"},
+    "supply": {"system", "code", "limits", "battery", "alternator", "base_load", "base_load_node", "negative", "chassis"},
+    "supply.limits": {"min", "max"},
+    "supply.battery": {"emf", "internal_resistance", "node", "capacity"},
+    "supply.alternator": {"setpoint", "tolerance", "source_resistance", "limit_idle", "limit_rated", "node"},
+    "environment": {"ambient_min", "ambient_max", "zones"},
+    "coil": {
+        "metal", "resistance", "turns", "mean_turn_length", "wire_size", "inductance",
+        "insulation_class", "hot_temperature",
+    },
+    "corners": {"cold", "hot", "limit"},
+    "corners.cold": {"ambient", "bus_voltage"},
+    "corners.hot": {"battery_emf", "alternator"},
+    "corners.limit": {"bus_voltage"},
+    "limits": {"voltage_drop_pass", "voltage_drop_warn"},
+}
+_COMMON = {"id", "kind", "from", "to", "note"}
+_CABLE = {"size", "length", "insulation", "zone", "bundle", "material", "conductor_table", "sheathed"}
+ELEMENT_KEYS = {
+    "cable": _COMMON | _CABLE | {"role"},
+    "ground": _COMMON | _CABLE | {"resistance"},
+    "joint": _COMMON | {"resistance"},
+    "busbar": _COMMON | {"resistance"},
+    "fuse": _COMMON | {"type", "rating", "voltage_rating", "breaking_capacity", "zone", "resistance", "protects"},
+    "relay": _COMMON | {
+        "rating_12v", "rating_24v", "rated_ambient", "derating", "max_ambient", "voltage_rating", "zone",
+        "resistance",
+    },
+    "stage": _COMMON | {"coil", "count", "connection"},
+}
+_INSULATION_LETTERS = {"Y": 90, "A": 105, "E": 120, "B": 130, "F": 155, "H": 180, "N": 200, "R": 220}
+
+
+def _suggest(word: str, choices: set[str] | list[str]) -> str:
+    close = difflib.get_close_matches(word, sorted(choices), n=1, cutoff=0.6)
+    return f' (did you mean "{close[0]}"?)' if close else ""
+
+
+def _show(value: Any) -> str:
+    text = repr(value) if not isinstance(value, str) else f'"{value}"'
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+class _Reader:
+    """Walks the raw TOML dict, turning values into SI floats and collecting problems."""
+
+    def __init__(self, path: str, base_dir: Path):
+        self.path = path
+        self.base_dir = base_dir
+        self.problems: list[Problem] = []
+        self.assumptions: list[str] = []
+
+    # -- generic helpers
+    def problem(self, where: str, found: Any, expected: str) -> None:
+        self.problems.append(Problem(where, "" if found is _MISSING else _show(found), expected))
+
+    def table(self, raw: dict, key: str, where: str, required: bool = True) -> dict | None:
+        value = raw.get(key, _MISSING)
+        if value is _MISSING:
+            if required:
+                self.problem(where, _MISSING, f"a [{where}] table")
+            return None
+        if not isinstance(value, dict):
+            self.problem(where, value, f"a [{where}] table")
+            return None
+        return value
+
+    def unknown(self, raw: dict, allowed: set[str], where: str) -> None:
+        for key in raw:
+            if key not in allowed:
+                path = f"{where}.{key}" if where else key
+                self.problem(path, _MISSING, f"no such key here{_suggest(key, allowed)}; allowed: {', '.join(sorted(allowed))}")
+
+    def value(self, raw: dict, key: str, where: str, parse, expected: str | None = None, default=_MISSING):
+        """Parse ``raw[key]`` with ``parse``; a missing key gives ``default`` (or a problem)."""
+        path = f"{where}.{key}"
+        if key not in raw:
+            if default is _MISSING:
+                self.problem(path, _MISSING, f"a value ({expected or 'required'})")
+                return None
+            return default
+        try:
+            return parse(raw[key])
+        except QuantityError as exc:
+            self.problem(path, raw[key], str(exc))
+        except (TypeError, ValueError) as exc:
+            self.problem(path, raw[key], expected or str(exc))
+        return None
+
+    def quantity(self, raw, key, where, dim, default=_MISSING, positive=False, nonnegative=False):
+        v = self.value(raw, key, where, lambda t: parse_quantity(t, dim), default=default)
+        if isinstance(v, float):
+            if positive and not v > 0:
+                self.problem(f"{where}.{key}", raw[key], f"a {dim} greater than zero")
+                return None
+            if nonnegative and v < 0:
+                self.problem(f"{where}.{key}", raw[key], f"a {dim} of zero or more")
+                return None
+        return v
+
+    def temperature(self, raw, key, where, default=_MISSING):
+        return self.value(raw, key, where, parse_temperature, default=default)
+
+    def text(self, raw, key, where, default=_MISSING, choices=None):
+        def parse(t):
+            if not isinstance(t, str) or not t.strip():
+                raise ValueError("a text")
+            if choices is not None and t not in choices:
+                raise ValueError(f"one of {', '.join(map(str, choices))}{_suggest(t, list(map(str, choices)))}")
+            return t
+
+        return self.value(raw, key, where, parse, expected="a text", default=default)
+
+    def integer(self, raw, key, where, default=_MISSING, minimum=1):
+        def parse(t):
+            if isinstance(t, bool) or not isinstance(t, int) or t < minimum:
+                raise ValueError(f"a whole number of at least {minimum}")
+            return t
+
+        return self.value(raw, key, where, parse, default=default)
+
+    def assume(self, text: str) -> None:
+        self.assumptions.append(text)
+
+
+def load_drawing(path: str | Path) -> Drawing:
+    """Read and check the drawing at ``path``; raise DrawingError listing every problem."""
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise DrawingError(str(p), [Problem(str(p), "", f"a readable drawing file ({exc.strerror})")]) from None
+    except UnicodeDecodeError:
+        raise DrawingError(str(p), [Problem(str(p), "", "a UTF-8 text file")]) from None
+    return parse_drawing(text, str(p), p.parent)
+
+
+_TOML_LINE = re.compile(r"\(at line (\d+), column (\d+)\)")
+
+
+def parse_drawing(text: str, source: str = "<drawing>", base_dir: Path | None = None) -> Drawing:
+    """Parse drawing text (TOML); see :func:`load_drawing`."""
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        msg = str(exc)
+        m = _TOML_LINE.search(msg)
+        where = f"line {m.group(1)}, column {m.group(2)}" if m else "TOML"
+        raise DrawingError(source, [Problem(where, "", f"valid TOML ({_TOML_LINE.sub('', msg).strip()})")]) from None
+    r = _Reader(source, base_dir or Path("."))
+    drawing = _build(r, raw)
+    if r.problems or drawing is None:
+        raise DrawingError(source, r.problems)
+    return drawing
+
+
+# ---------------------------------------------------------------- sections
+
+
+def _build(r: _Reader, raw: dict) -> Drawing | None:
+    r.unknown(raw, TOP_KEYS, "")
+    head = r.table(raw, "drawing", "drawing", required=False) or {}
+    r.unknown(head, KEYS["drawing"], "drawing")
+    title = r.text(head, "title", "drawing", default="(untitled drawing)")
+    note = r.text(head, "note", "drawing", default="")
+    if "format" in head and head["format"] != 1:
+        r.problem("drawing.format", head["format"], "1 (the only drawing format so far)")
+
+    tabs = r.table(raw, "tables", "tables", required=False) or {}
+    r.unknown(tabs, KEYS["tables"], "tables")
+    default_mm2 = tabs.get("conductors", tables.DEFAULT_MM2_TABLE)
+
+    supply = _supply(r, raw)
+    env = _environment(r, raw)
+    coils = _coils(r, raw, env)
+    elements = _harness(r, raw, env, coils, default_mm2, supply)
+    corners = _corners(r, raw, supply, env)
+    limits = _limits(r, raw)
+    if supply is not None and elements is not None:
+        _topology(r, supply, elements)
+    if r.problems or None in (supply, env, coils, elements, corners, limits):
+        return None
+    return Drawing(
+        title=title or "",
+        note=note or "",
+        path=r.path,
+        supply=supply,
+        environment=env,
+        coils=coils,
+        elements=tuple(elements),
+        corners=corners,
+        limits=limits,
+        assumptions=tuple(r.assumptions),
+    )
+
+
+def _supply(r: _Reader, raw: dict) -> Supply | None:
+    s = r.table(raw, "supply", "supply")
+    if s is None:
+        return None
+    r.unknown(s, KEYS["supply"], "supply")
+    system = r.quantity(s, "system", "supply", "voltage")
+    if system is not None and round(system) not in (12, 24):
+        r.problem("supply.system", s["system"], '"12 V" or "24 V"')
+        system = None
+    negative = r.text(s, "negative", "supply", default="B-")
+    chassis = r.text(s, "chassis", "supply", default=negative)
+
+    b = r.table(s, "battery", "supply.battery")
+    battery = None
+    if b is not None:
+        r.unknown(b, KEYS["supply.battery"], "supply.battery")
+        emf = r.quantity(b, "emf", "supply.battery", "voltage", positive=True)
+        rint = r.quantity(b, "internal_resistance", "supply.battery", "resistance", positive=True)
+        node = r.text(b, "node", "supply.battery", default="B+")
+        cap = r.quantity(b, "capacity", "supply.battery", "charge", default=None, positive=True)
+        if None not in (emf, rint, node):
+            battery = Battery(emf, rint, node, cap)
+
+    alternator = None
+    a = r.table(s, "alternator", "supply.alternator", required=False)
+    if a is not None:
+        r.unknown(a, KEYS["supply.alternator"], "supply.alternator")
+        setpoint = r.quantity(a, "setpoint", "supply.alternator", "voltage", positive=True)
+        tol = r.quantity(a, "tolerance", "supply.alternator", "voltage", default=None, nonnegative=True)
+        if tol is None and "tolerance" not in a:
+            tol = 0.0
+            r.assume("supply.alternator.tolerance not given: the cold corner uses the set-point itself")
+        rs = r.quantity(a, "source_resistance", "supply.alternator", "resistance", positive=True)
+        idle = r.quantity(a, "limit_idle", "supply.alternator", "current", positive=True)
+        rated = r.quantity(a, "limit_rated", "supply.alternator", "current", positive=True)
+        node = r.text(a, "node", "supply.alternator", default=battery.node if battery else "B+")
+        if idle is not None and rated is not None and idle > rated:
+            r.problem("supply.alternator.limit_idle", a["limit_idle"], "no more than limit_rated")
+        if None not in (setpoint, tol, rs, idle, rated, node):
+            alternator = Alternator(setpoint, tol, rs, idle, rated, node)
+    elif "alternator" not in s:
+        r.assume("no alternator in the drawing: the battery alone feeds the bus")
+
+    base = r.quantity(s, "base_load", "supply", "current", default=None, nonnegative=True)
+    if base is None and "base_load" not in s:
+        base = 0.0
+        r.assume("supply.base_load not given: the rest of the vehicle draws nothing")
+    base_node = r.text(s, "base_load_node", "supply", default=battery.node if battery else "B+")
+
+    code = None
+    v_min = v_max = None
+    limits_source = ""
+    if "code" in s:
+        code = r.text(s, "code", "supply", choices=sorted(tables.supply_codes()))
+        if code is not None:
+            row = tables.supply_codes()[code]
+            if system is not None and row["system"] != round(system):
+                r.problem("supply.code", code, f"a code for a {round(system)} V system")
+            v_min, v_max = float(row["min"]), float(row["max"])
+            limits_source = f"ISO 16750-2:2010 code {code}"
+    lim = r.table(s, "limits", "supply.limits", required=False)
+    if lim is not None:
+        r.unknown(lim, KEYS["supply.limits"], "supply.limits")
+        lo = r.quantity(lim, "min", "supply.limits", "voltage", positive=True)
+        hi = r.quantity(lim, "max", "supply.limits", "voltage", positive=True)
+        if lo is not None and hi is not None:
+            if lo >= hi:
+                r.problem("supply.limits.min", lim["min"], "a minimum below the maximum")
+            v_min, v_max = lo, hi
+            limits_source = "supply.limits in the drawing"
+    if v_min is None and "code" not in s and lim is None:
+        r.problem("supply", _MISSING, 'an ISO 16750-2 supply code (code = "F") or [supply.limits] min and max')
+    if None in (system, battery, base, base_node, negative, v_min, v_max):
+        return None
+    if battery.node == negative:
+        r.problem("supply.battery.node", battery.node, "a node other than the negative node")
+        return None
+    return Supply(
+        round(system), code, v_min, v_max, limits_source, battery, alternator, base, base_node, negative, chassis or negative
+    )
+
+
+def _environment(r: _Reader, raw: dict) -> Environment | None:
+    e = r.table(raw, "environment", "environment")
+    if e is None:
+        return None
+    r.unknown(e, KEYS["environment"], "environment")
+    lo = r.temperature(e, "ambient_min", "environment")
+    hi = r.temperature(e, "ambient_max", "environment")
+    if lo is not None and hi is not None and lo > hi:
+        r.problem("environment.ambient_min", e["ambient_min"], "no more than ambient_max")
+    zones: dict[str, float] = {}
+    zraw = r.table(e, "zones", "environment.zones", required=False) or {}
+    for name, value in zraw.items():
+        t = r.value(zraw, name, "environment.zones", parse_temperature)
+        if t is not None:
+            if hi is not None and t < hi:
+                r.problem(f"environment.zones.{name}", value, f"a highest temperature of at least ambient_max ({hi:g} °C)")
+            zones[name] = t
+    if lo is None or hi is None:
+        return None
+    zones.setdefault("ambient", hi)
+    return Environment(lo, hi, zones)
+
+
+def _insulation_class(value: Any) -> int:
+    if isinstance(value, str) and value.strip().upper() in _INSULATION_LETTERS:
+        return _INSULATION_LETTERS[value.strip().upper()]
+    if isinstance(value, str) and value.strip().isdigit():
+        value = int(value.strip())
+    if isinstance(value, int) and not isinstance(value, bool) and value in tables.insulation_classes():
+        return value
+    raise ValueError(
+        "an IEC 60085 thermal class: " + ", ".join(map(str, tables.insulation_classes())) + " or a letter Y A E B F H N R"
+    )
+
+
+def _coils(r: _Reader, raw: dict, env: Environment | None) -> dict[str, CoilType] | None:
+    c = r.table(raw, "coils", "coils")
+    if c is None:
+        return None
+    out: dict[str, CoilType] = {}
+    for name, body in c.items():
+        where = f"coils.{name}"
+        if not isinstance(body, dict):
+            r.problem(where, body, f"a [coils.{name}] table")
+            continue
+        r.unknown(body, KEYS["coil"], where)
+        metal = r.text(body, "metal", where, default="copper", choices=sorted(tables.materials()))
+        if "metal" not in body:
+            r.assume(f"{where}.metal not given: copper")
+        ins = r.value(body, "insulation_class", where, _insulation_class, expected="an IEC 60085 class")
+        inductance = r.quantity(body, "inductance", where, "inductance", positive=True)
+        turns = r.integer(body, "turns", where)
+        r_ref = t_ref = None
+        rsource = ""
+        if "resistance" in body:
+            rt = r.value(body, "resistance", where, parse_resistance_at)
+            if rt is not None:
+                r_ref, t_ref = rt
+                if not r_ref > 0:
+                    r.problem(f"{where}.resistance", body["resistance"], "a resistance greater than zero")
+                    r_ref = None
+                rsource = "resistance given in the drawing"
+        elif metal is not None:
+            mtl = r.quantity(body, "mean_turn_length", where, "length", positive=True)
+            size = r.value(body, "wire_size", where, parse_cable_size, expected="a wire size")
+            if "mean_turn_length" not in body or "wire_size" not in body:
+                pass  # already reported
+            if mtl is not None and size is not None and turns is not None:
+                area = awg_area(int(size.nominal)) if size.system == "awg" else size.nominal * 1e-6
+                rho = tables.material(metal)["rho20"]
+                r_ref, t_ref = rho * turns * mtl / area, 20.0
+                rsource = f"computed: rho20 x {turns} turns x {mtl:g} m / {size.label}"
+        hot = None
+        hot_src = ""
+        if ins is not None:
+            allowance = float(tables.insulation_classes()[ins]["allowance"])
+            if "hot_temperature" in body:
+                hot = r.temperature(body, "hot_temperature", where)
+                hot_src = "given in the drawing"
+            else:
+                hot = ins - allowance
+                hot_src = f"class {ins} limit less {allowance:g} K hot-spot allowance (not given)"
+                r.assume(f"{where}.hot_temperature not given: the hot corner runs the winding at {hot:g} °C ({hot_src})")
+        if None in (metal, ins, inductance, turns, r_ref, t_ref, hot):
+            continue
+        out[name] = CoilType(
+            name, metal, float(tables.material(metal)["alpha20"]), r_ref, t_ref, inductance, turns, ins,
+            float(tables.insulation_classes()[ins]["allowance"]), hot, hot_src, rsource,
+        )
+    if not c:
+        r.problem("coils", _MISSING, "at least one [coils.NAME] table")
+    return out
+
+
+def _zone(r: _Reader, e: dict, where: str, env: Environment | None) -> tuple[str | None, float | None]:
+    if env is None:
+        return None, None
+    if "zone" not in e:
+        r.assume(f"{where}.zone not given: placed at the highest ambient ({env.ambient_max:g} °C)")
+        return "ambient", env.ambient_max
+    name = e["zone"]
+    if not isinstance(name, str) or name not in env.zones:
+        r.problem(f"{where}.zone", name, f"one of the zones {', '.join(sorted(env.zones))}{_suggest(str(name), set(env.zones))}")
+        return None, None
+    return name, env.zones[name]
+
+
+def _conductor(r: _Reader, e: dict, where: str, size, default_mm2: str):
+    """Resolve a cable size in its conductor table: (area, r20 per metre, source) or None."""
+    name = e.get("conductor_table", default_mm2 if size.system == "mm2" else tables.DEFAULT_AWG_TABLE)
+    key = f"{where}.conductor_table" if "conductor_table" in e else where
+    try:
+        if isinstance(name, str) and name.endswith(".toml"):
+            table = tables.user_conductor_table((r.base_dir / name).resolve())
+        elif name in tables.conductor_table_names():
+            table = tables.conductor_table(name)
+        else:
+            r.problem(key, name, "a shipped conductor table (" + ", ".join(tables.conductor_table_names()) + ") or a path to a .toml table")
+            return None
+    except DataError as exc:
+        for p in exc.problems:
+            r.problem(f"{key} ({exc.source}) {p.where}", p.found, p.expected)
+        return None
+    if table.size_system != size.system:
+        r.problem(f"{where}.size", e["size"], f"a {table.size_system} size for table {table.name}")
+        return None
+    row = table.rows.get(float(size.nominal))
+    if row is None:
+        r.problem(f"{where}.size", e["size"], f"a size listed in {table.title}: {', '.join(table.sizes())}")
+        return None
+    return row.area, row.r20_per_m, f"{table.standard} [{row.status}]", table.material
+
+
+def _cable_fields(r: _Reader, e: dict, where: str, env, default_mm2: str) -> dict | None:
+    size = r.value(e, "size", where, parse_cable_size, expected="a conductor size")
+    length = r.quantity(e, "length", where, "length", positive=True)
+    ins = r.text(e, "insulation", where, choices=sorted(tables.cable_classes()))
+    zone, zt = _zone(r, e, where, env)
+    bundle = r.integer(e, "bundle", where, default=1)
+    sheathed = e.get("sheathed", False)
+    if not isinstance(sheathed, bool):
+        r.problem(f"{where}.sheathed", sheathed, "true or false")
+    cond = _conductor(r, e, where, size, default_mm2) if size is not None else None
+    if "material" in e and cond is not None and e["material"] != cond[3]:
+        r.problem(f"{where}.material", e["material"], f"{cond[3]}, the metal of the conductor table used")
+    if None in (size, length, ins, zone, zt, bundle, cond):
+        return None
+    area, r20, src, metal = cond
+    return dict(
+        size_label=size.label, area=area, awg=int(size.nominal) if size.system == "awg" else None,
+        length=length, r20_per_m=r20, r20_source=src, alpha20=float(tables.material(metal)["alpha20"]),
+        material=metal, insulation_class=ins, class_max=tables.cable_classes()[ins], zone=zone,
+        zone_temperature=zt, bundle=bundle, sheathed=bool(sheathed),
+    )
+
+
+def _harness(r, raw, env, coils, default_mm2, supply) -> list[Element] | None:
+    h = raw.get("harness", _MISSING)
+    if h is _MISSING or not isinstance(h, list) or not h:
+        r.problem("harness", _MISSING if h is _MISSING else h, "one or more [[harness]] elements")
+        return None
+    out: list[Element] = []
+    seen: dict[str, str] = {}
+    system = supply.system_voltage if supply else None
+    for i, e in enumerate(h):
+        where = f"harness[{i}]"
+        if not isinstance(e, dict):
+            r.problem(where, e, "a [[harness]] table")
+            continue
+        kind = r.text(e, "kind", where, choices=sorted(ELEMENT_KEYS))
+        eid = r.text(e, "id", where)
+        a = r.text(e, "from", where)
+        b = r.text(e, "to", where)
+        if eid is not None:
+            where = f"harness[{i}] ({eid})"
+            if eid in seen:
+                r.problem(f"{where}.id", eid, f"an id not used before (also {seen[eid]})")
+            seen[eid] = where
+        if a is not None and a == b:
+            r.problem(f"{where}.to", b, "a node other than its 'from' node")
+        if kind is None:
+            continue
+        r.unknown(e, ELEMENT_KEYS[kind], where)
+        common = dict(id=eid, kind=kind, a=a, b=b, where=where)
+        el = None
+        if kind == "cable" or (kind == "ground" and "resistance" not in e):
+            f = _cable_fields(r, e, where, env, default_mm2)
+            role = "return" if kind == "ground" else r.text(e, "role", where, default="feed", choices=["feed", "return"])
+            if f is not None and role is not None:
+                el = Cable(**common, **f, role=role)
+        elif kind in ("ground", "joint", "busbar"):
+            res = r.quantity(e, "resistance", where, "resistance", nonnegative=True)
+            if res is not None:
+                el = Resistor(**common, resistance=res)
+        elif kind == "fuse":
+            el = _fuse(r, e, where, env, common)
+        elif kind == "relay":
+            el = _relay(r, e, where, env, common, system)
+        elif kind == "stage":
+            cname = r.text(e, "coil", where)
+            count = r.integer(e, "count", where, default=1)
+            conn = r.text(e, "connection", where, default="series", choices=["series", "parallel"])
+            if count is not None and count > 1 and "connection" not in e:
+                r.problem(f"{where}.connection", _MISSING, f'"series" or "parallel" for {count} coils')
+            coil = None
+            if cname is not None and coils is not None:
+                coil = coils.get(cname)
+                if coil is None and cname not in (raw.get("coils") or {}):
+                    r.problem(f"{where}.coil", cname, f"one of the coil types {', '.join(sorted(coils)) or '(none)'}{_suggest(cname, set(coils))}")
+            if None not in (coil, count, conn):
+                el = Stage(**common, coil=coil, count=count, connection=conn)
+        if el is not None and None not in (eid, a, b):
+            out.append(el)
+    if not any(isinstance(e, Stage) for e in out) and not r.problems:
+        r.problem("harness", _MISSING, 'at least one element of kind = "stage"')
+    return out
+
+
+def _fuse(r, e, where, env, common) -> Fuse | None:
+    ftype = r.text(e, "type", where, choices=sorted(tables.fuse_types()))
+    rating = r.quantity(e, "rating", where, "current", positive=True)
+    zone, zt = _zone(r, e, where, env)
+    row = tables.fuse_types().get(ftype) if ftype else None
+    vr = r.quantity(e, "voltage_rating", where, "voltage", default=None, positive=True)
+    if vr is None and "voltage_rating" not in e and row is not None:
+        vr = float(min(row["voltages"]))
+        r.assume(f"{where}.voltage_rating not given: {vr:g} V, the lowest rating of {row['part']} type {ftype}")
+    bc = r.quantity(e, "breaking_capacity", where, "current", default=None, positive=True)
+    bsrc = "given in the drawing"
+    if bc is None and "breaking_capacity" not in e and row is not None:
+        bc = float(row["breaking_capacity"])
+        bsrc = f"{row['part']} scope ({row['status']})"
+    res = r.quantity(e, "resistance", where, "resistance", default=None, nonnegative=True)
+    if res is None and "resistance" not in e:
+        res = 0.0
+        r.assume(f"{where}.resistance not given: the fuse is taken as 0 ohm (its own drop is left out)")
+    if row is not None and rating is not None and rating > row["max_rating"]:
+        r.problem(f"{where}.rating", e["rating"], f"at most {row['max_rating']} A for {row['part']} type {ftype}")
+    protects = None
+    if "protects" in e:
+        p = e["protects"]
+        if not isinstance(p, list) or not all(isinstance(x, str) for x in p):
+            r.problem(f"{where}.protects", p, "a list of cable ids")
+        else:
+            protects = tuple(p)
+    if None in (ftype, rating, zone, zt, vr, bc, res, row):
+        return None
+    return Fuse(
+        **common, fuse_type=ftype, part=row["part"], rating=rating, voltage_rating=vr, breaking_capacity=bc,
+        breaking_source=bsrc, series=tuple(float(x) for x in row["series"]), zone=zone, zone_temperature=zt,
+        resistance=res, protects=protects,
+    )
+
+
+def _relay(r, e, where, env, common, system) -> Relay | None:
+    r12 = r.quantity(e, "rating_12v", where, "current", default=None, positive=True)
+    r24 = r.quantity(e, "rating_24v", where, "current", default=None, positive=True)
+    if "rating_12v" not in e and "rating_24v" not in e:
+        r.problem(where, _MISSING, "a contact rating: rating_12v and/or rating_24v")
+    zone, zt = _zone(r, e, where, env)
+    ra = r.temperature(e, "rated_ambient", where, default=None)
+    if ra is None and "rated_ambient" not in e:
+        ra = 23.0
+        r.assume(f"{where}.rated_ambient not given: the contact ratings are taken as stated at 23 °C (usual datasheet reference)")
+    derated = None
+    if "derating" in e:
+        d = r.value(e, "derating", where, lambda t: _fraction_at(t), expected='a fraction at a temperature, e.g. "67 % @ 85 degC"')
+        if d is not None:
+            derated = d
+    ma = r.temperature(e, "max_ambient", where, default=None)
+    vr = r.quantity(e, "voltage_rating", where, "voltage", default=None, positive=True)
+    res = r.quantity(e, "resistance", where, "resistance", default=None, nonnegative=True)
+    if res is None and "resistance" not in e:
+        res = 0.0
+        r.assume(f"{where}.resistance not given: the contact is taken as 0 ohm")
+    if None in (zone, zt, ra, res) or (r12 is None and r24 is None):
+        return None
+    return Relay(
+        **common, rating_12v=r12, rating_24v=r24, rated_ambient=ra, derated=derated, max_ambient=ma,
+        voltage_rating=vr, zone=zone, zone_temperature=zt, resistance=res,
+    )
+
+
+def _fraction_at(text: Any) -> tuple[float, float]:
+    if not isinstance(text, str) or "@" not in text:
+        raise QuantityError('a fraction at a temperature, e.g. "67 % @ 85 degC"')
+    left, right = text.split("@", 1)
+    f = parse_dimensionless(left.strip())
+    if not 0 < f <= 1.5:
+        raise QuantityError('a fraction between 0 and 150 %, e.g. "67 % @ 85 degC"')
+    return f, parse_temperature(right)
+
+
+def _corners(r: _Reader, raw: dict, supply: Supply | None, env: Environment | None) -> CornerSettings | None:
+    c = r.table(raw, "corners", "corners", required=False) or {}
+    r.unknown(c, KEYS["corners"], "corners")
+    cold = r.table(c, "cold", "corners.cold", required=False) or {}
+    hot = r.table(c, "hot", "corners.hot", required=False) or {}
+    lim = r.table(c, "limit", "corners.limit", required=False) or {}
+    r.unknown(cold, KEYS["corners.cold"], "corners.cold")
+    r.unknown(hot, KEYS["corners.hot"], "corners.hot")
+    r.unknown(lim, KEYS["corners.limit"], "corners.limit")
+    if supply is None or env is None:
+        return None
+    alt = supply.alternator
+    default_cold = alt.setpoint + alt.tolerance if alt else supply.battery.emf
+    cold_bus = r.quantity(cold, "bus_voltage", "corners.cold", "voltage", default=default_cold, positive=True)
+    cold_amb = r.temperature(cold, "ambient", "corners.cold", default=env.ambient_min)
+    hot_emf = r.quantity(hot, "battery_emf", "corners.hot", "voltage", default=supply.battery.emf, positive=True)
+    hot_alt = r.text(hot, "alternator", "corners.hot", default="idle" if alt else "off", choices=["idle", "rated", "off"])
+    if hot_alt in ("idle", "rated") and alt is None:
+        r.problem("corners.hot.alternator", hot_alt, '"off": the drawing has no alternator')
+    limit_bus = r.quantity(lim, "bus_voltage", "corners.limit", "voltage", default=supply.v_max, positive=True)
+    if None in (cold_bus, cold_amb, hot_emf, hot_alt, limit_bus):
+        return None
+    return CornerSettings(cold_amb, cold_bus, hot_emf, hot_alt, limit_bus)
+
+
+def _limits(r: _Reader, raw: dict) -> Limits | None:
+    lim = r.table(raw, "limits", "limits", required=False) or {}
+    r.unknown(lim, KEYS["limits"], "limits")
+    p = r.value(lim, "voltage_drop_pass", "limits", parse_dimensionless, default=0.03)
+    w = r.value(lim, "voltage_drop_warn", "limits", parse_dimensionless, default=0.10)
+    if p is None or w is None:
+        return None
+    if not 0 < p <= w < 1:
+        r.problem("limits.voltage_drop_pass", lim.get("voltage_drop_pass", p), "0 < pass limit <= warn limit < 100 %")
+        return None
+    return Limits(p, w)
+
+
+# ---------------------------------------------------------------- topology
+
+
+def _topology(r: _Reader, supply: Supply, elements: list[Element]) -> None:
+    """Nodes that connect to nothing, stages with no feed or no return, loops of 0-ohm parts."""
+    ends: dict[str, list[str]] = defaultdict(list)
+    for e in elements:
+        ends[e.a].append(f"{e.where}.from")
+        ends[e.b].append(f"{e.where}.to")
+    pos, neg = supply.battery.node, supply.negative_node
+    supply_nodes = {
+        pos: "supply.battery.node",
+        neg: "supply.negative",
+        supply.base_load_node: "supply.base_load_node",
+        supply.chassis_node: "supply.chassis",
+    }
+    if supply.alternator is not None:
+        supply_nodes[supply.alternator.node] = "supply.alternator.node"
+    for node, key in supply_nodes.items():
+        if node not in ends:
+            r.problem(key, node, "a node that a harness element connects to")
+    for node, refs in ends.items():
+        if len(refs) == 1 and node not in supply_nodes:
+            r.problem(refs[0], node, f"a node that something else connects to (nothing else meets at \"{node}\")")
+
+    adj: dict[str, list[tuple[str, str]]] = defaultdict(list)
+    for e in elements:
+        if isinstance(e, Stage):
+            continue  # a path through another load is neither feed nor return
+        adj[e.a].append((e.b, e.id))
+        adj[e.b].append((e.a, e.id))
+
+    def reaches(start: str, goal: str, avoid: str) -> bool:
+        seen, todo = {start}, [start]
+        while todo:
+            n = todo.pop()
+            if n == goal:
+                return True
+            for m, _eid in adj[n]:
+                if m not in seen and m != avoid:
+                    seen.add(m)
+                    todo.append(m)
+        return False
+
+    for s in elements:
+        if isinstance(s, Stage):
+            if not reaches(s.b, neg, pos):
+                r.problem(f"{s.where}.to", s.b, f"a return path from the stage to the negative node \"{neg}\"")
+            if not reaches(s.a, pos, neg):
+                r.problem(f"{s.where}.from", s.a, f"a feed path from the stage to the battery node \"{pos}\"")
+
+    # A loop made only of zero-ohm parts has no defined current split.
+    parent: dict[str, str] = {}
+
+    def find(x: str) -> str:
+        while parent.setdefault(x, x) != x:
+            parent[x] = parent[parent[x]]
+            x = parent[x]
+        return x
+
+    for e in elements:
+        if getattr(e, "resistance", None) == 0.0:
+            ra, rb = find(e.a), find(e.b)
+            if ra == rb:
+                r.problem(e.where, "0 ohm", "a resistance: this part closes a loop of zero-ohm parts (give resistances)")
+            parent[ra] = rb

@@ -1,0 +1,191 @@
+"""The drawing as the program holds it: frozen dataclasses of SI floats (temperatures in °C).
+
+A Drawing is made only by :mod:`coilstage.drawing.load`, which has already checked every value,
+resolved every table look-up and recorded every default it applied in ``Drawing.assumptions``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True)
+class Battery:
+    emf: float  # open-circuit voltage as stated [V]
+    internal_resistance: float  # [Ω]
+    node: str
+    capacity: float | None = None  # [C] (A·h × 3600)
+
+
+@dataclass(frozen=True)
+class Alternator:
+    setpoint: float  # regulation set-point [V]
+    tolerance: float  # + tolerance of the set-point [V]
+    source_resistance: float  # [Ω]
+    limit_idle: float  # output current limit at engine idle [A]
+    limit_rated: float  # output current limit at rated speed [A]
+    node: str
+
+
+@dataclass(frozen=True)
+class Supply:
+    system_voltage: int  # 12 or 24 [V]
+    code: str | None  # ISO 16750-2 supply voltage code
+    v_min: float  # lowest operating voltage [V]
+    v_max: float  # highest operating voltage [V]
+    limits_source: str  # where v_min/v_max come from
+    battery: Battery
+    alternator: Alternator | None
+    base_load: float  # rest of the vehicle, constant current [A]
+    base_load_node: str
+    negative_node: str
+    chassis_node: str  # where a short to the vehicle body lands
+
+
+@dataclass(frozen=True)
+class Environment:
+    ambient_min: float  # [°C]
+    ambient_max: float  # [°C]
+    zones: dict[str, float]  # zone name -> highest temperature [°C]
+
+
+@dataclass(frozen=True)
+class CoilType:
+    name: str
+    metal: str  # "copper" | "aluminium"
+    alpha20: float  # [K⁻¹]
+    r_ref: float  # [Ω]
+    t_ref: float  # [°C]
+    inductance: float  # [H]
+    turns: int
+    insulation_class: int  # IEC 60085 class [°C]
+    class_allowance: float  # hot-spot allowance [K]
+    hot_temperature: float  # winding temperature for the hot corner [°C]
+    hot_temperature_source: str
+    resistance_source: str
+
+
+@dataclass(frozen=True)
+class Element:
+    """Anything in the harness between two named nodes; current is counted from ``a`` to ``b``
+    (``from`` is the supply side)."""
+
+    id: str
+    kind: str
+    a: str
+    b: str
+    where: str  # TOML path, e.g. "harness[3]"
+
+
+@dataclass(frozen=True)
+class Cable(Element):
+    size_label: str
+    area: float  # conducting cross-section [m²]
+    awg: int | None  # gauge number where the size is an AWG size (0 = 1/0 … −3 = 4/0)
+    length: float  # [m]
+    r20_per_m: float  # [Ω/m] at 20 °C
+    r20_source: str
+    alpha20: float
+    material: str
+    insulation_class: str  # ISO 6722 class letter
+    class_max: float  # [°C]
+    zone: str
+    zone_temperature: float  # [°C]
+    bundle: int
+    role: str  # "feed" or "return"
+    sheathed: bool
+
+
+@dataclass(frozen=True)
+class Fuse(Element):
+    fuse_type: str
+    part: str
+    rating: float  # [A]
+    voltage_rating: float  # [V]
+    breaking_capacity: float  # [A]
+    breaking_source: str
+    series: tuple[float, ...]  # standard ratings of the type [A], may be empty
+    zone: str
+    zone_temperature: float
+    resistance: float  # [Ω]
+    protects: tuple[str, ...] | None  # cable ids; None: found from the topology
+
+
+@dataclass(frozen=True)
+class Relay(Element):
+    rating_12v: float | None  # contact rating at 12 V systems [A]
+    rating_24v: float | None  # contact rating at 24 V systems [A]
+    rated_ambient: float  # temperature the ratings apply at [°C]
+    derated: tuple[float, float] | None  # (rating fraction, at temperature [°C]) for the system's rating
+    max_ambient: float | None  # highest permitted surrounding temperature [°C]
+    voltage_rating: float | None  # highest switching voltage [V]
+    zone: str
+    zone_temperature: float
+    resistance: float  # contact resistance [Ω]
+
+
+@dataclass(frozen=True)
+class Resistor(Element):
+    """A joint, busbar, or a measured chassis ground path: a fixed resistance."""
+
+    resistance: float  # [Ω]
+
+
+@dataclass(frozen=True)
+class Stage(Element):
+    coil: CoilType
+    count: int
+    connection: str  # "series" | "parallel"
+
+    @property
+    def r_factor(self) -> float:
+        """Stage resistance / one coil's resistance."""
+        return float(self.count) if self.connection == "series" else 1.0 / self.count
+
+    @property
+    def coil_current_factor(self) -> float:
+        """Current in one coil / stage current."""
+        return 1.0 if self.connection == "series" else 1.0 / self.count
+
+    @property
+    def inductance(self) -> float:
+        """Stage inductance [H], coils uncoupled."""
+        return self.coil.inductance * self.r_factor
+
+
+@dataclass(frozen=True)
+class CornerSettings:
+    """The operating corners, each value already resolved (defaults applied)."""
+
+    cold_ambient: float  # [°C]
+    cold_bus: float  # [V]
+    hot_battery_emf: float  # [V]
+    hot_alternator: str  # "idle" | "rated" | "off"
+    limit_bus: float  # [V]
+
+
+@dataclass(frozen=True)
+class Limits:
+    drop_pass: float  # fraction of nominal system voltage
+    drop_warn: float
+
+
+@dataclass(frozen=True)
+class Drawing:
+    title: str
+    note: str
+    path: str
+    supply: Supply
+    environment: Environment
+    coils: dict[str, CoilType]
+    elements: tuple[Element, ...]
+    corners: CornerSettings
+    limits: Limits
+    assumptions: tuple[str, ...] = field(default_factory=tuple)
+
+    def of_kind(self, cls: type) -> list:
+        return [e for e in self.elements if isinstance(e, cls)]
+
+    @property
+    def stages(self) -> list[Stage]:
+        return self.of_kind(Stage)

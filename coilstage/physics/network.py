@@ -1,0 +1,190 @@
+r"""DC network solution by modified nodal analysis (MNA), with a current-limited charging source.
+
+The network is given as arrays: node 0 is the reference (the battery negative); resistors
+``(a, b, R)``; voltage sources ``(a, b, V)`` with V(b) − V(a) = V; current sources ``(a, b, I)``
+driving I from a to b through the source (into node b). A zero-ohm element is written as a 0 V
+voltage source so that its current comes out of the solution directly.
+
+References
+----------
+.. [1] C.-W. Ho, A. E. Ruehli, P. A. Brennan, "The modified nodal approach to network analysis",
+   IEEE Trans. Circuits and Systems 22(6):504–509, 1975.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Above this many unknowns the sparse solver is used (it costs an import of scipy.sparse).
+SPARSE_THRESHOLD = 150
+
+
+@dataclass(frozen=True)
+class Branches:
+    """Elements of one kind: from-nodes ``a``, to-nodes ``b`` and a value each (arrays)."""
+
+    a: np.ndarray
+    b: np.ndarray
+    value: np.ndarray
+
+    @staticmethod
+    def of(rows: list[tuple[int, int, float]]) -> Branches:
+        if not rows:
+            z = np.zeros(0, dtype=np.int64)
+            return Branches(z, z, np.zeros(0))
+        a, b, v = zip(*rows, strict=True)
+        return Branches(np.asarray(a, dtype=np.int64), np.asarray(b, dtype=np.int64), np.asarray(v, float))
+
+
+@dataclass(frozen=True)
+class DCSolution:
+    """Node voltages ``v`` [V] (``v[0] == 0``) and voltage-source currents ``i_vsource`` [A].
+
+    ``i_vsource[k]`` flows from ``a`` to ``b`` through source k (out of its + terminal into b).
+    """
+
+    v: np.ndarray
+    i_vsource: np.ndarray
+
+
+def solve_mna(n_nodes: int, resistors: Branches, vsources: Branches, isources: Branches) -> DCSolution:
+    """Solve a linear DC network by modified nodal analysis.
+
+    Parameters
+    ----------
+    n_nodes : int
+        Number of nodes including the reference node 0.
+    resistors : Branches
+        Resistances [Ω], each > 0.
+    vsources : Branches
+        Ideal voltage sources [V], V(b) − V(a) = value.
+    isources : Branches
+        Ideal current sources [A], driving value from a to b.
+
+    Returns
+    -------
+    DCSolution
+
+    Raises
+    ------
+    numpy.linalg.LinAlgError
+        If the network is singular (a floating node or a loop of voltage sources).
+
+    Notes
+    -----
+    Stamps of [1]_: each conductance g adds g to (a,a) and (b,b) and −g to (a,b) and (b,a); each
+    voltage source adds a row and column for its current. Row and column 0 are dropped.
+    """
+    n = n_nodes - 1
+    m = len(vsources.value)
+    size = n + m
+    g = 1.0 / resistors.value
+    ra, rb = resistors.a - 1, resistors.b - 1
+    rows = [ra, rb, ra, rb]
+    cols = [ra, rb, rb, ra]
+    vals = [g, g, -g, -g]
+    k = np.arange(m) + n
+    va, vb = vsources.a - 1, vsources.b - 1
+    ones = np.ones(m)
+    rows += [va, k, vb, k]
+    cols += [k, va, k, vb]
+    vals += [ones, -ones, -ones, ones]
+    r = np.concatenate(rows)
+    c = np.concatenate(cols)
+    x = np.concatenate(vals)
+    keep = (r >= 0) & (c >= 0)
+    r, c, x = r[keep], c[keep], x[keep]
+
+    rhs = np.zeros(size)
+    np.add.at(rhs, isources.a[isources.a > 0] - 1, -isources.value[isources.a > 0])
+    np.add.at(rhs, isources.b[isources.b > 0] - 1, isources.value[isources.b > 0])
+    rhs[n:] = vsources.value
+
+    if size > SPARSE_THRESHOLD:
+        from scipy.sparse import csc_matrix
+        from scipy.sparse.linalg import MatrixRankWarning, spsolve
+
+        a_mat = csc_matrix((x, (r, c)), shape=(size, size))
+        import warnings
+
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", MatrixRankWarning)
+            try:
+                sol = spsolve(a_mat, rhs)
+            except MatrixRankWarning:
+                raise np.linalg.LinAlgError("singular network") from None
+        if not np.all(np.isfinite(sol)):
+            raise np.linalg.LinAlgError("singular network")
+    else:
+        a_mat = np.zeros((size, size))
+        np.add.at(a_mat, (r, c), x)
+        sol = np.linalg.solve(a_mat, rhs)
+    v = np.concatenate(([0.0], sol[:n]))
+    return DCSolution(v, sol[n:])
+
+
+@dataclass(frozen=True)
+class LimitedSource:
+    """A charging source: set-point ``v_set`` [V] behind ``r_source`` [Ω] until it delivers
+    ``i_limit`` [A], then a current source of ``i_limit``; it cannot take current back (its rectifier
+    blocks). Connected between ``node`` and the reference."""
+
+    node: int
+    v_set: float
+    r_source: float
+    i_limit: float
+
+
+@dataclass(frozen=True)
+class LimitedSolution:
+    """A DC solution with the state of the limited source: ``mode`` is ``"regulating"``,
+    ``"current-limited"`` or ``"off"``; ``i_source`` [A] is its output current."""
+
+    dc: DCSolution
+    mode: str
+    i_source: float
+
+
+def solve_with_limited_source(
+    n_nodes: int, resistors: Branches, vsources: Branches, isources: Branches, source: LimitedSource
+) -> LimitedSolution:
+    """Solve a network that also holds one current-limited charging source (an alternator).
+
+    The source's output is I = clamp((v_set − V)/r_source, 0, i_limit), where V is its node voltage.
+    That characteristic is monotone and the rest of the network is linear and passive as seen from
+    the node, so there is exactly one consistent operating point. It is found by solving the linear
+    network in each of the three states in turn and keeping the one whose result lies inside that
+    state's own range (a regulating solution with 0 ≤ I ≤ i_limit, a limited one whose node voltage
+    leaves (v_set − V)/r_source ≥ i_limit, an off one with V ≥ v_set).
+
+    Returns
+    -------
+    LimitedSolution
+    """
+    def with_sources(extra_r: list[tuple[int, int, float]], extra_i: list[tuple[int, int, float]]):
+        res = Branches(
+            np.concatenate([resistors.a, [e[0] for e in extra_r]]).astype(np.int64),
+            np.concatenate([resistors.b, [e[1] for e in extra_r]]).astype(np.int64),
+            np.concatenate([resistors.value, [e[2] for e in extra_r]]),
+        )
+        cur = Branches(
+            np.concatenate([isources.a, [e[0] for e in extra_i]]).astype(np.int64),
+            np.concatenate([isources.b, [e[1] for e in extra_i]]).astype(np.int64),
+            np.concatenate([isources.value, [e[2] for e in extra_i]]),
+        )
+        return solve_mna(n_nodes, res, vsources, cur)
+
+    s = source
+    # Regulating: Norton form of v_set behind r_source.
+    dc = with_sources([(0, s.node, s.r_source)], [(0, s.node, s.v_set / s.r_source)])
+    i = (s.v_set - dc.v[s.node]) / s.r_source
+    tol = 1e-9 * max(1.0, s.i_limit)
+    if -tol <= i <= s.i_limit + tol:
+        return LimitedSolution(dc, "regulating", float(i))
+    if i > s.i_limit:
+        dc = with_sources([], [(0, s.node, s.i_limit)])
+        return LimitedSolution(dc, "current-limited", float(s.i_limit))
+    dc = with_sources([], [])
+    return LimitedSolution(dc, "off", 0.0)

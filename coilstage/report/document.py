@@ -1,0 +1,143 @@
+"""The report as a plain, JSON-ready document (schema in docs/report-schema.json).
+
+Every figure is an SI float with its unit beside it: ``{"value": 53.4, "unit": "A"}``.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from typing import Any
+
+from coilstage import __version__
+from coilstage.analysis.corners import Analysis
+from coilstage.checks import Status, Verdict
+
+SCHEMA_VERSION = "1.0"
+
+
+def q(value: float | None, unit: str) -> dict[str, Any] | None:
+    return None if value is None else {"value": float(value), "unit": unit}
+
+
+def cautions(a: Analysis) -> list[dict[str, str]]:
+    """The usual cautions, with this drawing's own figures in them."""
+    d = a.drawing
+    hot = max((s.coil.hot_temperature for s in d.stages), default=0.0)
+    energy = max((s.stored_energy for s in a.corners["cold"].stages), default=0.0)
+    return [
+        {
+            "hazard": "battery short-circuit energy",
+            "text": (
+                f"A short at the battery terminals could drive about {a.battery_short_circuit / 1000:.1f} kA "
+                "(computed, cold corner). It melts tools and rings and can burst the battery. Disconnect the "
+                "battery negative first and reconnect it last; use insulated tools; keep the main fuse close to "
+                "the battery; protect every cable ahead of the first fuse from chafing."
+            ),
+        },
+        {
+            "hazard": "hot coils",
+            "text": (
+                f"The windings are taken up to {hot:g} °C in the hot corner, and the rotor runs far hotter after a "
+                "long descent. Let the retarder cool before touching it or the cables near it; keep fuel and "
+                "brake lines clear of it."
+            ),
+        },
+        {
+            "hazard": "arcing contacts",
+            "text": (
+                f"Each stage stores up to {energy:.0f} J in its field at switch-off (½·L·I², cold corner). Opening "
+                "a contact, pulling a fuse or unplugging a stage under load draws a sustained DC arc. Switch the "
+                "retarder off before working on it and fit suppression at each coil."
+            ),
+        },
+        {
+            "hazard": "scope",
+            "text": (
+                "Check every result against the vehicle maker's instructions and local rules: this tool does not "
+                "replace a qualified installer, and its shipped tables include values flagged as from memory."
+            ),
+        },
+    ]
+
+
+def summary(verdicts: list[Verdict]) -> dict[str, Any]:
+    n = Counter(v.status for v in verdicts)
+    result = "fail" if n[Status.FAIL] else "warn" if n[Status.WARN] else "pass"
+    return {
+        "result": result,
+        "pass": n[Status.PASS],
+        "warn": n[Status.WARN],
+        "fail": n[Status.FAIL],
+        "not_checked": n[Status.NOT_CHECKED],
+    }
+
+
+def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
+    """The whole report as plain data."""
+    d = a.drawing
+    s = d.supply
+    corners = []
+    for c in a.corners.values():
+        corners.append(
+            {
+                "name": c.name,
+                "purpose": c.purpose,
+                "conditions": c.conditions,
+                "bus_voltage": q(c.bus_voltage, "V"),
+                "battery_current": q(c.battery_current, "A"),
+                "alternator_current": q(c.alternator_current, "A"),
+                "alternator_mode": c.alternator_mode,
+                "base_load": q(c.base_load, "A"),
+                "total_stage_current": q(c.total_stage_current, "A"),
+                "stages": [
+                    {
+                        "id": st.id,
+                        "winding_temperature": q(st.temperature, "degC"),
+                        "resistance": q(st.resistance, "ohm"),
+                        "current": q(st.current, "A"),
+                        "coil_current": q(st.coil_current, "A"),
+                        "terminal_voltage": q(st.terminal_voltage, "V"),
+                        "power": q(st.power, "W"),
+                        "ampere_turns": q(st.ampere_turns, "A"),
+                        "voltage_drop": q(st.drop, "V"),
+                        "voltage_drop_fraction": q(st.drop_fraction, "1"),
+                        "stored_energy": q(st.stored_energy, "J"),
+                    }
+                    for st in c.stages
+                ],
+            }
+        )
+    return {
+        "schema_version": SCHEMA_VERSION,
+        "tool": {"name": "coilstage", "version": __version__},
+        "drawing": {"title": d.title, "note": d.note, "path": d.path},
+        "supply": {
+            "system_voltage": q(s.system_voltage, "V"),
+            "code": s.code,
+            "v_min": q(s.v_min, "V"),
+            "v_max": q(s.v_max, "V"),
+            "limits_source": s.limits_source,
+        },
+        "corners": corners,
+        "faults": {
+            "battery_terminals": q(a.battery_short_circuit, "A"),
+            "fuses": [{"id": k, "prospective_current": q(v, "A")} for k, v in a.fault_current.items()],
+        },
+        "verdicts": [
+            {
+                "rule": v.rule,
+                "subject": v.subject,
+                "status": v.status.value,
+                "value": q(v.value, v.unit),
+                "limit": q(v.limit, v.unit),
+                "margin": v.margin,
+                "clause": v.clause,
+                "note": v.note,
+                "corner": v.corner,
+            }
+            for v in verdicts
+        ],
+        "summary": summary(verdicts),
+        "assumptions": list(d.assumptions),
+        "cautions": cautions(a),
+    }

@@ -1,0 +1,57 @@
+"""Markdown report: the same document as pipe tables."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from coilstage.report.fmt import margin, qv
+
+
+def _esc(text: str) -> str:
+    return text.replace("|", "\\|").replace("\n", " ")
+
+
+def render(doc: dict[str, Any]) -> str:
+    d, s, summ = doc["drawing"], doc["supply"], doc["summary"]
+    out = [f"# {_esc(d['title'])}", ""]
+    if d["note"]:
+        out += [f"_{_esc(d['note'])}_", ""]
+    out += [
+        f"Drawing `{d['path']}` · {qv(s['system_voltage'], 0)} system · limits {qv(s['v_min'], 1)}–{qv(s['v_max'], 1)} "
+        f"({s['limits_source']}) · coilstage {doc['tool']['version']}",
+        "",
+        f"**Result: {summ['result'].upper()}** — {summ['fail']} fail, {summ['warn']} warn, {summ['pass']} pass, "
+        f"{summ['not_checked']} not checked",
+        "",
+    ]
+    for c in doc["corners"]:
+        out += [f"## {c['name'].capitalize()} corner — {c['purpose']}", ""]
+        out += [f"- {k}: {v}" for k, v in c["conditions"].items()]
+        out += [
+            f"- bus {qv(c['bus_voltage'], 2)}; stages {qv(c['total_stage_current'], 1)}; base load "
+            f"{qv(c['base_load'], 1)}; alternator {qv(c['alternator_current'], 1)} ({c['alternator_mode']}); "
+            f"battery {qv(c['battery_current'], 1)}",
+            "",
+            "| stage | winding | R | I | terminal V | power | N·I per coil | drop | ½LI² |",
+            "|---|---:|---:|---:|---:|---:|---:|---:|---:|",
+        ]
+        for st in c["stages"]:
+            out.append(
+                f"| {st['id']} | {qv(st['winding_temperature'], 0)} | {qv(st['resistance'])} | {qv(st['current'], 1)} | "
+                f"{qv(st['terminal_voltage'], 2)} | {qv(st['power'])} | {st['ampere_turns']['value']:.0f} A | "
+                f"{qv(st['voltage_drop'], 3)} ({st['voltage_drop_fraction']['value']:.1%}) | {qv(st['stored_energy'], 1)} |"
+            )
+        out.append("")
+    out += ["## Verdicts", "", "| status | rule | subject | value | limit | margin | note | clause |", "|---|---|---|---:|---:|---:|---|---|"]
+    for v in doc["verdicts"]:
+        out.append(
+            f"| {v['status'].upper()} | `{v['rule']}` | {_esc(v['subject'])} | {qv(v['value'])} | {qv(v['limit'])} | "
+            f"{margin(v['margin'])} | {_esc(v['note'])} | {_esc(v['clause'])} |"
+        )
+    out += ["", "## Prospective short-circuit currents (cold corner)", ""]
+    out.append(f"- battery terminals: {qv(doc['faults']['battery_terminals'])}")
+    out += [f"- load side of {f['id']}: {qv(f['prospective_current'])}" for f in doc["faults"]["fuses"]]
+    if doc["assumptions"]:
+        out += ["", "## Assumptions (defaults applied)", ""] + [f"- {_esc(x)}" for x in doc["assumptions"]]
+    out += ["", "## Cautions", ""] + [f"- **{c['hazard']}**: {c['text']}" for c in doc["cautions"]]
+    return "\n".join(out) + "\n"

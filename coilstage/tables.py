@@ -1,0 +1,285 @@
+"""Data tables: the shipped ones (``coilstage/data/*.toml``) and a user's own in the same format.
+
+Every table file opens with a ``[table]`` header (kind, title, standard, status) and every row
+carries a ``status`` saying whether it is published, from memory, common practice or derived.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+from coilstage.errors import DataError, Problem
+from coilstage.physics.conductor import (
+    ampacity_ambient_factor,
+    awg_area,
+    interpolate_loglog,
+    resistance_per_length,
+)
+from coilstage.units import awg_label
+
+#: Conductor table used for a metric size when the drawing names none.
+DEFAULT_MM2_TABLE = "iso6722-1"
+#: Conductor table used for an AWG size when the drawing names none.
+DEFAULT_AWG_TABLE = "awg_astm_b258"
+
+_STATUS_WORDS = ("published", "from memory", "common practice", "derived")
+
+
+def _data_files() -> list[str]:
+    return sorted(
+        p.name for p in resources.files("coilstage.data").iterdir() if p.name.endswith(".toml")
+    )
+
+
+@cache
+def shipped(filename: str) -> dict[str, Any]:
+    """The parsed content of one shipped table file, validated."""
+    text = resources.files("coilstage.data").joinpath(filename).read_text(encoding="utf-8")
+    data = tomllib.loads(text)
+    _validate(filename, data)
+    return data
+
+
+def read_user_table(path: Path) -> dict[str, Any]:
+    """A user's own table in the shipped format; raises DataError on anything malformed."""
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except (OSError, tomllib.TOMLDecodeError) as exc:
+        raise DataError(str(path), [Problem(str(path), "", f"a readable TOML table ({exc})")]) from None
+    _validate(str(path), data)
+    return data
+
+
+def _validate(source: str, data: dict[str, Any]) -> None:
+    problems = []
+    head = data.get("table")
+    if not isinstance(head, dict):
+        raise DataError(source, [Problem("table", "", "a [table] header with kind, title, standard, status")])
+    for key in ("kind", "title", "standard", "status"):
+        if not isinstance(head.get(key), str):
+            problems.append(Problem(f"table.{key}", repr(head.get(key)), "a text"))
+    rows = head.get("rows", [])
+    for i, row in enumerate(rows):
+        status = row.get("status", head.get("status"))
+        if not isinstance(status, str) or not any(w in status for w in _STATUS_WORDS):
+            problems.append(Problem(f"table.rows[{i}].status", repr(status), "one of " + ", ".join(_STATUS_WORDS)))
+    if problems:
+        raise DataError(source, problems)
+
+
+def list_tables() -> list[dict[str, str]]:
+    """Name, title, standard and status of every shipped table (for ``coilstage tables``)."""
+    out = []
+    for name in _data_files():
+        head = shipped(name)["table"]
+        out.append(
+            {
+                "file": name,
+                "kind": head["kind"],
+                "title": head["title"],
+                "standard": head["standard"],
+                "status": head["status"],
+                "rows": str(len(head.get("rows", []))) if head.get("rows") else "formula",
+            }
+        )
+    return out
+
+
+# ---------------------------------------------------------------- conductors
+
+
+@dataclass(frozen=True)
+class ConductorRow:
+    area: float  # [m²]
+    r20_per_m: float  # [Ω/m]
+    status: str
+    source: str  # standard and table
+
+
+@dataclass(frozen=True)
+class ConductorTable:
+    name: str
+    title: str
+    standard: str
+    material: str
+    size_system: str  # "mm2" or "awg"
+    rows: dict[float, ConductorRow]  # keyed by nominal size (mm², or AWG number)
+
+    def sizes(self) -> list[str]:
+        if self.size_system == "awg":
+            return [awg_label(int(n)) for n in sorted(self.rows, reverse=True)]
+        return [f"{s:g} mm²" for s in sorted(self.rows)]
+
+
+def conductor_table_names() -> list[str]:
+    return [n[len("conductors_") : -len(".toml")] for n in _data_files() if n.startswith("conductors_")]
+
+
+def _conductor_from_data(name: str, data: dict[str, Any]) -> ConductorTable:
+    head = data["table"]
+    rows: dict[float, ConductorRow] = {}
+    if head["kind"] == "conductor_formula":
+        rho = material(head["material"])["rho20"]
+        factor = float(head["stranding_factor"])
+        for n in range(int(head["smallest"]), int(head["largest"]) - 1, -1):
+            a = awg_area(n)
+            rows[float(n)] = ConductorRow(
+                a,
+                resistance_per_length(rho, a) * factor,
+                f"derived: ASTM B258 area, rho20 = 1/58 ohm mm²/m, stranding x{factor} ({head['stranding_status']})",
+                head["standard"],
+            )
+    else:
+        unit = head.get("r20_unit", "mohm/m")
+        scale = {"mohm/m": 1e-3, "ohm/km": 1e-3, "ohm/m": 1.0}.get(unit)
+        if scale is None:
+            raise DataError(name, [Problem("table.r20_unit", repr(unit), "mohm/m, ohm/km or ohm/m")])
+        for i, row in enumerate(head["rows"]):
+            try:
+                size = float(row["size"])
+                r20 = float(row["r20"]) * scale
+            except (KeyError, TypeError, ValueError):
+                raise DataError(name, [Problem(f"table.rows[{i}]", repr(row), "size and r20 numbers")]) from None
+            area = awg_area(int(size)) if head["size_system"] == "awg" else size * 1e-6
+            rows[size] = ConductorRow(area, r20, row.get("status", head["status"]), head["standard"])
+    return ConductorTable(name, head["title"], head["standard"], head["material"], head["size_system"], rows)
+
+
+@cache
+def conductor_table(name: str) -> ConductorTable:
+    """A shipped conductor table by its short name (``"iso6722-1"``, ``"iec60228"`` …)."""
+    return _conductor_from_data(name, shipped(f"conductors_{name}.toml"))
+
+
+def user_conductor_table(path: Path) -> ConductorTable:
+    data = read_user_table(path)
+    if data["table"]["kind"] not in ("conductor", "conductor_formula"):
+        raise DataError(str(path), [Problem("table.kind", repr(data["table"]["kind"]), '"conductor"')])
+    return _conductor_from_data(str(path), data)
+
+
+# ---------------------------------------------------------------- materials, classes, codes
+
+
+@cache
+def materials() -> dict[str, dict[str, Any]]:
+    return {r["metal"]: r for r in shipped("materials.toml")["table"]["rows"]}
+
+
+def material(name: str) -> dict[str, Any]:
+    return materials()[name]
+
+
+@cache
+def cable_classes() -> dict[str, float]:
+    """ISO 6722 class letter -> upper temperature [°C]."""
+    return {r["class"]: float(r["max"]) for r in shipped("cable_classes_iso6722.toml")["table"]["rows"]}
+
+
+@cache
+def insulation_classes() -> dict[int, dict[str, Any]]:
+    """IEC 60085 class (°C) -> row with letter and hot-spot allowance."""
+    return {int(r["class"]): r for r in shipped("insulation_classes_iec60085.toml")["table"]["rows"]}
+
+
+@cache
+def supply_codes() -> dict[str, dict[str, Any]]:
+    return {r["code"]: r for r in shipped("supply_codes_iso16750-2.toml")["table"]["rows"]}
+
+
+@cache
+def fuse_types() -> dict[str, dict[str, Any]]:
+    return {r["type"]: r for r in shipped("fuses_iso8820.toml")["table"]["rows"]}
+
+
+def fuse_rules() -> dict[str, Any]:
+    return shipped("fuses_iso8820.toml")["table"]
+
+
+def fuse_rerating(t: float) -> float:
+    """Fraction of its rating a fuse carries at surrounding temperature ``t`` [°C] (shipped curve,
+    linear between points, held flat beyond the ends)."""
+    pts = fuse_rules()["rerating"]
+    if t <= pts[0][0]:
+        return float(pts[0][1])
+    for (t0, f0), (t1, f1) in zip(pts, pts[1:], strict=False):
+        if t <= t1:
+            return float(f0 + (f1 - f0) * (t - t0) / (t1 - t0))
+    return float(pts[-1][1])
+
+
+# ---------------------------------------------------------------- ampacity
+
+
+@dataclass(frozen=True)
+class Ampacity:
+    """An ampacity found in the table, with each factor applied and how it was found."""
+
+    value: float  # [A] after all factors
+    base: float  # [A] table value at 30 °C, single conductor
+    column: int  # insulation rating column used [°C]
+    ambient_factor: float
+    bundle_factor: float
+    method: str
+
+
+def ampacity_table() -> dict[str, Any]:
+    return shipped("ampacity_33cfr183_425.toml")["table"]
+
+
+def ampacity_column(class_max: float) -> int | None:
+    """The highest insulation-rating column of the table not above ``class_max`` [°C]."""
+    cols = [c for c in ampacity_table()["columns"] if c <= class_max]
+    return max(cols) if cols else None
+
+
+def bundle_factor(n: int) -> float:
+    factor = 1.0
+    for at_least, f in ampacity_table()["bundle_factors"]:
+        if n >= at_least:
+            factor = float(f)
+    return factor
+
+
+def ampacity(awg: int | None, area: float, class_max: float, zone_t: float, bundle: int) -> Ampacity | str:
+    """Ampacity of a copper conductor, or the reason it cannot be given (a str).
+
+    AWG sizes are read from the table directly; metric sizes by log-log interpolation between the
+    neighbouring AWG rows in cross-section (never rounded to a gauge). The column is the highest
+    insulation rating not above the cable's class temperature; the zone and bundle factors follow.
+    """
+    tab = ampacity_table()
+    col = ampacity_column(class_max)
+    if col is None:
+        return f"insulation rated {class_max:g} °C is below every column of the table ({tab['columns'][0]} °C)"
+    j = tab["columns"].index(col)
+    rows = sorted(((awg_area(r["awg"]), float(r["amps"][j]), r["awg"]) for r in tab["rows"]))
+    if awg is not None and any(r[2] == awg for r in rows):
+        base = next(r[1] for r in rows if r[2] == awg)
+        method = f"{awg_label(awg)} row, {col} °C column"
+    else:
+        if not rows[0][0] * (1 - 1e-9) <= area <= rows[-1][0] * (1 + 1e-9):
+            return (
+                f"{area * 1e6:g} mm² lies outside the table ({rows[0][0] * 1e6:.3g}-{rows[-1][0] * 1e6:.4g} mm², "
+                "18 AWG to 4/0); the table is not extrapolated"
+            )
+        for lo, hi in zip(rows, rows[1:], strict=False):
+            if lo[0] <= area <= hi[0]:
+                base = interpolate_loglog(area, lo[0], lo[1], hi[0], hi[1])
+                method = (
+                    f"log-log interpolation between {awg_label(lo[2])} ({lo[1]:g} A) and "
+                    f"{awg_label(hi[2])} ({hi[1]:g} A), {col} °C column"
+                )
+                break
+    fa = ampacity_ambient_factor(col, zone_t, tab["reference_ambient"])
+    fb = bundle_factor(bundle)
+    value = base * fa * fb
+    if not math.isfinite(value):
+        return "ampacity not finite"
+    return Ampacity(value, base, col, fa, fb, method)

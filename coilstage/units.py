@@ -1,0 +1,214 @@
+"""Quantities with units, at the edge of the program only.
+
+A drawing writes ``"35 mm^2"``, ``"0.62 ohm @ 20 degC"`` or ``"1/0 AWG"``; this module turns such
+text into SI floats (temperatures into °C floats, see below) and nothing past it ever sees a pint
+Quantity. The registry is built once, lazily, from the small definitions file
+``coilstage/data/units.txt``.
+
+Conventions of the whole package:
+
+* every physical value is a float in SI base units (m, m², Ω, V, A, H, s, W, J, C);
+* temperatures are floats in **°C**, because every conductor and insulation table of the trade is
+  written in °C; temperature *differences* are in K.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+from typing import Any
+
+#: dimension name -> (SI unit the float is returned in, an example for error messages)
+DIMENSIONS: dict[str, tuple[str, str]] = {
+    "length": ("m", "2.4 m"),
+    "area": ("m**2", "35 mm^2"),
+    "resistance": ("ohm", "8 mohm"),
+    "voltage": ("V", "28 V"),
+    "current": ("A", "150 A"),
+    "inductance": ("H", "45 mH"),
+    "time": ("s", "12 min"),
+    "charge": ("C", "225 A*h"),
+    "power": ("W", "1.2 kW"),
+    "energy": ("J", "80 J"),
+    "temperature_difference": ("K", "10 K"),
+    "thermal_resistance": ("K/W", "0.1 K/W"),
+    "heat_capacity": ("J/K", "1925 J/K"),
+    "mass": ("kg", "5 kg"),
+}
+
+_AWG_RE = re.compile(r"^\s*(?:(\d{1,2})|([1-4])\s*/\s*0|(0{1,4}))\s*AWG\s*$", re.IGNORECASE)
+_AWG_RE_PREFIX = re.compile(r"^\s*AWG\s*(?:(\d{1,2})|([1-4])\s*/\s*0|(0{1,4}))\s*$", re.IGNORECASE)
+_TRADE_SPELLINGS = (("mm²", "mm**2"), ("mm2", "mm**2"), ("²", "**2"), ("^", "**"), ("Ohm", "ohm"))
+
+
+class QuantityError(ValueError):
+    """Text that is not a quantity of the expected kind; the message says what was expected."""
+
+
+@cache
+def registry() -> Any:
+    """The one pint registry of the program (built on first use)."""
+    import pint
+
+    path = resources.files("coilstage.data").joinpath("units.txt")
+    with resources.as_file(path) as p:
+        return pint.UnitRegistry(str(p), autoconvert_offset_to_baseunit=True)
+
+
+def _normalise(text: str) -> str:
+    out = text.strip()
+    for old, new in _TRADE_SPELLINGS:
+        out = out.replace(old, new)
+    return out
+
+
+def _parse(text: Any, expected: str, example: str) -> Any:
+    if isinstance(text, bool) or not isinstance(text, (str, int, float)):
+        raise QuantityError(f"{expected} as text with its unit, e.g. \"{example}\"")
+    if isinstance(text, (int, float)):
+        raise QuantityError(f"{expected} with its unit, e.g. \"{example}\" (a bare number has no unit)")
+    ureg = registry()
+    try:
+        q = ureg.Quantity(_normalise(text))
+    except Exception as exc:  # pint raises several kinds for unreadable text
+        raise QuantityError(f"{expected} such as \"{example}\" ({type(exc).__name__}: {exc})") from None
+    if not isinstance(q.magnitude, (int, float)) or not math.isfinite(float(q.magnitude)):
+        raise QuantityError(f"{expected} with a finite number, e.g. \"{example}\"")
+    return q
+
+
+def dimension_name(q: Any) -> str:
+    """A readable name for the dimension of a parsed quantity (for error messages)."""
+    ureg = registry()
+    for name, (unit, _example) in DIMENSIONS.items():
+        if q.dimensionality == ureg.Quantity(1, unit).dimensionality:
+            return name.replace("_", " ")
+    if q.dimensionality == ureg.Quantity(1, "K").dimensionality:
+        return "temperature"
+    if q.dimensionless:
+        return "no unit"
+    return str(q.dimensionality)
+
+
+def parse_quantity(text: Any, dimension: str) -> float:
+    """Parse ``text`` as a quantity of ``dimension`` (a key of :data:`DIMENSIONS`); return SI float.
+
+    >>> parse_quantity("35 mm^2", "area")
+    3.5e-05
+    >>> parse_quantity("8 mohm", "resistance")
+    0.008
+    """
+    unit, example = DIMENSIONS[dimension]
+    noun = "a " + dimension.replace("_", " ")
+    q = _parse(text, noun, example)
+    target = registry().Quantity(1, unit)
+    if q.dimensionality != target.dimensionality:
+        raise QuantityError(f"{noun} such as \"{example}\", not a {dimension_name(q)}")
+    return float(q.to(unit).magnitude)
+
+
+def parse_temperature(text: Any) -> float:
+    """Parse an absolute temperature (``"85 degC"``, ``"-40 degC"``, ``"358 K"``); return °C.
+
+    >>> parse_temperature("85 degC")
+    85.0
+    >>> round(parse_temperature("358.15 K"), 6)
+    85.0
+    """
+    q = _parse(text, "a temperature", "85 degC")
+    if q.dimensionality != registry().Quantity(1, "K").dimensionality:
+        raise QuantityError(f"a temperature such as \"85 degC\", not a {dimension_name(q)}")
+    c = float(q.to("degC").magnitude)
+    if c < -273.15:
+        raise QuantityError("a temperature above absolute zero")
+    return c
+
+
+def parse_dimensionless(text: Any) -> float:
+    """A plain ratio: a number, or text such as ``"75 %"``."""
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        return float(text)
+    q = _parse(text, "a ratio", "75 %")
+    if not q.dimensionless:
+        raise QuantityError(f"a plain ratio such as 0.75 or \"75 %\", not a {dimension_name(q)}")
+    return float(q.to("").magnitude)
+
+
+def parse_resistance_at(text: Any) -> tuple[float, float]:
+    """Parse ``"0.62 ohm @ 20 degC"`` into (resistance [Ω], reference temperature [°C]).
+
+    >>> parse_resistance_at("0.62 ohm @ 20 degC")
+    (0.62, 20.0)
+    """
+    example = "0.62 ohm @ 20 degC"
+    if not isinstance(text, str) or "@" not in text:
+        raise QuantityError(f"a resistance with the temperature it was measured at, e.g. \"{example}\"")
+    left, right = text.split("@", 1)
+    try:
+        r = parse_quantity(left, "resistance")
+    except QuantityError as exc:
+        raise QuantityError(f"{exc} before the '@' (e.g. \"{example}\")") from None
+    try:
+        t = parse_temperature(right)
+    except QuantityError as exc:
+        raise QuantityError(f"{exc} after the '@' (e.g. \"{example}\")") from None
+    return r, t
+
+
+def parse_value_at(text: Any, dimension: str) -> tuple[float, float]:
+    """Parse ``"30 A @ 85 degC"`` into (value [SI], temperature [°C])."""
+    unit, example = DIMENSIONS[dimension]
+    ex = f"{example} @ 85 degC"
+    if not isinstance(text, str) or "@" not in text:
+        raise QuantityError(f"a {dimension} with the temperature it applies at, e.g. \"{ex}\"")
+    left, right = text.split("@", 1)
+    return parse_quantity(left, dimension), parse_temperature(right)
+
+
+@dataclass(frozen=True)
+class CableSize:
+    """A conductor size as the drawing names it.
+
+    ``system`` is ``"mm2"`` (metric cross-section, ``nominal`` in mm²) or ``"awg"`` (``nominal``
+    is the gauge number, with 0, -1, -2, -3 for 1/0, 2/0, 3/0, 4/0 as in ASTM B258).
+    """
+
+    system: str
+    nominal: float
+    label: str
+
+
+def awg_label(n: int) -> str:
+    """``awg_label(-1) == '2/0 AWG'``."""
+    return f"{1 - n}/0 AWG" if n <= 0 else f"{n} AWG"
+
+
+def parse_cable_size(text: Any) -> CableSize:
+    """Parse ``"35 mm^2"``, ``"6 AWG"``, ``"1/0 AWG"`` or ``"00 AWG"``.
+
+    >>> parse_cable_size("1/0 AWG")
+    CableSize(system='awg', nominal=0, label='1/0 AWG')
+    >>> parse_cable_size("35 mm^2").nominal
+    35.0
+    """
+    if isinstance(text, str):
+        m = _AWG_RE.match(text) or _AWG_RE_PREFIX.match(text)
+        if m:
+            if m.group(1) is not None:
+                n = int(m.group(1))
+            elif m.group(2) is not None:
+                n = 1 - int(m.group(2))
+            else:
+                n = 1 - len(m.group(3))
+            return CableSize("awg", n, awg_label(n))
+    try:
+        area = parse_quantity(text, "area")
+    except QuantityError:
+        raise QuantityError(
+            'a conductor size such as "35 mm^2", "6 AWG" or "1/0 AWG"'
+        ) from None
+    mm2 = area * 1e6
+    return CableSize("mm2", round(mm2, 6), f"{mm2:g} mm²")

@@ -96,33 +96,30 @@ def _check(args: argparse.Namespace) -> int:
 
 
 def _tables() -> int:
-    from rich.table import Table
-
     from coilstage.tables import list_tables
 
-    t = Table(title="Shipped tables (coilstage/data)", title_justify="left")
-    for col in ("file", "kind", "rows", "standard", "status"):
-        t.add_column(col, overflow="fold")
-    for row in list_tables():
-        t.add_row(row["file"], row["kind"], row["rows"], row["standard"], row["status"])
     c = _console(sys.stdout, False)
-    c.print(t)
-    c.print("A drawing may point a cable at its own conductor table: conductor_table = \"my-cables.toml\" "
-            "(same format as the shipped conductors_*.toml files).")
+    c.print("[bold]Shipped tables[/bold] (coilstage/data)\n")
+    for row in list_tables():
+        c.print(f"[bold]{row['file']}[/bold]  ({row['kind']}, {row['rows']} rows, {row['status']})")
+        c.print(f"    {row['title']}")
+        c.print(f"    source: {row['standard']}", style="dim")
+    c.print(
+        "\nEach row carries its own status (published, from memory, common practice, derived). A drawing may "
+        'point a cable at its own conductor table: conductor_table = "my-cables.toml" (same format as the '
+        "shipped conductors_*.toml files)."
+    )
     return EXIT_OK
 
 
 def _rules() -> int:
-    from rich.table import Table
-
     from coilstage.checks import RULES
 
-    t = Table(title="Rules", title_justify="left")
-    for col in ("id", "what it checks", "clause"):
-        t.add_column(col, overflow="fold")
+    c = _console(sys.stdout, False)
+    c.print("[bold]Rules[/bold]\n")
     for r in RULES:
-        t.add_row(r.id, r.title, r.clause)
-    _console(sys.stdout, False).print(t)
+        c.print(f"[bold]{r.id}[/bold]  {r.title}")
+        c.print(f"    clause: {r.clause}", style="dim")
     return EXIT_OK
 
 

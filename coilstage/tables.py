@@ -123,6 +123,18 @@ def conductor_table_names() -> list[str]:
 
 def _conductor_from_data(name: str, data: dict[str, Any]) -> ConductorTable:
     head = data["table"]
+    missing = [
+        Problem(f"table.{k}", repr(head.get(k)), want)
+        for k, want, ok in (
+            ("material", "one of " + ", ".join(materials()), head.get("material") in materials()),
+            ("size_system", '"mm2" or "awg"', head.get("size_system") in ("mm2", "awg")),
+        )
+        if not ok
+    ]
+    if head["kind"] == "conductor" and not isinstance(head.get("rows"), list):
+        missing.append(Problem("table.rows", repr(head.get("rows")), "a list of { size, r20, status } rows"))
+    if missing:
+        raise DataError(name, missing)
     rows: dict[float, ConductorRow] = {}
     if head["kind"] == "conductor_formula":
         rho = material(head["material"])["rho20"]

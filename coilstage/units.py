@@ -39,8 +39,9 @@ DIMENSIONS: dict[str, tuple[str, str]] = {
     "mass": ("kg", "5 kg"),
 }
 
-_AWG_RE = re.compile(r"^\s*(?:(\d{1,2})|([1-4])\s*/\s*0|(0{1,4}))\s*AWG\s*$", re.IGNORECASE)
-_AWG_RE_PREFIX = re.compile(r"^\s*AWG\s*(?:(\d{1,2})|([1-4])\s*/\s*0|(0{1,4}))\s*$", re.IGNORECASE)
+_AWG_BODY = r"(?:(0{2,4})|([1-4])\s*/\s*0|(\d{1,2}))"
+_AWG_RE = re.compile(rf"^\s*{_AWG_BODY}\s*AWG\s*$", re.IGNORECASE)
+_AWG_RE_PREFIX = re.compile(rf"^\s*AWG\s*{_AWG_BODY}\s*$", re.IGNORECASE)
 _TRADE_SPELLINGS = (("mm²", "mm**2"), ("mm2", "mm**2"), ("²", "**2"), ("^", "**"), ("Ohm", "ohm"))
 
 
@@ -197,12 +198,12 @@ def parse_cable_size(text: Any) -> CableSize:
     if isinstance(text, str):
         m = _AWG_RE.match(text) or _AWG_RE_PREFIX.match(text)
         if m:
-            if m.group(1) is not None:
-                n = int(m.group(1))
-            elif m.group(2) is not None:
+            if m.group(1) is not None:  # "00" = 2/0 ... "0000" = 4/0
+                n = 1 - len(m.group(1))
+            elif m.group(2) is not None:  # "2/0"
                 n = 1 - int(m.group(2))
             else:
-                n = 1 - len(m.group(3))
+                n = int(m.group(3))
             return CableSize("awg", n, awg_label(n))
     try:
         area = parse_quantity(text, "area")

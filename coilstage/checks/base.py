@@ -50,20 +50,20 @@ class Rule:
     evaluate: Callable[..., list[Verdict]]
 
 
-def ceiling(value: float, limit: float) -> float:
-    """Margin of a value that must not exceed ``limit``."""
-    return (limit - value) / limit if limit else -math.inf if value > 0 else 0.0
+def ceiling(value: float, limit: float) -> float | None:
+    """Margin of a value that must not exceed ``limit`` (None where the limit is zero)."""
+    return (limit - value) / limit if limit > 0 else None
 
 
-def ceiling_temperature(value: float, limit: float) -> float:
+def ceiling_temperature(value: float, limit: float) -> float | None:
     """Margin of a temperature [°C] that must not exceed ``limit`` [°C], taken on the kelvin scale
     (a fraction of a Celsius value means nothing: the scale has an arbitrary zero)."""
     return ceiling(value + 273.15, limit + 273.15)
 
 
-def floor(value: float, limit: float) -> float:
-    """Margin of a value that must not fall below ``limit``."""
-    return (value - limit) / limit if limit else 0.0
+def floor(value: float, limit: float) -> float | None:
+    """Margin of a value that must not fall below ``limit`` (None where the limit is zero)."""
+    return (value - limit) / limit if limit > 0 else None
 
 
 def not_checked(rule: Rule, subject: str, reason: str, unit: str = "", corner: str = "") -> Verdict:

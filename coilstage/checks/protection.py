@@ -45,7 +45,9 @@ def _fuse_protects(a: Analysis) -> list[Verdict]:
             amps.append((amp.value, cid))
         else:
             weakest, cid = min(amps)
-            if f.rating <= weakest:
+            if weakest <= 0:
+                status, note = Status.FAIL, f"{cid} has no ampacity left in its zone, so no rating can protect it"
+            elif f.rating <= weakest:
                 status, note = Status.PASS, f"rating within the ampacity of {cid}, the weakest cable it protects"
             elif f.rating <= 1.5 * weakest:
                 between = [s for s in f.series if weakest < s < f.rating]

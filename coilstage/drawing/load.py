@@ -11,6 +11,7 @@ import difflib
 import re
 import tomllib
 from collections import defaultdict
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -224,11 +225,12 @@ def _build(r: _Reader, raw: dict) -> Drawing | None:
     supply = _supply(r, raw)
     env = _environment(r, raw)
     coils = _coils(r, raw, env)
-    elements = _harness(r, raw, env, coils, default_mm2, supply)
+    links: list[_Link] = []
+    elements = _harness(r, raw, env, coils, default_mm2, supply, links)
     corners = _corners(r, raw, supply, env)
     limits = _limits(r, raw)
     if supply is not None and elements is not None:
-        _topology(r, supply, elements)
+        _topology(r, supply, links, elements)
     if r.problems or None in (supply, env, coils, elements, corners, limits):
         return None
     return Drawing(
@@ -483,7 +485,19 @@ def _cable_fields(r: _Reader, e: dict, where: str, env, default_mm2: str) -> dic
     )
 
 
-def _harness(r, raw, env, coils, default_mm2, supply) -> list[Element] | None:
+@dataclass(frozen=True)
+class _Link:
+    """The two ends of a harness entry, kept even when its other values are wrong, so that one bad
+    value does not make its neighbours look unconnected."""
+
+    id: str
+    kind: str | None
+    a: str
+    b: str
+    where: str
+
+
+def _harness(r, raw, env, coils, default_mm2, supply, links: list[_Link]) -> list[Element] | None:
     h = raw.get("harness", _MISSING)
     if h is _MISSING or not isinstance(h, list) or not h:
         r.problem("harness", _MISSING if h is _MISSING else h, "one or more [[harness]] elements")
@@ -507,6 +521,8 @@ def _harness(r, raw, env, coils, default_mm2, supply) -> list[Element] | None:
             seen[eid] = where
         if a is not None and a == b:
             r.problem(f"{where}.to", b, "a node other than its 'from' node")
+        if a is not None and b is not None:
+            links.append(_Link(eid or f"#{i}", kind, a, b, where))
         if kind is None:
             continue
         r.unknown(e, ELEMENT_KEYS[kind], where)
@@ -661,10 +677,10 @@ def _limits(r: _Reader, raw: dict) -> Limits | None:
 # ---------------------------------------------------------------- topology
 
 
-def _topology(r: _Reader, supply: Supply, elements: list[Element]) -> None:
+def _topology(r: _Reader, supply: Supply, links: list[_Link], elements: list[Element]) -> None:
     """Nodes that connect to nothing, stages with no feed or no return, loops of 0-ohm parts."""
     ends: dict[str, list[str]] = defaultdict(list)
-    for e in elements:
+    for e in links:
         ends[e.a].append(f"{e.where}.from")
         ends[e.b].append(f"{e.where}.to")
     pos, neg = supply.battery.node, supply.negative_node
@@ -684,8 +700,8 @@ def _topology(r: _Reader, supply: Supply, elements: list[Element]) -> None:
             r.problem(refs[0], node, f"a node that something else connects to (nothing else meets at \"{node}\")")
 
     adj: dict[str, list[tuple[str, str]]] = defaultdict(list)
-    for e in elements:
-        if isinstance(e, Stage):
+    for e in links:
+        if e.kind == "stage":
             continue  # a path through another load is neither feed nor return
         adj[e.a].append((e.b, e.id))
         adj[e.b].append((e.a, e.id))
@@ -702,8 +718,8 @@ def _topology(r: _Reader, supply: Supply, elements: list[Element]) -> None:
                     todo.append(m)
         return False
 
-    for s in elements:
-        if isinstance(s, Stage):
+    for s in links:
+        if s.kind == "stage":
             if not reaches(s.b, neg, pos):
                 r.problem(f"{s.where}.to", s.b, f"a return path from the stage to the negative node \"{neg}\"")
             if not reaches(s.a, pos, neg):

@@ -1,0 +1,139 @@
+"""DC network solution: hand-solved networks and an independent numpy solve of the same circuits."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from coilstage.physics.network import Branches, LimitedSource, solve_mna, solve_with_limited_source
+
+
+def test_hand_solved_two_branch_network():
+    # Hand solution (series-parallel reduction, Ohm's law): E = 25 V behind Rb = 10 mOhm, a 5 mOhm
+    # feed to node D, branches of 1.0 and 0.5 Ohm from D to ground.
+    e, rb, rf, r2, r3 = 25.0, 0.010, 0.005, 1.0, 0.5
+    r_par = r2 * r3 / (r2 + r3)  # 1/3 Ohm
+    i_total = e / (rb + rf + r_par)  # 71.770 A
+    v_d = i_total * r_par  # 23.923 V
+    # nodes: 0 ground, 1 battery terminal, 2 D; battery as Norton source (E/Rb in parallel with Rb)
+    res = Branches.of([(0, 1, rb), (1, 2, rf), (2, 0, r2), (2, 0, r3)])
+    sol = solve_mna(3, res, Branches.of([]), Branches.of([(0, 1, e / rb)]))
+    assert i_total == pytest.approx(71.770, abs=1e-3)
+    assert sol.v[2] == pytest.approx(v_d, rel=1e-12)
+    assert (sol.v[1] - sol.v[2]) / rf == pytest.approx(i_total, rel=1e-12)
+    assert sol.v[2] / r2 == pytest.approx(23.923, abs=1e-3)
+    assert sol.v[2] / r3 == pytest.approx(47.847, abs=1e-3)
+
+
+def test_zero_ohm_element_carries_the_branch_current():
+    # The same network with the feed replaced by a 0 V source: its current is the total current.
+    e, rb, r2, r3 = 25.0, 0.010, 1.0, 0.5
+    res = Branches.of([(0, 1, rb), (2, 0, r2), (2, 0, r3)])
+    sol = solve_mna(3, res, Branches.of([(1, 2, 0.0)]), Branches.of([(0, 1, e / rb)]))
+    assert sol.i_vsource[0] == pytest.approx(e / (rb + r2 * r3 / (r2 + r3)), rel=1e-12)
+    assert sol.v[1] == pytest.approx(sol.v[2], abs=1e-12)
+
+
+def _independent_nodal(n, res_rows, is_rows):
+    """Reference: reduced Laplacian from the incidence matrix, solved with numpy.linalg.solve."""
+    m = len(res_rows)
+    a = np.zeros((n, m))
+    g = np.zeros(m)
+    for k, (i, j, r) in enumerate(res_rows):
+        a[i, k], a[j, k], g[k] = 1.0, -1.0, 1.0 / r
+    lap = a @ np.diag(g) @ a.T
+    inj = np.zeros(n)
+    for i, j, cur in is_rows:
+        inj[i] -= cur
+        inj[j] += cur
+    v = np.linalg.solve(lap[1:, 1:], inj[1:])
+    return np.concatenate(([0.0], v))
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(3, 40), st.integers(0, 2**31 - 1))
+def test_mna_matches_independent_nodal_solve(n, seed):
+    rng = np.random.default_rng(seed)
+    rows = [(int(rng.integers(0, k)), k, float(rng.uniform(1e-3, 10))) for k in range(1, n)]  # a spanning tree
+    for _ in range(n):
+        i, j = rng.integers(0, n, 2)
+        if i != j:
+            rows.append((int(i), int(j), float(rng.uniform(1e-3, 10))))
+    cur = [(0, int(rng.integers(1, n)), float(rng.uniform(-50, 50))) for _ in range(3)]
+    ours = solve_mna(n, Branches.of(rows), Branches.of([]), Branches.of(cur))
+    ref = _independent_nodal(n, rows, cur)
+    np.testing.assert_allclose(ours.v, ref, rtol=1e-9, atol=1e-9)
+
+
+def test_sparse_path_matches_dense_path():
+    # Same network solved once below and once above the sparse threshold (by padding with a chain).
+    rng = np.random.default_rng(7)
+    n = 400
+    rows = [(k - 1, k, float(rng.uniform(0.01, 1))) for k in range(1, n)]
+    rows += [(k, 0, float(rng.uniform(1, 10))) for k in range(1, n, 3)]
+    cur = [(0, 1, 100.0)]
+    ours = solve_mna(n, Branches.of(rows), Branches.of([]), Branches.of(cur))
+    np.testing.assert_allclose(ours.v, _independent_nodal(n, rows, cur), rtol=1e-9, atol=1e-9)
+
+
+def test_singular_network_raises():
+    with pytest.raises(np.linalg.LinAlgError):
+        solve_mna(3, Branches.of([(0, 1, 1.0)]), Branches.of([]), Branches.of([(0, 2, 1.0)]))
+
+
+# ---- the current-limited charging source
+E, RB, VSET, RS, RLOAD = 24.0, 0.010, 28.0, 0.020, 0.10
+
+
+def _network():
+    res = Branches.of([(0, 1, RB), (1, 0, RLOAD)])
+    return res, Branches.of([]), Branches.of([(0, 1, E / RB)])
+
+
+def test_alternator_regulating_closed_form():
+    # Two Thevenin sources and a load on one node (Millman's theorem):
+    # V = (E/Rb + Vset/Rs) / (1/Rb + 1/Rs + 1/R)
+    v = (E / RB + VSET / RS) / (1 / RB + 1 / RS + 1 / RLOAD)
+    i_alt = (VSET - v) / RS
+    sol = solve_with_limited_source(2, *_network(), LimitedSource(1, VSET, RS, i_alt * 1.01))
+    assert sol.mode == "regulating"
+    assert sol.dc.v[1] == pytest.approx(v, rel=1e-12)
+    assert sol.i_source == pytest.approx(i_alt, rel=1e-9)
+
+
+def test_alternator_switches_to_current_limit():
+    v_reg = (E / RB + VSET / RS) / (1 / RB + 1 / RS + 1 / RLOAD)
+    i_reg = (VSET - v_reg) / RS
+    limit = 0.5 * i_reg
+    # Closed form once limited: Millman with a current source: V = (E/Rb + I_lim)/(1/Rb + 1/R)
+    v = (E / RB + limit) / (1 / RB + 1 / RLOAD)
+    sol = solve_with_limited_source(2, *_network(), LimitedSource(1, VSET, RS, limit))
+    assert sol.mode == "current-limited"
+    assert sol.i_source == limit
+    assert sol.dc.v[1] == pytest.approx(v, rel=1e-12)
+    # consistency: the regulating law would have wanted more than the limit at this voltage
+    assert (VSET - sol.dc.v[1]) / RS > limit
+
+
+def test_alternator_off_when_bus_above_setpoint():
+    # A battery at 30 V under a light 1 Ohm load holds the bus at 29.7 V, above the 28 V set-point:
+    # the rectifier blocks and the alternator delivers nothing (divider: V = E R/(R + Rb)).
+    e, r_light = 30.0, 1.0
+    res = Branches.of([(0, 1, RB), (1, 0, r_light)])
+    sol = solve_with_limited_source(2, res, Branches.of([]), Branches.of([(0, 1, e / RB)]), LimitedSource(1, VSET, RS, 100))
+    assert sol.mode == "off"
+    assert sol.i_source == 0.0
+    assert sol.dc.v[1] == pytest.approx(e * r_light / (r_light + RB), rel=1e-12)
+
+
+def test_alternator_current_is_min_of_law_and_limit_over_a_sweep():
+    v_prev = None
+    for limit in np.linspace(1, 400, 60):
+        sol = solve_with_limited_source(2, *_network(), LimitedSource(1, VSET, RS, float(limit)))
+        law = (VSET - sol.dc.v[1]) / RS
+        assert sol.i_source == pytest.approx(min(law, limit), rel=1e-9, abs=1e-9)
+        if v_prev is not None:
+            assert sol.dc.v[1] >= v_prev - 1e-12  # more available current never lowers the bus
+        v_prev = sol.dc.v[1]

@@ -1,0 +1,90 @@
+"""Parsing quantities at the edge: units, dimensions, temperatures, conductor sizes."""
+
+from __future__ import annotations
+
+import pytest
+
+from coilstage.units import (
+    QuantityError,
+    parse_cable_size,
+    parse_dimensionless,
+    parse_quantity,
+    parse_resistance_at,
+    parse_temperature,
+)
+
+
+@pytest.mark.parametrize(
+    ("text", "dim", "si"),
+    [
+        ("35 mm^2", "area", 35e-6),
+        ("35 mm²", "area", 35e-6),
+        ("2.4 m", "length", 2.4),
+        ("8 mohm", "resistance", 0.008),
+        ("1.5 mΩ", "resistance", 0.0015),
+        ("45 mH", "inductance", 0.045),
+        ("225 A*h", "charge", 225 * 3600.0),
+        ("12 min", "time", 720.0),
+        ("3 ft", "length", 0.9144),  # 1 ft = 0.3048 m exactly (international foot, 1959)
+    ],
+)
+def test_parse_quantity_to_si(text, dim, si):
+    assert parse_quantity(text, dim) == pytest.approx(si, rel=1e-12)
+
+
+def test_wrong_dimension_is_named():
+    with pytest.raises(QuantityError, match="current.*not a voltage"):
+        parse_quantity("30 V", "current")
+
+
+@pytest.mark.parametrize("bare", [30, 30.0, "30"])
+def test_bare_number_is_refused(bare):
+    with pytest.raises(QuantityError):
+        parse_quantity(bare, "current")
+
+
+def test_unknown_unit_is_refused():
+    with pytest.raises(QuantityError):
+        parse_quantity("30 furlongs", "length")
+
+
+def test_temperature_offset_units():
+    # Source: definition of the Celsius and Fahrenheit scales (0 °C = 273.15 K; °F = 9/5 °C + 32).
+    assert parse_temperature("85 degC") == pytest.approx(85.0)
+    assert parse_temperature("358.15 K") == pytest.approx(85.0)
+    assert parse_temperature("185 degF") == pytest.approx(85.0)
+    with pytest.raises(QuantityError):
+        parse_temperature("85 V")
+    with pytest.raises(QuantityError):
+        parse_temperature("-300 degC")
+
+
+def test_resistance_at_temperature():
+    assert parse_resistance_at("0.62 ohm @ 20 degC") == (pytest.approx(0.62), pytest.approx(20.0))
+    with pytest.raises(QuantityError, match="measured at"):
+        parse_resistance_at("0.62 ohm")
+    with pytest.raises(QuantityError, match="after the '@'"):
+        parse_resistance_at("0.62 ohm @ 20 V")
+
+
+@pytest.mark.parametrize(
+    ("text", "system", "nominal"),
+    [("6 AWG", "awg", 6), ("1/0 AWG", "awg", 0), ("2/0 AWG", "awg", -1), ("4/0 AWG", "awg", -3),
+     ("00 AWG", "awg", -1), ("AWG 10", "awg", 10), ("16 mm^2", "mm2", 16.0), ("2.5 mm2", "mm2", 2.5)],
+)
+def test_cable_sizes(text, system, nominal):
+    # Source: ASTM B258 numbering (1/0 = gauge 0, 2/0 = -1, ... 4/0 = -3).
+    size = parse_cable_size(text)
+    assert (size.system, size.nominal) == (system, nominal)
+
+
+def test_cable_size_refuses_other_things():
+    with pytest.raises(QuantityError):
+        parse_cable_size("16 m")
+
+
+def test_dimensionless():
+    assert parse_dimensionless("75 %") == pytest.approx(0.75)
+    assert parse_dimensionless(0.5) == 0.5
+    with pytest.raises(QuantityError):
+        parse_dimensionless("3 V")

@@ -14,14 +14,14 @@ __version__ = "0.1.0"
 __all__ = ["__version__", "check", "load_drawing"]
 
 
-def load_drawing(path):  # noqa: ANN001, ANN201 - re-exported, documented there
+def load_drawing(path):
     """Read a drawing file; see :func:`coilstage.drawing.load.load_drawing`."""
     from coilstage.drawing.load import load_drawing as _load
 
     return _load(path)
 
 
-def check(drawing):  # noqa: ANN001, ANN201
+def check(drawing):
     """Analyse a drawing and run every rule: returns ``(analysis, verdicts)``."""
     from coilstage.analysis.corners import analyse
     from coilstage.checks import run_checks

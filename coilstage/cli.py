@@ -41,8 +41,10 @@ def _console(stream, to_file: bool):
 
 
 def _print_problems(source: str, problems, kind: str = "drawing") -> None:
-    print(f"coilstage: {source}: the {kind} cannot be used ({len(problems)} problem{'s' * (len(problems) != 1)}):",
-          file=sys.stderr)
+    print(
+        f"coilstage: {source}: the {kind} cannot be used ({len(problems)} problem{'s' * (len(problems) != 1)}):",
+        file=sys.stderr,
+    )
     for p in problems:
         print(f"  {p}", file=sys.stderr)
 
@@ -68,7 +70,7 @@ def _check(args: argparse.Namespace) -> int:
     from coilstage.report import document
 
     doc = document.build(analysis, verdicts)
-    out = open(args.output, "w", encoding="utf-8") if args.output else sys.stdout  # noqa: SIM115
+    out = open(args.output, "w", encoding="utf-8") if args.output else sys.stdout
     try:
         if args.format == "json":
             from coilstage.report import jsonout
@@ -136,8 +138,10 @@ def main(argv: list[str] | None = None) -> int:
     except BrokenPipeError:
         return EXIT_OK
     except Exception as exc:  # a bug, not bad input: say so plainly
-        print(f"coilstage: internal error ({type(exc).__name__}: {exc}). Please report it with the drawing.",
-              file=sys.stderr)
+        print(
+            f"coilstage: internal error ({type(exc).__name__}: {exc}). Please report it with the drawing.",
+            file=sys.stderr,
+        )
         if "--debug" in sys.argv or __import__("os").environ.get("COILSTAGE_DEBUG"):
             raise
         return EXIT_INTERNAL

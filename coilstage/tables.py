@@ -6,6 +6,7 @@ carries a ``status`` saying whether it is published, from memory, common practic
 
 from __future__ import annotations
 
+import itertools
 import math
 import tomllib
 from dataclasses import dataclass
@@ -32,9 +33,7 @@ _STATUS_WORDS = ("published", "from memory", "common practice", "derived")
 
 
 def _data_files() -> list[str]:
-    return sorted(
-        p.name for p in resources.files("coilstage.data").iterdir() if p.name.endswith(".toml")
-    )
+    return sorted(p.name for p in resources.files("coilstage.data").iterdir() if p.name.endswith(".toml"))
 
 
 @cache
@@ -220,7 +219,7 @@ def fuse_rerating(t: float) -> float:
     pts = fuse_rules()["rerating"]
     if t <= pts[0][0]:
         return float(pts[0][1])
-    for (t0, f0), (t1, f1) in zip(pts, pts[1:], strict=False):
+    for (t0, f0), (t1, f1) in itertools.pairwise(pts):
         if t <= t1:
             return float(f0 + (f1 - f0) * (t - t0) / (t1 - t0))
     return float(pts[-1][1])
@@ -271,7 +270,7 @@ def ampacity(awg: int | None, area: float, class_max: float, zone_t: float, bund
     if col is None:
         return f"insulation rated {class_max:g} °C is below every column of the table ({tab['columns'][0]} °C)"
     j = tab["columns"].index(col)
-    rows = sorted(((awg_area(r["awg"]), float(r["amps"][j]), r["awg"]) for r in tab["rows"]))
+    rows = sorted((awg_area(r["awg"]), float(r["amps"][j]), r["awg"]) for r in tab["rows"])
     if awg is not None and any(r[2] == awg for r in rows):
         base = next(r[1] for r in rows if r[2] == awg)
         method = f"{awg_label(awg)} row, {col} °C column"
@@ -281,7 +280,7 @@ def ampacity(awg: int | None, area: float, class_max: float, zone_t: float, bund
                 f"{area * 1e6:g} mm² lies outside the table ({rows[0][0] * 1e6:.3g}-{rows[-1][0] * 1e6:.4g} mm², "
                 "18 AWG to 4/0); the table is not extrapolated"
             )
-        for lo, hi in zip(rows, rows[1:], strict=False):
+        for lo, hi in itertools.pairwise(rows):
             if lo[0] <= area <= hi[0]:
                 base = interpolate_loglog(area, lo[0], lo[1], hi[0], hi[1])
                 method = (

@@ -68,16 +68,16 @@ def _normalise(text: str) -> str:
 
 def _parse(text: Any, expected: str, example: str) -> Any:
     if isinstance(text, bool) or not isinstance(text, (str, int, float)):
-        raise QuantityError(f"{expected} as text with its unit, e.g. \"{example}\"")
+        raise QuantityError(f'{expected} as text with its unit, e.g. "{example}"')
     if isinstance(text, (int, float)):
-        raise QuantityError(f"{expected} with its unit, e.g. \"{example}\" (a bare number has no unit)")
+        raise QuantityError(f'{expected} with its unit, e.g. "{example}" (a bare number has no unit)')
     ureg = registry()
     try:
         q = ureg.Quantity(_normalise(text))
     except Exception as exc:  # pint raises several kinds for unreadable text
-        raise QuantityError(f"{expected} such as \"{example}\" ({type(exc).__name__}: {exc})") from None
+        raise QuantityError(f'{expected} such as "{example}" ({type(exc).__name__}: {exc})') from None
     if not isinstance(q.magnitude, (int, float)) or not math.isfinite(float(q.magnitude)):
-        raise QuantityError(f"{expected} with a finite number, e.g. \"{example}\"")
+        raise QuantityError(f'{expected} with a finite number, e.g. "{example}"')
     return q
 
 
@@ -107,7 +107,7 @@ def parse_quantity(text: Any, dimension: str) -> float:
     q = _parse(text, noun, example)
     target = registry().Quantity(1, unit)
     if q.dimensionality != target.dimensionality:
-        raise QuantityError(f"{noun} such as \"{example}\", not a {dimension_name(q)}")
+        raise QuantityError(f'{noun} such as "{example}", not a {dimension_name(q)}')
     return float(q.to(unit).magnitude)
 
 
@@ -121,7 +121,7 @@ def parse_temperature(text: Any) -> float:
     """
     q = _parse(text, "a temperature", "85 degC")
     if q.dimensionality != registry().Quantity(1, "K").dimensionality:
-        raise QuantityError(f"a temperature such as \"85 degC\", not a {dimension_name(q)}")
+        raise QuantityError(f'a temperature such as "85 degC", not a {dimension_name(q)}')
     c = float(q.to("degC").magnitude)
     if c < -273.15:
         raise QuantityError("a temperature above absolute zero")
@@ -134,7 +134,7 @@ def parse_dimensionless(text: Any) -> float:
         return float(text)
     q = _parse(text, "a ratio", "75 %")
     if not q.dimensionless:
-        raise QuantityError(f"a plain ratio such as 0.75 or \"75 %\", not a {dimension_name(q)}")
+        raise QuantityError(f'a plain ratio such as 0.75 or "75 %", not a {dimension_name(q)}')
     return float(q.to("").magnitude)
 
 
@@ -146,7 +146,7 @@ def parse_resistance_at(text: Any) -> tuple[float, float]:
     """
     example = "0.62 ohm @ 20 degC"
     if not isinstance(text, str) or "@" not in text:
-        raise QuantityError(f"a resistance with the temperature it was measured at, e.g. \"{example}\"")
+        raise QuantityError(f'a resistance with the temperature it was measured at, e.g. "{example}"')
     left, right = text.split("@", 1)
     try:
         r = parse_quantity(left, "resistance")
@@ -161,10 +161,10 @@ def parse_resistance_at(text: Any) -> tuple[float, float]:
 
 def parse_value_at(text: Any, dimension: str) -> tuple[float, float]:
     """Parse ``"30 A @ 85 degC"`` into (value [SI], temperature [°C])."""
-    unit, example = DIMENSIONS[dimension]
+    _unit, example = DIMENSIONS[dimension]
     ex = f"{example} @ 85 degC"
     if not isinstance(text, str) or "@" not in text:
-        raise QuantityError(f"a {dimension} with the temperature it applies at, e.g. \"{ex}\"")
+        raise QuantityError(f'a {dimension} with the temperature it applies at, e.g. "{ex}"')
     left, right = text.split("@", 1)
     return parse_quantity(left, dimension), parse_temperature(right)
 
@@ -208,8 +208,6 @@ def parse_cable_size(text: Any) -> CableSize:
     try:
         area = parse_quantity(text, "area")
     except QuantityError:
-        raise QuantityError(
-            'a conductor size such as "35 mm^2", "6 AWG" or "1/0 AWG"'
-        ) from None
+        raise QuantityError('a conductor size such as "35 mm^2", "6 AWG" or "1/0 AWG"') from None
     mm2 = area * 1e6
     return CableSize("mm2", round(mm2, 6), f"{mm2:g} mm²")

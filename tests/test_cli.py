@@ -27,8 +27,16 @@ def test_demo_drawings_exit_codes():
 def test_text_report_as_a_process():
     r = run("check", str(COACH))
     assert r.returncode == 0, r.stderr
-    for words in ("COLD corner", "HOT corner", "LIMIT corner", "Verdicts", "Cautions", "RESULT:",
-                  "qualified installer", "short-circuit"):
+    for words in (
+        "COLD corner",
+        "HOT corner",
+        "LIMIT corner",
+        "Verdicts",
+        "Cautions",
+        "RESULT:",
+        "qualified installer",
+        "short-circuit",
+    ):
         assert words in r.stdout
     assert "Traceback" not in r.stdout + r.stderr
 

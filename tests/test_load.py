@@ -111,9 +111,11 @@ def test_supply_code_must_match_system():
 def test_coil_resistance_from_turns_and_wire():
     # R20 = rho20 N l / A (Ohm's law of resistivity; rho20 = 1/58 ohm mm^2/m, IEC 60028):
     # 200 turns x 0.9 m of 2.5 mm^2 copper = 180 m -> 180 / 58 / 2.5 = 1.2414 ohm.
-    text = drawing_text().replace(
-        'resistance = "1.0 ohm @ 20 degC"', 'mean_turn_length = "0.9 m"\nwire_size = "2.5 mm^2"', 1
-    ).replace("turns = 150", "turns = 200", 1)
+    text = (
+        drawing_text()
+        .replace('resistance = "1.0 ohm @ 20 degC"', 'mean_turn_length = "0.9 m"\nwire_size = "2.5 mm^2"', 1)
+        .replace("turns = 150", "turns = 200", 1)
+    )
     d = parse_drawing(text, "x")
     assert d.coils["C0"].r_ref == pytest.approx(180 / 58 / 2.5, rel=1e-12)
 

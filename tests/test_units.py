@@ -33,7 +33,7 @@ def test_parse_quantity_to_si(text, dim, si):
 
 
 def test_wrong_dimension_is_named():
-    with pytest.raises(QuantityError, match="current.*not a voltage"):
+    with pytest.raises(QuantityError, match=r"current.*not a voltage"):
         parse_quantity("30 V", "current")
 
 
@@ -69,8 +69,16 @@ def test_resistance_at_temperature():
 
 @pytest.mark.parametrize(
     ("text", "system", "nominal"),
-    [("6 AWG", "awg", 6), ("1/0 AWG", "awg", 0), ("2/0 AWG", "awg", -1), ("4/0 AWG", "awg", -3),
-     ("00 AWG", "awg", -1), ("AWG 10", "awg", 10), ("16 mm^2", "mm2", 16.0), ("2.5 mm2", "mm2", 2.5)],
+    [
+        ("6 AWG", "awg", 6),
+        ("1/0 AWG", "awg", 0),
+        ("2/0 AWG", "awg", -1),
+        ("4/0 AWG", "awg", -3),
+        ("00 AWG", "awg", -1),
+        ("AWG 10", "awg", 10),
+        ("16 mm^2", "mm2", 16.0),
+        ("2.5 mm2", "mm2", 2.5),
+    ],
 )
 def test_cable_sizes(text, system, nominal):
     # Source: ASTM B258 numbering (1/0 = gauge 0, 2/0 = -1, ... 4/0 = -3).

@@ -126,7 +126,9 @@ class Circuit:
         n = len(nd)
         R, V, cur = Branches.of(res_rows), Branches.of(vs_rows), Branches.of(is_rows)
         if alt_on and not held:
-            src = LimitedSource(nd[s.alternator.node], sources.alt_setpoint, s.alternator.source_resistance, sources.alt_limit)
+            src = LimitedSource(
+                nd[s.alternator.node], sources.alt_setpoint, s.alternator.source_resistance, sources.alt_limit
+            )
             ls = solve_with_limited_source(n, R, V, cur, src)
             dc, mode, i_alt = ls.dc, ls.mode, ls.i_source
         else:

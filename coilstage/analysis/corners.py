@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from coilstage.analysis.circuit import Circuit, SourceState, Solution
+from coilstage.analysis.circuit import Circuit, Solution, SourceState
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 
 
@@ -60,22 +60,41 @@ def _stage_results(d: Drawing, sol: Solution, temps: dict[str, float]) -> list[S
         ic = i * s.coil_current_factor
         out.append(
             StageResult(
-                s.id, temps[s.id], sol.resistance[s.id], i, ic, vt, vt * i, s.coil.turns * ic,
-                drop, drop / d.supply.system_voltage, 0.5 * s.inductance * i * i,
+                s.id,
+                temps[s.id],
+                sol.resistance[s.id],
+                i,
+                ic,
+                vt,
+                vt * i,
+                s.coil.turns * ic,
+                drop,
+                drop / d.supply.system_voltage,
+                0.5 * s.inductance * i * i,
             )
         )
     return out
 
 
-def _corner(circuit: Circuit, name: str, purpose: str, conditions: dict[str, str],
-            temps: dict[str, float], src: SourceState) -> CornerResult:
+def _corner(
+    circuit: Circuit, name: str, purpose: str, conditions: dict[str, str], temps: dict[str, float], src: SourceState
+) -> CornerResult:
     d = circuit.drawing
     sol = circuit.solve(temps, src)
     stages = _stage_results(d, sol, temps)
     return CornerResult(
-        name, purpose, conditions, sol, stages, temps, sum(s.current for s in stages),
-        sol.v[d.supply.battery.node] - sol.v[d.supply.negative_node], sol.battery_current,
-        sol.alternator_current, sol.alternator_mode, d.supply.base_load,
+        name,
+        purpose,
+        conditions,
+        sol,
+        stages,
+        temps,
+        sum(s.current for s in stages),
+        sol.v[d.supply.battery.node] - sol.v[d.supply.negative_node],
+        sol.battery_current,
+        sol.alternator_current,
+        sol.alternator_mode,
+        d.supply.base_load,
     )
 
 
@@ -94,60 +113,85 @@ def hot_temperatures(d: Drawing) -> dict[str, float]:
     return temps
 
 
+def corner_sources(d: Drawing) -> dict[str, tuple[dict[str, float], SourceState]]:
+    """Element temperatures and source states of each corner, and of the fault solve (``"fault"``).
+
+    * cold: coils and cables at the lowest ambient; the bus held at the highest regulated voltage;
+      the alternator at its full rated-speed output.
+    * hot: coils at their hot temperature, cables at their zone temperature; the battery at the
+      stated EMF behind its internal resistance; the alternator at its idle (or stated) output limit.
+    * limit: as cold, with the bus held at the highest voltage of the supply code.
+    * fault: as cold, but a charged battery at the cold bus voltage behind its internal resistance,
+      plus the alternator at its rated-speed limit (no source can hold the bus in a fault).
+    """
+    c = d.corners
+    alt = d.supply.alternator
+    rated = alt.limit_rated if alt else None
+    hot_limit = {"idle": alt.limit_idle if alt else None, "rated": rated, "off": None}[c.hot_alternator]
+    cold_t = cold_temperatures(d)
+    return {
+        "cold": (cold_t, SourceState(c.cold_bus, c.cold_bus if alt else None, rated, hold_bus=c.cold_bus)),
+        "hot": (hot_temperatures(d), SourceState(c.hot_battery_emf, alt.setpoint if alt else None, hot_limit)),
+        "limit": (cold_t, SourceState(c.limit_bus, c.limit_bus if alt else None, rated, hold_bus=c.limit_bus)),
+        "fault": (cold_t, SourceState(c.cold_bus, c.cold_bus if alt else None, rated)),
+    }
+
+
 def analyse(d: Drawing) -> Analysis:
     """Solve the three corners and the prospective fault currents of a drawing."""
     circuit = Circuit(d)
     c = d.corners
     alt = d.supply.alternator
-    rated = alt.limit_rated if alt else None
-    cold_src = SourceState(c.cold_bus, c.cold_bus if alt else None, rated, hold_bus=c.cold_bus)
-    # Prospective fault current: a charged battery at the cold bus voltage behind its internal
-    # resistance, plus the alternator at its rated-speed limit (the bus cannot be held in a fault).
-    fault_src = SourceState(c.cold_bus, c.cold_bus if alt else None, rated)
-    hot_limit = {"idle": alt.limit_idle if alt else None, "rated": rated, "off": None}[c.hot_alternator]
-    hot_src = SourceState(c.hot_battery_emf, alt.setpoint if alt else None, hot_limit)
-    limit_src = SourceState(c.limit_bus, c.limit_bus if alt else None, rated, hold_bus=c.limit_bus)
-    cold_t = cold_temperatures(d)
-    hot_t = hot_temperatures(d)
+    src = corner_sources(d)
     alt_text = (
-        "absent: the battery holds the bus" if alt is None
-        else f"full rated-speed output {rated:g} A at its terminal; the battery takes the difference"
+        "absent: the battery holds the bus"
+        if alt is None
+        else f"full rated-speed output {alt.limit_rated:g} A at its terminal; the battery takes the difference"
     )
+    hot_limit = src["hot"][1].alt_limit
     corners = {
         "cold": _corner(
-            circuit, "cold", "cable, fuse and relay duty (largest current)",
+            circuit,
+            "cold",
+            "cable, fuse and relay duty (largest current)",
             {
                 "coils and cables": f"{c.cold_ambient:g} °C (lowest ambient)",
                 "bus": f"held at {c.cold_bus:.2f} V at the battery terminals (highest regulated voltage)",
                 "alternator": alt_text,
             },
-            cold_t, cold_src,
+            *src["cold"],
         ),
         "hot": _corner(
-            circuit, "hot", "braking current that remains (hot coils, sagging bus)",
+            circuit,
+            "hot",
+            "braking current that remains (hot coils, sagging bus)",
             {
                 "coils": ", ".join(sorted({f"{e.coil.name} {e.coil.hot_temperature:g} °C" for e in d.stages})),
                 "cables": "at their zone temperatures",
                 "battery": f"EMF {c.hot_battery_emf:.2f} V",
-                "alternator": "off" if hot_limit is None else f"set-point {alt.setpoint:.2f} V, {c.hot_alternator} output {hot_limit:g} A",
+                "alternator": "off"
+                if hot_limit is None
+                else f"set-point {alt.setpoint:.2f} V, {c.hot_alternator} output {hot_limit:g} A",
             },
-            hot_t, hot_src,
+            *src["hot"],
         ),
         "limit": _corner(
-            circuit, "limit", "voltage ratings of fuses, relays and suppressors (not thermal duty)",
+            circuit,
+            "limit",
+            "voltage ratings of fuses, relays and suppressors (not thermal duty)",
             {
                 "bus": f"held at {c.limit_bus:.2f} V ({d.supply.limits_source or 'drawing'} maximum)",
                 "coils and cables": f"{c.cold_ambient:g} °C",
             },
-            cold_t, limit_src,
+            *src["limit"],
         ),
     }
+    fault_t, fault_src = src["fault"]
     faults: dict[str, float] = {}
     for f in d.of_kind(Fuse):
-        sol = circuit.solve(cold_t, fault_src, short_at=f.b)
-        faults[f.id] = abs(sol.fault_current or 0.0)
-    bat_sc = circuit.solve(cold_t, fault_src, short_at=d.supply.battery.node).fault_current or 0.0  # to chassis
-    return Analysis(d, circuit, corners, faults, abs(bat_sc), protected_cables(d))
+        faults[f.id] = abs(circuit.solve(fault_t, fault_src, short_at=f.b).fault_current or 0.0)
+    bat_sc = abs(circuit.solve(fault_t, fault_src, short_at=d.supply.battery.node).fault_current or 0.0)
+    return Analysis(d, circuit, corners, faults, bat_sc, protected_cables(d))
 
 
 def protected_cables(d: Drawing) -> dict[str, list[str]]:

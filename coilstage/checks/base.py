@@ -11,10 +11,10 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
-from enum import Enum
+from enum import StrEnum
 
 
-class Status(str, Enum):
+class Status(StrEnum):
     PASS = "pass"
     WARN = "warn"
     FAIL = "fail"

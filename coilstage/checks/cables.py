@@ -25,14 +25,30 @@ def _ampacity(a: Analysis) -> list[Verdict]:
             out.append(not_checked(AMPACITY, c.id, amp, "A", "cold"))
             continue
         if amp.value <= 0:
-            out.append(Verdict(AMPACITY.id, c.id, Status.FAIL, i, 0.0, "A", None, AMPACITY.clause,
-                               f"zone {c.zone} at {c.zone_temperature:g} °C leaves no ampacity for a "
-                               f"{amp.column} °C insulation rating", "cold"))
+            out.append(
+                Verdict(
+                    AMPACITY.id,
+                    c.id,
+                    Status.FAIL,
+                    i,
+                    0.0,
+                    "A",
+                    None,
+                    AMPACITY.clause,
+                    f"zone {c.zone} at {c.zone_temperature:g} °C leaves no ampacity for a "
+                    f"{amp.column} °C insulation rating",
+                    "cold",
+                )
+            )
             continue
         status = Status.PASS if i <= amp.value else Status.FAIL
-        note = (f"{c.size_label} ({amp.method}): {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
-                f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded)")
-        out.append(Verdict(AMPACITY.id, c.id, status, i, amp.value, "A", ceiling(i, amp.value), AMPACITY.clause, note, "cold"))
+        note = (
+            f"{c.size_label} ({amp.method}): {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
+            f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded)"
+        )
+        out.append(
+            Verdict(AMPACITY.id, c.id, status, i, amp.value, "A", ceiling(i, amp.value), AMPACITY.clause, note, "cold")
+        )
     return out
 
 
@@ -43,8 +59,19 @@ def _temperature_class(a: Analysis) -> list[Verdict]:
         note = f"ISO 6722 class {c.insulation_class} ({c.class_max:g} °C) in zone {c.zone} ({c.zone_temperature:g} °C)"
         if not ok:
             note += ": the zone alone reaches the class limit, leaving nothing for self-heating"
-        out.append(Verdict(TEMPERATURE_CLASS.id, c.id, Status.PASS if ok else Status.FAIL, c.zone_temperature,
-                           c.class_max, "degC", ceiling_temperature(c.zone_temperature, c.class_max), TEMPERATURE_CLASS.clause, note))
+        out.append(
+            Verdict(
+                TEMPERATURE_CLASS.id,
+                c.id,
+                Status.PASS if ok else Status.FAIL,
+                c.zone_temperature,
+                c.class_max,
+                "degC",
+                ceiling_temperature(c.zone_temperature, c.class_max),
+                TEMPERATURE_CLASS.clause,
+                note,
+            )
+        )
     return out
 
 
@@ -60,10 +87,24 @@ def _voltage_drop(a: Analysis) -> list[Verdict]:
         corner, s = worst
         f = s.drop_fraction
         status = Status.PASS if f <= lim.drop_pass else Status.WARN if f <= lim.drop_warn else Status.FAIL
-        note = (f"{s.drop:.3f} V of {nominal} V nominal from the battery terminals to the stage, {corner} corner "
-                f"(worse of cold and hot); pass <= {lim.drop_pass:.0%}, warn <= {lim.drop_warn:.0%}")
-        out.append(Verdict(VOLTAGE_DROP.id, sid, status, f * 100, lim.drop_pass * 100, "%",
-                           ceiling(f, lim.drop_pass), VOLTAGE_DROP.clause, note, corner))
+        note = (
+            f"{s.drop:.3f} V of {nominal} V nominal from the battery terminals to the stage, {corner} corner "
+            f"(worse of cold and hot); pass <= {lim.drop_pass:.0%}, warn <= {lim.drop_warn:.0%}"
+        )
+        out.append(
+            Verdict(
+                VOLTAGE_DROP.id,
+                sid,
+                status,
+                f * 100,
+                lim.drop_pass * 100,
+                "%",
+                ceiling(f, lim.drop_pass),
+                VOLTAGE_DROP.clause,
+                note,
+                corner,
+            )
+        )
     return out
 
 

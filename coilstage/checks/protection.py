@@ -18,9 +18,15 @@ def _fuse_continuous(a: Analysis) -> list[Verdict]:
         carry = f.rating * rer
         limit = frac * carry
         status = Status.PASS if i <= limit else Status.WARN if i <= carry else Status.FAIL
-        note = (f"{f.rating:g} A {f.part} type {f.fuse_type} x {rer:.3f} rerating at {f.zone_temperature:g} °C "
-                f"({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to 100 %")
-        out.append(Verdict(FUSE_CONTINUOUS.id, f.id, status, i, limit, "A", ceiling(i, limit), FUSE_CONTINUOUS.clause, note, "cold"))
+        note = (
+            f"{f.rating:g} A {f.part} type {f.fuse_type} x {rer:.3f} rerating at {f.zone_temperature:g} °C "
+            f"({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to 100 %"
+        )
+        out.append(
+            Verdict(
+                FUSE_CONTINUOUS.id, f.id, status, i, limit, "A", ceiling(i, limit), FUSE_CONTINUOUS.clause, note, "cold"
+            )
+        )
     return out
 
 
@@ -34,7 +40,9 @@ def _fuse_protects(a: Analysis) -> list[Verdict]:
             out.append(not_checked(FUSE_PROTECTS, f.id, f"protects names no cable with id {', '.join(unknown)}", "A"))
             continue
         if not ids:
-            out.append(not_checked(FUSE_PROTECTS, f.id, "no cable found downstream of this fuse (name them in protects)", "A"))
+            out.append(
+                not_checked(FUSE_PROTECTS, f.id, "no cable found downstream of this fuse (name them in protects)", "A")
+            )
             continue
         amps = []
         for cid in ids:
@@ -53,18 +61,38 @@ def _fuse_protects(a: Analysis) -> list[Verdict]:
                 between = [s for s in f.series if weakest < s < f.rating]
                 if f.series and not between:
                     status = Status.PASS
-                    note = f"next standard size above the {weakest:.1f} A ampacity of {cid}, within 150 % (allowed by E-11)"
+                    note = (
+                        f"next standard size above the {weakest:.1f} A ampacity of {cid}, "
+                        "within 150 % (allowed by E-11)"
+                    )
                 elif f.series:
                     status = Status.FAIL
-                    note = f"not the next size up: {', '.join(f'{s:g}' for s in between)} A lie between ampacity {weakest:.1f} A of {cid} and the rating"
+                    sizes = ", ".join(f"{s:g}" for s in between)
+                    note = (
+                        f"not the next size up: {sizes} A lie between the {weakest:.1f} A ampacity of {cid} "
+                        "and the rating"
+                    )
                 else:
                     status = Status.WARN
-                    note = (f"above the {weakest:.1f} A ampacity of {cid} but within 150 %; the type has no shipped "
-                            "rating series, so 'next size up' could not be confirmed")
+                    note = (
+                        f"above the {weakest:.1f} A ampacity of {cid} but within 150 %; the type has no shipped "
+                        "rating series, so 'next size up' could not be confirmed"
+                    )
             else:
                 status, note = Status.FAIL, f"rating above 150 % of the {weakest:.1f} A ampacity of {cid}"
-            out.append(Verdict(FUSE_PROTECTS.id, f.id, status, f.rating, weakest, "A", ceiling(f.rating, weakest),
-                               FUSE_PROTECTS.clause, note + f" (protects {', '.join(ids)})"))
+            out.append(
+                Verdict(
+                    FUSE_PROTECTS.id,
+                    f.id,
+                    status,
+                    f.rating,
+                    weakest,
+                    "A",
+                    ceiling(f.rating, weakest),
+                    FUSE_PROTECTS.clause,
+                    note + f" (protects {', '.join(ids)})",
+                )
+            )
     return out
 
 
@@ -73,9 +101,21 @@ def _fuse_voltage(a: Analysis) -> list[Verdict]:
     out = []
     for f in a.drawing.of_kind(Fuse):
         status = Status.PASS if f.voltage_rating >= v else Status.FAIL
-        out.append(Verdict(FUSE_VOLTAGE.id, f.id, status, f.voltage_rating, v, "V", floor(f.voltage_rating, v), FUSE_VOLTAGE.clause,
-                           f"fuse rated {f.voltage_rating:g} V against the system's highest voltage {v:g} V "
-                           f"({a.drawing.supply.limits_source or 'drawing'})", "limit"))
+        out.append(
+            Verdict(
+                FUSE_VOLTAGE.id,
+                f.id,
+                status,
+                f.voltage_rating,
+                v,
+                "V",
+                floor(f.voltage_rating, v),
+                FUSE_VOLTAGE.clause,
+                f"fuse rated {f.voltage_rating:g} V against the system's highest voltage {v:g} V "
+                f"({a.drawing.supply.limits_source or 'drawing'})",
+                "limit",
+            )
+        )
     return out
 
 
@@ -84,10 +124,22 @@ def _fuse_breaking(a: Analysis) -> list[Verdict]:
     for f in a.drawing.of_kind(Fuse):
         i = a.fault_current[f.id]
         status = Status.PASS if f.breaking_capacity >= i else Status.FAIL
-        out.append(Verdict(FUSE_BREAKING.id, f.id, status, i, f.breaking_capacity, "A", ceiling(i, f.breaking_capacity),
-                           FUSE_BREAKING.clause,
-                           f"bolted short from the load terminal ({f.b}) to chassis ({a.drawing.supply.chassis_node}) at the cold corner, battery "
-                           f"and alternator feeding; breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})", "cold"))
+        out.append(
+            Verdict(
+                FUSE_BREAKING.id,
+                f.id,
+                status,
+                i,
+                f.breaking_capacity,
+                "A",
+                ceiling(i, f.breaking_capacity),
+                FUSE_BREAKING.clause,
+                f"bolted short from the load terminal ({f.b}) to chassis ({a.drawing.supply.chassis_node}) "
+                "at the cold corner, battery "
+                f"and alternator feeding; breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})",
+                "cold",
+            )
+        )
     return out
 
 
@@ -110,8 +162,9 @@ def relay_temperature_factor(r: Relay) -> tuple[float | None, str]:
     if t <= r.rated_ambient:
         return 1.0, f"zone {t:g} °C within the rated ambient {r.rated_ambient:g} °C"
     if r.derated is None:
-        return 1.0, (f"zone {t:g} °C above the rated ambient {r.rated_ambient:g} °C and no derating given: "
-                     "rating used as stated")
+        return 1.0, (
+            f"zone {t:g} °C above the rated ambient {r.rated_ambient:g} °C and no derating given: rating used as stated"
+        )
     f, td = r.derated
     k = 1.0 + (f - 1.0) * (t - r.rated_ambient) / (td - r.rated_ambient) if td != r.rated_ambient else f
     return max(k, 0.0), f"derated linearly to {k:.3f} at {t:g} °C (given: {f:.0%} at {td:g} °C)"
@@ -124,18 +177,34 @@ def _relay_contact(a: Analysis) -> list[Verdict]:
         i = abs(a.corners["cold"].solution.current[r.id])
         rating, rnote = relay_rating(r, system)
         if rating is None:
-            out.append(Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, rnote, "cold"))
+            out.append(
+                Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, rnote, "cold")
+            )
             continue
         k, tnote = relay_temperature_factor(r)
         if k is None:
-            out.append(Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, "cold"))
+            out.append(
+                Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, "cold")
+            )
             continue
         limit = rating * k
         status = Status.PASS if i <= 0.9 * limit else Status.WARN if i <= limit else Status.FAIL
         if status is Status.PASS and r.derated is None and r.zone_temperature > r.rated_ambient:
             status = Status.WARN
-        out.append(Verdict(RELAY_CONTACT.id, r.id, status, i, limit, "A", ceiling(i, limit), RELAY_CONTACT.clause,
-                           f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice)", "cold"))
+        out.append(
+            Verdict(
+                RELAY_CONTACT.id,
+                r.id,
+                status,
+                i,
+                limit,
+                "A",
+                ceiling(i, limit),
+                RELAY_CONTACT.clause,
+                f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice)",
+                "cold",
+            )
+        )
     return out
 
 
@@ -147,8 +216,20 @@ def _relay_voltage(a: Analysis) -> list[Verdict]:
             out.append(not_checked(RELAY_VOLTAGE, r.id, "no voltage_rating given for this relay", "V", "limit"))
             continue
         status = Status.PASS if r.voltage_rating >= v else Status.FAIL
-        out.append(Verdict(RELAY_VOLTAGE.id, r.id, status, r.voltage_rating, v, "V", floor(r.voltage_rating, v),
-                           RELAY_VOLTAGE.clause, f"highest switching voltage {r.voltage_rating:g} V against {v:g} V", "limit"))
+        out.append(
+            Verdict(
+                RELAY_VOLTAGE.id,
+                r.id,
+                status,
+                r.voltage_rating,
+                v,
+                "V",
+                floor(r.voltage_rating, v),
+                RELAY_VOLTAGE.clause,
+                f"highest switching voltage {r.voltage_rating:g} V against {v:g} V",
+                "limit",
+            )
+        )
     return out
 
 

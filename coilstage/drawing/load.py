@@ -25,7 +25,6 @@ from coilstage.units import (
     parse_quantity,
     parse_resistance_at,
     parse_temperature,
-    parse_value_at,
 )
 
 from .schema import (
@@ -51,14 +50,30 @@ TOP_KEYS = {"drawing", "tables", "supply", "environment", "coils", "corners", "l
 KEYS = {
     "drawing": {"title", "note", "format"},
     "tables": {"conductors"},
-    "supply": {"system", "code", "limits", "battery", "alternator", "base_load", "base_load_node", "negative", "chassis"},
+    "supply": {
+        "system",
+        "code",
+        "limits",
+        "battery",
+        "alternator",
+        "base_load",
+        "base_load_node",
+        "negative",
+        "chassis",
+    },
     "supply.limits": {"min", "max"},
     "supply.battery": {"emf", "internal_resistance", "node", "capacity"},
     "supply.alternator": {"setpoint", "tolerance", "source_resistance", "limit_idle", "limit_rated", "node"},
     "environment": {"ambient_min", "ambient_max", "zones"},
     "coil": {
-        "metal", "resistance", "turns", "mean_turn_length", "wire_size", "inductance",
-        "insulation_class", "hot_temperature",
+        "metal",
+        "resistance",
+        "turns",
+        "mean_turn_length",
+        "wire_size",
+        "inductance",
+        "insulation_class",
+        "hot_temperature",
     },
     "corners": {"cold", "hot", "limit"},
     "corners.cold": {"ambient", "bus_voltage"},
@@ -74,8 +89,15 @@ ELEMENT_KEYS = {
     "joint": _COMMON | {"resistance"},
     "busbar": _COMMON | {"resistance"},
     "fuse": _COMMON | {"type", "rating", "voltage_rating", "breaking_capacity", "zone", "resistance", "protects"},
-    "relay": _COMMON | {
-        "rating_12v", "rating_24v", "rated_ambient", "derating", "max_ambient", "voltage_rating", "zone",
+    "relay": _COMMON
+    | {
+        "rating_12v",
+        "rating_24v",
+        "rated_ambient",
+        "derating",
+        "max_ambient",
+        "voltage_rating",
+        "zone",
         "resistance",
     },
     "stage": _COMMON | {"coil", "count", "connection"},
@@ -121,7 +143,9 @@ class _Reader:
         for key in raw:
             if key not in allowed:
                 path = f"{where}.{key}" if where else key
-                self.problem(path, _MISSING, f"no such key here{_suggest(key, allowed)}; allowed: {', '.join(sorted(allowed))}")
+                self.problem(
+                    path, _MISSING, f"no such key here{_suggest(key, allowed)}; allowed: {', '.join(sorted(allowed))}"
+                )
 
     def value(self, raw: dict, key: str, where: str, parse, expected: str | None = None, default=_MISSING):
         """Parse ``raw[key]`` with ``parse``; a missing key gives ``default`` (or a problem)."""
@@ -325,7 +349,17 @@ def _supply(r: _Reader, raw: dict) -> Supply | None:
         r.problem("supply.battery.node", battery.node, "a node other than the negative node")
         return None
     return Supply(
-        round(system), code, v_min, v_max, limits_source, battery, alternator, base, base_node, negative, chassis or negative
+        round(system),
+        code,
+        v_min,
+        v_max,
+        limits_source,
+        battery,
+        alternator,
+        base,
+        base_node,
+        negative,
+        chassis or negative,
     )
 
 
@@ -344,7 +378,9 @@ def _environment(r: _Reader, raw: dict) -> Environment | None:
         t = r.value(zraw, name, "environment.zones", parse_temperature)
         if t is not None:
             if hi is not None and t < hi:
-                r.problem(f"environment.zones.{name}", value, f"a highest temperature of at least ambient_max ({hi:g} °C)")
+                r.problem(
+                    f"environment.zones.{name}", value, f"a highest temperature of at least ambient_max ({hi:g} °C)"
+                )
             zones[name] = t
     if lo is None or hi is None:
         return None
@@ -360,7 +396,9 @@ def _insulation_class(value: Any) -> int:
     if isinstance(value, int) and not isinstance(value, bool) and value in tables.insulation_classes():
         return value
     raise ValueError(
-        "an IEC 60085 thermal class: " + ", ".join(map(str, tables.insulation_classes())) + " or a letter Y A E B F H N R"
+        "an IEC 60085 thermal class: "
+        + ", ".join(map(str, tables.insulation_classes()))
+        + " or a letter Y A E B F H N R"
     )
 
 
@@ -411,12 +449,24 @@ def _coils(r: _Reader, raw: dict, env: Environment | None) -> dict[str, CoilType
             else:
                 hot = ins - allowance
                 hot_src = f"class {ins} limit less {allowance:g} K hot-spot allowance (not given)"
-                r.assume(f"{where}.hot_temperature not given: the hot corner runs the winding at {hot:g} °C ({hot_src})")
+                r.assume(
+                    f"{where}.hot_temperature not given: the hot corner runs the winding at {hot:g} °C ({hot_src})"
+                )
         if None in (metal, ins, inductance, turns, r_ref, t_ref, hot):
             continue
         out[name] = CoilType(
-            name, metal, float(tables.material(metal)["alpha20"]), r_ref, t_ref, inductance, turns, ins,
-            float(tables.insulation_classes()[ins]["allowance"]), hot, hot_src, rsource,
+            name,
+            metal,
+            float(tables.material(metal)["alpha20"]),
+            r_ref,
+            t_ref,
+            inductance,
+            turns,
+            ins,
+            float(tables.insulation_classes()[ins]["allowance"]),
+            hot,
+            hot_src,
+            rsource,
         )
     if not c:
         r.problem("coils", _MISSING, "at least one [coils.NAME] table")
@@ -431,7 +481,11 @@ def _zone(r: _Reader, e: dict, where: str, env: Environment | None) -> tuple[str
         return "ambient", env.ambient_max
     name = e["zone"]
     if not isinstance(name, str) or name not in env.zones:
-        r.problem(f"{where}.zone", name, f"one of the zones {', '.join(sorted(env.zones))}{_suggest(str(name), set(env.zones))}")
+        r.problem(
+            f"{where}.zone",
+            name,
+            f"one of the zones {', '.join(sorted(env.zones))}{_suggest(str(name), set(env.zones))}",
+        )
         return None, None
     return name, env.zones[name]
 
@@ -446,7 +500,13 @@ def _conductor(r: _Reader, e: dict, where: str, size, default_mm2: str):
         elif name in tables.conductor_table_names():
             table = tables.conductor_table(name)
         else:
-            r.problem(key, name, "a shipped conductor table (" + ", ".join(tables.conductor_table_names()) + ") or a path to a .toml table")
+            r.problem(
+                key,
+                name,
+                "a shipped conductor table ("
+                + ", ".join(tables.conductor_table_names())
+                + ") or a path to a .toml table",
+            )
             return None
     except DataError as exc:
         for p in exc.problems:
@@ -478,10 +538,20 @@ def _cable_fields(r: _Reader, e: dict, where: str, env, default_mm2: str) -> dic
         return None
     area, r20, src, metal = cond
     return dict(
-        size_label=size.label, area=area, awg=int(size.nominal) if size.system == "awg" else None,
-        length=length, r20_per_m=r20, r20_source=src, alpha20=float(tables.material(metal)["alpha20"]),
-        material=metal, insulation_class=ins, class_max=tables.cable_classes()[ins], zone=zone,
-        zone_temperature=zt, bundle=bundle, sheathed=bool(sheathed),
+        size_label=size.label,
+        area=area,
+        awg=int(size.nominal) if size.system == "awg" else None,
+        length=length,
+        r20_per_m=r20,
+        r20_source=src,
+        alpha20=float(tables.material(metal)["alpha20"]),
+        material=metal,
+        insulation_class=ins,
+        class_max=tables.cable_classes()[ins],
+        zone=zone,
+        zone_temperature=zt,
+        bundle=bundle,
+        sheathed=bool(sheathed),
     )
 
 
@@ -530,7 +600,9 @@ def _harness(r, raw, env, coils, default_mm2, supply, links: list[_Link]) -> lis
         el = None
         if kind == "cable" or (kind == "ground" and "resistance" not in e):
             f = _cable_fields(r, e, where, env, default_mm2)
-            role = "return" if kind == "ground" else r.text(e, "role", where, default="feed", choices=["feed", "return"])
+            role = (
+                "return" if kind == "ground" else r.text(e, "role", where, default="feed", choices=["feed", "return"])
+            )
             if f is not None and role is not None:
                 el = Cable(**common, **f, role=role)
         elif kind in ("ground", "joint", "busbar"):
@@ -551,7 +623,11 @@ def _harness(r, raw, env, coils, default_mm2, supply, links: list[_Link]) -> lis
             if cname is not None and coils is not None:
                 coil = coils.get(cname)
                 if coil is None and cname not in (raw.get("coils") or {}):
-                    r.problem(f"{where}.coil", cname, f"one of the coil types {', '.join(sorted(coils)) or '(none)'}{_suggest(cname, set(coils))}")
+                    r.problem(
+                        f"{where}.coil",
+                        cname,
+                        f"one of the coil types {', '.join(sorted(coils)) or '(none)'}{_suggest(cname, set(coils))}",
+                    )
             if None not in (coil, count, conn):
                 el = Stage(**common, coil=coil, count=count, connection=conn)
         if el is not None and None not in (eid, a, b):
@@ -591,9 +667,18 @@ def _fuse(r, e, where, env, common) -> Fuse | None:
     if None in (ftype, rating, zone, zt, vr, bc, res, row):
         return None
     return Fuse(
-        **common, fuse_type=ftype, part=row["part"], rating=rating, voltage_rating=vr, breaking_capacity=bc,
-        breaking_source=bsrc, series=tuple(float(x) for x in row["series"]), zone=zone, zone_temperature=zt,
-        resistance=res, protects=protects,
+        **common,
+        fuse_type=ftype,
+        part=row["part"],
+        rating=rating,
+        voltage_rating=vr,
+        breaking_capacity=bc,
+        breaking_source=bsrc,
+        series=tuple(float(x) for x in row["series"]),
+        zone=zone,
+        zone_temperature=zt,
+        resistance=res,
+        protects=protects,
     )
 
 
@@ -606,10 +691,19 @@ def _relay(r, e, where, env, common, system) -> Relay | None:
     ra = r.temperature(e, "rated_ambient", where, default=None)
     if ra is None and "rated_ambient" not in e:
         ra = 23.0
-        r.assume(f"{where}.rated_ambient not given: the contact ratings are taken as stated at 23 °C (usual datasheet reference)")
+        r.assume(
+            f"{where}.rated_ambient not given: the contact ratings are taken as stated at 23 °C "
+            "(usual datasheet reference)"
+        )
     derated = None
     if "derating" in e:
-        d = r.value(e, "derating", where, lambda t: _fraction_at(t), expected='a fraction at a temperature, e.g. "67 % @ 85 degC"')
+        d = r.value(
+            e,
+            "derating",
+            where,
+            lambda t: _fraction_at(t),
+            expected='a fraction at a temperature, e.g. "67 % @ 85 degC"',
+        )
         if d is not None:
             derated = d
     ma = r.temperature(e, "max_ambient", where, default=None)
@@ -621,8 +715,16 @@ def _relay(r, e, where, env, common, system) -> Relay | None:
     if None in (zone, zt, ra, res) or (r12 is None and r24 is None):
         return None
     return Relay(
-        **common, rating_12v=r12, rating_24v=r24, rated_ambient=ra, derated=derated, max_ambient=ma,
-        voltage_rating=vr, zone=zone, zone_temperature=zt, resistance=res,
+        **common,
+        rating_12v=r12,
+        rating_24v=r24,
+        rated_ambient=ra,
+        derated=derated,
+        max_ambient=ma,
+        voltage_rating=vr,
+        zone=zone,
+        zone_temperature=zt,
+        resistance=res,
     )
 
 
@@ -652,7 +754,9 @@ def _corners(r: _Reader, raw: dict, supply: Supply | None, env: Environment | No
     cold_bus = r.quantity(cold, "bus_voltage", "corners.cold", "voltage", default=default_cold, positive=True)
     cold_amb = r.temperature(cold, "ambient", "corners.cold", default=env.ambient_min)
     hot_emf = r.quantity(hot, "battery_emf", "corners.hot", "voltage", default=supply.battery.emf, positive=True)
-    hot_alt = r.text(hot, "alternator", "corners.hot", default="idle" if alt else "off", choices=["idle", "rated", "off"])
+    hot_alt = r.text(
+        hot, "alternator", "corners.hot", default="idle" if alt else "off", choices=["idle", "rated", "off"]
+    )
     if hot_alt in ("idle", "rated") and alt is None:
         r.problem("corners.hot.alternator", hot_alt, '"off": the drawing has no alternator')
     limit_bus = r.quantity(lim, "bus_voltage", "corners.limit", "voltage", default=supply.v_max, positive=True)
@@ -697,7 +801,7 @@ def _topology(r: _Reader, supply: Supply, links: list[_Link], elements: list[Ele
             r.problem(key, node, "a node that a harness element connects to")
     for node, refs in ends.items():
         if len(refs) == 1 and node not in supply_nodes:
-            r.problem(refs[0], node, f"a node that something else connects to (nothing else meets at \"{node}\")")
+            r.problem(refs[0], node, f'a node that something else connects to (nothing else meets at "{node}")')
 
     adj: dict[str, list[tuple[str, str]]] = defaultdict(list)
     for e in links:
@@ -721,9 +825,9 @@ def _topology(r: _Reader, supply: Supply, links: list[_Link], elements: list[Ele
     for s in links:
         if s.kind == "stage":
             if not reaches(s.b, neg, pos):
-                r.problem(f"{s.where}.to", s.b, f"a return path from the stage to the negative node \"{neg}\"")
+                r.problem(f"{s.where}.to", s.b, f'a return path from the stage to the negative node "{neg}"')
             if not reaches(s.a, pos, neg):
-                r.problem(f"{s.where}.from", s.a, f"a feed path from the stage to the battery node \"{pos}\"")
+                r.problem(f"{s.where}.from", s.a, f'a feed path from the stage to the battery node "{pos}"')
 
     # A loop made only of zero-ohm parts has no defined current split.
     parent: dict[str, str] = {}
@@ -738,5 +842,7 @@ def _topology(r: _Reader, supply: Supply, links: list[_Link], elements: list[Ele
         if getattr(e, "resistance", None) == 0.0:
             ra, rb = find(e.a), find(e.b)
             if ra == rb:
-                r.problem(e.where, "0 ohm", "a resistance: this part closes a loop of zero-ohm parts (give resistances)")
+                r.problem(
+                    e.where, "0 ohm", "a resistance: this part closes a loop of zero-ohm parts (give resistances)"
+                )
             parent[ra] = rb

@@ -163,6 +163,7 @@ def solve_with_limited_source(
     -------
     LimitedSolution
     """
+
     def with_sources(extra_r: list[tuple[int, int, float]], extra_i: list[tuple[int, int, float]]):
         res = Branches(
             np.concatenate([resistors.a, [e[0] for e in extra_r]]).astype(np.int64),

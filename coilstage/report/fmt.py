@@ -24,7 +24,7 @@ def si(value: float | None, unit: str, digits: int = 3) -> str:
     for scale, p in _PREFIX:
         if mag >= scale or scale == _PREFIX[-1][0]:
             x = value / scale
-            return f"{x:.{max(digits - 1 - int(math.floor(math.log10(abs(x)))) if x else 0, 0)}f} {p}{u}"
+            return f"{x:.{max(digits - 1 - math.floor(math.log10(abs(x))) if x else 0, 0)}f} {p}{u}"
     return f"{value:g} {u}"
 
 

@@ -37,12 +37,19 @@ def render(doc: dict[str, Any]) -> str:
         ]
         for st in c["stages"]:
             out.append(
-                f"| {st['id']} | {qv(st['winding_temperature'], 0)} | {qv(st['resistance'])} | {qv(st['current'], 1)} | "
+                f"| {st['id']} | {qv(st['winding_temperature'], 0)} | {qv(st['resistance'])} | "
+                f"{qv(st['current'], 1)} | "
                 f"{qv(st['terminal_voltage'], 2)} | {qv(st['power'])} | {st['ampere_turns']['value']:.0f} A | "
-                f"{qv(st['voltage_drop'], 3)} ({st['voltage_drop_fraction']['value']:.1%}) | {qv(st['stored_energy'], 1)} |"
+                f"{qv(st['voltage_drop'], 3)} ({st['voltage_drop_fraction']['value']:.1%}) | "
+                f"{qv(st['stored_energy'], 1)} |"
             )
         out.append("")
-    out += ["## Verdicts", "", "| status | rule | subject | value | limit | margin | note | clause |", "|---|---|---|---:|---:|---:|---|---|"]
+    out += [
+        "## Verdicts",
+        "",
+        "| status | rule | subject | value | limit | margin | note | clause |",
+        "|---|---|---|---:|---:|---:|---|---|",
+    ]
     for v in doc["verdicts"]:
         out.append(
             f"| {v['status'].upper()} | `{v['rule']}` | {_esc(v['subject'])} | {qv(v['value'])} | {qv(v['limit'])} | "

@@ -38,10 +38,16 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             t.add_column(col, justify="right")
         for st in c["stages"]:
             t.add_row(
-                st["id"], _num(st["winding_temperature"], places=0), _num(st["resistance"], 1e3, 0),
-                _num(st["current"]), _num(st["terminal_voltage"], places=2), _num(st["power"], places=0),
-                _num(st["ampere_turns"], places=0), _num(st["voltage_drop"], places=3),
-                _num(st["voltage_drop_fraction"], 100), _num(st["stored_energy"]),
+                st["id"],
+                _num(st["winding_temperature"], places=0),
+                _num(st["resistance"], 1e3, 0),
+                _num(st["current"]),
+                _num(st["terminal_voltage"], places=2),
+                _num(st["power"], places=0),
+                _num(st["ampere_turns"], places=0),
+                _num(st["voltage_drop"], places=3),
+                _num(st["voltage_drop_fraction"], 100),
+                _num(st["stored_energy"]),
             )
         console.print(t)
         for k, v in c["conditions"].items():
@@ -58,8 +64,14 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
     notes = []
     for x in doc["verdicts"]:
         st = x["status"]
-        v.add_row(Text(st.upper(), style=_STYLE[st]), x["rule"], x["subject"], qv(x["value"]), qv(x["limit"]),
-                  margin(x["margin"]))
+        v.add_row(
+            Text(st.upper(), style=_STYLE[st]),
+            x["rule"],
+            x["subject"],
+            qv(x["value"]),
+            qv(x["limit"]),
+            margin(x["margin"]),
+        )
         if details or st != "pass":
             notes.append(x)
     console.print(v)

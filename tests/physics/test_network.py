@@ -122,7 +122,9 @@ def test_alternator_off_when_bus_above_setpoint():
     # the rectifier blocks and the alternator delivers nothing (divider: V = E R/(R + Rb)).
     e, r_light = 30.0, 1.0
     res = Branches.of([(0, 1, RB), (1, 0, r_light)])
-    sol = solve_with_limited_source(2, res, Branches.of([]), Branches.of([(0, 1, e / RB)]), LimitedSource(1, VSET, RS, 100))
+    sol = solve_with_limited_source(
+        2, res, Branches.of([]), Branches.of([(0, 1, e / RB)]), LimitedSource(1, VSET, RS, 100)
+    )
     assert sol.mode == "off"
     assert sol.i_source == 0.0
     assert sol.dc.v[1] == pytest.approx(e * r_light / (r_light + RB), rel=1e-12)

@@ -183,3 +183,15 @@ def test_element_resistance_of_a_parallel_stage():
     assert element_resistance(s, 20.0) == pytest.approx(1.0 / 3)
     assert s.inductance == pytest.approx(0.05 / 3)
     assert s.coil_current_factor == pytest.approx(1 / 3)
+
+
+def test_fault_currents_of_every_fuse_match_one_short_at_a_time():
+    from coilstage.analysis.corners import corner_sources
+
+    d = load_drawing(FLAWED)
+    a, _ = check(d)
+    temps, src = corner_sources(d)["fault"]
+    for fid, i_sc in a.fault_current.items():
+        fuse = next(e for e in d.elements if e.id == fid)
+        direct = a.circuit.solve(temps, src, short_at=fuse.b).fault_current
+        assert i_sc == pytest.approx(abs(direct), rel=1e-9)

@@ -8,19 +8,28 @@ import numpy as np
 
 from coilstage.drawing.schema import Cable, Drawing, Element, Fuse, Relay, Resistor, Stage
 from coilstage.physics.conductor import resistance_at_temperature
-from coilstage.physics.network import Branches, LimitedSource, solve_mna, solve_with_limited_source
+from coilstage.physics.network import (
+    Branches,
+    LimitedSource,
+    short_circuit_currents,
+    solve_mna,
+    solve_with_limited_source,
+)
 
 
 @dataclass(frozen=True)
 class SourceState:
     """What the sources do in one solve: battery EMF [V]; alternator set-point [V] and current limit
     [A], or ``alt_limit = None`` for an alternator that is not charging. ``hold_bus`` [V], where given,
-    replaces both by an ideal source holding the battery terminals at that voltage (an envelope)."""
+    replaces both by an ideal source holding the battery terminals at that voltage (an envelope).
+    ``alt_fixed`` makes the alternator a fixed current source of ``alt_limit`` (its full output), as it
+    is with a held bus and, conservatively, in a fault."""
 
     battery_emf: float
     alt_setpoint: float | None
     alt_limit: float | None
     hold_bus: float | None = None
+    alt_fixed: bool = False
 
 
 @dataclass(frozen=True)
@@ -67,6 +76,42 @@ class Circuit:
             self.nodes.setdefault(n, len(self.nodes))
         self.index = {e.id: e for e in drawing.elements}
 
+    def _network(self, temperatures: dict[str, float], sources: SourceState, overrides: dict[str, float] | None):
+        """Rows of the network for one solve, and which voltage source belongs to which element."""
+        d = self.drawing
+        s = d.supply
+        nd = self.nodes
+        res_rows: list[tuple[int, int, float]] = []
+        vs_rows: list[tuple[int, int, float]] = []
+        vs_owner: list[str] = []
+        resistance: dict[str, float] = {}
+        for e in d.elements:
+            r = element_resistance(e, temperatures.get(e.id, 20.0))
+            if overrides and e.id in overrides:
+                r = overrides[e.id]
+            resistance[e.id] = r
+            if r > 0:
+                res_rows.append((nd[e.a], nd[e.b], r))
+            else:  # a zero-ohm part: a 0 V source, whose current comes out of the solution
+                vs_rows.append((nd[e.a], nd[e.b], 0.0))
+                vs_owner.append(e.id)
+        bat = nd[s.battery.node]
+        rb = s.battery.internal_resistance
+        is_rows: list[tuple[int, int, float]] = []
+        if sources.hold_bus is None:  # battery as its Norton equivalent
+            res_rows.append((0, bat, rb))
+            is_rows.append((0, bat, sources.battery_emf / rb))
+        else:
+            vs_rows.append((0, bat, sources.hold_bus))
+            vs_owner.append("__bus__")
+        if s.base_load > 0:
+            is_rows.append((nd[s.base_load_node], 0, s.base_load))
+        alt_on = s.alternator is not None and sources.alt_limit is not None and sources.alt_limit > 0
+        fixed = alt_on and (sources.hold_bus is not None or sources.alt_fixed)
+        if fixed:
+            is_rows.append((0, nd[s.alternator.node], sources.alt_limit))
+        return res_rows, vs_rows, vs_owner, is_rows, resistance, alt_on, fixed
+
     def solve(
         self,
         temperatures: dict[str, float],
@@ -89,43 +134,15 @@ class Circuit:
         d = self.drawing
         s = d.supply
         nd = self.nodes
-        res_rows: list[tuple[int, int, float]] = []
-        vs_rows: list[tuple[int, int, float]] = []
-        vs_owner: list[str] = []
-        resistance: dict[str, float] = {}
-        for e in d.elements:
-            r = element_resistance(e, temperatures.get(e.id, 20.0))
-            if overrides and e.id in overrides:
-                r = overrides[e.id]
-            resistance[e.id] = r
-            if r > 0:
-                res_rows.append((nd[e.a], nd[e.b], r))
-            else:
-                vs_rows.append((nd[e.a], nd[e.b], 0.0))
-                vs_owner.append(e.id)
-        bat = nd[s.battery.node]
-        rb = s.battery.internal_resistance
-        is_rows: list[tuple[int, int, float]] = []
-        if sources.hold_bus is None:
-            res_rows.append((0, bat, rb))
-            is_rows.append((0, bat, sources.battery_emf / rb))
-        else:
-            vs_rows.append((0, bat, sources.hold_bus))
-            vs_owner.append("__bus__")
-        if s.base_load > 0:
-            is_rows.append((nd[s.base_load_node], 0, s.base_load))
+        res_rows, vs_rows, vs_owner, is_rows, resistance, alt_on, fixed = self._network(
+            temperatures, sources, overrides
+        )
         if short_at is not None:
             vs_rows.append((nd[short_at], nd[s.chassis_node], 0.0))
             vs_owner.append("__short__")
-        held = sources.hold_bus is not None
-        alt_on = s.alternator is not None and sources.alt_limit is not None and sources.alt_limit > 0
-        if held and alt_on:
-            # Envelope: the alternator delivers its full output at its own terminal (the duty of its
-            # charge cable); the held bus takes or gives the difference.
-            is_rows.append((0, nd[s.alternator.node], sources.alt_limit))
         n = len(nd)
         R, V, cur = Branches.of(res_rows), Branches.of(vs_rows), Branches.of(is_rows)
-        if alt_on and not held:
+        if alt_on and not fixed:
             src = LimitedSource(
                 nd[s.alternator.node], sources.alt_setpoint, s.alternator.source_resistance, sources.alt_limit
             )
@@ -151,11 +168,34 @@ class Circuit:
         for e in d.elements:
             if e.id not in current:
                 current[e.id] = (v[e.a] - v[e.b]) / resistance[e.id]
-        if held:
+        if sources.hold_bus is not None:
             i_bat = i_held  # the held source stands for the battery (and the regulation holding it)
         else:
-            i_bat = (sources.battery_emf - v[s.battery.node]) / rb
+            i_bat = (sources.battery_emf - v[s.battery.node]) / s.battery.internal_resistance
         return Solution(v, current, resistance, float(i_bat), float(i_alt), mode, fault)
+
+    def fault_currents(
+        self, temperatures: dict[str, float], sources: SourceState, nodes: list[str]
+    ) -> dict[str, float]:
+        """Prospective current of a bolted short from each of ``nodes`` to the chassis node [A], from one
+        factorisation of the network (see :func:`coilstage.physics.network.short_circuit_currents`).
+
+        The network must be linear: ``sources.alt_fixed`` (or no alternator) and no held bus."""
+        if sources.hold_bus is not None:
+            raise ValueError("a fault cannot be solved with the bus held")
+        res_rows, vs_rows, _owner, is_rows, _r, alt_on, fixed = self._network(temperatures, sources, None)
+        if alt_on and not fixed:
+            raise ValueError("fault currents need the alternator as a fixed current source (alt_fixed=True)")
+        nd = self.nodes
+        out = short_circuit_currents(
+            len(nd),
+            Branches.of(res_rows),
+            Branches.of(vs_rows),
+            Branches.of(is_rows),
+            [nd[x] for x in nodes],
+            nd[self.drawing.supply.chassis_node],
+        )
+        return {x: abs(float(i)) for x, i in zip(nodes, out, strict=True)}
 
 
 def kcl_residuals(circuit: Circuit, sol: Solution) -> np.ndarray:

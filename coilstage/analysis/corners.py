@@ -122,7 +122,9 @@ def corner_sources(d: Drawing) -> dict[str, tuple[dict[str, float], SourceState]
       stated EMF behind its internal resistance; the alternator at its idle (or stated) output limit.
     * limit: as cold, with the bus held at the highest voltage of the supply code.
     * fault: as cold, but a charged battery at the cold bus voltage behind its internal resistance,
-      plus the alternator at its rated-speed limit (no source can hold the bus in a fault).
+      plus the alternator delivering its rated-speed limit as a fixed current (no source can hold the
+      bus in a fault; a regulating alternator would deliver no more than that, so this is
+      conservative).
     """
     c = d.corners
     alt = d.supply.alternator
@@ -133,7 +135,7 @@ def corner_sources(d: Drawing) -> dict[str, tuple[dict[str, float], SourceState]
         "cold": (cold_t, SourceState(c.cold_bus, c.cold_bus if alt else None, rated, hold_bus=c.cold_bus)),
         "hot": (hot_temperatures(d), SourceState(c.hot_battery_emf, alt.setpoint if alt else None, hot_limit)),
         "limit": (cold_t, SourceState(c.limit_bus, c.limit_bus if alt else None, rated, hold_bus=c.limit_bus)),
-        "fault": (cold_t, SourceState(c.cold_bus, c.cold_bus if alt else None, rated)),
+        "fault": (cold_t, SourceState(c.cold_bus, c.cold_bus if alt else None, rated, alt_fixed=True)),
     }
 
 
@@ -186,12 +188,11 @@ def analyse(d: Drawing) -> Analysis:
             *src["limit"],
         ),
     }
-    fault_t, fault_src = src["fault"]
-    faults: dict[str, float] = {}
-    for f in d.of_kind(Fuse):
-        faults[f.id] = abs(circuit.solve(fault_t, fault_src, short_at=f.b).fault_current or 0.0)
-    bat_sc = abs(circuit.solve(fault_t, fault_src, short_at=d.supply.battery.node).fault_current or 0.0)
-    return Analysis(d, circuit, corners, faults, bat_sc, protected_cables(d))
+    fuses = d.of_kind(Fuse)
+    places = [d.supply.battery.node, *(f.b for f in fuses)]
+    at = circuit.fault_currents(*src["fault"], places)
+    faults = {f.id: at[f.b] for f in fuses}
+    return Analysis(d, circuit, corners, faults, at[d.supply.battery.node], protected_cables(d))
 
 
 def protected_cables(d: Drawing) -> dict[str, list[str]]:

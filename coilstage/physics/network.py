@@ -49,6 +49,63 @@ class DCSolution:
     i_vsource: np.ndarray
 
 
+def mna_matrix(n_nodes: int, resistors: Branches, vsources: Branches, isources: Branches):
+    """The MNA system ``A x = rhs`` of a network (node 0 dropped), as COO triplets and a dense rhs.
+
+    Stamps of [1]_: each conductance g adds g to (a,a) and (b,b) and −g to (a,b) and (b,a); each
+    voltage source adds a row and column for its current.
+
+    Returns
+    -------
+    (rows, cols, vals, rhs, n) with ``n`` the number of node unknowns.
+    """
+    n = n_nodes - 1
+    m = len(vsources.value)
+    g = 1.0 / resistors.value
+    ra, rb = resistors.a - 1, resistors.b - 1
+    k = np.arange(m) + n
+    va, vb = vsources.a - 1, vsources.b - 1
+    ones = np.ones(m)
+    r = np.concatenate([ra, rb, ra, rb, va, k, vb, k])
+    c = np.concatenate([ra, rb, rb, ra, k, va, k, vb])
+    x = np.concatenate([g, g, -g, -g, ones, -ones, -ones, ones])
+    keep = (r >= 0) & (c >= 0)
+    rhs = np.zeros(n + m)
+    ia, ib = isources.a, isources.b
+    np.add.at(rhs, ia[ia > 0] - 1, -isources.value[ia > 0])
+    np.add.at(rhs, ib[ib > 0] - 1, isources.value[ib > 0])
+    rhs[n:] = vsources.value
+    return r[keep], c[keep], x[keep], rhs, n
+
+
+class _Factor:
+    """A factorised MNA matrix: dense LU for small systems, sparse LU above SPARSE_THRESHOLD."""
+
+    def __init__(self, rows, cols, vals, size):
+        self.size = size
+        if size > SPARSE_THRESHOLD:
+            from scipy.sparse import csc_matrix
+            from scipy.sparse.linalg import splu
+
+            try:
+                self._lu = splu(csc_matrix((vals, (rows, cols)), shape=(size, size)))
+            except RuntimeError:  # "Factor is exactly singular"
+                raise np.linalg.LinAlgError("singular network") from None
+            self._dense = None
+        else:
+            a = np.zeros((size, size))
+            np.add.at(a, (rows, cols), vals)
+            self._dense = a
+
+    def solve(self, b: np.ndarray) -> np.ndarray:
+        if self._dense is not None:
+            return np.linalg.solve(self._dense, b)
+        out = self._lu.solve(np.asarray(b, dtype=float))
+        if not np.all(np.isfinite(out)):
+            raise np.linalg.LinAlgError("singular network")
+        return out
+
+
 def solve_mna(n_nodes: int, resistors: Branches, vsources: Branches, isources: Branches) -> DCSolution:
     """Solve a linear DC network by modified nodal analysis.
 
@@ -71,58 +128,43 @@ def solve_mna(n_nodes: int, resistors: Branches, vsources: Branches, isources: B
     ------
     numpy.linalg.LinAlgError
         If the network is singular (a floating node or a loop of voltage sources).
-
-    Notes
-    -----
-    Stamps of [1]_: each conductance g adds g to (a,a) and (b,b) and −g to (a,b) and (b,a); each
-    voltage source adds a row and column for its current. Row and column 0 are dropped.
     """
-    n = n_nodes - 1
-    m = len(vsources.value)
-    size = n + m
-    g = 1.0 / resistors.value
-    ra, rb = resistors.a - 1, resistors.b - 1
-    rows = [ra, rb, ra, rb]
-    cols = [ra, rb, rb, ra]
-    vals = [g, g, -g, -g]
-    k = np.arange(m) + n
-    va, vb = vsources.a - 1, vsources.b - 1
-    ones = np.ones(m)
-    rows += [va, k, vb, k]
-    cols += [k, va, k, vb]
-    vals += [ones, -ones, -ones, ones]
-    r = np.concatenate(rows)
-    c = np.concatenate(cols)
-    x = np.concatenate(vals)
-    keep = (r >= 0) & (c >= 0)
-    r, c, x = r[keep], c[keep], x[keep]
+    r, c, x, rhs, n = mna_matrix(n_nodes, resistors, vsources, isources)
+    sol = _Factor(r, c, x, len(rhs)).solve(rhs)
+    return DCSolution(np.concatenate(([0.0], sol[:n])), sol[n:])
 
-    rhs = np.zeros(size)
-    np.add.at(rhs, isources.a[isources.a > 0] - 1, -isources.value[isources.a > 0])
-    np.add.at(rhs, isources.b[isources.b > 0] - 1, isources.value[isources.b > 0])
-    rhs[n:] = vsources.value
 
-    if size > SPARSE_THRESHOLD:
-        from scipy.sparse import csc_matrix
-        from scipy.sparse.linalg import MatrixRankWarning, spsolve
+def short_circuit_currents(
+    n_nodes: int, resistors: Branches, vsources: Branches, isources: Branches, nodes: list[int], ref: int
+) -> np.ndarray:
+    r"""Current into a bolted (0 Ω) short from each of ``nodes`` to node ``ref`` [A], one at a time.
 
-        a_mat = csc_matrix((x, (r, c)), shape=(size, size))
-        import warnings
+    For a linear network the short-circuit current at a port is its open-circuit voltage over its
+    Thévenin impedance (Thévenin's theorem; IEC 60909-0 uses the same principle, an equivalent source
+    at the fault location):
 
-        with warnings.catch_warnings():
-            warnings.simplefilter("error", MatrixRankWarning)
-            try:
-                sol = spsolve(a_mat, rhs)
-            except MatrixRankWarning:
-                raise np.linalg.LinAlgError("singular network") from None
-        if not np.all(np.isfinite(sol)):
-            raise np.linalg.LinAlgError("singular network")
-    else:
-        a_mat = np.zeros((size, size))
-        np.add.at(a_mat, (r, c), x)
-        sol = np.linalg.solve(a_mat, rhs)
-    v = np.concatenate(([0.0], sol[:n]))
-    return DCSolution(v, sol[n:])
+    .. math:: I_k = rac{V_k - V_{ref}}{Z_{kk}}, \quad Z_{kk} = (e_k - e_{ref})^T A^{-1} (e_k - e_{ref})
+
+    with A the MNA matrix of the pre-fault network (all its sources set to zero for Z). One
+    factorisation serves every node, so N fault locations cost one solve with N right-hand sides.
+    """
+    rr, cc, xx, rhs, n = mna_matrix(n_nodes, resistors, vsources, isources)
+    f = _Factor(rr, cc, xx, len(rhs))
+    pre = f.solve(rhs)
+    v = np.concatenate(([0.0], pre[:n]))
+    b = np.zeros((len(rhs), len(nodes)))
+    for j, k in enumerate(nodes):
+        if k > 0:
+            b[k - 1, j] += 1.0
+        if ref > 0:
+            b[ref - 1, j] -= 1.0
+    z_cols = f.solve(b)
+    z_cols = z_cols.reshape(len(rhs), len(nodes))
+    out = np.empty(len(nodes))
+    for j, k in enumerate(nodes):
+        zk = (z_cols[k - 1, j] if k > 0 else 0.0) - (z_cols[ref - 1, j] if ref > 0 else 0.0)
+        out[j] = (v[k] - v[ref]) / zk if zk > 0 else np.inf
+    return out
 
 
 @dataclass(frozen=True)

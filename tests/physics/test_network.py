@@ -139,3 +139,25 @@ def test_alternator_current_is_min_of_law_and_limit_over_a_sweep():
         if v_prev is not None:
             assert sol.dc.v[1] >= v_prev - 1e-12  # more available current never lowers the bus
         v_prev = sol.dc.v[1]
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(3, 30), st.integers(0, 2**31 - 1), st.booleans())
+def test_short_circuit_currents_match_a_direct_solve_with_the_short_added(n, seed, big):
+    # Thevenin's theorem against the plain route: add a 0 V source from node k to ref and read its current.
+    from coilstage.physics.network import short_circuit_currents
+
+    rng = np.random.default_rng(seed)
+    if big:  # exercise the sparse path too
+        n = 200
+    rows = [(int(rng.integers(0, k)), k, float(rng.uniform(1e-3, 2))) for k in range(1, n)]
+    rows += [(int(rng.integers(0, n)), int(rng.integers(0, n)), float(rng.uniform(1e-3, 2))) for _ in range(n // 2)]
+    rows = [r for r in rows if r[0] != r[1]]
+    vs = [(0, 1, 0.0)] if n > 3 else []  # a zero-ohm element from ground to node 1
+    cur = [(0, int(rng.integers(2, n)), float(rng.uniform(10, 500))) for _ in range(2)]
+    nodes = [int(k) for k in rng.choice(np.arange(2, n), size=min(5, n - 2), replace=False)]
+    ref = 0
+    got = short_circuit_currents(n, Branches.of(rows), Branches.of(vs), Branches.of(cur), nodes, ref)
+    for k, i_sc in zip(nodes, got, strict=True):
+        sol = solve_mna(n, Branches.of(rows), Branches.of([*vs, (k, ref, 0.0)]), Branches.of(cur))
+        assert i_sc == pytest.approx(sol.i_vsource[-1], rel=1e-8, abs=1e-9)

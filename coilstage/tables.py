@@ -294,3 +294,91 @@ def ampacity(awg: int | None, area: float, class_max: float, zone_t: float, bund
     if not math.isfinite(value):
         return "ampacity not finite"
     return Ampacity(value, base, col, fa, fb, method)
+
+
+# ---------------------------------------------------------------- switching and fuse time-current
+
+
+@cache
+def cable_class_rows() -> dict[str, dict[str, Any]]:
+    """ISO 6722 class letter -> row with max, short_term and short_circuit temperatures [°C]."""
+    return {r["class"]: r for r in shipped("cable_classes_iso6722.toml")["table"]["rows"]}
+
+
+def load_dump_clamped(system: int) -> float:
+    """Clamped load-dump supply voltage of ISO 16750-2 Test B for a 12 or 24 V system [V]."""
+    return float(dict(shipped("supply_codes_iso16750-2.toml")["table"]["load_dump_clamped"])[system])
+
+
+@cache
+def utilization_categories() -> list[dict[str, Any]]:
+    return list(shipped("utilization_categories_iec60947.toml")["table"]["rows"])
+
+
+@dataclass(frozen=True)
+class FuseGates:
+    """Time-current gates of a fuse: (multiple of rating, min time, max time) points [-, s, s].
+
+    Between points both gates are interpolated in log-log axes (linearly in time where a gate falls
+    to zero). Below the first point the fuse does not open. Beyond the last point the gates follow a
+    constant I²t, t = t_last·(m_last/m)²: at high currents a fuse element heats adiabatically and
+    its I²t is roughly constant (shared protection notes §1.5); the last point (about 6 × rating,
+    up to a second) lies beyond that region, where heat lost to the terminals makes its I²t larger,
+    so the extension overstates the clearing time: the safe side for the cable checks.
+    """
+
+    points: tuple[tuple[float, float, float], ...]
+    source: str
+
+    def t_min(self, m: float) -> float:
+        """Time before which the fuse must not open at ``m`` × rating [s] (inf: never opens)."""
+        p = self.points
+        if m < p[0][0]:
+            return math.inf
+        return self._interp(m, 1)
+
+    def t_max(self, m: float) -> float:
+        """Time by which the fuse must have opened at ``m`` × rating [s] (inf: it need not open)."""
+        p = self.points
+        first = next((i for i, x in enumerate(p) if math.isfinite(x[2])), None)
+        if first is None or m < p[first][0]:
+            return math.inf
+        return self._interp(m, 2, start=first)
+
+    def _interp(self, m: float, col: int, start: int = 0) -> float:
+        p = self.points[start:]
+        if m >= p[-1][0]:
+            return p[-1][col] * (p[-1][0] / m) ** 2
+        for lo, hi in zip(p, p[1:], strict=False):
+            if lo[0] <= m <= hi[0]:
+                y0, y1 = lo[col], hi[col]
+                if math.isinf(y0) or math.isinf(y1):
+                    return max(y0, y1) if m < hi[0] else y1
+                f = math.log(m / lo[0]) / math.log(hi[0] / lo[0])
+                if y0 > 0 and y1 > 0:
+                    return math.exp(math.log(y0) + f * (math.log(y1) - math.log(y0)))
+                return y0 + f * (y1 - y0)
+        return p[0][col]
+
+
+def fuse_gate_table() -> dict[str, Any]:
+    return shipped("fuse_gates_iso8820.toml")["table"]
+
+
+def shipped_gates(fuse_type: str) -> FuseGates | None:
+    """The shipped (from memory) gates of an ISO 8820 type, or None."""
+    for row in fuse_gate_table()["rows"]:
+        if fuse_type in row["types"]:
+            pts = tuple((float(a), float(b), float(c)) for a, b, c in row["points"])
+            return FuseGates(pts, f"shipped gates for {row['family']} fuse-links ({row['status']})")
+    return None
+
+
+def pulse_fraction(cycles: int) -> tuple[float, str]:
+    """Largest pulse I²t, as a fraction of the melting I²t, for ``cycles`` pulses, with a note."""
+    pts = fuse_gate_table()["pulse_fractions"]
+    for n, f in pts:
+        if cycles <= n:
+            return float(f), f"{f:.0%} for up to {n:,} pulses"
+    n, f = pts[-1]
+    return float(f), f"{f:.0%}, the figure for {n:,} pulses (the table ends there)"

@@ -37,6 +37,7 @@ DIMENSIONS: dict[str, tuple[str, str]] = {
     "thermal_resistance": ("K/W", "0.1 K/W"),
     "heat_capacity": ("J/K", "1925 J/K"),
     "mass": ("kg", "5 kg"),
+    "joule_integral": ("A**2*s", "1200 A^2*s"),
 }
 
 _AWG_BODY = r"(?:(0{2,4})|([1-4])\s*/\s*0|(\d{1,2}))"
@@ -167,6 +168,15 @@ def parse_value_at(text: Any, dimension: str) -> tuple[float, float]:
         raise QuantityError(f'a {dimension} with the temperature it applies at, e.g. "{ex}"')
     left, right = text.split("@", 1)
     return parse_quantity(left, dimension), parse_temperature(right)
+
+
+def parse_pair(text: Any, first: str, second: str) -> tuple[float, float]:
+    """Parse ``"60 A @ 150 ms"`` into two SI floats of the named dimensions."""
+    ex = f"{DIMENSIONS[first][1]} @ {DIMENSIONS[second][1]}"
+    if not isinstance(text, str) or "@" not in text:
+        raise QuantityError(f'a {first} at a {second}, e.g. "{ex}"')
+    left, right = text.split("@", 1)
+    return parse_quantity(left, first), parse_quantity(right, second)
 
 
 @dataclass(frozen=True)

@@ -76,8 +76,15 @@ class Circuit:
             self.nodes.setdefault(n, len(self.nodes))
         self.index = {e.id: e for e in drawing.elements}
 
-    def _network(self, temperatures: dict[str, float], sources: SourceState, overrides: dict[str, float] | None):
-        """Rows of the network for one solve, and which voltage source belongs to which element."""
+    def _network(
+        self,
+        temperatures: dict[str, float],
+        sources: SourceState,
+        overrides: dict[str, float] | None,
+        exclude: set[str] | frozenset[str] = frozenset(),
+    ):
+        """Rows of the network for one solve, and which voltage source belongs to which element
+        (elements in ``exclude`` are left out: the switching analysis puts its stages in itself)."""
         d = self.drawing
         s = d.supply
         nd = self.nodes
@@ -86,6 +93,8 @@ class Circuit:
         vs_owner: list[str] = []
         resistance: dict[str, float] = {}
         for e in d.elements:
+            if e.id in exclude:
+                continue
             r = element_resistance(e, temperatures.get(e.id, 20.0))
             if overrides and e.id in overrides:
                 r = overrides[e.id]

@@ -48,6 +48,8 @@ class Analysis:
     fault_current: dict[str, float]  # fuse id -> prospective current at its load terminal [A]
     battery_short_circuit: float  # at the battery terminals, alternator included [A]
     protected: dict[str, list[str]] = field(default_factory=dict)  # fuse id -> cable ids
+    far_end_fault: dict[str, float] = field(default_factory=dict)  # protected cable id -> short at its far end [A]
+    switching: object | None = None  # analysis.switching.SwitchingResult
 
 
 def _stage_results(d: Drawing, sol: Solution, temps: dict[str, float]) -> list[StageResult]:
@@ -139,8 +141,9 @@ def corner_sources(d: Drawing) -> dict[str, tuple[dict[str, float], SourceState]
     }
 
 
-def analyse(d: Drawing) -> Analysis:
-    """Solve the three corners and the prospective fault currents of a drawing."""
+def analyse(d: Drawing, switching: bool = True) -> Analysis:
+    """Solve the three corners and the prospective fault currents of a drawing; with ``switching``,
+    also the switch-on and switch-off scenarios."""
     circuit = Circuit(d)
     c = d.corners
     alt = d.supply.alternator
@@ -189,41 +192,69 @@ def analyse(d: Drawing) -> Analysis:
         ),
     }
     fuses = d.of_kind(Fuse)
-    places = [d.supply.battery.node, *(f.b for f in fuses)]
+    protected = protected_cables(d)
+    by_id = {e.id: e for e in d.elements}
+    far = {cid: by_id[cid].b for ids in protected.values() for cid in ids if cid in by_id}
+    places = [d.supply.battery.node, *(f.b for f in fuses), *far.values()]
     at = circuit.fault_currents(*src["fault"], places)
     faults = {f.id: at[f.b] for f in fuses}
-    return Analysis(d, circuit, corners, faults, at[d.supply.battery.node], protected_cables(d))
+    far_end = {cid: at[node] for cid, node in far.items()}
+    sw = None
+    if switching:
+        from coilstage.analysis.switching import analyse_switching
+
+        sw = analyse_switching(d, circuit)
+    return Analysis(d, circuit, corners, faults, at[d.supply.battery.node], protected, far_end, sw)
 
 
-def protected_cables(d: Drawing) -> dict[str, list[str]]:
-    """Fuse id -> the cables it protects: those named in ``protects``, or else the cables that lose
-    their connection to the battery when the fuse opens and for which it is the nearest such fuse."""
+def cut_off_by(d: Drawing, device_ids: list[str]) -> dict[str, set[str]]:
+    """For each device id: the elements that lose their connection to the battery when it opens."""
+    live = _live_nodes_without(d, device_ids)
+    return {
+        did: {e.id for e in d.elements if e.id != did and e.a not in live[did] and e.b not in live[did]}
+        for did in device_ids
+    }
+
+
+def switched_stages(d: Drawing) -> dict[str, list[str]]:
+    """Relay id -> the stages whose feed it opens (their feed node loses the battery with it open)."""
+    from coilstage.drawing.schema import Relay
+
+    relays = [r.id for r in d.of_kind(Relay)]
+    live = _live_nodes_without(d, relays)
+    return {rid: [s.id for s in d.stages if s.a not in live[rid]] for rid in relays}
+
+
+def _live_nodes_without(d: Drawing, device_ids: list[str]) -> dict[str, set[str]]:
+    """For each device: the nodes still fed from the battery with that device open (supply side
+    only: never through a stage or the negative node)."""
     from collections import defaultdict
 
     pos, neg = d.supply.battery.node, d.supply.negative_node
     adj: dict[str, list[tuple[str, str]]] = defaultdict(list)
     for e in d.elements:
-        if isinstance(e, Stage):
-            continue  # a path through a load is no supply path
-        adj[e.a].append((e.b, e.id))
-        adj[e.b].append((e.a, e.id))
-
-    def reachable_without(skip: str) -> set[str]:
+        if not isinstance(e, Stage):
+            adj[e.a].append((e.b, e.id))
+            adj[e.b].append((e.a, e.id))
+    out = {}
+    for did in device_ids:
         seen, todo = {pos}, [pos]
         while todo:
             n = todo.pop()
             for m, eid in adj[n]:
-                if eid != skip and m not in seen and m != neg:
+                if eid != did and m not in seen and m != neg:
                     seen.add(m)
                     todo.append(m)
-        return seen
+        out[did] = seen
+    return out
 
+
+def protected_cables(d: Drawing) -> dict[str, list[str]]:
+    """Fuse id -> the cables it protects: those named in ``protects``, or else the cables that lose
+    their connection to the battery when the fuse opens and for which it is the nearest such fuse."""
     fuses = d.of_kind(Fuse)
-    cables = [c for c in d.of_kind(Cable) if c.role == "feed"]
-    cut_by: dict[str, set[str]] = {}  # fuse -> cables cut off when it opens
-    for f in fuses:
-        live = reachable_without(f.id)
-        cut_by[f.id] = {c.id for c in cables if c.a not in live and c.b not in live}
+    feed = {c.id for c in d.of_kind(Cable) if c.role == "feed"}
+    cut_by = {fid: cut & feed for fid, cut in cut_off_by(d, [f.id for f in fuses]).items()}
     out: dict[str, list[str]] = {}
     for f in fuses:
         if f.protects is not None:
@@ -231,9 +262,9 @@ def protected_cables(d: Drawing) -> dict[str, list[str]]:
             continue
         mine = []
         for cid in sorted(cut_by[f.id]):
-            # nearest: no other fuse that also cuts this cable is itself cut off by f
-            others = [g for g in fuses if g.id != f.id and cid in cut_by[g.id]]
-            if not any(g.id for g in others if cut_by[f.id] >= cut_by[g.id] and cut_by[g.id] != cut_by[f.id]):
+            # nearest: no other fuse that also cuts this cable is itself downstream of f
+            downstream = [g for g in fuses if g.id != f.id and cid in cut_by[g.id] and cut_by[g.id] < cut_by[f.id]]
+            if not downstream:
                 mine.append(cid)
         out[f.id] = mine
     return out

@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 from coilstage.analysis.corners import Analysis
-from coilstage.checks import cables, protection, supply
+from coilstage.checks import cables, fuse_timing, protection, supply, switching
 from coilstage.checks.base import Rule, Status, Verdict
 
-RULES: list[Rule] = [*cables.RULES, *protection.RULES, *supply.RULES]
+RULES: list[Rule] = [*cables.RULES, *protection.RULES, *fuse_timing.RULES, *switching.RULES, *supply.RULES]
 
 
 def run_checks(a: Analysis) -> list[Verdict]:

@@ -8,6 +8,7 @@ only ever read.
 from __future__ import annotations
 
 import difflib
+import math
 import re
 import tomllib
 from collections import defaultdict
@@ -22,6 +23,7 @@ from coilstage.units import (
     QuantityError,
     parse_cable_size,
     parse_dimensionless,
+    parse_pair,
     parse_quantity,
     parse_resistance_at,
     parse_temperature,
@@ -29,6 +31,10 @@ from coilstage.units import (
 
 from .schema import (
     Alternator,
+    Position,
+    RelayCoil,
+    Suppression,
+    Switching,
     Battery,
     Cable,
     CoilType,
@@ -46,7 +52,7 @@ from .schema import (
 
 _MISSING = object()
 
-TOP_KEYS = {"drawing", "tables", "supply", "environment", "coils", "corners", "limits", "harness"}
+TOP_KEYS = {"drawing", "tables", "supply", "environment", "coils", "corners", "limits", "harness", "switching"}
 KEYS = {
     "drawing": {"title", "note", "format"},
     "tables": {"conductors"},
@@ -80,7 +86,24 @@ KEYS = {
     "corners.hot": {"battery_emf", "alternator"},
     "corners.limit": {"bus_voltage"},
     "limits": {"voltage_drop_pass", "voltage_drop_warn"},
+    "switching": {"positions", "duration", "off_at", "release_limit", "release_fraction", "cycles"},
+    "position": {"name", "at", "stages"},
+    "suppression": {
+        "kind",
+        "forward_voltage",
+        "zener_voltage",
+        "clamp_voltage",
+        "resistance",
+        "peak_current",
+        "reverse_voltage",
+        "energy_rating",
+    },
+    "relay_coil": {"voltage", "resistance", "operate_voltage", "feed_resistance", "rise"},
+    "gate": {"multiple", "min", "max"},
 }
+SUPPRESSION_KINDS = ["none", "diode", "diode_zener", "diode_resistor", "tvs", "varistor"]
+#: Forward voltage of a freewheel diode when the drawing gives none (common practice: 0.7-1 V).
+DEFAULT_FORWARD_VOLTAGE = 0.8
 _COMMON = {"id", "kind", "from", "to", "note"}
 _CABLE = {"size", "length", "insulation", "zone", "bundle", "material", "conductor_table", "sheathed"}
 ELEMENT_KEYS = {
@@ -88,7 +111,18 @@ ELEMENT_KEYS = {
     "ground": _COMMON | _CABLE | {"resistance"},
     "joint": _COMMON | {"resistance"},
     "busbar": _COMMON | {"resistance"},
-    "fuse": _COMMON | {"type", "rating", "voltage_rating", "breaking_capacity", "zone", "resistance", "protects"},
+    "fuse": _COMMON
+    | {
+        "type",
+        "rating",
+        "voltage_rating",
+        "breaking_capacity",
+        "zone",
+        "resistance",
+        "protects",
+        "gates",
+        "melting_i2t",
+    },
     "relay": _COMMON
     | {
         "rating_12v",
@@ -99,8 +133,11 @@ ELEMENT_KEYS = {
         "voltage_rating",
         "zone",
         "resistance",
+        "categories",
+        "inductive_break",
+        "coil",
     },
-    "stage": _COMMON | {"coil", "count", "connection"},
+    "stage": _COMMON | {"coil", "count", "connection", "suppression"},
 }
 _INSULATION_LETTERS = {"Y": 90, "A": 105, "E": 120, "B": 130, "F": 155, "H": 180, "N": 200, "R": 220}
 
@@ -253,9 +290,10 @@ def _build(r: _Reader, raw: dict) -> Drawing | None:
     elements = _harness(r, raw, env, coils, default_mm2, supply, links)
     corners = _corners(r, raw, supply, env)
     limits = _limits(r, raw)
+    switching = _switching(r, raw, {x.id for x in links if x.kind == "stage"})
     if supply is not None and elements is not None:
         _topology(r, supply, links, elements)
-    if r.problems or None in (supply, env, coils, elements, corners, limits):
+    if r.problems or None in (supply, env, coils, elements, corners, limits, switching):
         return None
     return Drawing(
         title=title or "",
@@ -267,6 +305,7 @@ def _build(r: _Reader, raw: dict) -> Drawing | None:
         elements=tuple(elements),
         corners=corners,
         limits=limits,
+        switching=switching,
         assumptions=tuple(r.assumptions),
     )
 
@@ -628,8 +667,9 @@ def _harness(r, raw, env, coils, default_mm2, supply, links: list[_Link]) -> lis
                         cname,
                         f"one of the coil types {', '.join(sorted(coils)) or '(none)'}{_suggest(cname, set(coils))}",
                     )
-            if None not in (coil, count, conn):
-                el = Stage(**common, coil=coil, count=count, connection=conn)
+            sup = _suppression(r, e, where)
+            if None not in (coil, count, conn, sup):
+                el = Stage(**common, coil=coil, count=count, connection=conn, suppression=sup)
         if el is not None and None not in (eid, a, b):
             out.append(el)
     if not any(isinstance(e, Stage) for e in out) and not r.problems:
@@ -664,6 +704,8 @@ def _fuse(r, e, where, env, common) -> Fuse | None:
             r.problem(f"{where}.protects", p, "a list of cable ids")
         else:
             protects = tuple(p)
+    melt = r.quantity(e, "melting_i2t", where, "joule_integral", default=None, positive=True)
+    gates, gsrc = _gates(r, e, where, ftype)
     if None in (ftype, rating, zone, zt, vr, bc, res, row):
         return None
     return Fuse(
@@ -679,7 +721,44 @@ def _fuse(r, e, where, env, common) -> Fuse | None:
         zone_temperature=zt,
         resistance=res,
         protects=protects,
+        gates=gates,
+        gates_source=gsrc,
+        melting_i2t=melt,
     )
+
+
+def _gates(r: _Reader, e: dict, where: str, ftype: str | None):
+    """The fuse's time-current gates: the drawing's own (a maker's curve) or the shipped ones."""
+    if "gates" not in e:
+        g = tables.shipped_gates(ftype) if ftype else None
+        return (g.points, g.source) if g else (None, "no gates shipped for this type")
+    raw = e["gates"]
+    if not isinstance(raw, list) or not raw:
+        r.problem(f"{where}.gates", raw, 'a list of { multiple = 1.35, min = "60 s", max = "30 min" } points')
+        return None, ""
+    pts = []
+    for k, g in enumerate(raw):
+        gw = f"{where}.gates[{k}]"
+        if not isinstance(g, dict):
+            r.problem(gw, g, 'a table { multiple = 2.0, min = "1 s", max = "60 s" }')
+            continue
+        r.unknown(g, KEYS["gate"], gw)
+        m = r.value(g, "multiple", gw, parse_dimensionless)
+
+        def t_or_none(text, inf):
+            if text in ("none", ""):
+                return inf
+            return parse_quantity(text, "time")
+
+        tmin = r.value(g, "min", gw, lambda t: t_or_none(t, 0.0), default=0.0)
+        tmax = r.value(g, "max", gw, lambda t: t_or_none(t, math.inf), default=math.inf)
+        if None not in (m, tmin, tmax):
+            if m <= 1 or tmin > tmax:
+                r.problem(gw, g, "a multiple above 1 and min <= max")
+            else:
+                pts.append((m, tmin, tmax))
+    pts.sort()
+    return tuple(pts), "time-current gates given in the drawing"
 
 
 def _relay(r, e, where, env, common, system) -> Relay | None:
@@ -712,7 +791,17 @@ def _relay(r, e, where, env, common, system) -> Relay | None:
     if res is None and "resistance" not in e:
         res = 0.0
         r.assume(f"{where}.resistance not given: the contact is taken as 0 ohm")
-    if None in (zone, zt, ra, res) or (r12 is None and r24 is None):
+    cats: tuple[str, ...] = ()
+    known = [row["category"] for row in tables.utilization_categories()]
+    if "categories" in e:
+        c = e["categories"]
+        if not isinstance(c, list) or not all(isinstance(x, str) and x in known for x in c):
+            r.problem(f"{where}.categories", c, "a list of rated categories from " + ", ".join(known))
+        else:
+            cats = tuple(c)
+    ib = r.value(e, "inductive_break", where, lambda t: parse_pair(t, "current", "time"), default=None)
+    coil = _relay_coil(r, e, where, ra if ra is not None else 23.0)
+    if None in (zone, zt, ra, res) or (r12 is None and r24 is None) or coil is False:
         return None
     return Relay(
         **common,
@@ -725,7 +814,33 @@ def _relay(r, e, where, env, common, system) -> Relay | None:
         zone=zone,
         zone_temperature=zt,
         resistance=res,
+        categories=cats,
+        inductive_break=ib,
+        coil=coil,
     )
+
+
+def _relay_coil(r: _Reader, e: dict, where: str, t_ref_default: float):
+    """The relay's coil data (for the pick-up check): None when not given, False when wrong."""
+    if "coil" not in e:
+        return None
+    c = e["coil"]
+    cw = f"{where}.coil"
+    if not isinstance(c, dict):
+        r.problem(cw, c, 'a table { voltage = "24 V", resistance = "320 ohm @ 20 degC", operate_voltage = "16.8 V" }')
+        return False
+    r.unknown(c, KEYS["relay_coil"], cw)
+    v = r.quantity(c, "voltage", cw, "voltage", positive=True)
+    rt = r.value(c, "resistance", cw, parse_resistance_at)
+    op = r.quantity(c, "operate_voltage", cw, "voltage", positive=True)
+    feed = r.quantity(c, "feed_resistance", cw, "resistance", default=0.0, nonnegative=True)
+    rise = r.quantity(c, "rise", cw, "temperature_difference", default=None, nonnegative=True)
+    if rise is None and "rise" not in c:
+        rise = 0.0
+        r.assume(f"{cw}.rise not given: the relay coil is taken at its zone temperature (no self-heating)")
+    if None in (v, rt, op, feed, rise):
+        return False
+    return RelayCoil(v, rt[0], rt[1], op, feed, rise)
 
 
 def _fraction_at(text: Any) -> tuple[float, float]:
@@ -736,6 +851,87 @@ def _fraction_at(text: Any) -> tuple[float, float]:
     if not 0 < f <= 1.5:
         raise QuantityError('a fraction between 0 and 150 %, e.g. "67 % @ 85 degC"')
     return f, parse_temperature(right)
+
+
+def _suppression(r: _Reader, e: dict, where: str) -> Suppression | None:
+    if "suppression" not in e:
+        r.assume(f"{where}.suppression not given: the stage has none (its contact arcs at every break)")
+        return Suppression("none", 0.0, 0.0, None, None, None)
+    sp = e["suppression"]
+    sw = f"{where}.suppression"
+    if not isinstance(sp, dict):
+        r.problem(sw, sp, 'a table such as { kind = "diode_zener", zener_voltage = "24 V" }')
+        return None
+    r.unknown(sp, KEYS["suppression"], sw)
+    kind = r.text(sp, "kind", sw, choices=SUPPRESSION_KINDS)
+    if kind is None:
+        return None
+    vf = 0.0
+    if kind in ("diode", "diode_zener", "diode_resistor"):
+        vf = r.quantity(sp, "forward_voltage", sw, "voltage", default=None, positive=True)
+        if vf is None and "forward_voltage" not in sp:
+            vf = DEFAULT_FORWARD_VOLTAGE
+            r.assume(f"{sw}.forward_voltage not given: {vf:g} V (common practice for a power diode)")
+    need = {"diode_zener": "zener_voltage", "tvs": "clamp_voltage", "varistor": "clamp_voltage"}.get(kind)
+    extra = r.quantity(sp, need, sw, "voltage", positive=True) if need else 0.0
+    rs = r.quantity(sp, "resistance", sw, "resistance", positive=True) if kind == "diode_resistor" else 0.0
+    for key in ("zener_voltage", "clamp_voltage", "resistance"):
+        if key in sp and key != need and not (key == "resistance" and kind == "diode_resistor"):
+            r.problem(f"{sw}.{key}", sp[key], f"no {key} for kind {kind}")
+    peak = r.quantity(sp, "peak_current", sw, "current", default=None, positive=True)
+    vr = r.quantity(sp, "reverse_voltage", sw, "voltage", default=None, positive=True)
+    en = r.quantity(sp, "energy_rating", sw, "energy", default=None, positive=True)
+    if kind == "none":
+        return Suppression("none", 0.0, 0.0, None, None, None)
+    if None in (vf, extra, rs):
+        return None
+    return Suppression(kind, vf + extra, rs, peak, vr, en)
+
+
+def _switching(r: _Reader, raw: dict, stage_ids: set[str]) -> Switching | None:
+    sw = r.table(raw, "switching", "switching", required=False) or {}
+    r.unknown(sw, KEYS["switching"], "switching")
+    duration = r.quantity(sw, "duration", "switching", "time", default=3.0, positive=True)
+    off_at = r.quantity(sw, "off_at", "switching", "time", default=None, positive=True)
+    rel = r.quantity(sw, "release_limit", "switching", "time", default=None, positive=True)
+    frac = r.value(sw, "release_fraction", "switching", parse_dimensionless, default=0.05)
+    cycles = r.integer(sw, "cycles", "switching", default=100_000)
+    positions = []
+    raw_pos = sw.get("positions", [])
+    if not isinstance(raw_pos, list):
+        r.problem("switching.positions", raw_pos, "a list of [[switching.positions]] tables")
+        raw_pos = []
+    last = -1.0
+    for k, p in enumerate(raw_pos):
+        pw = f"switching.positions[{k}]"
+        if not isinstance(p, dict):
+            r.problem(pw, p, "a table with name, at and stages")
+            continue
+        r.unknown(p, KEYS["position"], pw)
+        name = r.text(p, "name", pw, default=str(k + 1))
+        at = r.value(p, "at", pw, lambda t: parse_quantity(t, "time"))
+        st = p.get("stages", None)
+        if not isinstance(st, list) or not all(isinstance(x, str) for x in st):
+            r.problem(f"{pw}.stages", st, "a list of stage ids (empty for off)")
+            continue
+        bad = [x for x in st if x not in stage_ids]
+        if bad:
+            r.problem(f"{pw}.stages", bad, "stage ids from the harness: " + ", ".join(sorted(stage_ids)))
+        if at is not None:
+            if at < 0 or at <= last:
+                r.problem(f"{pw}.at", p["at"], "a time of at least 0 s, later than the position before")
+            last = at
+            positions.append(Position(name, at, tuple(st)))
+    if None in (duration, frac, cycles):
+        return None
+    off = off_at if off_at is not None else duration / 2
+    if not off < duration:
+        r.problem("switching.off_at", sw.get("off_at"), "a time before switching.duration")
+        return None
+    if not 0 < frac < 1:
+        r.problem("switching.release_fraction", sw.get("release_fraction"), "a fraction between 0 and 1")
+        return None
+    return Switching(tuple(positions), duration, off, rel, frac, cycles)
 
 
 def _corners(r: _Reader, raw: dict, supply: Supply | None, env: Environment | None) -> CornerSettings | None:

@@ -66,6 +66,57 @@ class CoilType:
 
 
 @dataclass(frozen=True)
+class Suppression:
+    """What takes a stage's current when its contact opens: a suppressor across the coil.
+
+    The suppressor holds ``u0 + r_series·i`` while it conducts (a diode: its forward voltage; a
+    diode and zener: zener + forward voltage; a TVS or varistor: its clamp voltage; a diode and
+    resistor: the forward voltage and the resistor). ``kind == "none"``: the contact arcs.
+    """
+
+    kind: str  # none | diode | diode_zener | diode_resistor | tvs | varistor
+    u0: float  # [V]
+    r_series: float  # [Ω]
+    peak_current: float | None  # rated peak (surge) current [A]
+    reverse_voltage: float | None  # diode V_RRM, or TVS stand-off / varistor continuous voltage [V]
+    energy_rating: float | None  # energy per event [J]
+
+    @property
+    def bidirectional(self) -> bool:
+        """A TVS pair or varistor conducts either way: it sits across the coil in normal service too."""
+        return self.kind in ("tvs", "varistor")
+
+
+@dataclass(frozen=True)
+class RelayCoil:
+    voltage: float  # nominal coil voltage [V]
+    r_ref: float  # coil resistance [Ω] at t_ref
+    t_ref: float  # [°C]
+    operate_voltage: float  # must-operate voltage at t_ref [V]
+    feed_resistance: float  # control wiring and switch between the bus and the coil [Ω]
+    rise: float  # coil temperature above its zone in service [K]
+
+
+@dataclass(frozen=True)
+class Position:
+    """A position of the driver's control: from ``at`` [s] on, exactly ``stages`` are energised."""
+
+    name: str
+    at: float
+    stages: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class Switching:
+    positions: tuple[Position, ...]  # empty: the drawing gives no sequence
+    duration: float  # simulated span of each switching scenario [s]
+    off_at: float  # when the scenarios switch everything off [s]
+    release_limit: float | None  # longest acceptable release time [s]
+    release_fraction: float  # release = current down to this fraction of the break current
+    cycles: int  # switchings over the fuses' life (pulse rule)
+
+
+@dataclass(frozen=True)
 class Element:
     """Anything in the harness between two named nodes; current is counted from ``a`` to ``b``
     (``from`` is the supply side)."""
@@ -109,6 +160,9 @@ class Fuse(Element):
     zone_temperature: float
     resistance: float  # [Ω]
     protects: tuple[str, ...] | None  # cable ids; None: found from the topology
+    gates: tuple[tuple[float, float, float], ...] | None = None  # (multiple, t_min, t_max); None: shipped
+    gates_source: str = ""
+    melting_i2t: float | None = None  # [A²·s]
 
 
 @dataclass(frozen=True)
@@ -122,6 +176,9 @@ class Relay(Element):
     zone: str
     zone_temperature: float
     resistance: float  # contact resistance [Ω]
+    categories: tuple[str, ...] = ()  # rated DC utilization categories (IEC 60947)
+    inductive_break: tuple[float, float] | None = None  # rated break current [A] at a time constant [s]
+    coil: RelayCoil | None = None
 
 
 @dataclass(frozen=True)
@@ -136,6 +193,7 @@ class Stage(Element):
     coil: CoilType
     count: int
     connection: str  # "series" | "parallel"
+    suppression: Suppression = Suppression("none", 0.0, 0.0, None, None, None)
 
     @property
     def r_factor(self) -> float:
@@ -181,6 +239,7 @@ class Drawing:
     elements: tuple[Element, ...]
     corners: CornerSettings
     limits: Limits
+    switching: Switching = Switching((), 3.0, 1.5, None, 0.05, 100_000)
     assumptions: tuple[str, ...] = field(default_factory=tuple)
 
     def of_kind(self, cls: type) -> list:

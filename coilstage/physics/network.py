@@ -78,8 +78,9 @@ def mna_matrix(n_nodes: int, resistors: Branches, vsources: Branches, isources: 
     return r[keep], c[keep], x[keep], rhs, n
 
 
-class _Factor:
-    """A factorised MNA matrix: dense LU for small systems, sparse LU above SPARSE_THRESHOLD."""
+class Factorized:
+    """A factorised MNA matrix: dense for small systems, sparse LU above SPARSE_THRESHOLD.
+    ``solve(b)`` takes one right-hand side or a matrix of them (one per column)."""
 
     def __init__(self, rows, cols, vals, size):
         self.size = size
@@ -130,7 +131,7 @@ def solve_mna(n_nodes: int, resistors: Branches, vsources: Branches, isources: B
         If the network is singular (a floating node or a loop of voltage sources).
     """
     r, c, x, rhs, n = mna_matrix(n_nodes, resistors, vsources, isources)
-    sol = _Factor(r, c, x, len(rhs)).solve(rhs)
+    sol = Factorized(r, c, x, len(rhs)).solve(rhs)
     return DCSolution(np.concatenate(([0.0], sol[:n])), sol[n:])
 
 
@@ -149,7 +150,7 @@ def short_circuit_currents(
     factorisation serves every node, so N fault locations cost one solve with N right-hand sides.
     """
     rr, cc, xx, rhs, n = mna_matrix(n_nodes, resistors, vsources, isources)
-    f = _Factor(rr, cc, xx, len(rhs))
+    f = Factorized(rr, cc, xx, len(rhs))
     pre = f.solve(rhs)
     v = np.concatenate(([0.0], pre[:n]))
     b = np.zeros((len(rhs), len(nodes)))

@@ -5,6 +5,7 @@ Every figure is an SI float with its unit beside it: ``{"value": 53.4, "unit": "
 
 from __future__ import annotations
 
+import math
 from collections import Counter
 from typing import Any
 
@@ -72,6 +73,54 @@ def summary(verdicts: list[Verdict]) -> dict[str, Any]:
     }
 
 
+def qf(value: float | None, unit: str) -> dict[str, Any] | None:
+    """As :func:`q`, with an unbounded figure (an arc, a pure exponential) as None."""
+    return None if value is None or math.isinf(value) else q(value, unit)
+
+
+def switching(a: Analysis) -> dict[str, Any]:
+    sw = a.switching
+    d = a.drawing
+    out: dict[str, Any] = {
+        "sequence_given": bool(sw.sequence_given) if sw else False,
+        "release_fraction": d.switching.release_fraction,
+        "stages": [],
+        "scenarios": [],
+    }
+    if sw is None:
+        return out
+    kinds = {s.id: s.suppression.kind for s in d.stages}
+    for corner, per in sw.stages.items():
+        for sid, x in per.items():
+            out["stages"].append(
+                {
+                    "id": sid,
+                    "corner": corner,
+                    "time_constant": q(x.tau, "s"),
+                    "t95_alone": qf(x.t95_alone, "s"),
+                    "t95_all": qf(x.t95_all, "s"),
+                    "break_current": q(x.i_break, "A"),
+                    "stored_energy": q(x.stored_energy, "J"),
+                    "suppression": kinds[sid],
+                    "time_to_zero": qf(x.decay.t_zero, "s"),
+                    "release_time": q(x.decay.t_release, "s"),
+                    "suppressor_energy": q(x.decay.e_suppressor, "J"),
+                    "contact_voltage": qf(x.contact_voltage, "V"),
+                }
+            )
+    for key, sc in sw.scenarios.items():
+        out["scenarios"].append(
+            {
+                "name": sc.name,
+                "corner": sc.corner,
+                "events": [{"at": q(t, "s"), "stages": list(st)} for t, st in sc.events],
+                "bus_dip": q(sw.bus_dip[key], "V"),
+                "t_end": q(sc.t_end, "s"),
+            }
+        )
+    return out
+
+
 def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
     """The whole report as plain data."""
     d = a.drawing
@@ -137,6 +186,7 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
             }
             for v in verdicts
         ],
+        "switching": switching(a),
         "summary": summary(verdicts),
         "assumptions": list(d.assumptions),
         "cautions": cautions(a),

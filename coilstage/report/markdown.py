@@ -44,6 +44,27 @@ def render(doc: dict[str, Any]) -> str:
                 f"{qv(st['stored_energy'], 1)} |"
             )
         out.append("")
+    sw = doc["switching"]
+    if sw["stages"]:
+        out += [
+            "## Switching",
+            "",
+            f"| stage | corner | L/R | T0.95 alone | T0.95 all | I break | ½LI² | suppression | to zero | "
+            f"to {sw['release_fraction']:.0%} | suppressor energy | contact voltage |",
+            "|---|---|---:|---:|---:|---:|---:|---|---:|---:|---:|---:|",
+        ]
+        for x in sw["stages"]:
+            out.append(
+                f"| {x['id']} | {x['corner']} | {qv(x['time_constant'])} | {qv(x['t95_alone'])} | {qv(x['t95_all'])} | "
+                f"{qv(x['break_current'], 1)} | {qv(x['stored_energy'], 1)} | {x['suppression']} | "
+                f"{qv(x['time_to_zero'])} | {qv(x['release_time'])} | {qv(x['suppressor_energy'], 1)} | "
+                f"{'arc' if x['contact_voltage'] is None else qv(x['contact_voltage'], 1)} |"
+            )
+        out += [
+            "",
+            *(f"- bus dip, {s['corner']} corner, {s['name']}: {qv(s['bus_dip'], 2)}" for s in sw["scenarios"]),
+            "",
+        ]
     out += [
         "## Verdicts",
         "",

@@ -13,6 +13,10 @@ def _num(d: dict[str, Any] | None, scale: float = 1.0, places: int = 1) -> str:
     return "—" if d is None else f"{d['value'] * scale:.{places}f}"
 
 
+def _ms(d: dict[str, Any] | None) -> str:
+    return "—" if d is None else f"{d['value'] * 1e3:.0f}"
+
+
 def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
     """Print the report on a rich Console; ``details`` adds the note of every passing verdict."""
     from rich import box
@@ -57,6 +61,64 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             f"{qv(c['base_load'], 1)} · alternator {qv(c['alternator_current'], 1)} ({c['alternator_mode']}) · "
             f"battery {qv(c['battery_current'], 1)}\n"
         )
+
+    sw = doc["switching"]
+    if sw["stages"]:
+        t = Table(
+            title="SWITCHING — switch-on in the network, switch-off through the suppressor",
+            box=box.SIMPLE_HEAD,
+            title_justify="left",
+        )
+        short = {
+            "none": "none",
+            "diode": "diode",
+            "diode_zener": "zener",
+            "diode_resistor": "d+R",
+            "tvs": "TVS",
+            "varistor": "MOV",
+        }
+        t.caption = (
+            "L/R, T95 (to 95 % of the final current, alone | all stages on), →0 (to zero) and "
+            f"→{sw['release_fraction']:.0%} in ms; I, ½LI² and the suppressor's energy at the break; U: across the "
+            "opening contact"
+        )
+        t.caption_justify = "left"
+        t.add_column("stage")
+        for col in (
+            "L/R",
+            "T95",
+            "T95 all",
+            "I A",
+            "½LI² J",
+            "suppr",
+            "→0",
+            f"→{sw['release_fraction']:.0%}",
+            "E J",
+            "U V",
+        ):
+            t.add_column(col, justify="right")
+        for corner in ("cold", "hot"):
+            t.add_row(Text(corner.upper(), style="bold"))
+            for x in (y for y in sw["stages"] if y["corner"] == corner):
+                t.add_row(
+                    x["id"],
+                    _num(x["time_constant"], 1e3, 0),
+                    _ms(x["t95_alone"]),
+                    _ms(x["t95_all"]),
+                    _num(x["break_current"]),
+                    _num(x["stored_energy"]),
+                    short[x["suppression"]],
+                    _ms(x["time_to_zero"]),
+                    _num(x["release_time"], 1e3, 0),
+                    _num(x["suppressor_energy"]),
+                    "arc" if x["contact_voltage"] is None else _num(x["contact_voltage"]),
+                )
+        console.print(t)
+        dips = "; ".join(f"{s['corner']} {s['name']} {s['bus_dip']['value']:.2f} V" for s in sw["scenarios"])
+        console.print(f"  bus dip at the battery terminals: {dips} (the cold corner holds the bus by definition)")
+        if not sw["sequence_given"]:
+            console.print("  the drawing gives no switching sequence ([[switching.positions]])", style="dim")
+        console.print()
 
     v = Table(title="Verdicts", box=box.SIMPLE_HEAD, title_justify="left")
     for col in ("status", "rule", "subject", "value", "limit", "margin"):

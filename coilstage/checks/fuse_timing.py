@@ -1,0 +1,334 @@
+"""Fuse time-current rules: no nuisance opening, cable overload and short-circuit protection, the
+length of cable ahead of the first fuse, and the pulse rule for repeated switching."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from coilstage import tables
+from coilstage.analysis.corners import Analysis, cut_off_by
+from coilstage.checks.base import Rule, Status, Verdict, ceiling, ceiling_temperature, not_checked
+from coilstage.checks.cables import cable_ampacity
+from coilstage.drawing.schema import Cable, Fuse
+from coilstage.physics.fault import (
+    BETA_ALUMINIUM,
+    BETA_COPPER,
+    QC_ALUMINIUM,
+    QC_COPPER,
+    adiabatic_final_temperature,
+    material_k,
+)
+from coilstage.physics.thermal import cable_loss_coefficient, conductor_temperature
+from coilstage.tables import FuseGates
+
+#: ABYC E-11 distances for a conductor ahead of its overcurrent device [m]: 7 in; 40 in if sheathed;
+#: 72 in if sheathed and connected directly to the battery terminal.
+ABYC_DISTANCES = (0.178, 1.02, 1.83)
+
+
+def _gates(f: Fuse) -> FuseGates | None:
+    return FuseGates(f.gates, f.gates_source) if f.gates else None
+
+
+def _material(c: Cable) -> tuple[float, float, float]:
+    """(K, β, Qc) of a cable's conductor metal (IEC 60949 constants)."""
+    rho = tables.material(c.material)["rho20"]
+    if c.material == "aluminium":
+        return material_k(QC_ALUMINIUM, BETA_ALUMINIUM, rho), BETA_ALUMINIUM, QC_ALUMINIUM
+    return material_k(QC_COPPER, BETA_COPPER, rho), BETA_COPPER, QC_COPPER
+
+
+def _nuisance(a: Analysis) -> list[Verdict]:
+    out = []
+    for f in a.drawing.of_kind(Fuse):
+        g = _gates(f)
+        if g is None:
+            out.append(
+                not_checked(
+                    NUISANCE, f.id, f"no time-current gates for type {f.fuse_type}; give the maker's curve", "A"
+                )
+            )
+            continue
+        i_max = abs(a.corners["cold"].solution.current[f.id])
+        if a.switching is not None:
+            for sc in a.switching.scenarios.values():
+                if sc.corner == "cold":
+                    grid = np.linspace(0.0, sc.t_end, 1501)
+                    i_max = max(
+                        i_max, float(np.nanmax(np.abs(sc.sample(grid, [], (f"element:{f.id}",))[f"element:{f.id}"])))
+                    )
+        carry = f.rating * tables.fuse_rerating(f.zone_temperature)
+        m = i_max / carry
+        t_min = g.t_min(m)
+        ok = math.isinf(t_min)
+        first = g.points[0][0]
+        note = (
+            f"highest current {i_max:.1f} A over the switch-on, the sequence and continuous cold duty = {m:.2f} x the "
+            f"{carry:.1f} A rerated rating ({g.source})"
+        )
+        note += "; below the must-not-open gate" if ok else f"; it may open after {t_min:.3g} s"
+        out.append(
+            Verdict(
+                NUISANCE.id,
+                f.id,
+                Status.PASS if ok else Status.FAIL,
+                i_max,
+                first * carry,
+                "A",
+                ceiling(i_max, first * carry),
+                NUISANCE.clause,
+                note,
+                "cold",
+            )
+        )
+    return out
+
+
+def _cable_overload(a: Analysis) -> list[Verdict]:
+    out = []
+    conv = float(tables.fuse_gate_table()["conventional_fusing"])
+    cables = {c.id: c for c in a.drawing.of_kind(Cable)}
+    for f in a.drawing.of_kind(Fuse):
+        g = _gates(f)
+        for cid in a.protected.get(f.id, []):
+            subject = f"{f.id} → {cid}"
+            c = cables.get(cid)
+            if c is None:
+                continue
+            if g is None:
+                out.append(not_checked(OVERLOAD, subject, f"no time-current gates for type {f.fuse_type}", "degC"))
+                continue
+            amp = cable_ampacity(a, c)
+            if isinstance(amp, str) or amp.value <= 0:
+                out.append(
+                    not_checked(OVERLOAD, subject, "the cable has no ampacity in its zone (see cable.ampacity)", "degC")
+                )
+                continue
+            i = conv * f.rating
+            t = g.t_max(conv)
+            col = float(amp.column)
+            g_loss = cable_loss_coefficient(amp.value, c.r20_per_m, c.alpha20, col, c.zone_temperature)
+            _k, _beta, qc = _material(c)
+            theta = conductor_temperature(
+                t, i, c.r20_per_m, c.alpha20, g_loss, qc * c.area, c.zone_temperature, c.zone_temperature
+            )
+            limit = float(tables.cable_class_rows()[c.insulation_class]["short_term"])
+            ok = theta <= limit
+            shown = theta if math.isfinite(theta) else None
+            out.append(
+                Verdict(
+                    OVERLOAD.id,
+                    subject,
+                    Status.PASS if ok else Status.FAIL,
+                    shown,
+                    limit,
+                    "degC",
+                    None if shown is None else ceiling_temperature(theta, limit),
+                    OVERLOAD.clause,
+                    f"at the conventional fusing current {conv:.2f} x {f.rating:g} A = {i:.0f} A the fuse may "
+                    f"take {t:.0f} s; the conductor ({c.size_label}, from {c.zone_temperature:g} °C) reaches "
+                    f"{'thermal runaway' if shown is None else f'{theta:.0f} °C'} against the class "
+                    f"{c.insulation_class} short-term limit (class + 50 K, from memory)",
+                    "cold",
+                )
+            )
+    return out
+
+
+def _short_circuit(a: Analysis) -> list[Verdict]:
+    out = []
+    cables = {c.id: c for c in a.drawing.of_kind(Cable)}
+    for f in a.drawing.of_kind(Fuse):
+        g = _gates(f)
+        for cid in a.protected.get(f.id, []):
+            c = cables.get(cid)
+            if c is None:
+                continue
+            subject = f"{f.id} → {cid}"
+            if g is None:
+                out.append(not_checked(SHORT, subject, f"no time-current gates for type {f.fuse_type}", "degC"))
+                continue
+            i_sc = a.far_end_fault.get(cid, 0.0)
+            m = i_sc / f.rating
+            t = g.t_max(m)
+            if math.isinf(t):
+                out.append(
+                    Verdict(
+                        SHORT.id,
+                        subject,
+                        Status.FAIL,
+                        None,
+                        None,
+                        "degC",
+                        None,
+                        SHORT.clause,
+                        f"a short at the far end ({c.b}) draws only {i_sc:.0f} A = {m:.2f} x rating: the fuse "
+                        "need not open at all within its gates",
+                        "cold",
+                    )
+                )
+                continue
+            k, beta, _qc = _material(c)
+            theta_i = c.class_max
+            theta_f = adiabatic_final_temperature(i_sc * i_sc * t, c.area, k, beta, theta_i)
+            limit = float(tables.cable_class_rows()[c.insulation_class]["short_circuit"])
+            ok = theta_f <= limit
+            note = (
+                f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the latest "
+                f"({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} adiabatically from "
+                f"{theta_i:g} °C to {theta_f:.0f} °C (IEC 60949) against {limit:g} °C"
+            )
+            if t > 5:
+                note += "; beyond the 5 s adiabatic range, so the real conductor ends cooler"
+            out.append(
+                Verdict(
+                    SHORT.id,
+                    subject,
+                    Status.PASS if ok else Status.FAIL,
+                    theta_f,
+                    limit,
+                    "degC",
+                    ceiling_temperature(theta_f, limit),
+                    SHORT.clause,
+                    note,
+                    "cold",
+                )
+            )
+    return out
+
+
+def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
+    d = a.drawing
+    fuses = [f.id for f in d.of_kind(Fuse)]
+    covered: set[str] = set()
+    for cut in cut_off_by(d, fuses).values():
+        covered |= cut
+    pos = d.supply.battery.node
+    alt_node = d.supply.alternator.node if d.supply.alternator else None
+    out = []
+    for c in d.of_kind(Cable):
+        if c.role != "feed" or c.id in covered:
+            continue
+        if alt_node is not None and alt_node != pos and alt_node in (c.a, c.b):
+            out.append(
+                Verdict(
+                    AHEAD.id,
+                    c.id,
+                    Status.PASS,
+                    c.length,
+                    None,
+                    "m",
+                    None,
+                    AHEAD.clause,
+                    "alternator output cable: exempt (a regulated alternator limits its own current, ABYC E-11); "
+                    "the battery can still feed a fault in it: route it protected",
+                    "",
+                )
+            )
+            continue
+        at_battery = pos in (c.a, c.b)
+        limit = (
+            ABYC_DISTANCES[2] if (c.sheathed and at_battery) else ABYC_DISTANCES[1] if c.sheathed else ABYC_DISTANCES[0]
+        )
+        status = Status.PASS if c.length <= limit else Status.WARN
+        what = (
+            "sheathed, on the battery terminal"
+            if c.sheathed and at_battery
+            else "sheathed"
+            if c.sheathed
+            else "not sheathed"
+        )
+        out.append(
+            Verdict(
+                AHEAD.id,
+                c.id,
+                status,
+                c.length,
+                limit,
+                "m",
+                ceiling(c.length, limit),
+                AHEAD.clause,
+                f"{c.length:g} m of cable ahead of any fuse ({what}); no fuse protects it",
+                "",
+            )
+        )
+    return out
+
+
+def _pulse(a: Analysis) -> list[Verdict]:
+    out = []
+    tab = tables.fuse_gate_table()
+    window = float(tab["pulse_window"])
+    frac, fnote = tables.pulse_fraction(a.drawing.switching.cycles)
+    for f in a.drawing.of_kind(Fuse):
+        if f.melting_i2t is None:
+            out.append(not_checked(PULSE, f.id, "no melting_i2t given for this fuse", "A^2s"))
+            continue
+        if a.switching is None:
+            out.append(not_checked(PULSE, f.id, "switching was not analysed", "A^2s"))
+            continue
+        worst = 0.0
+        for sc in a.switching.scenarios.values():
+            if sc.corner != "cold":
+                continue
+            for t_on in sorted({ev[0] for ev in sc.events}):
+                grid = np.linspace(t_on, t_on + window, 2001)
+                i = sc.sample(grid, [], (f"element:{f.id}",))[f"element:{f.id}"]
+                # the whole current through the fuse, not just the step: a preloaded fuse has less margin
+                worst = max(worst, float(np.trapezoid(i * i, grid)))
+        limit = frac * f.melting_i2t
+        ok = worst <= limit
+        out.append(
+            Verdict(
+                PULSE.id,
+                f.id,
+                Status.PASS if ok else Status.FAIL,
+                worst,
+                limit,
+                "A^2s",
+                ceiling(worst, limit),
+                PULSE.clause,
+                f"I²t through the fuse over the first {window * 1e3:g} ms after each switch-on (largest of the "
+                "cold-corner scenarios) "
+                f"against {fnote} of the {f.melting_i2t:g} A²s melting I²t ({a.drawing.switching.cycles:,} switchings)",
+                "cold",
+            )
+        )
+    return out
+
+
+NUISANCE = Rule(
+    "fuse.no_nuisance_opening",
+    "Fuse current over switch-on, sequence and continuous cold duty below its must-not-open gate",
+    "Fuse time-current gates (shipped ISO 8820 gates from memory, or the maker's curve); rerating for the zone",
+    _nuisance,
+)
+OVERLOAD = Rule(
+    "fuse.cable_overload",
+    "At the fuse's conventional fusing current the cable stays within its short-term limit until the fuse opens",
+    "Conventional fusing current and its longest time from the gates; first-order cable heating implied by its "
+    "ampacity; ISO 6722 short-term limit class + 50 K (from memory)",
+    _cable_overload,
+)
+SHORT = Rule(
+    "fuse.cable_short_circuit",
+    "A short at the far end of each protected cable is cleared before the insulation's short-circuit limit",
+    "IEC 60949 adiabatic equation (K = 226 for copper); clearing time from the gates; limits by ISO 6722 class "
+    "(common practice)",
+    _short_circuit,
+)
+AHEAD = Rule(
+    "cable.ahead_of_fuse",
+    "Cable ahead of the first fuse no longer than the ABYC E-11 distances (7 in / 40 in / 72 in)",
+    "ABYC E-11 (7 in; 40 in sheathed; 72 in sheathed on the battery terminal); alternator cables exempt",
+    _ahead_of_fuse,
+)
+PULSE = Rule(
+    "fuse.pulse_withstand",
+    "Switch-on pulse I²t within the fuse's pulse-withstand fraction of its melting I²t",
+    "Fuse maker's pulse guide: 48 / 38 / 29 / 22 % of melting I²t for 10² / 10³ / 10⁴ / 10⁵ pulses",
+    _pulse,
+)
+RULES = [NUISANCE, OVERLOAD, SHORT, AHEAD, PULSE]

@@ -1,0 +1,323 @@
+"""Switching rules: inductive breaking at the relays, suppressors, release time, relay pick-up."""
+
+from __future__ import annotations
+
+import math
+
+from coilstage import tables
+from coilstage.analysis.circuit import element_resistance
+from coilstage.analysis.corners import Analysis, corner_sources, switched_stages
+from coilstage.checks.base import Rule, Status, Verdict, ceiling, floor, not_checked
+from coilstage.drawing.schema import Relay, Stage
+from coilstage.physics.conductor import resistance_at_temperature
+
+#: Energise a relay at no less than 110 % of its must-operate voltage (a state transport agency's
+#: relay rules, shared protection notes §3.2): the margin of the pick-up rule.
+PICKUP_MARGIN = 1.10
+
+
+def category_for(tau: float, power: float) -> str | None:
+    """The least demanding DC utilization category whose time constant covers ``tau`` [s] for a load
+    of ``power`` [W], or None when the load lies outside every category."""
+    for row in tables.utilization_categories():
+        if tau <= _tau_limit(row["category"], power):
+            return row["category"]
+    return None
+
+
+def _stage_map(a: Analysis) -> dict[str, Stage]:
+    return {s.id: s for s in a.drawing.stages}
+
+
+def _relay_breaking(a: Analysis) -> list[Verdict]:
+    if a.switching is None:
+        return [not_checked(RELAY_BREAKING, "relays", "switching was not analysed")]
+    out = []
+    stages = _stage_map(a)
+    cold = a.switching.stages["cold"]
+    order = [row["category"] for row in tables.utilization_categories()]
+    for relay in a.drawing.of_kind(Relay):
+        ids = switched_stages(a.drawing).get(relay.id, [])
+        if not ids:
+            out.append(not_checked(RELAY_BREAKING, relay.id, "this relay switches no stage", "ms"))
+            continue
+        i_break = sum(cold[s].i_break for s in ids)
+        bare = [s for s in ids if stages[s].suppression.kind == "none"]
+        if not bare:
+            cv = max(cold[s].contact_voltage for s in ids)
+            if relay.voltage_rating is None:
+                out.append(
+                    not_checked(
+                        RELAY_BREAKING,
+                        relay.id,
+                        f"suppressed stage(s) {', '.join(ids)}: the contact sees {cv:.1f} V "
+                        "(highest bus + suppressor) but the relay has no voltage_rating",
+                        "V",
+                        "cold",
+                    )
+                )
+                continue
+            status = Status.PASS if cv <= relay.voltage_rating else Status.FAIL
+            out.append(
+                Verdict(
+                    RELAY_BREAKING.id,
+                    relay.id,
+                    status,
+                    cv,
+                    relay.voltage_rating,
+                    "V",
+                    ceiling(cv, relay.voltage_rating),
+                    RELAY_BREAKING.clause,
+                    f"suppressed at the coil ({', '.join(stages[s].suppression.kind for s in ids)}): the "
+                    f"current commutates into the suppressor, a DC-1-like break of {i_break:.1f} A; the "
+                    "opening contact sees the highest bus plus the suppressor voltage",
+                    "cold",
+                )
+            )
+            continue
+        tau = max(cold[s].tau for s in bare)
+        power = sum(
+            cold[s].i_break ** 2 * element_resistance(stages[s], corner_sources(a.drawing)["cold"][0][s]) for s in bare
+        )
+        need = category_for(tau, power)
+        rated = set(relay.categories)
+        ib = relay.inductive_break
+        if ib is not None and ib[1] >= tau and ib[0] >= i_break:
+            status, note = (
+                Status.PASS,
+                (
+                    f"unsuppressed, L/R {tau * 1e3:.0f} ms, {i_break:.1f} A: within the relay's "
+                    f"stated inductive break rating {ib[0]:g} A at {ib[1] * 1e3:g} ms"
+                ),
+            )
+        elif need is None:
+            status = Status.FAIL
+            note = (
+                f"unsuppressed, L/R {tau * 1e3:.0f} ms at {i_break:.1f} A lies outside every IEC 60947 DC category; "
+                "no inductive break rating covers it: fit suppression at the coil"
+            )
+            if ib is not None:
+                note += f" (the stated {ib[0]:g} A at {ib[1] * 1e3:g} ms does not cover it)"
+        elif any(order.index(c) >= order.index(need) for c in rated if c in order):
+            status, note = Status.PASS, f"unsuppressed, L/R {tau * 1e3:.1f} ms needs {need}; the relay is rated for it"
+        else:
+            status, note = (
+                Status.WARN,
+                (
+                    f"unsuppressed, L/R {tau * 1e3:.1f} ms needs a contact rated {need}; the "
+                    "drawing gives no such rating"
+                ),
+            )
+        out.append(
+            Verdict(
+                RELAY_BREAKING.id,
+                relay.id,
+                status,
+                tau * 1e3,
+                None if need is None else _tau_limit(need, power) * 1e3,
+                "ms",
+                None if need is None else ceiling(tau, _tau_limit(need, power)),
+                RELAY_BREAKING.clause,
+                note,
+                "cold",
+            )
+        )
+    return out
+
+
+def _tau_limit(category: str, power: float) -> float:
+    """Largest L/R of a category [s]; DC-13's is min(2·P ms, 100 ms) with P in W (T0.95 = 3τ ≤ 6·P ms)."""
+    row = next(r for r in tables.utilization_categories() if r["category"] == category)
+    t = row["tau_max"]
+    if "tau_per_watt" in row:
+        t = min(t, row["tau_per_watt"] * power)
+    return t
+
+
+def _suppressors(a: Analysis) -> list[Verdict]:
+    if a.switching is None:
+        return [not_checked(SUPPRESSOR, "stages", "switching was not analysed")]
+    out = []
+    system = a.drawing.supply.system_voltage
+    dump = tables.load_dump_clamped(system)
+    need_v = max(dump, a.drawing.corners.limit_bus)
+    for s in a.drawing.stages:
+        sup = s.suppression
+        if sup.kind == "none":
+            continue
+        sw = a.switching.stages["cold"][s.id]
+        i0 = sw.i_break
+        if sup.peak_current is None:
+            out.append(
+                not_checked(
+                    SUPPRESSOR, f"{s.id} peak current", f"no peak_current rating (break current {i0:.1f} A)", "A"
+                )
+            )
+        else:
+            ok = sup.peak_current >= i0
+            out.append(
+                Verdict(
+                    SUPPRESSOR.id,
+                    f"{s.id} peak current",
+                    Status.PASS if ok else Status.FAIL,
+                    i0,
+                    sup.peak_current,
+                    "A",
+                    ceiling(i0, sup.peak_current),
+                    SUPPRESSOR.clause,
+                    f"{sup.kind} carries the break current {i0:.1f} A as it commutates",
+                    "cold",
+                )
+            )
+        what = "stand-off" if sup.bidirectional else "reverse"
+        if sup.reverse_voltage is None:
+            out.append(
+                not_checked(
+                    SUPPRESSOR, f"{s.id} {what} voltage", f"no reverse_voltage rating (needs >= {need_v:g} V)", "V"
+                )
+            )
+        else:
+            ok = sup.reverse_voltage >= need_v
+            out.append(
+                Verdict(
+                    SUPPRESSOR.id,
+                    f"{s.id} {what} voltage",
+                    Status.PASS if ok else Status.FAIL,
+                    sup.reverse_voltage,
+                    need_v,
+                    "V",
+                    floor(sup.reverse_voltage, need_v),
+                    SUPPRESSOR.clause,
+                    f"must block the clamped load dump ({dump:g} V, ISO 16750-2 Test B) and the highest bus "
+                    f"({a.drawing.corners.limit_bus:g} V)",
+                    "limit",
+                )
+            )
+        e = sw.decay.e_suppressor
+        if sup.energy_rating is None:
+            out.append(
+                not_checked(SUPPRESSOR, f"{s.id} energy", f"no energy_rating (it takes {e:.1f} J per break)", "J")
+            )
+        else:
+            ok = e <= sup.energy_rating
+            out.append(
+                Verdict(
+                    SUPPRESSOR.id,
+                    f"{s.id} energy",
+                    Status.PASS if ok else Status.FAIL,
+                    e,
+                    sup.energy_rating,
+                    "J",
+                    ceiling(e, sup.energy_rating),
+                    SUPPRESSOR.clause,
+                    f"energy per break from the decay through the {sup.kind} (of ½LI² = {sw.stored_energy:.1f} J)",
+                    "cold",
+                )
+            )
+    return out
+
+
+def _release(a: Analysis) -> list[Verdict]:
+    if a.switching is None:
+        return [not_checked(RELEASE, "stages", "switching was not analysed")]
+    lim = a.drawing.switching.release_limit
+    frac = a.drawing.switching.release_fraction
+    out = []
+    for s in a.drawing.stages:
+        sw = a.switching.stages["cold"][s.id]
+        t = sw.decay.t_release
+        if lim is None:
+            out.append(
+                not_checked(
+                    RELEASE,
+                    s.id,
+                    f"no switching.release_limit in the drawing (release takes "
+                    f"{t * 1e3:.0f} ms to {frac:.0%} of the current)",
+                    "ms",
+                    "cold",
+                )
+            )
+            continue
+        ok = t <= lim
+        note = f"{s.suppression.kind}: current falls to {frac:.0%} of {sw.i_break:.1f} A in {t * 1e3:.0f} ms"
+        if s.suppression.kind == "none":
+            note += " (the contact's arc takes the energy: fast release, destructive for the contact)"
+        out.append(
+            Verdict(
+                RELEASE.id,
+                s.id,
+                Status.PASS if ok else Status.FAIL,
+                t * 1e3,
+                lim * 1e3,
+                "ms",
+                ceiling(t, lim),
+                RELEASE.clause,
+                note,
+                "cold",
+            )
+        )
+    return out
+
+
+def _pickup(a: Analysis) -> list[Verdict]:
+    out = []
+    hot = a.corners["hot"]
+    for r in a.drawing.of_kind(Relay):
+        c = r.coil
+        if c is None:
+            out.append(
+                not_checked(
+                    PICKUP, r.id, "no coil data for this relay (coil = { voltage, resistance, operate_voltage })", "V"
+                )
+            )
+            continue
+        t = r.zone_temperature + c.rise
+        r_hot = resistance_at_temperature(c.r_ref, c.t_ref, t, 0.00393)
+        need = c.operate_voltage * r_hot / c.r_ref
+        have = hot.bus_voltage * r_hot / (r_hot + c.feed_resistance)
+        limit = PICKUP_MARGIN * need
+        status = Status.PASS if have >= limit else Status.WARN if have >= need else Status.FAIL
+        out.append(
+            Verdict(
+                PICKUP.id,
+                r.id,
+                status,
+                have,
+                limit,
+                "V",
+                floor(have, limit),
+                PICKUP.clause,
+                f"coil at {t:g} °C needs {need:.2f} V to operate ({c.operate_voltage:g} V at {c.t_ref:g} °C, "
+                f"same ampere-turns); it gets {have:.2f} V from the {hot.bus_voltage:.2f} V hot-corner bus "
+                f"through {c.feed_resistance:g} Ω; pass at >= 110 % of need",
+                "hot",
+            )
+        )
+    return out
+
+
+RELAY_BREAKING = Rule(
+    "relay.inductive_break",
+    "Relay contact can break its stage: DC category by L/R, or contact voltage when suppressed",
+    "IEC 60947-4-1 DC-1/DC-3/DC-5 time constants; IEC 60947-5-1 DC-13 (300 ms cap)",
+    _relay_breaking,
+)
+SUPPRESSOR = Rule(
+    "suppressor.rating",
+    "Suppressor peak current, reverse (stand-off) voltage and energy per break",
+    "Break current at the cold corner; ISO 16750-2 Test B clamped load dump (35 V / 58 V); clamp energy computed",
+    _suppressors,
+)
+RELEASE = Rule(
+    "stage.release_time",
+    "Braking field gone within the drawing's release-time limit after switch-off",
+    "Decay through the suppressor, closed form t = tau ln((I0 + U/R)/(x I0 + U/R)); limit from the drawing",
+    _release,
+)
+PICKUP = Rule(
+    "relay.coil_pickup",
+    "Relay coil gets enough voltage to operate at the lowest bus, hot",
+    "Maker's must-operate voltage scaled by coil R(T) (copper, IEC 60028 alpha); 110 % margin (transport-agency relay rules)",
+    _pickup,
+)
+RULES = [RELAY_BREAKING, SUPPRESSOR, RELEASE, PICKUP]

@@ -1,0 +1,61 @@
+r"""Heating of conductors and windings (lumped, first-order models).
+
+The cable model here is the one a conductor table implies: at its ampacity I_a in a zone at θz the
+conductor settles at its rating temperature θc, so the heat it sheds per metre per kelvin is
+G' = I_a² R'(θc)/(θc − θz). With the conductor's heat capacity per metre C' (copper only: the
+insulation's share is left out, which heats the model faster, the safe side) and R'(θ) = R'20[1 +
+α(θ − 20)], a constant current I gives the linear equation
+
+.. math:: C' \frac{dθ}{dt} = I^2 R'_{20}[1 + α(θ - 20)] - G'(θ - θ_z) = k_0 + k_1 θ,
+
+solved in closed form.
+"""
+
+from __future__ import annotations
+
+import math
+
+
+def cable_loss_coefficient(
+    i_amp: float, r20_per_m: float, alpha20: float, theta_rating: float, theta_zone: float
+) -> float:
+    """Heat shed per metre per kelvin G' [W/(m·K)] implied by an ampacity ``i_amp`` [A] that brings
+    the conductor to ``theta_rating`` [°C] in a zone at ``theta_zone`` [°C]."""
+    r = r20_per_m * (1 + alpha20 * (theta_rating - 20.0))
+    return i_amp * i_amp * r / (theta_rating - theta_zone)
+
+
+def conductor_temperature(
+    t: float,
+    current: float,
+    r20_per_m: float,
+    alpha20: float,
+    g_loss: float,
+    c_per_m: float,
+    theta_zone: float,
+    theta_start: float,
+) -> float:
+    """Conductor temperature [°C] after ``t`` [s] at a constant ``current`` [A] (closed form).
+
+    Parameters: r20_per_m [Ω/m], alpha20 [K⁻¹], g_loss G' [W/(m·K)], c_per_m C' [J/(m·K)],
+    theta_zone and theta_start [°C]. Returns ``inf`` if the current is beyond thermal runaway
+    (I²R'20α ≥ G': heating grows faster with temperature than cooling does).
+    """
+    i2r = current * current * r20_per_m
+    k1 = (i2r * alpha20 - g_loss) / c_per_m
+    k0 = (i2r * (1 - 20.0 * alpha20) + g_loss * theta_zone) / c_per_m
+    if k1 >= 0:
+        return math.inf
+    theta_inf = -k0 / k1
+    return theta_inf + (theta_start - theta_inf) * math.exp(k1 * t)
+
+
+def conductor_steady_temperature(
+    current: float, r20_per_m: float, alpha20: float, g_loss: float, theta_zone: float
+) -> float:
+    """Final temperature of :func:`conductor_temperature` [°C] (``inf`` beyond runaway)."""
+    i2r = current * current * r20_per_m
+    den = g_loss - i2r * alpha20
+    if den <= 0:
+        return math.inf
+    return (i2r * (1 - 20.0 * alpha20) + g_loss * theta_zone) / den

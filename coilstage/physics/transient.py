@@ -1,0 +1,207 @@
+r"""Switching of RL coil stages: the exact solution of a linear RL network, and suppression decay.
+
+A harness with its stages switched on is a resistive network with one inductance per stage. With
+each stage current i_k as a state, the network (fed by its sources) gives the stage voltages as an
+affine map of the currents, so
+
+.. math:: L\,\frac{di}{dt} = c - K\,i,
+
+with L the diagonal of stage inductances, K = PᵀZP + R symmetric positive definite (Z the network's
+nodal impedance matrix, reciprocal, so symmetric; R the stages' own resistances) and c the stage
+voltages the sources would drive with no stage current. Scaling by S = L^{1/2} makes the state
+matrix symmetric, B = −L^{-1/2} K L^{-1/2} = U Λ Uᵀ, and the exact solution is
+
+.. math:: i(t) = i_∞ + L^{-1/2} U e^{Λt} Uᵀ L^{1/2} (i_0 − i_∞), \qquad i_∞ = K^{-1} c.
+
+References
+----------
+.. [1] C.-T. Chen, *Linear System Theory and Design*, 3rd ed., Oxford University Press, 1999,
+   §4.2 (solution of x' = Ax + b by the matrix exponential; diagonalisation).
+.. [2] Any circuits text for the single RL branch: i(t) = (V/R)(1 − e^{−tR/L}), τ = L/R.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Time for a first-order rise to reach 95 % of its final value, in time constants: ln 20.
+LN20 = math.log(20.0)
+
+
+def rl_step_current(t, v: float, r: float, inductance: float):
+    """Current of a single RL branch switched onto a constant voltage at t = 0 [A].
+
+    .. math:: i(t) = \\frac{V}{R}\\left(1 - e^{-tR/L}\\right)
+
+    Parameters: t [s] (float or array), v [V], r [Ω], inductance [H].
+    """
+    return v / r * (1.0 - np.exp(-np.asarray(t) * r / inductance))
+
+
+def t95(tau: float) -> float:
+    """Time to 95 % of the final current of a first-order rise [s]: τ·ln 20 (= 2.996 τ)."""
+    return tau * LN20
+
+
+def rl_switch_on_i2t(i_final: float, tau: float, t: float) -> float:
+    r"""Joule integral ∫i² dt of an RL switch-on over [0, t] [A²·s].
+
+    .. math:: I^2 t = I_∞^2\left[t - 2τ(1 - e^{-t/τ}) + \frac{τ}{2}(1 - e^{-2t/τ})\right]
+
+    Source: integration of i = I∞(1 − e^{−t/τ}); the same expression is tabulated in fuse makers'
+    pulse-shape guides (shared reference notes, protection §1.5).
+    """
+    e1 = math.exp(-t / tau)
+    return i_final**2 * (t - 2 * tau * (1 - e1) + tau / 2 * (1 - e1 * e1))
+
+
+@dataclass(frozen=True)
+class Decay:
+    """A stage current decaying through its suppressor after its contact opens.
+
+    ``t_zero`` [s] is the time to zero current (``inf`` for a pure exponential), ``t_release`` [s]
+    the time to ``fraction`` of the break current, ``e_suppressor`` and ``e_coil`` [J] the energy
+    taken by the suppressor and by the coil's own resistance (their sum is ½·L·I0²).
+    """
+
+    i0: float
+    tau: float
+    t_zero: float
+    t_release: float
+    fraction: float
+    e_suppressor: float
+    e_coil: float
+    u_suppressor_peak: float  # voltage across the suppressor (and the coil) at the break [V]
+
+
+def clamp_decay(i0: float, r: float, inductance: float, u0: float, r_series: float = 0.0, fraction: float = 0.05):
+    r"""Decay of a stage current through a clamp after its contact opens.
+
+    The suppressor across the coil holds a voltage U0 + R_s·i (a diode: U0 = U_F; a diode and zener:
+    U0 = U_Z + U_F; a TVS or varistor: its clamp voltage; a diode and resistor: U0 = U_F, R_s = R).
+    With R_t = R + R_s and τ' = L/R_t:
+
+    .. math:: i(t) = \left(I_0 + \frac{U_0}{R_t}\right) e^{-t/τ'} - \frac{U_0}{R_t}, \qquad
+              t_0 = τ' \ln\left(1 + \frac{I_0 R_t}{U_0}\right)
+
+    The suppressor takes U0·∫i dt + R_s·∫i² dt, with ∫i dt = τ'I0 − (U0/R_t)t0 and, by the energy
+    balance ½LI0² = R_t∫i² + U0∫i, ∫i² dt = (½LI0² − U0∫i)/R_t. For R_s = 0 this is the usual
+    E_c = U_c(τI0 − U_c t0/R).
+
+    Parameters
+    ----------
+    i0 : float
+        Current at the break [A].
+    r : float
+        Coil (stage) resistance [Ω].
+    inductance : float
+        Stage inductance [H].
+    u0 : float
+        Constant part of the suppressor voltage [V]; 0 for a pure resistor path.
+    r_series : float
+        Resistance in the suppressor path [Ω].
+    fraction : float
+        The release time is the time to ``fraction``·I0.
+
+    Returns
+    -------
+    (Decay, callable) : the figures and i(t).
+
+    References
+    ----------
+    .. [1] First-order circuit with a constant source; shared reference notes (protection §5.2,
+       physics §5.2) give the same t0 and clamp energy.
+    """
+    rt = r + r_series
+    tau = inductance / rt
+    a = u0 / rt
+    w = 0.5 * inductance * i0 * i0
+    if u0 > 0:
+        t0 = tau * math.log(1 + i0 / a)
+        int_i = tau * i0 - a * t0
+        t_rel = tau * math.log((i0 + a) / (fraction * i0 + a))
+    else:
+        t0 = math.inf
+        int_i = tau * i0
+        t_rel = tau * math.log(1 / fraction)
+    int_i2 = (w - u0 * int_i) / rt
+    e_sup = u0 * int_i + r_series * int_i2
+    e_coil = r * int_i2
+
+    def current(t):
+        t = np.asarray(t, dtype=float)
+        out = (i0 + a) * np.exp(-t / tau) - a
+        return np.where((t >= 0) & (t < t0), out, np.where(t < 0, i0, 0.0))
+
+    return Decay(i0, tau, t0, t_rel, fraction, e_sup, e_coil, u0 + r_series * i0), current
+
+
+@dataclass(frozen=True)
+class LinearRL:
+    """The RL network ``L di/dt = c − K i`` (see the module docstring)."""
+
+    inductance: np.ndarray  # (n,) [H]
+    k: np.ndarray  # (n, n) [Ω], symmetric positive definite
+    c: np.ndarray  # (n,) [V]
+
+    def steady_state(self) -> np.ndarray:
+        """Final currents i∞ = K⁻¹c [A]."""
+        return np.linalg.solve(self.k, self.c)
+
+    def solution(self, i0: np.ndarray) -> ExactSolution:
+        """The exact solution from the initial currents ``i0`` [A]."""
+        s = np.sqrt(self.inductance)
+        b = -(self.k / s[:, None]) / s[None, :]
+        b = 0.5 * (b + b.T)  # symmetric by reciprocity; remove rounding
+        lam, u = np.linalg.eigh(b)
+        i_inf = self.steady_state()
+        w = u.T @ (s * (np.asarray(i0, float) - i_inf))
+        return ExactSolution(i_inf, lam, (u / s[:, None]), w)
+
+
+@dataclass(frozen=True)
+class ExactSolution:
+    """i(t) = i∞ + Φ (e^{λt} ∘ w), Φ = L^{-1/2} U: evaluates at any times in one product."""
+
+    i_inf: np.ndarray
+    lam: np.ndarray  # eigenvalues [1/s], all < 0
+    phi: np.ndarray  # (n, n)
+    w: np.ndarray  # (n,)
+
+    def at(self, t) -> np.ndarray:
+        """Currents at times ``t`` [s] (0 = start of the segment): shape (len(t), n)."""
+        t = np.atleast_1d(np.asarray(t, dtype=float))
+        return self.i_inf[None, :] + (np.exp(np.outer(t, self.lam)) * self.w[None, :]) @ self.phi.T
+
+    def linear(self, g: np.ndarray, h: float, t) -> np.ndarray:
+        """g·i(t) + h at times ``t``, for any linear read-out g of the currents (bus voltage …)."""
+        t = np.atleast_1d(np.asarray(t, dtype=float))
+        return g @ self.i_inf + h + np.exp(np.outer(t, self.lam)) @ (self.w * (g @ self.phi))
+
+    @property
+    def slowest(self) -> float:
+        """The slowest time constant of the network [s]."""
+        return float(-1.0 / self.lam.max())
+
+    def time_to_fraction(self, k: int, fraction: float = 0.95, start: float = 0.0) -> float:
+        """First time [s] at which current ``k`` reaches ``fraction`` of the way from its value at
+        ``start`` to its final value (the exact solution continued as long as needed)."""
+        from coilstage.physics.numeric import bracketed_root
+
+        x0 = self.at(start)[0, k]
+        target = x0 + fraction * (self.i_inf[k] - x0)
+        sign = 1.0 if self.i_inf[k] >= x0 else -1.0
+
+        def f(t):
+            return sign * (self.at(t)[0, k] - target)
+
+        hi = start + 1e-6
+        limit = start + 100 * self.slowest
+        while f(hi) < 0 and hi < limit:
+            hi = start + (hi - start) * 2
+        if f(hi) < 0:
+            return math.inf
+        return float(bracketed_root(lambda t: float(f(t)), start, hi, xtol=1e-13))

@@ -140,8 +140,8 @@ def main() -> None:
     print(f"demo check, whole process (text report): best {lo * 1e3:.0f} ms, median {med * 1e3:.0f} ms")
 
     sys.path.insert(0, str(ROOT))
-    from coilstage.analysis.corners import analyse, corner_sources
     from coilstage.analysis.circuit import Circuit
+    from coilstage.analysis.corners import analyse, corner_sources
     from coilstage.drawing.load import parse_drawing
 
     t = time.perf_counter()

@@ -27,6 +27,10 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--format", "-f", choices=["text", "json", "markdown"], default="text", help="report format (text)")
     c.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE instead of the terminal")
     c.add_argument("--details", "-d", action="store_true", help="text report: show the reasoning of every verdict")
+    w = sub.add_parser("waveforms", help="write the switching time series (CSV, JSON) and plots (PNG, SVG)")
+    w.add_argument("drawing", help="the drawing file (TOML)")
+    w.add_argument("--out", "-o", metavar="DIR", default="waveforms", help="folder to write into (default: waveforms)")
+    w.add_argument("--step", default="1 ms", help='sampling step, e.g. "1 ms" (default)')
     sub.add_parser("tables", help="list the shipped data tables and their sources")
     sub.add_parser("rules", help="list the rules with the clauses they rest on")
     return p
@@ -97,6 +101,50 @@ def _check(args: argparse.Namespace) -> int:
     return EXIT_FAIL if summ["fail"] else EXIT_OK
 
 
+def _waveforms(args: argparse.Namespace) -> int:
+    from coilstage.errors import DataError, DrawingError
+    from coilstage.units import QuantityError, parse_quantity
+
+    try:
+        step = parse_quantity(args.step, "time")
+    except QuantityError as exc:
+        print(f"coilstage: --step: expected {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if not 1e-6 <= step <= 1.0:
+        print("coilstage: --step: expected a step between 1 µs and 1 s", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    drawing_path = Path(args.drawing)
+    try:
+        from coilstage import load_drawing
+        from coilstage.analysis.corners import analyse
+
+        drawing = load_drawing(drawing_path)
+        analysis = analyse(drawing)
+    except DrawingError as exc:
+        _print_problems(exc.source, exc.problems)
+        return EXIT_BAD_INPUT
+    except DataError as exc:
+        _print_problems(exc.source, exc.problems, "table")
+        return EXIT_BAD_INPUT
+    from coilstage.report import waveforms
+
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+    stem = drawing_path.stem
+    files = [out / f"{stem}-waveforms.{ext}" for ext in ("csv", "json", "png", "svg")]
+    if any(f.resolve() == drawing_path.resolve() for f in files):
+        print("coilstage: the output would overwrite the drawing itself", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    rows = waveforms.series(analysis, step)
+    ids = [s.id for s in drawing.stages]
+    waveforms.write_csv(rows, files[0], ids)
+    waveforms.write_json(rows, files[1], step, drawing.title)
+    waveforms.plot(rows, files[2:], drawing.title)
+    for f in files:
+        print(f"wrote {f}")
+    return EXIT_OK
+
+
 def _tables() -> int:
     from coilstage.tables import list_tables
 
@@ -130,6 +178,8 @@ def main(argv: list[str] | None = None) -> int:
     try:
         if args.command == "check":
             return _check(args)
+        if args.command == "waveforms":
+            return _waveforms(args)
         if args.command == "tables":
             return _tables()
         return _rules()

@@ -349,7 +349,7 @@ class FuseGates:
         p = self.points[start:]
         if m >= p[-1][0]:
             return p[-1][col] * (p[-1][0] / m) ** 2
-        for lo, hi in zip(p, p[1:], strict=False):
+        for lo, hi in itertools.pairwise(p):
             if lo[0] <= m <= hi[0]:
                 y0, y1 = lo[col], hi[col]
                 if math.isinf(y0) or math.isinf(y1):

@@ -49,6 +49,8 @@ class Analysis:
     battery_short_circuit: float  # at the battery terminals, alternator included [A]
     protected: dict[str, list[str]] = field(default_factory=dict)  # fuse id -> cable ids
     far_end_fault: dict[str, float] = field(default_factory=dict)  # protected cable id -> short at its far end [A]
+    duty: dict[str, float] = field(default_factory=dict)  # element id -> largest cold-corner current [A]
+    duty_state: dict[str, str] = field(default_factory=dict)  # element id -> "all stages" or "<stage> alone"
     switching: object | None = None  # analysis.switching.SwitchingResult
 
 
@@ -98,6 +100,29 @@ def _corner(
         sol.alternator_mode,
         d.supply.base_load,
     )
+
+
+def cold_duty(circuit: Circuit, temps: dict[str, float], src: SourceState) -> tuple[dict[str, float], dict[str, str]]:
+    """The largest current each element carries in the cold corner, with all stages on or with any
+    one stage on alone, and which state gives it.
+
+    A branch carries most when its stage is the only one on (no other stage's current drops the
+    shared feed); a shared feed carries most with all on. With a stage off its element is open.
+    """
+    d = circuit.drawing
+    stage_ids = [s.id for s in d.stages]
+    states = [("all stages", circuit.solve(temps, src))]
+    for sid in stage_ids if len(stage_ids) > 1 else []:
+        off = {x: 1e12 for x in stage_ids if x != sid}  # an open stage: 1 TΩ
+        states.append((f"{sid} alone", circuit.solve(temps, src, overrides=off)))
+    duty: dict[str, float] = {}
+    where: dict[str, str] = {}
+    for name, sol in states:
+        for e in d.elements:
+            i = abs(sol.current[e.id])
+            if i > duty.get(e.id, -1.0) * (1 + 1e-12):
+                duty[e.id], where[e.id] = i, name
+    return duty, where
 
 
 def cold_temperatures(d: Drawing) -> dict[str, float]:
@@ -199,12 +224,24 @@ def analyse(d: Drawing, switching: bool = True) -> Analysis:
     at = circuit.fault_currents(*src["fault"], places)
     faults = {f.id: at[f.b] for f in fuses}
     far_end = {cid: at[node] for cid, node in far.items()}
+    duty, duty_state = cold_duty(circuit, *src["cold"])
     sw = None
     if switching:
         from coilstage.analysis.switching import analyse_switching
 
         sw = analyse_switching(d, circuit)
-    return Analysis(d, circuit, corners, faults, at[d.supply.battery.node], protected, far_end, sw)
+    return Analysis(
+        d,
+        circuit,
+        corners,
+        faults,
+        at[d.supply.battery.node],
+        protected=protected,
+        far_end_fault=far_end,
+        duty=duty,
+        duty_state=duty_state,
+        switching=sw,
+    )
 
 
 def cut_off_by(d: Drawing, device_ids: list[str]) -> dict[str, set[str]]:

@@ -434,7 +434,10 @@ def _t95(circuit, temps, src, ids: tuple[str, ...]) -> dict[str, float]:
                     found = t0
                 else:
                     found = t0 + bracketed_root(
-                        lambda tt, sol=sol: float(sol.at(tt)[0, j] - target), grid[k - 1], grid[k], xtol=1e-13
+                        lambda tt, sol=sol, j=j, target=target: float(sol.at(tt)[0, j] - target),
+                        grid[k - 1],
+                        grid[k],
+                        xtol=1e-13,
                     )
                 break
         out[sid] = float(found)

@@ -17,9 +17,8 @@ def cable_ampacity(a: Analysis, cable: Cable) -> tables.Ampacity | str:
 
 def _ampacity(a: Analysis) -> list[Verdict]:
     out = []
-    cold = a.corners["cold"].solution
     for c in a.drawing.of_kind(Cable):
-        i = abs(cold.current[c.id])
+        i = a.duty[c.id]
         amp = cable_ampacity(a, c)
         if isinstance(amp, str):
             out.append(not_checked(AMPACITY, c.id, amp, "A", "cold"))
@@ -44,7 +43,8 @@ def _ampacity(a: Analysis) -> list[Verdict]:
         status = Status.PASS if i <= amp.value else Status.FAIL
         note = (
             f"{c.size_label} ({amp.method}): {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
-            f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded)"
+            f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded); "
+            f"current with {a.duty_state[c.id]} on"
         )
         out.append(
             Verdict(AMPACITY.id, c.id, status, i, amp.value, "A", ceiling(i, amp.value), AMPACITY.clause, note, "cold")

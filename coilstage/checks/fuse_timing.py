@@ -51,7 +51,7 @@ def _nuisance(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        i_max = abs(a.corners["cold"].solution.current[f.id])
+        i_max = a.duty[f.id]
         if a.switching is not None:
             for sc in a.switching.scenarios.values():
                 if sc.corner == "cold":

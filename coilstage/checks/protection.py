@@ -13,14 +13,15 @@ def _fuse_continuous(a: Analysis) -> list[Verdict]:
     out = []
     frac = float(tables.fuse_rules()["continuous_fraction"])
     for f in a.drawing.of_kind(Fuse):
-        i = abs(a.corners["cold"].solution.current[f.id])
+        i = a.duty[f.id]
         rer = tables.fuse_rerating(f.zone_temperature)
         carry = f.rating * rer
         limit = frac * carry
         status = Status.PASS if i <= limit else Status.WARN if i <= carry else Status.FAIL
         note = (
             f"{f.rating:g} A {f.part} type {f.fuse_type} x {rer:.3f} rerating at {f.zone_temperature:g} °C "
-            f"({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to 100 %"
+            f"({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to 100 %; current with "
+            f"{a.duty_state[f.id]} on"
         )
         out.append(
             Verdict(
@@ -174,7 +175,7 @@ def _relay_contact(a: Analysis) -> list[Verdict]:
     out = []
     system = a.drawing.supply.system_voltage
     for r in a.drawing.of_kind(Relay):
-        i = abs(a.corners["cold"].solution.current[r.id])
+        i = a.duty[r.id]
         rating, rnote = relay_rating(r, system)
         if rating is None:
             out.append(
@@ -201,7 +202,8 @@ def _relay_contact(a: Analysis) -> list[Verdict]:
                 "A",
                 ceiling(i, limit),
                 RELAY_CONTACT.clause,
-                f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice)",
+                f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice); "
+                f"current with {a.duty_state[r.id]} on",
                 "cold",
             )
         )

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import math
-
 from coilstage import tables
 from coilstage.analysis.circuit import element_resistance
 from coilstage.analysis.corners import Analysis, corner_sources, switched_stages
@@ -317,7 +315,8 @@ RELEASE = Rule(
 PICKUP = Rule(
     "relay.coil_pickup",
     "Relay coil gets enough voltage to operate at the lowest bus, hot",
-    "Maker's must-operate voltage scaled by coil R(T) (copper, IEC 60028 alpha); 110 % margin (transport-agency relay rules)",
+    "Maker's must-operate voltage scaled by coil R(T) (copper, IEC 60028 alpha); "
+    "110 % margin (transport-agency relay rules)",
     _pickup,
 )
 RULES = [RELAY_BREAKING, SUPPRESSOR, RELEASE, PICKUP]

@@ -31,10 +31,6 @@ from coilstage.units import (
 
 from .schema import (
     Alternator,
-    Position,
-    RelayCoil,
-    Suppression,
-    Switching,
     Battery,
     Cable,
     CoilType,
@@ -44,10 +40,14 @@ from .schema import (
     Environment,
     Fuse,
     Limits,
+    Position,
     Relay,
+    RelayCoil,
     Resistor,
     Stage,
     Supply,
+    Suppression,
+    Switching,
 )
 
 _MISSING = object()

@@ -31,6 +31,10 @@ def _parser() -> argparse.ArgumentParser:
     w.add_argument("drawing", help="the drawing file (TOML)")
     w.add_argument("--out", "-o", metavar="DIR", default="waveforms", help="folder to write into (default: waveforms)")
     w.add_argument("--step", default="1 ms", help='sampling step, e.g. "1 ms" (default)')
+    ds = sub.add_parser("descent", help="simulate a duty: winding and cable heating, currents, bus and battery")
+    ds.add_argument("drawing", help="the drawing file (TOML)")
+    ds.add_argument("--out", "-o", metavar="DIR", default="descent", help="folder to write into (default: descent)")
+    ds.add_argument("--profile", help="a shipped profile instead of the drawing's duty: continuous or endurance")
     sub.add_parser("tables", help="list the shipped data tables and their sources")
     sub.add_parser("rules", help="list the rules with the clauses they rest on")
     return p
@@ -145,6 +149,81 @@ def _waveforms(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _descent(args: argparse.Namespace) -> int:
+    from coilstage.errors import DataError, DrawingError
+
+    drawing_path = Path(args.drawing)
+    try:
+        from coilstage import load_drawing
+
+        drawing = load_drawing(drawing_path)
+    except DrawingError as exc:
+        _print_problems(exc.source, exc.problems)
+        return EXIT_BAD_INPUT
+    except DataError as exc:
+        _print_problems(exc.source, exc.problems, "table")
+        return EXIT_BAD_INPUT
+    import dataclasses
+
+    from coilstage import tables
+    from coilstage.analysis.duty import continuous_duty, simulate
+
+    duty = drawing.duty
+    if args.profile:
+        if args.profile not in tables.duty_profiles():
+            print(f"coilstage: --profile: expected one of {', '.join(tables.duty_profiles())}", file=sys.stderr)
+            return EXIT_BAD_INPUT
+        duty = continuous_duty(drawing)
+        if args.profile != "continuous":
+            from coilstage.units import parse_quantity
+
+            row = tables.duty_profiles()[args.profile]
+            steps = tuple(
+                dataclasses.replace(duty.steps[0], duration=parse_quantity(dur, "time"), engine=eng, moving=mov)
+                for dur, _stg, eng, mov in row["steps"]
+            )
+            duty = dataclasses.replace(duty, name=args.profile, description=row["description"], steps=steps)
+    missing = [s.id for s in drawing.stages if not s.coil.has_thermal_model]
+    if missing:
+        print(
+            f"coilstage: note: no thermal model for the coils of {', '.join(missing)}; their windings are held at "
+            "their surroundings",
+            file=sys.stderr,
+        )
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    with Progress(
+        TextColumn("simulating {task.description}"),
+        BarColumn(),
+        TextColumn("{task.percentage:>3.0f} %"),
+        TimeElapsedColumn(),
+        console=_console(sys.stderr, False),
+        transient=True,
+    ) as bar:
+        task = bar.add_task(f"{duty.name} ({duty.duration / 60:.0f} min)", total=duty.duration)
+        result = simulate(drawing, duty, progress=lambda done, total: bar.update(task, completed=done))
+    from coilstage.report import descent
+
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+    files = [out / f"{drawing_path.stem}-descent.{ext}" for ext in ("csv", "json", "png", "svg")]
+    if any(f.resolve() == drawing_path.resolve() for f in files):
+        print("coilstage: the output would overwrite the drawing itself", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    descent.write_csv(result, files[0])
+    descent.write_json(result, files[1], drawing.title)
+    descent.plot(result, drawing, files[2:], drawing.title)
+    for k, s in enumerate(result.stage_ids):
+        print(
+            f"{s}: winding peaks at {result.stage_temperature[:, k].max():.0f} °C "
+            f"(limit {drawing.stages[k].coil.limit_temperature:g} °C), ends at {result.stage_current[-1, k]:.1f} A"
+        )
+    print(f"battery: {result.charge_drawn.max() / 3600:.1f} A·h drawn at most")
+    for f in files:
+        print(f"wrote {f}")
+    return EXIT_OK
+
+
 def _tables() -> int:
     from coilstage.tables import list_tables
 
@@ -180,6 +259,8 @@ def main(argv: list[str] | None = None) -> int:
             return _check(args)
         if args.command == "waveforms":
             return _waveforms(args)
+        if args.command == "descent":
+            return _descent(args)
         if args.command == "tables":
             return _tables()
         return _rules()

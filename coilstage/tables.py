@@ -382,3 +382,30 @@ def pulse_fraction(cycles: int) -> tuple[float, str]:
             return float(f), f"{f:.0%} for up to {n:,} pulses"
     n, f = pts[-1]
     return float(f), f"{f:.0%}, the figure for {n:,} pulses (the table ends there)"
+
+
+# ---------------------------------------------------------------- heating
+
+
+@cache
+def cable_dimensions() -> dict[float, dict[str, Any]]:
+    """ISO 6722 size [mm²] -> conductor and outside diameters [mm] (from memory)."""
+    return {float(r["size"]): r for r in shipped("cable_thermal_iso6722.toml")["table"]["rows"]}
+
+
+def cable_insulation(cls: str) -> tuple[float, str]:
+    """Thermal conductivity [W/(m·K)] of an ISO 6722 class's insulation, from the ``ht`` library's
+    material data, and the material's name there."""
+    from ht.insulation import k_material
+
+    name = dict(shipped("cable_thermal_iso6722.toml")["table"]["insulation"])[cls]
+    return float(k_material(name)), name
+
+
+def cable_emissivity() -> float:
+    return float(shipped("cable_thermal_iso6722.toml")["table"]["emissivity"])
+
+
+@cache
+def duty_profiles() -> dict[str, dict[str, Any]]:
+    return {r["name"]: r for r in shipped("duty_profiles.toml")["table"]["rows"]}

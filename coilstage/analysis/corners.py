@@ -52,6 +52,8 @@ class Analysis:
     duty: dict[str, float] = field(default_factory=dict)  # element id -> largest cold-corner current [A]
     duty_state: dict[str, str] = field(default_factory=dict)  # element id -> "all stages" or "<stage> alone"
     switching: object | None = None  # analysis.switching.SwitchingResult
+    descent: object | None = None  # analysis.duty.DutyResult of the drawing's duty profile
+    continuous: object | None = None  # analysis.duty.DutyResult of continuous full retardation
 
 
 def _stage_results(d: Drawing, sol: Solution, temps: dict[str, float]) -> list[StageResult]:
@@ -131,12 +133,13 @@ def cold_temperatures(d: Drawing) -> dict[str, float]:
 
 
 def hot_temperatures(d: Drawing) -> dict[str, float]:
-    temps: dict[str, float] = {}
-    for e in d.elements:
-        if isinstance(e, Cable):
-            temps[e.id] = e.zone_temperature
-        elif isinstance(e, Stage):
-            temps[e.id] = e.coil.hot_temperature
+    """Cables at their zone temperature; windings at their computed thermal steady state under
+    continuous full retardation where their coil has a thermal model, else at the stated (or default)
+    hot temperature."""
+    from coilstage.analysis.duty import hot_winding_temperatures
+
+    temps: dict[str, float] = {e.id: e.zone_temperature for e in d.of_kind(Cable)}
+    temps.update(hot_winding_temperatures(d))
     return temps
 
 
@@ -166,9 +169,10 @@ def corner_sources(d: Drawing) -> dict[str, tuple[dict[str, float], SourceState]
     }
 
 
-def analyse(d: Drawing, switching: bool = True) -> Analysis:
+def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:
     """Solve the three corners and the prospective fault currents of a drawing; with ``switching``,
-    also the switch-on and switch-off scenarios."""
+    also the switch-on and switch-off scenarios; with ``heating``, the drawing's duty profile and
+    continuous full retardation."""
     circuit = Circuit(d)
     c = d.corners
     alt = d.supply.alternator
@@ -196,7 +200,15 @@ def analyse(d: Drawing, switching: bool = True) -> Analysis:
             "hot",
             "braking current that remains (hot coils, sagging bus)",
             {
-                "coils": ", ".join(sorted({f"{e.coil.name} {e.coil.hot_temperature:g} °C" for e in d.stages})),
+                "coils": ", ".join(
+                    f"{e.id} {src['hot'][0][e.id]:.0f} °C"
+                    + (
+                        " (steady state, computed)"
+                        if e.coil.has_thermal_model
+                        else f" ({e.coil.hot_temperature_source})"
+                    )
+                    for e in d.stages
+                ),
                 "cables": "at their zone temperatures",
                 "battery": f"EMF {c.hot_battery_emf:.2f} V",
                 "alternator": "off"
@@ -230,6 +242,12 @@ def analyse(d: Drawing, switching: bool = True) -> Analysis:
         from coilstage.analysis.switching import analyse_switching
 
         sw = analyse_switching(d, circuit)
+    descent = continuous = None
+    if heating and d.duty is not None:
+        from coilstage.analysis.duty import continuous_duty, simulate
+
+        descent = simulate(d)
+        continuous = simulate(d, continuous_duty(d))
     return Analysis(
         d,
         circuit,
@@ -241,6 +259,8 @@ def analyse(d: Drawing, switching: bool = True) -> Analysis:
         duty=duty,
         duty_state=duty_state,
         switching=sw,
+        descent=descent,
+        continuous=continuous,
     )
 
 

@@ -3,10 +3,17 @@
 from __future__ import annotations
 
 from coilstage.analysis.corners import Analysis
-from coilstage.checks import cables, fuse_timing, protection, supply, switching
+from coilstage.checks import cables, fuse_timing, protection, supply, switching, thermal
 from coilstage.checks.base import Rule, Status, Verdict
 
-RULES: list[Rule] = [*cables.RULES, *protection.RULES, *fuse_timing.RULES, *switching.RULES, *supply.RULES]
+RULES: list[Rule] = [
+    *cables.RULES,
+    *protection.RULES,
+    *fuse_timing.RULES,
+    *switching.RULES,
+    *thermal.RULES,
+    *supply.RULES,
+]
 
 
 def run_checks(a: Analysis) -> list[Verdict]:

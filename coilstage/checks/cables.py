@@ -9,10 +9,46 @@ from coilstage.drawing.schema import Cable
 
 
 def cable_ampacity(a: Analysis, cable: Cable) -> tables.Ampacity | str:
-    """Ampacity of a cable in its zone and bundle, or why it cannot be given."""
+    """Ampacity of a cable in its zone and bundle, or why it cannot be given: the table's
+    (33 CFR 183.425), and where the cable's diameters are known the lower of that and the still-air
+    heat balance's (a second opinion, with the same bundle factor)."""
     if cable.material != "copper":
         return f"the ampacity table is for copper; this cable is {cable.material}"
-    return tables.ampacity(cable.awg, cable.area, cable.class_max, cable.zone_temperature, cable.bundle)
+    amp = tables.ampacity(cable.awg, cable.area, cable.class_max, cable.zone_temperature, cable.bundle)
+    if isinstance(amp, str):
+        return amp
+    comp = computed_ampacity(cable)
+    if comp is not None and comp < amp.value:
+        return tables.Ampacity(
+            comp,
+            amp.base,
+            amp.column,
+            amp.ambient_factor,
+            amp.bundle_factor,
+            amp.method + f"; the heat balance gives less, {comp:.0f} A, and governs",
+        )
+    return amp
+
+
+def computed_ampacity(cable: Cable) -> float | None:
+    """Current that holds the conductor at its class temperature in still air in its zone, by the
+    heat balance (``ht`` correlations), times the bundle factor [A]; None without diameters."""
+    if cable.outer_diameter is None or cable.conductor_diameter is None or cable.zone_temperature >= cable.class_max:
+        return None
+    from coilstage.physics.cable_heat import computed_ampacity as heat_balance_ampacity
+
+    k_ins, _name = tables.cable_insulation(cable.insulation_class)
+    i = heat_balance_ampacity(
+        cable.class_max,
+        cable.r20_per_m,
+        cable.alpha20,
+        cable.conductor_diameter,
+        cable.outer_diameter,
+        k_ins,
+        tables.cable_emissivity(),
+        cable.zone_temperature,
+    )
+    return i * tables.bundle_factor(cable.bundle)
 
 
 def _ampacity(a: Analysis) -> list[Verdict]:
@@ -41,10 +77,14 @@ def _ampacity(a: Analysis) -> list[Verdict]:
             )
             continue
         status = Status.PASS if i <= amp.value else Status.FAIL
+        comp = computed_ampacity(c)
+        table_value = amp.base * amp.ambient_factor * amp.bundle_factor
         note = (
-            f"{c.size_label} ({amp.method}): {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
-            f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded); "
-            f"current with {a.duty_state[c.id]} on"
+            f"{c.size_label} ({amp.method}): table {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
+            f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded) = "
+            f"{table_value:.0f} A; heat balance (still air, class {c.insulation_class} at {c.class_max:g} °C) "
+            + ("not available (no outside diameter)" if comp is None else f"{comp:.0f} A")
+            + f"; current with {a.duty_state[c.id]} on"
         )
         out.append(
             Verdict(AMPACITY.id, c.id, status, i, amp.value, "A", ceiling(i, amp.value), AMPACITY.clause, note, "cold")
@@ -112,7 +152,8 @@ AMPACITY = Rule(
     "cable.ampacity",
     "Cable current at the cold corner within its ampacity in its zone and bundle",
     "33 CFR 183.425 Table 5 (= ABYC E-11 ampacity table); ambient factor sqrt((Tc-Ta)/(Tc-30)) (derived); "
-    "bundle factors of the USCG Electrical System Compliance Guideline",
+    "bundle factors of the USCG Electrical System Compliance Guideline; the lower of that and a still-air heat "
+    "balance (Churchill-Chu via ht)",
     _ampacity,
 )
 TEMPERATURE_CLASS = Rule(

@@ -36,6 +36,8 @@ from .schema import (
     CoilType,
     CornerSettings,
     Drawing,
+    Duty,
+    DutyStep,
     Element,
     Environment,
     Fuse,
@@ -52,7 +54,7 @@ from .schema import (
 
 _MISSING = object()
 
-TOP_KEYS = {"drawing", "tables", "supply", "environment", "coils", "corners", "limits", "harness", "switching"}
+TOP_KEYS = {"drawing", "tables", "supply", "environment", "coils", "corners", "limits", "harness", "switching", "duty"}
 KEYS = {
     "drawing": {"title", "note", "format"},
     "tables": {"conductors"},
@@ -80,7 +82,16 @@ KEYS = {
         "inductance",
         "insulation_class",
         "hot_temperature",
+        "thermal_resistance",
+        "thermal_resistance_moving",
+        "heat_capacity",
+        "conductor_mass",
+        "iron_mass",
+        "iron_share",
+        "zone",
     },
+    "duty": {"profile", "steps", "state_of_charge", "min_state_of_charge"},
+    "duty_step": {"duration", "stages", "engine", "moving"},
     "corners": {"cold", "hot", "limit"},
     "corners.cold": {"ambient", "bus_voltage"},
     "corners.hot": {"battery_emf", "alternator"},
@@ -105,7 +116,18 @@ SUPPRESSION_KINDS = ["none", "diode", "diode_zener", "diode_resistor", "tvs", "v
 #: Forward voltage of a freewheel diode when the drawing gives none (common practice: 0.7-1 V).
 DEFAULT_FORWARD_VOLTAGE = 0.8
 _COMMON = {"id", "kind", "from", "to", "note"}
-_CABLE = {"size", "length", "insulation", "zone", "bundle", "material", "conductor_table", "sheathed"}
+_CABLE = {
+    "size",
+    "length",
+    "insulation",
+    "zone",
+    "bundle",
+    "material",
+    "conductor_table",
+    "sheathed",
+    "outer_diameter",
+    "wall",
+}
 ELEMENT_KEYS = {
     "cable": _COMMON | _CABLE | {"role"},
     "ground": _COMMON | _CABLE | {"resistance"},
@@ -290,10 +312,12 @@ def _build(r: _Reader, raw: dict) -> Drawing | None:
     elements = _harness(r, raw, env, coils, default_mm2, supply, links)
     corners = _corners(r, raw, supply, env)
     limits = _limits(r, raw)
-    switching = _switching(r, raw, {x.id for x in links if x.kind == "stage"})
+    stage_ids = [x.id for x in links if x.kind == "stage"]
+    switching = _switching(r, raw, set(stage_ids))
+    duty = _duty(r, raw, stage_ids, switching)
     if supply is not None and elements is not None:
         _topology(r, supply, links, elements)
-    if r.problems or None in (supply, env, coils, elements, corners, limits, switching):
+    if r.problems or None in (supply, env, coils, elements, corners, limits, switching, duty):
         return None
     return Drawing(
         title=title or "",
@@ -306,6 +330,7 @@ def _build(r: _Reader, raw: dict) -> Drawing | None:
         corners=corners,
         limits=limits,
         switching=switching,
+        duty=duty,
         assumptions=tuple(r.assumptions),
     )
 
@@ -491,7 +516,8 @@ def _coils(r: _Reader, raw: dict, env: Environment | None) -> dict[str, CoilType
                 r.assume(
                     f"{where}.hot_temperature not given: the hot corner runs the winding at {hot:g} °C ({hot_src})"
                 )
-        if None in (metal, ins, inductance, turns, r_ref, t_ref, hot):
+        thermal = _coil_thermal(r, body, where, metal, env)
+        if None in (metal, ins, inductance, turns, r_ref, t_ref, hot) or thermal is None:
             continue
         out[name] = CoilType(
             name,
@@ -506,9 +532,52 @@ def _coils(r: _Reader, raw: dict, env: Environment | None) -> dict[str, CoilType
             hot,
             hot_src,
             rsource,
+            **thermal,
         )
     if not c:
         r.problem("coils", _MISSING, "at least one [coils.NAME] table")
+    return out
+
+
+def _coil_thermal(r: _Reader, body: dict, where: str, metal: str | None, env: Environment | None) -> dict | None:
+    """The winding's lumped thermal model (all optional): thermal resistance to its surroundings,
+    standing and moving, and its heat capacity (given, or conductor mass x c + a share of the iron)."""
+    out: dict = {}
+    rth = r.quantity(body, "thermal_resistance", where, "thermal_resistance", default=None, positive=True)
+    rthm = r.quantity(body, "thermal_resistance_moving", where, "thermal_resistance", default=None, positive=True)
+    cap = r.quantity(body, "heat_capacity", where, "heat_capacity", default=None, positive=True)
+    mc = r.quantity(body, "conductor_mass", where, "mass", default=None, positive=True)
+    mi = r.quantity(body, "iron_mass", where, "mass", default=0.0, nonnegative=True)
+    share = r.value(body, "iron_share", where, parse_dimensionless, default=None)
+    src = ""
+    if cap is not None:
+        src = "heat capacity given in the drawing"
+        if "conductor_mass" in body:
+            r.problem(f"{where}.conductor_mass", body["conductor_mass"], "either heat_capacity or the masses, not both")
+    elif mc is not None and metal is not None and mi is not None:
+        c_metal = float(tables.material(metal)["specific_heat"])
+        c_iron = float(tables.shipped("materials.toml")["table"]["iron_specific_heat"])
+        if share is None:
+            share = 0.5 if mi else 0.0
+            if mi:
+                r.assume(f"{where}.iron_share not given: half the iron's heat capacity counts (common practice)")
+        cap = mc * c_metal + share * mi * c_iron
+        src = f"{mc:g} kg {metal} x {c_metal:g} J/(kg K) + {share:.0%} of {mi:g} kg iron x {c_iron:g} J/(kg K)"
+    if rthm is not None and rth is None:
+        r.problem(f"{where}.thermal_resistance_moving", body["thermal_resistance_moving"], "thermal_resistance too")
+    zone_name, zt = "ambient", env.ambient_max if env else 40.0
+    if "zone" in body and env is not None:
+        zone_name, zt = _zone(r, body, where, env)
+        if zone_name is None:
+            return None
+    out.update(
+        thermal_resistance=rth,
+        thermal_resistance_moving=rthm,
+        heat_capacity=cap,
+        heat_capacity_source=src,
+        zone=zone_name,
+        zone_temperature=zt,
+    )
     return out
 
 
@@ -561,6 +630,42 @@ def _conductor(r: _Reader, e: dict, where: str, size, default_mm2: str):
     return row.area, row.r20_per_m, f"{table.standard} [{row.status}]", table.material
 
 
+def _cable_diameters(r: _Reader, e: dict, where: str, size, ins: str | None) -> dict:
+    """Conductor and outside diameter for the heat balance: the drawing's outer_diameter, or the
+    shipped ISO 6722 dimensions (from memory) by size and wall."""
+    wall = e.get("wall", None)
+    if wall is not None and wall not in ("thin", "thick"):
+        r.problem(f"{where}.wall", wall, '"thin" or "thick"')
+        wall = None
+    od = r.quantity(e, "outer_diameter", where, "length", default=None, positive=True)
+    if size is None:
+        return {}
+    row = tables.cable_dimensions().get(float(size.nominal)) if size.system == "mm2" else None
+    if size.system == "awg":
+        d = awg_area(int(size.nominal)) ** 0.5 * (4 / math.pi) ** 0.5 * 1.10  # stranded: ~10 % over solid (CP)
+    elif row is not None:
+        d = row["conductor"] * 1e-3
+    else:
+        d = math.sqrt(4 * size.nominal * 1e-6 / math.pi) * 1.10
+    if od is not None:
+        if od <= d:
+            r.problem(f"{where}.outer_diameter", e["outer_diameter"], f"more than the conductor's {d * 1e3:.2f} mm")
+            return {}
+        return {"conductor_diameter": d, "outer_diameter": od, "diameter_source": "outer diameter given in the drawing"}
+    if row is None:
+        return {
+            "conductor_diameter": d,
+            "outer_diameter": None,
+            "diameter_source": "no outer diameter known for this size",
+        }
+    w = wall or "thin"
+    return {
+        "conductor_diameter": d,
+        "outer_diameter": row[w] * 1e-3,
+        "diameter_source": f"ISO 6722 {w}-wall dimensions ({row['status']})",
+    }
+
+
 def _cable_fields(r: _Reader, e: dict, where: str, env, default_mm2: str) -> dict | None:
     size = r.value(e, "size", where, parse_cable_size, expected="a conductor size")
     length = r.quantity(e, "length", where, "length", positive=True)
@@ -576,6 +681,7 @@ def _cable_fields(r: _Reader, e: dict, where: str, env, default_mm2: str) -> dic
     if None in (size, length, ins, zone, zt, bundle, cond):
         return None
     area, r20, src, metal = cond
+    dia = _cable_diameters(r, e, where, size, ins)
     return dict(
         size_label=size.label,
         area=area,
@@ -591,6 +697,7 @@ def _cable_fields(r: _Reader, e: dict, where: str, env, default_mm2: str) -> dic
         zone_temperature=zt,
         bundle=bundle,
         sheathed=bool(sheathed),
+        **dia,
     )
 
 
@@ -932,6 +1039,92 @@ def _switching(r: _Reader, raw: dict, stage_ids: set[str]) -> Switching | None:
         r.problem("switching.release_fraction", sw.get("release_fraction"), "a fraction between 0 and 1")
         return None
     return Switching(tuple(positions), duration, off, rel, frac, cycles)
+
+
+def _step_stages(spec: Any, stage_ids: list[str], switching: Switching | None) -> tuple[str, ...]:
+    """A duty step's stages: "all", "none", a switching position's name, or a list of stage ids."""
+    if spec == "all":
+        return tuple(stage_ids)
+    if spec in ("none", "off"):
+        return ()
+    if isinstance(spec, str) and switching is not None:
+        for p in switching.positions:
+            if p.name == spec:
+                return p.stages
+    if isinstance(spec, list) and all(isinstance(x, str) and x in stage_ids for x in spec):
+        return tuple(spec)
+    names = [p.name for p in switching.positions] if switching else []
+    raise ValueError(
+        '"all", "none", a switching position (' + ", ".join(names or ["none defined"]) + ") or a list of stage ids"
+    )
+
+
+def _duty(r: _Reader, raw: dict, stage_ids: list[str], switching: Switching | None) -> Duty | None:
+    """The duty profile: the drawing's own steps, or a shipped profile (default: endurance)."""
+    du = r.table(raw, "duty", "duty", required=False) or {}
+    r.unknown(du, KEYS["duty"], "duty")
+    soc = r.value(du, "state_of_charge", "duty", parse_dimensionless, default=None)
+    if soc is None and "state_of_charge" not in du:
+        soc = 1.0
+        r.assume("duty.state_of_charge not given: the battery starts the duty fully charged")
+    min_soc = r.value(du, "min_state_of_charge", "duty", parse_dimensionless, default=None)
+    if min_soc is None and "min_state_of_charge" not in du:
+        min_soc = 0.5
+        r.assume(
+            "duty.min_state_of_charge not given: 50 % (common practice: a lead-acid battery kept above half "
+            "charge can still start the engine)"
+        )
+    profiles = tables.duty_profiles()
+    steps: list[DutyStep] = []
+    if "steps" in du and "profile" in du:
+        r.problem("duty.profile", du["profile"], "either a shipped profile or steps, not both")
+        return None
+    if "steps" in du:
+        name, desc = "drawing", "duty profile given in the drawing"
+        raw_steps = du["steps"]
+        if not isinstance(raw_steps, list) or not raw_steps:
+            r.problem("duty.steps", raw_steps, "a list of [[duty.steps]] tables")
+            return None
+        for k, st in enumerate(raw_steps):
+            w = f"duty.steps[{k}]"
+            if not isinstance(st, dict):
+                r.problem(w, st, "a table with duration, stages, engine")
+                continue
+            r.unknown(st, KEYS["duty_step"], w)
+            dur = r.quantity(st, "duration", w, "time", positive=True)
+            stg = r.value(st, "stages", w, lambda x: _step_stages(x, stage_ids, switching))
+            eng = r.text(st, "engine", w, default="driving", choices=["idle", "driving"])
+            mov = st.get("moving", True)
+            if not isinstance(mov, bool):
+                r.problem(f"{w}.moving", mov, "true or false")
+                continue
+            if None not in (dur, stg, eng):
+                steps.append(DutyStep(dur, stg, eng, mov, f"step {k + 1}"))
+    else:
+        name = du.get("profile", "endurance")
+        if "profile" not in du:
+            r.assume("duty.profile not given: the shipped endurance descent (about 12 min of full retardation)")
+        if name not in profiles:
+            r.problem("duty.profile", name, f"one of the shipped profiles {', '.join(profiles)} (or [[duty.steps]])")
+            return None
+        row = profiles[name]
+        desc = f"{row['description']} ({row['status']})"
+        for k, (dur, stg, eng, mov) in enumerate(row["steps"]):
+            steps.append(
+                DutyStep(
+                    parse_quantity(dur, "time"), _step_stages(stg, stage_ids, switching), eng, mov, f"step {k + 1}"
+                )
+            )
+    if soc is None or min_soc is None:
+        return None
+    if not 0 <= min_soc < soc <= 1:
+        r.problem(
+            "duty.state_of_charge",
+            du.get("state_of_charge", soc),
+            "0 <= min_state_of_charge < state_of_charge <= 100 %",
+        )
+        return None
+    return Duty(name, desc, tuple(steps), soc, min_soc)
 
 
 def _corners(r: _Reader, raw: dict, supply: Supply | None, env: Environment | None) -> CornerSettings | None:

@@ -60,9 +60,24 @@ class CoilType:
     turns: int
     insulation_class: int  # IEC 60085 class [°C]
     class_allowance: float  # hot-spot allowance [K]
-    hot_temperature: float  # winding temperature for the hot corner [°C]
+    hot_temperature: float  # winding temperature for the hot corner [°C] (a stated or default one)
     hot_temperature_source: str
     resistance_source: str
+    thermal_resistance: float | None = None  # winding to its surroundings, standing [K/W]
+    thermal_resistance_moving: float | None = None  # the same with the vehicle moving [K/W]
+    heat_capacity: float | None = None  # [J/K]
+    heat_capacity_source: str = ""
+    zone: str = "ambient"
+    zone_temperature: float = 40.0  # surroundings of the winding [°C]
+
+    @property
+    def limit_temperature(self) -> float:
+        """Highest average winding temperature: the class less its hot-spot allowance [°C]."""
+        return self.insulation_class - self.class_allowance
+
+    @property
+    def has_thermal_model(self) -> bool:
+        return self.thermal_resistance is not None and self.heat_capacity is not None
 
 
 @dataclass(frozen=True)
@@ -117,6 +132,28 @@ class Switching:
 
 
 @dataclass(frozen=True)
+class DutyStep:
+    duration: float  # [s]
+    stages: tuple[str, ...]  # energised during the step
+    engine: str  # "idle" | "driving"
+    moving: bool
+    label: str
+
+
+@dataclass(frozen=True)
+class Duty:
+    name: str  # the shipped profile's name, or "drawing"
+    description: str
+    steps: tuple[DutyStep, ...]
+    start_soc: float  # battery state of charge at the start, fraction
+    min_soc: float  # lowest acceptable state of charge, fraction
+
+    @property
+    def duration(self) -> float:
+        return sum(s.duration for s in self.steps)
+
+
+@dataclass(frozen=True)
 class Element:
     """Anything in the harness between two named nodes; current is counted from ``a`` to ``b``
     (``from`` is the supply side)."""
@@ -145,6 +182,9 @@ class Cable(Element):
     bundle: int
     role: str  # "feed" or "return"
     sheathed: bool
+    conductor_diameter: float | None = None  # [m], for the heat balance
+    outer_diameter: float | None = None  # [m]
+    diameter_source: str = ""
 
 
 @dataclass(frozen=True)
@@ -240,6 +280,7 @@ class Drawing:
     corners: CornerSettings
     limits: Limits
     switching: Switching = Switching((), 3.0, 1.5, None, 0.05, 100_000)
+    duty: Duty | None = None
     assumptions: tuple[str, ...] = field(default_factory=tuple)
 
     def of_kind(self, cls: type) -> list:

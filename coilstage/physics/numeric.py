@@ -45,3 +45,75 @@ def bracketed_root(f: Callable[[float], float], a: float, b: float, xtol: float 
                 fb *= 0.5
             side = 1
     return c if math.isfinite(c) else 0.5 * (a + b)
+
+
+# Dormand–Prince 5(4) coefficients (Dormand & Prince 1980; Hairer, Nørsett & Wanner, Solving ODEs I,
+# Table 5.2).
+_C = (0.0, 1 / 5, 3 / 10, 4 / 5, 8 / 9, 1.0, 1.0)
+_A = (
+    (),
+    (1 / 5,),
+    (3 / 40, 9 / 40),
+    (44 / 45, -56 / 15, 32 / 9),
+    (19372 / 6561, -25360 / 2187, 64448 / 6561, -212 / 729),
+    (9017 / 3168, -355 / 33, 46732 / 5247, 49 / 176, -5103 / 18656),
+    (35 / 384, 0.0, 500 / 1113, 125 / 192, -2187 / 6784, 11 / 84),
+)
+_B = (35 / 384, 0.0, 500 / 1113, 125 / 192, -2187 / 6784, 11 / 84, 0.0)
+_E = (71 / 57600, 0.0, -71 / 16695, 71 / 1920, -17253 / 339200, 22 / 525, -1 / 40)  # b - b*
+
+
+def integrate_dopri(
+    f,
+    t0: float,
+    t1: float,
+    y0,
+    rtol: float = 1e-6,
+    atol: float = 1e-6,
+    h0: float | None = None,
+    max_step: float = float("inf"),
+):
+    """Integrate y' = f(t, y) from t0 to t1 with the adaptive Dormand–Prince 5(4) pair.
+
+    Returns the accepted points ``(ts, ys)`` (lists; ys[k] a numpy array), t1 included. Error control
+    as in Hairer, Nørsett & Wanner II.4 (mixed absolute/relative norm, safety 0.9, step ratio 0.2-5).
+    Used for the thermal system of a duty: smooth, mildly stiff at most, and it keeps scipy.integrate
+    (about 0.8 s to import) off the path of a plain ``coilstage check``.
+    """
+    import numpy as np
+
+    t = float(t0)
+    y = np.asarray(y0, dtype=float).copy()
+    ts, ys = [t], [y.copy()]
+    if t1 <= t0:
+        return ts, ys
+    k1 = np.asarray(f(t, y), dtype=float)
+    if h0 is None:
+        scale = atol + rtol * np.abs(y)
+        d0 = np.sqrt(np.mean((y / scale) ** 2))
+        d1 = np.sqrt(np.mean((k1 / scale) ** 2))
+        h0 = 0.01 * d0 / d1 if d0 > 1e-5 and d1 > 1e-5 else 1e-3
+    h = min(h0, t1 - t0, max_step)
+    for _ in range(100000):
+        if t >= t1:
+            break
+        h = min(h, t1 - t, max_step)
+        k = [k1]
+        for i in range(1, 7):
+            yi = y + h * sum(a * kk for a, kk in zip(_A[i], k, strict=False))
+            k.append(np.asarray(f(t + _C[i] * h, yi), dtype=float))
+        y_new = y + h * sum(b * kk for b, kk in zip(_B, k, strict=True))
+        err = h * sum(e * kk for e, kk in zip(_E, k, strict=True))
+        scale = atol + rtol * np.maximum(np.abs(y), np.abs(y_new))
+        en = float(np.sqrt(np.mean((err / scale) ** 2))) if len(y) else 0.0
+        if en <= 1.0:
+            t = t + h if t + h < t1 - 1e-12 * max(1.0, abs(t1)) else t1
+            y = y_new
+            k1 = k[6]  # first-same-as-last
+            ts.append(t)
+            ys.append(y.copy())
+        fac = 0.9 * en ** (-0.2) if en > 0 else 5.0
+        h = h * min(5.0, max(0.2, fac))
+    else:
+        raise RuntimeError("integrate_dopri: too many steps")
+    return ts, ys

@@ -59,3 +59,28 @@ def conductor_steady_temperature(
     if den <= 0:
         return math.inf
     return (i2r * (1 - 20.0 * alpha20) + g_loss * theta_zone) / den
+
+
+def winding_steady_temperature(
+    voltage: float, r_ref: float, t_ref: float, alpha20: float, r_th: float, t_surroundings: float
+) -> float:
+    r"""Steady temperature of a winding on a constant ``voltage`` [°C]: the root of its heat balance.
+
+    With x = θ − θa, the balance V²/R(θ) = x/R_th and R(θ) = R20[1 + α(θ − 20)] give
+    αx² + bx − k = 0, b = 1 + α(θa − 20), k = V²R_th/R20, so
+
+    .. math:: x = \frac{-b + \sqrt{b^2 + 4αk}}{2α}
+
+    (shared physics notes §4.3, derived; the self-limiting effect: P falls as θ rises).
+
+    Parameters: voltage [V], r_ref [Ω] at t_ref [°C], alpha20 [K⁻¹], r_th to the surroundings
+    [K/W], t_surroundings [°C].
+
+    >>> round(winding_steady_temperature(28.0, 0.60, 20.0, 0.00393, 0.10, 20.0), 2)
+    115.11
+    """
+    r20 = r_ref / (1 + alpha20 * (t_ref - 20.0))
+    b = 1 + alpha20 * (t_surroundings - 20.0)
+    k = voltage * voltage * r_th / r20
+    x = (-b + math.sqrt(b * b + 4 * alpha20 * k)) / (2 * alpha20)
+    return t_surroundings + x

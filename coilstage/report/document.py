@@ -23,7 +23,7 @@ def q(value: float | None, unit: str) -> dict[str, Any] | None:
 def cautions(a: Analysis) -> list[dict[str, str]]:
     """The usual cautions, with this drawing's own figures in them."""
     d = a.drawing
-    hot = max((s.coil.hot_temperature for s in d.stages), default=0.0)
+    hot = max((s.temperature for s in a.corners["hot"].stages), default=0.0)
     energy = max((s.stored_energy for s in a.corners["cold"].stages), default=0.0)
     return [
         {
@@ -121,6 +121,73 @@ def switching(a: Analysis) -> dict[str, Any]:
     return out
 
 
+def heating(a: Analysis) -> dict[str, Any]:
+    import numpy as np
+
+    from coilstage import tables
+    from coilstage.checks.cables import computed_ampacity
+    from coilstage.drawing.schema import Cable
+
+    d = a.drawing
+    r, cont = a.descent, a.continuous
+    hot = {s.id: s.temperature for s in a.corners["hot"].stages}
+    stages = []
+    for k, s in enumerate(d.stages):
+        modelled = r is not None and s.id in r.modelled_stages
+        ttl = cont.time_to(k, s.coil.limit_temperature) if (cont is not None and modelled) else None
+        stages.append(
+            {
+                "id": s.id,
+                "modelled": modelled,
+                "hot_corner_temperature": q(hot[s.id], "degC"),
+                "peak_temperature": q(float(np.max(r.stage_temperature[:, k])), "degC") if modelled else None,
+                "end_temperature": q(float(r.stage_temperature[-1, k]), "degC") if modelled else None,
+                "limit": q(s.coil.limit_temperature, "degC"),
+                "time_to_limit": qf(ttl, "s"),
+                "end_current": q(float(r.stage_current[-1, k]), "A") if r is not None else None,
+                "end_ampere_turns": q(float(r.stage_current[-1, k]) * s.coil_current_factor * s.coil.turns, "A")
+                if r is not None
+                else None,
+            }
+        )
+    cables = []
+    for c in d.of_kind(Cable):
+        amp = (
+            tables.ampacity(c.awg, c.area, c.class_max, c.zone_temperature, c.bundle) if c.material == "copper" else ""
+        )
+        k = r.cable_ids.index(c.id) if r is not None else None
+        cables.append(
+            {
+                "id": c.id,
+                "table_ampacity": None if isinstance(amp, str) else q(amp.value, "A"),
+                "computed_ampacity": qf(computed_ampacity(c), "A") if computed_ampacity(c) is not None else None,
+                "peak_temperature": q(float(np.max(r.cable_temperature[:, k])), "degC") if k is not None else None,
+                "class_temperature": q(c.class_max, "degC"),
+            }
+        )
+    b = d.supply.battery
+    drawn = float(r.charge_drawn[-1]) / 3600 if r is not None else None
+    cap = b.capacity / 3600 if b.capacity else None
+    end_soc = d.duty.start_soc - drawn / cap if (drawn is not None and cap and d.duty) else None
+    return {
+        "duty": None
+        if r is None
+        else {
+            "name": d.duty.name,
+            "description": d.duty.description,
+            "duration": q(d.duty.duration, "s"),
+            "steps": len(d.duty.steps),
+        },
+        "stages": stages,
+        "cables": cables,
+        "battery": {
+            "charge_drawn": qf(drawn, "A*h"),
+            "end_state_of_charge": qf(end_soc, "1"),
+            "capacity": qf(cap, "A*h"),
+        },
+    }
+
+
 def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
     """The whole report as plain data."""
     d = a.drawing
@@ -187,6 +254,7 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
             for v in verdicts
         ],
         "switching": switching(a),
+        "heating": heating(a),
         "summary": summary(verdicts),
         "assumptions": list(d.assumptions),
         "cautions": cautions(a),

@@ -65,6 +65,38 @@ def render(doc: dict[str, Any]) -> str:
             *(f"- bus dip, {s['corner']} corner, {s['name']}: {qv(s['bus_dip'], 2)}" for s in sw["scenarios"]),
             "",
         ]
+    he = doc["heating"]
+    if he["duty"] is not None:
+        du = he["duty"]
+        out += [
+            f"## Heating — {du['name']} duty, {qv(du['duration'])}",
+            "",
+            f"_{_esc(du['description'])}_",
+            "",
+            "| stage | hot corner | peak | end | limit | time to limit | end current | end N·I |",
+            "|---|---:|---:|---:|---:|---:|---:|---:|",
+        ]
+        for x in he["stages"]:
+            ttl = x["time_to_limit"]
+            out.append(
+                f"| {x['id']} | {qv(x['hot_corner_temperature'], 0)} | {qv(x['peak_temperature'], 0)} | "
+                f"{qv(x['end_temperature'], 0)} | {qv(x['limit'], 0)} | "
+                f"{('never' if x['modelled'] else '—') if ttl is None else qv(ttl)} | {qv(x['end_current'], 1)} | "
+                f"{'—' if x['end_ampere_turns'] is None else round(x['end_ampere_turns']['value'])} |"
+            )
+        out += ["", "| cable | table ampacity | heat-balance ampacity | peak | class |", "|---|---:|---:|---:|---:|"]
+        for x in he["cables"]:
+            out.append(
+                f"| {x['id']} | {qv(x['table_ampacity'], 0)} | {qv(x['computed_ampacity'], 0)} | "
+                f"{qv(x['peak_temperature'], 0)} | {qv(x['class_temperature'], 0)} |"
+            )
+        bt = he["battery"]
+        out += [
+            "",
+            f"- battery: {qv(bt['charge_drawn'], 1)} drawn; capacity {qv(bt['capacity'], 0)}; end state of "
+            f"charge {qv(bt['end_state_of_charge'])}",
+            "",
+        ]
     out += [
         "## Verdicts",
         "",

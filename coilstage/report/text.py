@@ -120,6 +120,53 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             console.print("  the drawing gives no switching sequence ([[switching.positions]])", style="dim")
         console.print()
 
+    he = doc["heating"]
+    if he["duty"] is not None:
+        du = he["duty"]
+        t = Table(
+            title=f"HEATING — {du['name']} duty, {du['duration']['value'] / 60:.0f} min in {du['steps']} steps",
+            box=box.SIMPLE_HEAD,
+            title_justify="left",
+        )
+        t.caption = du["description"]
+        t.caption_justify = "left"
+        t.add_column("stage")
+        for col in ("hot corner °C", "peak °C", "end °C", "limit °C", "to limit min", "end A", "end N·I"):
+            t.add_column(col, justify="right")
+        for x in he["stages"]:
+            ttl = x["time_to_limit"]
+            t.add_row(
+                x["id"],
+                _num(x["hot_corner_temperature"], places=0),
+                _num(x["peak_temperature"], places=0),
+                _num(x["end_temperature"], places=0),
+                _num(x["limit"], places=0),
+                ("never" if x["modelled"] else "—") if ttl is None else f"{ttl['value'] / 60:.1f}",
+                _num(x["end_current"]),
+                _num(x["end_ampere_turns"], places=0),
+            )
+        console.print(t)
+        c = Table(box=box.SIMPLE_HEAD)
+        c.add_column("cable")
+        for col in ("table A", "heat balance A", "peak °C", "class °C"):
+            c.add_column(col, justify="right")
+        for x in he["cables"]:
+            c.add_row(
+                x["id"],
+                _num(x["table_ampacity"], places=0),
+                _num(x["computed_ampacity"], places=0),
+                _num(x["peak_temperature"], places=0),
+                _num(x["class_temperature"], places=0),
+            )
+        console.print(c)
+        bt = he["battery"]
+        soc = bt["end_state_of_charge"]
+        console.print(
+            f"  battery: {_num(bt['charge_drawn'])} A·h drawn over the duty"
+            + (f" of {_num(bt['capacity'], places=0)} A·h, ending at {soc['value']:.0%} charge" if soc else "")
+            + "\n"
+        )
+
     v = Table(title="Verdicts", box=box.SIMPLE_HEAD, title_justify="left")
     for col in ("status", "rule", "subject", "value", "limit", "margin"):
         v.add_column(col, justify="right" if col in ("value", "limit", "margin") else "left")

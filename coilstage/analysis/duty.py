@@ -1,0 +1,407 @@
+"""Heat over a duty: winding and cable temperatures, stage currents, bus and battery over a descent.
+
+The electrical network settles within about a second of each switching event; the windings and
+cables heat over minutes. So the electrical part is solved as a DC network at every evaluation of
+the thermal equations (quasi-static) and the thermal equations are integrated with an adaptive
+Dormand–Prince pair between the steps of the duty. Leaving the switch-on transients out overstates
+the heat a little (the current is below its final value for ≈3τ): the safe side.
+
+States: one temperature per stage (its coils are alike and share their current), one per cable
+(its conductor), and the charge drawn from the battery.
+"""
+
+from __future__ import annotations
+
+import math
+import weakref
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+import numpy as np
+
+from coilstage import tables
+from coilstage.analysis.circuit import Circuit
+from coilstage.drawing.schema import Cable, Drawing, Duty, Fuse, Relay, Resistor, Stage
+from coilstage.physics.numeric import integrate_dopri
+from coilstage.physics.thermal import cable_loss_coefficient
+
+
+class QuasiStatic:
+    """The drawing's network for fast repeated DC solves at changing cable and coil temperatures.
+
+    The fixed part of the MNA matrix is assembled once; each solve adds the temperature-dependent
+    conductances of cables and energised stages, and solves a dense system.
+    """
+
+    def __init__(self, d: Drawing, battery_emf: float, alt_setpoint: float | None):
+        self.d = d
+        c = Circuit(d)
+        self.nodes = c.nodes
+        n = len(c.nodes) - 1
+        self.stages = d.stages
+        self.cables = d.of_kind(Cable)
+        self.stage_ix = {s.id: k for k, s in enumerate(self.stages)}
+        zero = [e for e in d.elements if isinstance(e, (Fuse, Relay, Resistor)) and e.resistance == 0]
+        self.m = len(zero)
+        self.size = n + self.m
+        a0 = np.zeros((self.size, self.size))
+        rhs0 = np.zeros(self.size)
+
+        def stamp(mat, i, j, g):
+            for (p, q), s in (((i, i), g), ((j, j), g), ((i, j), -g), ((j, i), -g)):
+                if p > 0 and q > 0:
+                    mat[p - 1, q - 1] += s
+
+        nd = c.nodes
+        self.fixed_current: list[tuple[str, int, int, float]] = []
+        for e in d.elements:
+            if isinstance(e, (Fuse, Relay, Resistor)) and e.resistance > 0:
+                stamp(a0, nd[e.a], nd[e.b], 1.0 / e.resistance)
+                self.fixed_current.append((e.id, nd[e.a], nd[e.b], 1.0 / e.resistance))
+        self.zero_ids = [e.id for e in zero]
+        for k, e in enumerate(zero):
+            row = n + k
+            for node, sgn in ((nd[e.a], 1.0), (nd[e.b], -1.0)):
+                if node > 0:
+                    a0[node - 1, row] += sgn
+                    a0[row, node - 1] -= sgn
+        s = d.supply
+        self.bat = nd[s.battery.node]
+        self.rb = s.battery.internal_resistance
+        self.emf = battery_emf
+        stamp(a0, 0, self.bat, 1.0 / self.rb)
+        rhs0[self.bat - 1] += battery_emf / self.rb
+        if s.base_load > 0 and nd[s.base_load_node] > 0:
+            rhs0[nd[s.base_load_node] - 1] -= s.base_load
+        self.a0, self.rhs0 = a0, rhs0
+        self.alt = s.alternator
+        self.alt_node = nd[s.alternator.node] if s.alternator else 0
+        self.alt_set = alt_setpoint
+        # variable elements: cables then stages
+        self.var_a = np.array([nd[e.a] for e in [*self.cables, *self.stages]], dtype=int)
+        self.var_b = np.array([nd[e.b] for e in [*self.cables, *self.stages]], dtype=int)
+        self.cable_r20 = np.array([e.r20_per_m * e.length for e in self.cables])
+        self.cable_alpha = np.array([e.alpha20 for e in self.cables])
+        st_r20 = []
+        for e in self.stages:
+            co = e.coil
+            st_r20.append(co.r_ref / (1 + co.alpha20 * (co.t_ref - 20.0)) * e.r_factor)
+        self.stage_r20 = np.array(st_r20)
+        self.stage_alpha = np.array([e.coil.alpha20 for e in self.stages])
+        # flat scatter indices for the 4 stamps of each variable conductance
+        ia, ib = self.var_a - 1, self.var_b - 1
+        rows = np.concatenate([ia, ib, ia, ib])
+        cols = np.concatenate([ia, ib, ib, ia])
+        self.sign = np.concatenate([np.ones(len(ia)), np.ones(len(ia)), -np.ones(len(ia)), -np.ones(len(ia))])
+        self.keep = (rows >= 0) & (cols >= 0)
+        self.flat = (rows * self.size + cols)[self.keep]
+        self.which = np.tile(np.arange(len(ia)), 4)[self.keep]
+        self.mode = "regulating"
+
+    def resistances(self, t_cables: np.ndarray, t_stages: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        rc = self.cable_r20 * (1 + self.cable_alpha * (t_cables - 20.0))
+        rs = self.stage_r20 * (1 + self.stage_alpha * (t_stages - 20.0))
+        return rc, rs
+
+    def solve(self, t_cables: np.ndarray, t_stages: np.ndarray, on: np.ndarray, alt_limit: float | None):
+        """(cable currents, stage currents, battery current, alternator current, node vector)."""
+        rc, rs = self.resistances(t_cables, t_stages)
+        g = np.concatenate([1.0 / rc, np.where(on, 1.0 / rs, 0.0)])
+        a = self.a0 + np.bincount(
+            self.flat, weights=(self.sign[self.keep] * g[self.which]), minlength=self.size * self.size
+        ).reshape(self.size, self.size)
+        rhs = self.rhs0.copy()
+        i_alt = 0.0
+        x = None
+        if self.alt is not None and alt_limit:
+            node = self.alt_node - 1
+            for _ in range(3):
+                if self.mode == "regulating":
+                    a2 = a.copy()
+                    a2[node, node] += 1.0 / self.alt.source_resistance
+                    r2 = rhs.copy()
+                    r2[node] += self.alt_set / self.alt.source_resistance
+                    x = np.linalg.solve(a2, r2)
+                    i_alt = (self.alt_set - x[node]) / self.alt.source_resistance
+                    if i_alt > alt_limit:
+                        self.mode = "current-limited"
+                        continue
+                    if i_alt < 0:
+                        self.mode = "off"
+                        continue
+                    break
+                r2 = rhs.copy()
+                if self.mode == "current-limited":
+                    r2[node] += alt_limit
+                x = np.linalg.solve(a, r2)
+                law = (self.alt_set - x[node]) / self.alt.source_resistance
+                i_alt = alt_limit if self.mode == "current-limited" else 0.0
+                if (self.mode == "current-limited" and law < alt_limit) or (self.mode == "off" and law > 0):
+                    self.mode = "regulating"
+                    continue
+                break
+        else:
+            x = np.linalg.solve(a, rhs)
+        v = np.concatenate(([0.0], x[: self.size - self.m]))
+        dv = v[self.var_a] - v[self.var_b]
+        i_var = dv * g
+        n_c = len(self.cables)
+        i_bat = (self.emf - v[self.bat]) / self.rb
+        return i_var[:n_c], i_var[n_c:], i_bat, i_alt, x
+
+    def device_currents(self, x: np.ndarray) -> dict[str, float]:
+        v = np.concatenate(([0.0], x[: self.size - self.m]))
+        out = {eid: (v[a] - v[b]) * g for eid, a, b, g in self.fixed_current}
+        for k, eid in enumerate(self.zero_ids):
+            out[eid] = float(x[self.size - self.m + k])
+        return out
+
+
+@dataclass(frozen=True)
+class CableThermal:
+    """What a cable sheds per metre as a function of its conductor temperature: from the still-air
+    heat balance (``ht`` correlations) where its outside diameter is known, else from the linear model
+    its table ampacity implies. ``q_shed(θ)`` is interpolated on a grid."""
+
+    id: str
+    c_per_m: float  # heat capacity of the conductor per metre [J/(m·K)]
+    grid: np.ndarray  # conductor temperatures [°C]
+    shed: np.ndarray  # [W/m]
+    source: str
+
+    def q_shed(self, theta: np.ndarray | float):
+        return np.interp(theta, self.grid, self.shed, right=None)
+
+
+#: Conductor rise over its zone at which the heat it sheds is tabulated [K] (denser near the zone).
+RISE_GRID = np.concatenate([np.linspace(0.0, 100.0, 11), np.linspace(120.0, 600.0, 13)])
+
+
+@lru_cache(maxsize=256)
+def _shed_table(conductor_d: float, outer_d: float, k_ins: float, eps: float, t_zone: float) -> tuple[float, ...]:
+    from coilstage.physics.cable_heat import heat_shed
+
+    return tuple(heat_shed(t_zone + x, conductor_d, outer_d, k_ins, eps, t_zone) for x in RISE_GRID)
+
+
+def cable_thermal(c: Cable) -> CableThermal | None:
+    from coilstage.physics.fault import QC_ALUMINIUM, QC_COPPER
+
+    qc = QC_ALUMINIUM if c.material == "aluminium" else QC_COPPER
+    grid = c.zone_temperature + RISE_GRID
+    fb = tables.bundle_factor(c.bundle)
+    if c.outer_diameter is not None and c.conductor_diameter is not None:
+        k_ins, mat = tables.cable_insulation(c.insulation_class)
+        eps = tables.cable_emissivity()
+        shed = np.array(_shed_table(c.conductor_diameter, c.outer_diameter, k_ins, eps, c.zone_temperature)) * fb * fb
+        src = (
+            f"still-air heat balance ({mat}, k = {k_ins:g} W/(m K); {c.diameter_source}); bundle factor "
+            f"{fb:.2f} squared"
+        )
+    else:
+        amp = tables.ampacity(c.awg, c.area, c.class_max, c.zone_temperature, c.bundle)
+        if isinstance(amp, str) or amp.value <= 0:
+            return None
+        g = cable_loss_coefficient(amp.value, c.r20_per_m, c.alpha20, float(amp.column), c.zone_temperature)
+        shed = g * (grid - c.zone_temperature)
+        src = "linear loss implied by the table ampacity (no outside diameter known)"
+    return CableThermal(c.id, qc * c.area, grid, shed, src)
+
+
+# ---------------------------------------------------------------- steady winding temperature
+
+_STEADY_CACHE: dict[int, tuple[weakref.ref, dict[str, float]]] = {}
+
+
+def hot_winding_temperatures(d: Drawing) -> dict[str, float]:
+    """Stage id -> winding temperature for the hot corner [°C]: the thermal steady state of continuous
+    full retardation in the hot corner's conditions (all stages on, battery at its stated EMF,
+    alternator at its hot-corner output, cables at their zone temperatures), coupled through the
+    network, for every coil with a thermal model; the stated or default temperature otherwise."""
+    key = id(d)
+    hit = _STEADY_CACHE.get(key)
+    if hit is not None and hit[0]() is d:
+        return hit[1]
+    out = {s.id: s.coil.hot_temperature for s in d.stages}
+    modelled = [s for s in d.stages if s.coil.has_thermal_model]
+    if modelled:
+        alt = d.supply.alternator
+        limit = {"idle": alt.limit_idle if alt else None, "rated": alt.limit_rated if alt else None, "off": None}[
+            d.corners.hot_alternator
+        ]
+        net = QuasiStatic(d, d.corners.hot_battery_emf, alt.setpoint if alt else None)
+        t_cab = np.array([c.zone_temperature for c in net.cables])
+        t_st = np.array([s.coil.zone_temperature for s in net.stages])
+        on = np.ones(len(net.stages), dtype=bool)
+        rth = np.array([_rth(s, True) for s in net.stages])
+        mask = np.array([s.coil.has_thermal_model for s in net.stages])
+        for _ in range(200):
+            _ic, i_s, *_ = net.solve(t_cab, t_st, on, limit)
+            _rc, r_s = net.resistances(t_cab, t_st)
+            # per stage, the closed-form steady state at the present terminal voltage
+            v = i_s * r_s
+            r20 = net.stage_r20
+            a = net.stage_alpha
+            ta = np.array([s.coil.zone_temperature for s in net.stages])
+            b = 1 + a * (ta - 20.0)
+            k = np.where(mask, v * v * np.nan_to_num(rth) / r20, 0.0)
+            new = np.where(mask, ta + (-b + np.sqrt(b * b + 4 * a * k)) / (2 * a), t_st)
+            if np.max(np.abs(new - t_st)) < 1e-9:
+                t_st = new
+                break
+            t_st = new
+        for s, t in zip(net.stages, t_st, strict=True):
+            if s.coil.has_thermal_model:
+                out[s.id] = float(t)
+    _STEADY_CACHE[key] = (weakref.ref(d), out)
+    return out
+
+
+def _rth(s: Stage, moving: bool) -> float:
+    """A stage's thermal resistance to its surroundings [K/W]: its coils' in parallel."""
+    co = s.coil
+    if co.thermal_resistance is None:
+        return math.nan
+    r = co.thermal_resistance_moving if (moving and co.thermal_resistance_moving is not None) else co.thermal_resistance
+    return r / s.count
+
+
+# ---------------------------------------------------------------- duty simulation
+
+
+@dataclass
+class DutyResult:
+    duty: Duty
+    t: np.ndarray  # [s]
+    stage_temperature: np.ndarray  # (nt, n_stages) [°C]
+    cable_temperature: np.ndarray  # (nt, n_cables) [°C]
+    stage_current: np.ndarray  # (nt, n_stages) [A]
+    cable_current: np.ndarray
+    bus_voltage: np.ndarray  # [V]
+    battery_current: np.ndarray  # discharge positive [A]
+    alternator_current: np.ndarray
+    charge_drawn: np.ndarray  # [C]
+    device_current: dict[str, np.ndarray] = field(default_factory=dict)
+    stage_ids: list[str] = field(default_factory=list)
+    cable_ids: list[str] = field(default_factory=list)
+    cable_models: dict[str, str] = field(default_factory=dict)  # cable id -> how it sheds heat
+    modelled_stages: list[str] = field(default_factory=list)
+
+    def time_to(self, k: int, limit: float) -> float:
+        """First time stage ``k``'s winding reaches ``limit`` [s] (inf: never within the duty)."""
+        y = self.stage_temperature[:, k]
+        hit = np.nonzero(y >= limit)[0]
+        if len(hit) == 0:
+            return math.inf
+        j = hit[0]
+        if j == 0 or y[j] == y[j - 1]:
+            return float(self.t[j])
+        return float(np.interp(limit, y[j - 1 : j + 1], self.t[j - 1 : j + 1]))
+
+
+def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 1e-6) -> DutyResult:
+    """Run a duty profile from the surroundings' temperatures. ``progress(done, total)`` is called
+    after each step of the profile (seconds of duty simulated, of the total)."""
+    duty = duty or d.duty
+    alt = d.supply.alternator
+    net = QuasiStatic(d, d.corners.hot_battery_emf, alt.setpoint if alt else None)
+    n_s, n_c = len(net.stages), len(net.cables)
+    models = {c.id: cable_thermal(c) for c in net.cables}
+    cab_c = np.array([models[c.id].c_per_m if models[c.id] else 1.0 for c in net.cables])
+    cab_zone = np.array([c.zone_temperature for c in net.cables])
+    st_zone = np.array([s.coil.zone_temperature for s in net.stages])
+    st_cap = np.array([(s.coil.heat_capacity or 1.0) * s.count for s in net.stages])
+    modelled = np.array([s.coil.has_thermal_model for s in net.stages])
+    r20c = net.cable_r20 / np.array([c.length for c in net.cables]) if n_c else np.zeros(0)
+    has_cab = np.array([models[c.id] is not None for c in net.cables], dtype=bool)
+    # every cable's shed heat tabulated on the same rise grid: one vectorised interpolation per call
+    shed = np.array([models[c.id].shed if models[c.id] else np.zeros(len(RISE_GRID)) for c in net.cables])
+    shed = shed.reshape(n_c, len(RISE_GRID))
+    rows = np.arange(n_c)
+
+    def q_shed(tc: np.ndarray) -> np.ndarray:
+        rise = np.clip(tc - cab_zone, 0.0, RISE_GRID[-1])
+        j = np.clip(np.searchsorted(RISE_GRID, rise, side="right") - 1, 0, len(RISE_GRID) - 2)
+        f = (rise - RISE_GRID[j]) / (RISE_GRID[j + 1] - RISE_GRID[j])
+        return shed[rows, j] * (1 - f) + shed[rows, j + 1] * f
+
+    def rhs_factory(on: np.ndarray, limit: float | None, rth: np.ndarray):
+        def rhs(_t, y):
+            tc, ts = y[:n_c], y[n_c : n_c + n_s]
+            i_c, i_s, i_bat, _ia, _x = net.solve(tc, ts, on, limit)
+            _rc, rs = net.resistances(tc, ts)
+            p = i_s * i_s * rs
+            dts = np.where(modelled, (p - (ts - st_zone) / np.where(modelled, rth, 1.0)) / st_cap, 0.0)
+            q = i_c * i_c * r20c * (1 + net.cable_alpha * (tc - 20.0))
+            dtc = np.where(has_cab, (q - q_shed(tc)) / cab_c, 0.0)
+            return np.concatenate([dtc, dts, [i_bat]])
+
+        return rhs
+
+    y = np.concatenate([cab_zone, st_zone, [0.0]])
+    ts_all, ys_all, on_all, lim_all = [], [], [], []
+    t0 = 0.0
+    total = duty.duration
+    for step in duty.steps:
+        on = np.array([s.id in step.stages for s in net.stages], dtype=bool)
+        limit = (alt.limit_idle if step.engine == "idle" else alt.limit_rated) if alt else None
+        rth = np.array([_rth(s, step.moving) for s in net.stages])
+        ts, ys = integrate_dopri(rhs_factory(on, limit, rth), t0, t0 + step.duration, y, rtol=rtol, atol=1e-4)
+        # the first point of a step repeats the last of the one before: the temperatures carry over,
+        # the currents jump, so the series keeps both
+        ts_all += ts
+        ys_all += ys
+        on_all += [on] * len(ts)
+        lim_all += [limit] * len(ts)
+        y = ys[-1] if ys else y
+        t0 += step.duration
+        if progress is not None:
+            progress(t0, total)
+    t = np.array(ts_all)
+    ymat = np.array(ys_all)
+    # the electrical figures at the recorded points
+    cur_s = np.zeros((len(t), n_s))
+    cur_c = np.zeros((len(t), n_c))
+    bus = np.zeros(len(t))
+    ib = np.zeros(len(t))
+    ia = np.zeros(len(t))
+    dev: dict[str, list[float]] = {e.id: [] for e in d.elements if isinstance(e, (Fuse, Relay))}
+    for k in range(len(t)):
+        i_c, i_s, i_bat, i_alt, x = net.solve(ymat[k, :n_c], ymat[k, n_c : n_c + n_s], on_all[k], lim_all[k])
+        cur_s[k], cur_c[k], ib[k], ia[k] = i_s, i_c, i_bat, i_alt
+        bus[k] = x[net.bat - 1]
+        dc = net.device_currents(x)
+        for eid in dev:
+            dev[eid].append(dc.get(eid, 0.0))
+    return DutyResult(
+        duty,
+        t,
+        ymat[:, n_c : n_c + n_s],
+        ymat[:, :n_c],
+        cur_s,
+        cur_c,
+        bus,
+        ib,
+        ia,
+        ymat[:, -1],
+        {k: np.array(v) for k, v in dev.items()},
+        [s.id for s in net.stages],
+        [c.id for c in net.cables],
+        {cid: (m.source if m else "no heat model: no ampacity in its zone") for cid, m in models.items()},
+        [s.id for s in net.stages if s.coil.has_thermal_model],
+    )
+
+
+def continuous_duty(d: Drawing) -> Duty:
+    """The shipped continuous profile (all stages on, driving, until thermal steady state), with the
+    drawing's battery figures."""
+    from coilstage.drawing.schema import DutyStep
+    from coilstage.units import parse_quantity
+
+    row = tables.duty_profiles()["continuous"]
+    steps = tuple(
+        DutyStep(parse_quantity(dur, "time"), tuple(s.id for s in d.stages), eng, mov, f"step {k + 1}")
+        for k, (dur, _stg, eng, mov) in enumerate(row["steps"])
+    )
+    du = d.duty
+    return Duty("continuous", row["description"], steps, du.start_soc if du else 1.0, du.min_soc if du else 0.5)

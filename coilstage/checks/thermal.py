@@ -1,0 +1,232 @@
+"""Heating rules: winding temperature and time to its limit, cable conductor temperature over the
+duty, the battery's charge, and the fuses' thermal state along the duty."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from coilstage import tables
+from coilstage.analysis.corners import Analysis
+from coilstage.checks.base import Rule, Status, Verdict, ceiling, ceiling_temperature, not_checked
+from coilstage.drawing.schema import Cable, Fuse
+
+NO_MODEL = "the coil has no thermal model (thermal_resistance and heat_capacity or conductor_mass)"
+
+
+def _winding_temperature(a: Analysis) -> list[Verdict]:
+    out = []
+    r = a.descent
+    for k, s in enumerate(a.drawing.stages):
+        if r is None or s.id not in r.modelled_stages:
+            out.append(not_checked(WINDING, s.id, NO_MODEL, "degC"))
+            continue
+        peak = float(np.max(r.stage_temperature[:, k]))
+        lim = s.coil.limit_temperature
+        ok = peak <= lim
+        end_i = r.stage_current[-1, k]
+        out.append(
+            Verdict(
+                WINDING.id,
+                s.id,
+                Status.PASS if ok else Status.FAIL,
+                peak,
+                lim,
+                "degC",
+                ceiling_temperature(peak, lim),
+                WINDING.clause,
+                f"highest average winding temperature over the duty ({a.drawing.duty.name}, "
+                f"{r.duty.duration / 60:.0f} min) against class {s.coil.insulation_class} less "
+                f"{s.coil.class_allowance:g} K; at its end {r.stage_temperature[-1, k]:.0f} °C, {end_i:.1f} A, "
+                f"{s.coil.turns * end_i * s.coil_current_factor:.0f} ampere-turns per coil",
+                "",
+            )
+        )
+    return out
+
+
+def _time_to_limit(a: Analysis) -> list[Verdict]:
+    out = []
+    r = a.continuous
+    need = a.drawing.duty.duration if a.drawing.duty else 0.0
+    for k, s in enumerate(a.drawing.stages):
+        if r is None or s.id not in r.modelled_stages:
+            out.append(not_checked(TIME_TO_LIMIT, s.id, NO_MODEL, "min"))
+            continue
+        t = r.time_to(k, s.coil.limit_temperature)
+        steady = a.corners["hot"].temperatures[s.id]
+        if math.isinf(t):
+            out.append(
+                Verdict(
+                    TIME_TO_LIMIT.id,
+                    s.id,
+                    Status.PASS,
+                    None,
+                    need / 60,
+                    "min",
+                    None,
+                    TIME_TO_LIMIT.clause,
+                    f"under continuous full retardation the winding settles at {steady:.0f} °C, below its "
+                    f"{s.coil.limit_temperature:g} °C limit: no time limit",
+                    "",
+                )
+            )
+            continue
+        ok = t >= need
+        out.append(
+            Verdict(
+                TIME_TO_LIMIT.id,
+                s.id,
+                Status.PASS if ok else Status.FAIL,
+                t / 60,
+                need / 60,
+                "min",
+                (t - need) / need if need else None,
+                TIME_TO_LIMIT.clause,
+                f"continuous full retardation from {s.coil.zone_temperature:g} °C reaches the "
+                f"{s.coil.limit_temperature:g} °C limit after {t / 60:.1f} min (steady state "
+                f"{steady:.0f} °C), against the {need / 60:.0f} min duty",
+                "",
+            )
+        )
+    return out
+
+
+def _cable_temperature(a: Analysis) -> list[Verdict]:
+    out = []
+    r = a.descent
+    cables = {c.id: c for c in a.drawing.of_kind(Cable)}
+    if r is None:
+        return [not_checked(CABLE_TEMP, "cables", "no duty was simulated", "degC")]
+    for k, cid in enumerate(r.cable_ids):
+        c = cables[cid]
+        peak = float(np.max(r.cable_temperature[:, k]))
+        ok = peak <= c.class_max
+        out.append(
+            Verdict(
+                CABLE_TEMP.id,
+                cid,
+                Status.PASS if ok else Status.FAIL,
+                peak,
+                c.class_max,
+                "degC",
+                ceiling_temperature(peak, c.class_max),
+                CABLE_TEMP.clause,
+                f"highest conductor temperature over the duty in zone {c.zone} ({c.zone_temperature:g} °C); "
+                f"{r.cable_models[cid]}",
+                "",
+            )
+        )
+    return out
+
+
+def _battery(a: Analysis) -> list[Verdict]:
+    b = a.drawing.supply.battery
+    r = a.descent
+    if r is None:
+        return [not_checked(BATTERY, "battery", "no duty was simulated", "A*h")]
+    drawn = float(r.charge_drawn[-1]) / 3600.0
+    peak_drawn = float(np.max(r.charge_drawn)) / 3600.0
+    if b.capacity is None:
+        return [
+            not_checked(
+                BATTERY, "battery", f"no battery capacity given (the duty draws {peak_drawn:.1f} A·h at most)", "A*h"
+            )
+        ]
+    cap = b.capacity / 3600.0
+    du = a.drawing.duty
+    usable = (du.start_soc - du.min_soc) * cap
+    end_soc = du.start_soc - drawn / cap
+    ok = peak_drawn <= usable
+    return [
+        Verdict(
+            BATTERY.id,
+            "battery",
+            Status.PASS if ok else Status.FAIL,
+            peak_drawn,
+            usable,
+            "A*h",
+            ceiling(peak_drawn, usable),
+            BATTERY.clause,
+            f"largest charge drawn over the duty {peak_drawn:.1f} A·h of {cap:g} A·h; from {du.start_soc:.0%} the "
+            f"battery ends at {end_soc:.0%} (floor {du.min_soc:.0%}); the EMF is held at its stated "
+            f"{a.drawing.corners.hot_battery_emf:g} V (it falls as the battery empties: the sag is optimistic)",
+            "",
+        )
+    ]
+
+
+def _fuse_duty(a: Analysis) -> list[Verdict]:
+    out = []
+    r = a.descent
+    for f in a.drawing.of_kind(Fuse):
+        if r is None:
+            out.append(not_checked(FUSE_DUTY, f.id, "no duty was simulated"))
+            continue
+        if not f.gates:
+            out.append(not_checked(FUSE_DUTY, f.id, f"no time-current gates for type {f.fuse_type}"))
+            continue
+        g = tables.FuseGates(f.gates, f.gates_source)
+        carry = f.rating * tables.fuse_rerating(f.zone_temperature)
+        i = np.abs(r.device_current[f.id])
+        dt = np.diff(r.t)
+        im = 0.5 * (i[1:] + i[:-1])
+        used = float(
+            sum(
+                d / g.t_min(x / carry)
+                for d, x in zip(dt, im, strict=True)
+                if math.isfinite(g.t_min(x / carry)) and g.t_min(x / carry) > 0
+            )
+        )
+        peak = float(np.max(i)) if len(i) else 0.0
+        ok = used < 1.0
+        out.append(
+            Verdict(
+                FUSE_DUTY.id,
+                f.id,
+                Status.PASS if ok else Status.FAIL,
+                used,
+                1.0,
+                "1",
+                ceiling(used, 1.0),
+                FUSE_DUTY.clause,
+                f"share of the must-not-open time used along the duty (sum of dt / t_min(I)); highest current "
+                f"{peak:.1f} A = {peak / carry:.2f} x the {carry:.1f} A rerated rating",
+                "",
+            )
+        )
+    return out
+
+
+WINDING = Rule(
+    "winding.temperature",
+    "Average winding temperature over the duty within its insulation class less the hot-spot allowance",
+    "IEC 60085 thermal classes; hot-spot allowance 10 K (<= 155) / 15 K (above), machine convention (common practice)",
+    _winding_temperature,
+)
+TIME_TO_LIMIT = Rule(
+    "winding.time_to_limit",
+    "Under continuous full retardation the winding takes longer than the duty to reach its limit",
+    "Lumped winding model C dT/dt = I^2 R(T) - (T - Ta)/Rth coupled through the network",
+    _time_to_limit,
+)
+CABLE_TEMP = Rule(
+    "cable.conductor_temperature",
+    "Conductor temperature over the duty within the cable's ISO 6722 class",
+    "Still-air heat balance (Churchill-Chu convection and radiation via ht; insulation ln(D/d)/(2 pi k)); ISO 6722 classes",
+    _cable_temperature,
+)
+BATTERY = Rule(
+    "battery.charge",
+    "Charge the battery gives over the duty within its usable share",
+    "Charge balance of the duty; usable share from the drawing's state of charge and floor (50 % floor: common practice)",
+    _battery,
+)
+FUSE_DUTY = Rule(
+    "fuse.duty_thermal_state",
+    "Fuse current along the duty stays clear of its must-not-open gate",
+    "Linear sum of dt/t_min(I) along the duty (common practice, no source) on the fuse's time-current gates",
+    _fuse_duty,
+)
+RULES = [WINDING, TIME_TO_LIMIT, CABLE_TEMP, BATTERY, FUSE_DUTY]

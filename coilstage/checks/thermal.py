@@ -214,13 +214,15 @@ TIME_TO_LIMIT = Rule(
 CABLE_TEMP = Rule(
     "cable.conductor_temperature",
     "Conductor temperature over the duty within the cable's ISO 6722 class",
-    "Still-air heat balance (Churchill-Chu convection and radiation via ht; insulation ln(D/d)/(2 pi k)); ISO 6722 classes",
+    "Still-air heat balance (Churchill-Chu convection and radiation via ht; insulation ln(D/d)/(2 pi k)); "
+    "ISO 6722 classes",
     _cable_temperature,
 )
 BATTERY = Rule(
     "battery.charge",
     "Charge the battery gives over the duty within its usable share",
-    "Charge balance of the duty; usable share from the drawing's state of charge and floor (50 % floor: common practice)",
+    "Charge balance of the duty; usable share from the drawing's state of charge and floor "
+    "(50 % floor: common practice)",
     _battery,
 )
 FUSE_DUTY = Rule(

@@ -22,7 +22,6 @@ def q(value: float | None, unit: str) -> dict[str, Any] | None:
 
 def cautions(a: Analysis) -> list[dict[str, str]]:
     """The usual cautions, with this drawing's own figures in them."""
-    d = a.drawing
     hot = max((s.temperature for s in a.corners["hot"].stages), default=0.0)
     energy = max((s.stored_energy for s in a.corners["cold"].stages), default=0.0)
     return [

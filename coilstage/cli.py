@@ -35,6 +35,9 @@ def _parser() -> argparse.ArgumentParser:
     ds.add_argument("drawing", help="the drawing file (TOML)")
     ds.add_argument("--out", "-o", metavar="DIR", default="descent", help="folder to write into (default: descent)")
     ds.add_argument("--profile", help="a shipped profile instead of the drawing's duty: continuous or endurance")
+    fl = sub.add_parser("field", help="plot the braking field against ampere-turns with the corners' operating points")
+    fl.add_argument("drawing", help="the drawing file (TOML)")
+    fl.add_argument("--out", "-o", metavar="DIR", default="field", help="folder to write into (default: field)")
     sub.add_parser("tables", help="list the shipped data tables and their sources")
     sub.add_parser("rules", help="list the rules with the clauses they rest on")
     return p
@@ -224,6 +227,42 @@ def _descent(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _field(args: argparse.Namespace) -> int:
+    from coilstage.errors import DataError, DrawingError
+
+    drawing_path = Path(args.drawing)
+    try:
+        from coilstage import load_drawing
+        from coilstage.analysis.corners import analyse
+
+        drawing = load_drawing(drawing_path)
+        analysis = analyse(drawing, switching=False, heating=True)
+    except DrawingError as exc:
+        _print_problems(exc.source, exc.problems)
+        return EXIT_BAD_INPUT
+    except DataError as exc:
+        _print_problems(exc.source, exc.problems, "table")
+        return EXIT_BAD_INPUT
+    from coilstage.report import field_plot
+
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+    files = [out / f"{drawing_path.stem}-field.{ext}" for ext in ("png", "svg")]
+    if any(f.resolve() == drawing_path.resolve() for f in files):
+        print("coilstage: the output would overwrite the drawing itself", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if not field_plot.plot(analysis, files, drawing.title):
+        print(
+            "coilstage: no coil in this drawing has a magnetic circuit (pole_area, gap_length, iron_length): "
+            "nothing to plot",
+            file=sys.stderr,
+        )
+        return EXIT_BAD_INPUT
+    for f in files:
+        print(f"wrote {f}")
+    return EXIT_OK
+
+
 def _tables() -> int:
     from coilstage.tables import list_tables
 
@@ -261,6 +300,8 @@ def main(argv: list[str] | None = None) -> int:
             return _waveforms(args)
         if args.command == "descent":
             return _descent(args)
+        if args.command == "field":
+            return _field(args)
         if args.command == "tables":
             return _tables()
         return _rules()

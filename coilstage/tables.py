@@ -409,3 +409,47 @@ def cable_emissivity() -> float:
 @cache
 def duty_profiles() -> dict[str, dict[str, Any]]:
     return {r["name"]: r for r in shipped("duty_profiles.toml")["table"]["rows"]}
+
+
+# ---------------------------------------------------------------- magnetic
+
+
+def bh_curve_names() -> list[str]:
+    return [r["name"] for r in shipped("bh_curves.toml")["table"]["rows"]]
+
+
+@cache
+def bh_curve(name: str):
+    """A shipped B-H curve as a point table (an analytic curve is tabulated densely)."""
+    import numpy as np
+
+    from coilstage.physics.magnetic import BHCurve, curve_from_mu_r, modelica_mu_r
+
+    row = next(r for r in shipped("bh_curves.toml")["table"]["rows"] if r["name"] == name)
+    if row["kind"] == "points":
+        p = np.array(row["points"], dtype=float)
+        return BHCurve(name, p[:, 0], p[:, 1])
+    args = (row["mu_i"], row["b_mumax"], row["c_a"], row["c_b"], row["n"])
+    return curve_from_mu_r(name, lambda b: modelica_mu_r(b, *args))
+
+
+def user_bh_curve(path: Path):
+    """A user's B-H table: ``[table] kind = "bh_curve"`` with ``points = [[H A/m, B T], ...]``."""
+    import numpy as np
+
+    from coilstage.physics.magnetic import BHCurve
+
+    data = read_user_table(path)
+    pts = data["table"].get("points")
+    try:
+        p = np.array(pts, dtype=float)
+        ok = p.ndim == 2 and p.shape[1] == 2 and p[0, 0] == 0 and p[0, 1] == 0 and np.all(np.diff(p, axis=0) > 0)
+    except (TypeError, ValueError):
+        ok = False
+    if not ok:
+        raise DataError(str(path), [Problem("table.points", repr(pts)[:60], "[[0, 0], [H, B], ...] rising in both")])
+    return BHCurve(path.stem, p[:, 0], p[:, 1])
+
+
+def knee_slope() -> float:
+    return float(shipped("bh_curves.toml")["table"]["knee_slope"])

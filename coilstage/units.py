@@ -38,6 +38,9 @@ DIMENSIONS: dict[str, tuple[str, str]] = {
     "heat_capacity": ("J/K", "1925 J/K"),
     "mass": ("kg", "5 kg"),
     "joule_integral": ("A**2*s", "1200 A^2*s"),
+    "torque": ("N*m", "1900 N*m"),
+    "angular_speed": ("rad/s", "500 rpm"),
+    "frequency": ("Hz", "50 Hz"),
 }
 
 _AWG_BODY = r"(?:(0{2,4})|([1-4])\s*/\s*0|(\d{1,2}))"

@@ -40,7 +40,7 @@ class CornerResult:
     base_load: float
 
 
-@dataclass(frozen=True)
+@dataclass
 class Analysis:
     drawing: Drawing
     circuit: Circuit
@@ -52,6 +52,7 @@ class Analysis:
     duty: dict[str, float] = field(default_factory=dict)  # element id -> largest cold-corner current [A]
     duty_state: dict[str, str] = field(default_factory=dict)  # element id -> "all stages" or "<stage> alone"
     switching: object | None = None  # analysis.switching.SwitchingResult
+    field: object | None = None  # analysis.field.FieldResult
     descent: object | None = None  # analysis.duty.DutyResult of the drawing's duty profile
     continuous: object | None = None  # analysis.duty.DutyResult of continuous full retardation
 
@@ -248,7 +249,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
 
         descent = simulate(d)
         continuous = simulate(d, continuous_duty(d))
-    return Analysis(
+    a = Analysis(
         d,
         circuit,
         corners,
@@ -262,6 +263,10 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         descent=descent,
         continuous=continuous,
     )
+    from coilstage.analysis.field import analyse_field
+
+    a.field = analyse_field(a)
+    return a
 
 
 def cut_off_by(d: Drawing, device_ids: list[str]) -> dict[str, set[str]]:

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from coilstage.analysis.corners import Analysis
-from coilstage.checks import cables, fuse_timing, protection, supply, switching, thermal
+from coilstage.checks import cables, field, fuse_timing, protection, supply, switching, thermal
 from coilstage.checks.base import Rule, Status, Verdict
 
 RULES: list[Rule] = [
@@ -12,6 +12,7 @@ RULES: list[Rule] = [
     *fuse_timing.RULES,
     *switching.RULES,
     *thermal.RULES,
+    *field.RULES,
     *supply.RULES,
 ]
 

@@ -54,7 +54,20 @@ from .schema import (
 
 _MISSING = object()
 
-TOP_KEYS = {"drawing", "tables", "supply", "environment", "coils", "corners", "limits", "harness", "switching", "duty"}
+TOP_KEYS = {
+    "drawing",
+    "tables",
+    "supply",
+    "environment",
+    "coils",
+    "corners",
+    "limits",
+    "harness",
+    "switching",
+    "duty",
+    "retarder",
+    "ac_comparison",
+}
 KEYS = {
     "drawing": {"title", "note", "format"},
     "tables": {"conductors"},
@@ -89,7 +102,15 @@ KEYS = {
         "iron_mass",
         "iron_share",
         "zone",
+        "pole_area",
+        "gaps",
+        "gap_length",
+        "iron_length",
+        "iron_area",
+        "bh_curve",
     },
+    "retarder": {"rated_torque", "rated_current", "critical_speed", "min_braking_ratio"},
+    "ac_comparison": {"voltage", "frequency"},
     "duty": {"profile", "steps", "state_of_charge", "min_state_of_charge"},
     "duty_step": {"duration", "stages", "engine", "moving"},
     "corners": {"cold", "hot", "limit"},
@@ -315,6 +336,7 @@ def _build(r: _Reader, raw: dict) -> Drawing | None:
     stage_ids = [x.id for x in links if x.kind == "stage"]
     switching = _switching(r, raw, set(stage_ids))
     duty = _duty(r, raw, stage_ids, switching)
+    retarder, ac = _retarder(r, raw)
     if supply is not None and elements is not None:
         _topology(r, supply, links, elements)
     if r.problems or None in (supply, env, coils, elements, corners, limits, switching, duty):
@@ -331,6 +353,8 @@ def _build(r: _Reader, raw: dict) -> Drawing | None:
         limits=limits,
         switching=switching,
         duty=duty,
+        retarder=retarder,
+        ac_comparison=ac,
         assumptions=tuple(r.assumptions),
     )
 
@@ -517,8 +541,10 @@ def _coils(r: _Reader, raw: dict, env: Environment | None) -> dict[str, CoilType
                     f"{where}.hot_temperature not given: the hot corner runs the winding at {hot:g} °C ({hot_src})"
                 )
         thermal = _coil_thermal(r, body, where, metal, env)
-        if None in (metal, ins, inductance, turns, r_ref, t_ref, hot) or thermal is None:
+        magnetic = _coil_magnetic(r, body, where)
+        if None in (metal, ins, inductance, turns, r_ref, t_ref, hot) or thermal is None or magnetic is False:
             continue
+        thermal["magnetic"] = magnetic
         out[name] = CoilType(
             name,
             metal,
@@ -579,6 +605,76 @@ def _coil_thermal(r: _Reader, body: dict, where: str, metal: str | None, env: En
         zone_temperature=zt,
     )
     return out
+
+
+_MAGNETIC_KEYS = ("pole_area", "gaps", "gap_length", "iron_length", "iron_area", "bh_curve")
+
+
+def _coil_magnetic(r: _Reader, body: dict, where: str):
+    """The coil's pole circuit: None when not given, False when wrong, else a MagneticSpec."""
+    if not any(k in body for k in _MAGNETIC_KEYS):
+        return None
+    area = r.quantity(body, "pole_area", where, "area", positive=True)
+    gap = r.quantity(body, "gap_length", where, "length", positive=True)
+    gaps = r.integer(body, "gaps", where, default=2)
+    il = r.quantity(body, "iron_length", where, "length", positive=True)
+    ia = r.quantity(body, "iron_area", where, "area", default=None, positive=True)
+    if ia is None and "iron_area" not in body:
+        ia = area
+        if area is not None:
+            r.assume(f"{where}.iron_area not given: the iron path has the pole-face area")
+    name = body.get("bh_curve", "steel-1010")
+    if "bh_curve" not in body:
+        r.assume(f"{where}.bh_curve not given: the shipped steel-1010 curve")
+    curve = None
+    if isinstance(name, str) and name.endswith(".toml"):
+        try:
+            curve = tables.user_bh_curve((r.base_dir / name).resolve())
+        except DataError as exc:
+            for p in exc.problems:
+                r.problem(f"{where}.bh_curve ({exc.source}) {p.where}", p.found, p.expected)
+            return False
+    elif isinstance(name, str) and name in tables.bh_curve_names():
+        curve = tables.bh_curve(name)
+    else:
+        r.problem(
+            f"{where}.bh_curve", name, "a shipped curve (" + ", ".join(tables.bh_curve_names()) + ") or a .toml table"
+        )
+        return False
+    if None in (area, gap, gaps, il, ia):
+        return False
+    from .schema import MagneticSpec
+
+    return MagneticSpec(area, gaps, gap, il, ia, curve.name, tuple(curve.h), tuple(curve.b), curve_source(curve.name))
+
+
+def curve_source(name: str) -> str:
+    return next(
+        (row["status"] for row in tables.shipped("bh_curves.toml")["table"]["rows"] if row["name"] == name),
+        "the drawing's own B-H table",
+    )
+
+
+def _retarder(r: _Reader, raw: dict):
+    from .schema import ACComparison, Retarder
+
+    rt = r.table(raw, "retarder", "retarder", required=False) or {}
+    r.unknown(rt, KEYS["retarder"], "retarder")
+    torque = r.quantity(rt, "rated_torque", "retarder", "torque", default=None, positive=True)
+    cur = r.quantity(rt, "rated_current", "retarder", "current", default=None, positive=True)
+    if (torque is None) != (cur is None) and ("rated_torque" in rt or "rated_current" in rt):
+        r.problem("retarder", _MISSING, "rated_torque and rated_current together")
+    ws = r.quantity(rt, "critical_speed", "retarder", "angular_speed", default=None, positive=True)
+    ratio = r.value(rt, "min_braking_ratio", "retarder", parse_dimensionless, default=None)
+    ac = r.table(raw, "ac_comparison", "ac_comparison", required=False)
+    acc = None
+    if ac is not None:
+        r.unknown(ac, KEYS["ac_comparison"], "ac_comparison")
+        v = r.quantity(ac, "voltage", "ac_comparison", "voltage", positive=True)
+        f = r.quantity(ac, "frequency", "ac_comparison", "frequency", positive=True)
+        if v is not None and f is not None:
+            acc = ACComparison(v, f)
+    return Retarder(torque, cur, ws, ratio), acc
 
 
 def _zone(r: _Reader, e: dict, where: str, env: Environment | None) -> tuple[str | None, float | None]:

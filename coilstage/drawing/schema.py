@@ -50,6 +50,35 @@ class Environment:
 
 
 @dataclass(frozen=True)
+class MagneticSpec:
+    """A coil's pole circuit as the drawing gives it (see :mod:`coilstage.physics.magnetic`)."""
+
+    pole_area: float  # [m²]
+    gaps: int
+    gap: float  # each [m]
+    iron_length: float  # [m]
+    iron_area: float  # [m²]
+    curve_name: str
+    curve_h: tuple[float, ...]  # [A/m]; empty for a shipped analytic curve
+    curve_b: tuple[float, ...]  # [T]
+    curve_source: str
+
+
+@dataclass(frozen=True)
+class Retarder:
+    rated_torque: float | None = None  # [N·m] with all stages at rated_current
+    rated_current: float | None = None  # stage current at the rated torque [A]
+    critical_speed: float | None = None  # [rad/s]
+    min_braking_ratio: float | None = None  # hot/cold braking effort that must remain
+
+
+@dataclass(frozen=True)
+class ACComparison:
+    voltage: float  # RMS [V]
+    frequency: float  # [Hz]
+
+
+@dataclass(frozen=True)
 class CoilType:
     name: str
     metal: str  # "copper" | "aluminium"
@@ -69,6 +98,7 @@ class CoilType:
     heat_capacity_source: str = ""
     zone: str = "ambient"
     zone_temperature: float = 40.0  # surroundings of the winding [°C]
+    magnetic: MagneticSpec | None = None
 
     @property
     def limit_temperature(self) -> float:
@@ -281,6 +311,8 @@ class Drawing:
     limits: Limits
     switching: Switching = Switching((), 3.0, 1.5, None, 0.05, 100_000)
     duty: Duty | None = None
+    retarder: Retarder = Retarder()
+    ac_comparison: ACComparison | None = None
     assumptions: tuple[str, ...] = field(default_factory=tuple)
 
     def of_kind(self, cls: type) -> list:

@@ -187,6 +187,70 @@ def heating(a: Analysis) -> dict[str, Any]:
     }
 
 
+def field(a: Analysis) -> dict[str, Any]:
+    f = a.field
+
+    def fin(x):
+        return None if x is None or not math.isfinite(x) else float(x)
+
+    stages = [
+        {
+            "id": x.id,
+            "corner": corner,
+            "coil_current": q(x.coil_current, "A"),
+            "ampere_turns": q(x.ampere_turns, "A"),
+            "gap_flux_density": qf(x.b_gap, "T"),
+            "flux": qf(x.flux, "Wb"),
+            "iron_flux_density": qf(x.b_iron, "T"),
+            "knee": qf(x.knee, "T"),
+            "apparent_inductance": qf(x.l_apparent, "H"),
+            "incremental_inductance": qf(x.l_incremental, "H"),
+        }
+        for corner, per in f.stages.items()
+        for x in per.values()
+    ]
+    torque = None if f.torque is None else {k: q(v, "N*m") for k, v in f.torque.items()}
+    ts = None
+    if f.torque_speed is not None:
+        ts = {k: [{"speed": q(w, "rad/s"), "torque": q(t, "N*m")} for w, t in v] for k, v in f.torque_speed.items()}
+    return {
+        "modelled": f.modelled,
+        "stages": stages,
+        "braking": {
+            "ratio_hot_cold": fin(f.ratio_corners),
+            "ratio_temperature": fin(f.ratio_temperature),
+            "ratio_bus": fin(f.ratio_bus),
+            "torque": torque,
+            "torque_speed": ts,
+        },
+        "switch_on": [
+            {
+                "stage": s.stage,
+                "t95_saturating": q(s.t95_saturating, "s"),
+                "t95_linear": q(s.t95_linear, "s"),
+                "energy_saturating": q(s.energy_saturating, "J"),
+                "energy_linear": q(s.energy_linear, "J"),
+            }
+            for s in f.switch_on
+        ],
+        "ac": [
+            {
+                "coil": x.coil,
+                "voltage": q(x.voltage, "V"),
+                "frequency": q(x.frequency, "Hz"),
+                "impedance": q(x.impedance, "ohm"),
+                "current_ac": q(x.i_ac, "A"),
+                "current_dc": q(x.i_dc, "A"),
+                "ampere_turns_ac": q(x.ni_ac, "A"),
+                "ampere_turns_dc": q(x.ni_dc, "A"),
+                "flux_density_ac": qf(x.b_ac, "T"),
+                "flux_density_dc": qf(x.b_dc, "T"),
+            }
+            for x in f.ac
+        ],
+    }
+
+
 def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
     """The whole report as plain data."""
     d = a.drawing
@@ -254,6 +318,7 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
         ],
         "switching": switching(a),
         "heating": heating(a),
+        "field": field(a),
         "summary": summary(verdicts),
         "assumptions": list(d.assumptions),
         "cautions": cautions(a),

@@ -97,6 +97,37 @@ def render(doc: dict[str, Any]) -> str:
             f"charge {qv(bt['end_state_of_charge'])}",
             "",
         ]
+    fd = doc["field"]
+    out += [
+        "## Field",
+        "",
+        "| stage | corner | I per coil | N·I | B gap | Φ | B iron | knee | L apparent | L incremental |",
+        "|---|---|---:|---:|---:|---:|---:|---:|---:|---:|",
+    ]
+    for x in fd["stages"]:
+        out.append(
+            f"| {x['id']} | {x['corner']} | {qv(x['coil_current'], 1)} | {x['ampere_turns']['value']:.0f} A | "
+            f"{qv(x['gap_flux_density'])} | {qv(x['flux'])} | {qv(x['iron_flux_density'])} | {qv(x['knee'])} | "
+            f"{qv(x['apparent_inductance'])} | {qv(x['incremental_inductance'])} |"
+        )
+    br = fd["braking"]
+    if br["ratio_hot_cold"] is not None:
+        out += [
+            "",
+            f"- braking effort left hot: {br['ratio_hot_cold']:.0%} of cold (hot windings alone "
+            f"{br['ratio_temperature']:.0%}, the sagging bus alone {br['ratio_bus']:.0%})",
+        ]
+    if br["torque"]:
+        out.append(f"- estimated torque: cold {qv(br['torque']['cold'], 0)}, hot {qv(br['torque']['hot'], 0)}")
+    for s in fd["switch_on"]:
+        out.append(
+            f"- {s['stage']} alone, cold: T0.95 {qv(s['t95_saturating'])} saturating, {qv(s['t95_linear'])} linear"
+        )
+    for x in fd["ac"]:
+        out.append(
+            f"- AC, coil {x['coil']}: {qv(x['current_ac'])} at {qv(x['frequency'])} against {qv(x['current_dc'])} DC"
+        )
+    out.append("")
     out += [
         "## Verdicts",
         "",

@@ -167,6 +167,65 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             + "\n"
         )
 
+    fd = doc["field"]
+    t = Table(title="FIELD — per coil, cold and hot corners", box=box.SIMPLE_HEAD, title_justify="left")
+    t.add_column("stage")
+    for col in ("corner", "I/coil A", "N·I A", "B gap T", "Φ mWb", "B iron T", "knee T", "L app mH", "L inc mH"):
+        t.add_column(col, justify="right")
+    for x in fd["stages"]:
+        t.add_row(
+            x["id"],
+            x["corner"],
+            _num(x["coil_current"]),
+            _num(x["ampere_turns"], places=0),
+            _num(x["gap_flux_density"], places=2),
+            _num(x["flux"], 1e3, 2),
+            _num(x["iron_flux_density"], places=2),
+            _num(x["knee"], places=2),
+            _num(x["apparent_inductance"], 1e3),
+            _num(x["incremental_inductance"], 1e3),
+        )
+    console.print(t)
+    br = fd["braking"]
+    basis = (
+        "B² from the magnetic circuit"
+        if fd["modelled"]
+        else "(N·I)²: no magnetic circuit given, coils taken as unsaturated"
+    )
+    if br["ratio_hot_cold"] is not None:
+        console.print(
+            f"  braking effort left hot: {br['ratio_hot_cold']:.0%} of cold ({basis}); hot windings alone "
+            f"{br['ratio_temperature']:.0%}, the sagging bus alone {br['ratio_bus']:.0%}"
+        )
+    if br["torque"]:
+        console.print(
+            f"  estimated braking torque (scaled from the rated figure, an estimate): cold "
+            f"{br['torque']['cold']['value']:.0f} N·m, hot {br['torque']['hot']['value']:.0f} N·m"
+        )
+    if br["torque_speed"]:
+        for corner, pts in br["torque_speed"].items():
+            console.print(
+                f"  torque against shaft speed, {corner}: "
+                + ", ".join(
+                    f"{p['speed']['value'] * 60 / (2 * 3.141592653589793):.0f} rpm {p['torque']['value']:.0f} N·m"
+                    for p in pts
+                )
+            )
+    for s in fd["switch_on"]:
+        console.print(
+            f"  {s['stage']} switched on alone (cold): T95 {s['t95_saturating']['value'] * 1e3:.0f} ms with the "
+            f"saturating inductance, {s['t95_linear']['value'] * 1e3:.0f} ms with the stated linear one; field "
+            f"energy {s['energy_saturating']['value']:.1f} J against ½LI² {s['energy_linear']['value']:.1f} J"
+        )
+    for x in fd["ac"]:
+        console.print(
+            f"  AC comparison, coil {x['coil']}: {x['voltage']['value']:g} V at {x['frequency']['value']:g} Hz drives "
+            f"{x['current_ac']['value']:.2f} A (|Z| {x['impedance']['value']:.1f} Ω, "
+            f"{x['ampere_turns_ac']['value']:.0f} A-turns) against {x['current_dc']['value']:.1f} A on DC "
+            f"({x['ampere_turns_dc']['value']:.0f} A-turns)"
+        )
+    console.print()
+
     v = Table(title="Verdicts", box=box.SIMPLE_HEAD, title_justify="left")
     for col in ("status", "rule", "subject", "value", "limit", "margin"):
         v.add_column(col, justify="right" if col in ("value", "limit", "margin") else "left")

@@ -1,0 +1,129 @@
+"""Field rules: stated against geometry inductance, iron saturation, braking effort that remains hot."""
+
+from __future__ import annotations
+
+from coilstage.analysis.corners import Analysis
+from coilstage.analysis.field import INDUCTANCE_TOLERANCE
+from coilstage.checks.base import Rule, Status, Verdict, floor, not_checked
+
+
+def _inductance(a: Analysis) -> list[Verdict]:
+    f = a.field
+    out = []
+    for name, _coil in a.drawing.coils.items():
+        if f is None or name not in f.inductance_check:
+            out.append(
+                not_checked(
+                    INDUCTANCE,
+                    name,
+                    "no magnetic circuit given for this coil (pole_area, gap_length, iron_length)",
+                    "1",
+                )
+            )
+            continue
+        stated, geo = f.inductance_check[name]
+        dev = abs(geo - stated) / stated
+        out.append(
+            Verdict(
+                INDUCTANCE.id,
+                name,
+                Status.PASS if dev <= INDUCTANCE_TOLERANCE else Status.WARN,
+                dev,
+                INDUCTANCE_TOLERANCE,
+                "1",
+                (INDUCTANCE_TOLERANCE - dev) / INDUCTANCE_TOLERANCE,
+                INDUCTANCE.clause,
+                f"stated {stated * 1e3:.1f} mH per coil; the magnetic circuit gives N²/ℛ = {geo * 1e3:.1f} mH "
+                f"unsaturated; warn beyond {INDUCTANCE_TOLERANCE:.0%}",
+                "",
+            )
+        )
+    return out
+
+
+def _saturation(a: Analysis) -> list[Verdict]:
+    f = a.field
+    out = []
+    for s in a.drawing.stages:
+        x = f.stages["cold"][s.id] if f is not None else None
+        if x is None or x.b_iron is None:
+            out.append(not_checked(SATURATION, s.id, "no magnetic circuit given for this stage's coil", "T", "cold"))
+            continue
+        ok = x.b_iron <= x.knee
+        note = (
+            f"iron at {x.b_iron:.2f} T with {x.ampere_turns:.0f} A per coil (gap {x.b_gap:.2f} T); knee of the "
+            f"curve {x.knee:.2f} T"
+        )
+        if not ok:
+            h = f.stages["hot"][s.id]
+            note += (
+                f": saturated, so the cold current buys heat more than braking (hot corner: {h.b_iron:.2f} T "
+                f"with {h.ampere_turns:.0f} A)"
+            )
+        out.append(
+            Verdict(
+                SATURATION.id,
+                s.id,
+                Status.PASS if ok else Status.WARN,
+                x.b_iron,
+                x.knee,
+                "T",
+                (x.knee - x.b_iron) / x.knee,
+                SATURATION.clause,
+                note,
+                "cold",
+            )
+        )
+    return out
+
+
+def _retained(a: Analysis) -> list[Verdict]:
+    f = a.field
+    lim = a.drawing.retarder.min_braking_ratio
+    if f is None:
+        return [not_checked(RETAINED, "retarder", "the field was not analysed")]
+    basis = "B² from the magnetic circuit" if f.modelled else "(N·I)², the coils taken as unsaturated"
+    note = (
+        f"braking effort hot / cold {f.ratio_corners:.0%} ({basis}; low-speed law T ∝ σB²ω): hot windings alone "
+        f"leave {f.ratio_temperature:.0%}, the sagging bus alone {f.ratio_bus:.0%}"
+    )
+    if f.torque:
+        note += f"; estimated torque {f.torque['cold']:.0f} N·m cold, {f.torque['hot']:.0f} N·m hot"
+    if lim is None:
+        return [not_checked(RETAINED, "retarder", note + "; no retarder.min_braking_ratio in the drawing", "1")]
+    ok = f.ratio_corners >= lim
+    return [
+        Verdict(
+            RETAINED.id,
+            "retarder",
+            Status.PASS if ok else Status.FAIL,
+            f.ratio_corners,
+            lim,
+            "1",
+            floor(f.ratio_corners, lim),
+            RETAINED.clause,
+            note,
+            "hot",
+        )
+    ]
+
+
+INDUCTANCE = Rule(
+    "field.inductance_crosscheck",
+    "Stated inductance and the magnetic circuit's agree within 25 %",
+    "L = N²/ℛ of the lumped circuit (fringing and leakage left out; 25 % tolerance: common practice)",
+    _inductance,
+)
+SATURATION = Rule(
+    "field.saturation",
+    "Iron below the knee of its B-H curve at the cold corner",
+    "Ampère's law around the pole circuit on the B-H curve; knee at d(ln B)/d(ln H) = 0.2 (after IEC 61869-2)",
+    _saturation,
+)
+RETAINED = Rule(
+    "field.braking_retained",
+    "Braking effort the hot corner leaves, against the drawing's minimum",
+    "Low-speed eddy-current law T ∝ σ·B²·ω (Smythe; Schieber); B from the magnetic circuit",
+    _retained,
+)
+RULES = [INDUCTANCE, SATURATION, RETAINED]

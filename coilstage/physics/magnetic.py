@@ -1,0 +1,153 @@
+r"""Magnetic circuit of a coil pole: Ampère's law around the flux path, B-H curves, flux and inductance.
+
+Around the path (iron of length l_fe and section A_fe, n_g air gaps of length g and pole-face area A):
+
+.. math:: N I = H_{fe}(B_{fe})\,l_{fe} + n_g \frac{B g}{μ_0}, \qquad B_{fe} = B\,A/A_{fe}
+
+with B the gap flux density, Φ = B·A the flux, λ = N·Φ the flux linkage; the apparent inductance is
+λ/i and the incremental one dλ/di. Fringing and leakage are neglected.
+
+References
+----------
+.. [1] Any text on magnetic circuits, e.g. A. E. Fitzgerald, C. Kingsley, S. D. Umans, *Electric
+   Machinery*, 6th ed., McGraw-Hill, 2003, §1.1 (magnetic circuits, reluctance, L = N²/ℛ).
+.. [2] Modelica Standard Library, Modelica.Magnetic.FluxTubes.Material.SoftMagnetic.mu_rApprox.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from coilstage.physics.numeric import bracketed_root
+
+MU0 = 4e-7 * math.pi  # [H/m] (the pre-2019 exact value; the 2019 SI value differs by 1e-10)
+
+
+@dataclass(frozen=True)
+class BHCurve:
+    """A monotone B-H curve given as points (H [A/m], B [T]) from the origin; beyond the last point
+    B grows with slope μ0 (full saturation)."""
+
+    name: str
+    h: np.ndarray
+    b: np.ndarray
+
+    def h_of_b(self, b: float) -> float:
+        """Field strength [A/m] at flux density ``b`` [T] (odd: H(−B) = −H(B))."""
+        s = 1.0 if b >= 0 else -1.0
+        x = abs(b)
+        if x <= self.b[-1]:
+            return s * float(np.interp(x, self.b, self.h))
+        return s * float(self.h[-1] + (x - self.b[-1]) / MU0)
+
+    def b_of_h(self, h: float) -> float:
+        s = 1.0 if h >= 0 else -1.0
+        x = abs(h)
+        if x <= self.h[-1]:
+            return s * float(np.interp(x, self.h, self.b))
+        return s * float(self.b[-1] + MU0 * (x - self.h[-1]))
+
+    def knee(self, slope: float = 0.2) -> float:
+        """Flux density [T] where d(ln B)/d(ln H) first falls to ``slope`` (past the steep part)."""
+        h = np.geomspace(max(self.h[1], 1e-3), self.h[-1], 4000)
+        b = np.array([self.b_of_h(x) for x in h])
+        g = np.gradient(np.log(b), np.log(h))
+        start = int(np.argmax(g))
+        below = np.nonzero(g[start:] <= slope)[0]
+        return float(b[start + below[0]]) if len(below) else float(b[-1])
+
+
+def modelica_mu_r(b: float, mu_i: float, b_mumax: float, c_a: float, c_b: float, n: float) -> float:
+    """Relative permeability by the Modelica approximation [2]_:
+    μr(B) = 1 + (μi − 1 + c_a·B_N)/(1 + c_b·B_N + B_N^n), B_N = |B|/B_μmax.
+
+    >>> round(modelica_mu_r(1.0, 200, 1.17, 8100, 2.59, 10), 1)
+    2082.4
+    """
+    bn = abs(b) / b_mumax
+    return 1 + (mu_i - 1 + c_a * bn) / (1 + c_b * bn + bn**n)
+
+
+def curve_from_mu_r(name: str, mu_r, b_max: float = 2.4, points: int = 600) -> BHCurve:
+    """A point table from a μr(B) law: H = B/(μ0 μr(B)) on a dense grid of B."""
+    b = np.linspace(0.0, b_max, points)
+    h = np.concatenate(([0.0], b[1:] / (MU0 * np.array([mu_r(x) for x in b[1:]]))))
+    if np.any(np.diff(h) <= 0):
+        raise ValueError(f"B-H curve {name} is not monotone")
+    return BHCurve(name, h, b)
+
+
+@dataclass(frozen=True)
+class MagneticCircuit:
+    """One coil's pole circuit: ``turns``, pole-face ``area`` [m²], ``gaps`` air gaps of ``gap`` [m],
+    iron path ``iron_length`` [m] of section ``iron_area`` [m²] on ``curve``."""
+
+    turns: int
+    area: float
+    gaps: int
+    gap: float
+    iron_length: float
+    iron_area: float
+    curve: BHCurve
+
+    def mmf(self, b: float) -> float:
+        """Ampere-turns [A] that drive the gap flux density ``b`` [T]."""
+        b_fe = b * self.area / self.iron_area
+        return self.curve.h_of_b(b_fe) * self.iron_length + self.gaps * b * self.gap / MU0
+
+    def gap_flux_density(self, ni: float) -> float:
+        """Gap flux density [T] at ``ni`` ampere-turns [A]: the root of mmf(B) = NI (monotone)."""
+        if ni == 0:
+            return 0.0
+        s = 1.0 if ni > 0 else -1.0
+        target = abs(ni)
+        hi = MU0 * target / (self.gaps * self.gap)  # the iron-free value bounds B from above
+        if self.mmf(hi) - target <= 0:  # only by rounding (vanishing ampere-turns or ideal iron)
+            return s * hi
+        return s * bracketed_root(lambda b: self.mmf(b) - target, 0.0, hi, xtol=1e-13)
+
+    def flux(self, current: float) -> float:
+        """Flux Φ = B·A [Wb] at coil ``current`` [A]."""
+        return self.gap_flux_density(self.turns * current) * self.area
+
+    def linkage(self, current: float) -> float:
+        """Flux linkage λ = N·Φ [Wb] (a turn links the whole pole flux; leakage neglected)."""
+        return self.turns * self.flux(current)
+
+    def apparent_inductance(self, current: float) -> float:
+        """λ/i [H]; at zero current the unsaturated (incremental) value."""
+        if current == 0:
+            return self.incremental_inductance(0.0)
+        return self.linkage(current) / current
+
+    def incremental_inductance(self, current: float, rel: float = 1e-4) -> float:
+        """dλ/di [H] by a central difference."""
+        h = max(abs(current) * rel, 1e-3)
+        return (self.linkage(current + h) - self.linkage(current - h)) / (2 * h)
+
+    def unsaturated_inductance(self) -> float:
+        """L = N²/ℛ with ℛ = n_g·g/(μ0·A) + l_fe/(μ0·μr,i·A_fe), μr,i the curve's initial slope [1]_."""
+        mu_i = self.curve.b[1] / (MU0 * self.curve.h[1])
+        rel = self.gaps * self.gap / (MU0 * self.area) + self.iron_length / (MU0 * mu_i * self.iron_area)
+        return self.turns**2 / rel
+
+    def iron_flux_density(self, b_gap: float) -> float:
+        return b_gap * self.area / self.iron_area
+
+
+def ac_current(v_rms: float, r: float, inductance: float, frequency: float) -> tuple[float, float]:
+    """RMS current [A] and impedance [Ω] of an RL coil on a sinusoidal supply:
+    Z = √(R² + (ωL)²), I = V/Z (linear inductance)."""
+    z = math.hypot(r, 2 * math.pi * frequency * inductance)
+    return v_rms / z, z
+
+
+def kloss_torque(omega: float, t_max: float, omega_cr: float) -> float:
+    """Eddy-current braking torque against speed, T = 2·Tmax/(ω/ωcr + ωcr/ω) (Kloss' form, as in the
+    Modelica EddyCurrentTorque model and after Wouterse 1991); 0 at standstill."""
+    if omega <= 0:
+        return 0.0
+    return 2 * t_max / (omega / omega_cr + omega_cr / omega)

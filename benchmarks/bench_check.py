@@ -1,8 +1,10 @@
 """Benchmarks of the steady-state check. Prints its figures; asserts nothing.
 
 1. ``coilstage check`` on the four-stage demo drawing as a whole process (wall time, median of runs).
-2. The network solve of a synthetic 200-stage drawing: one corner solve, and the whole analysis
-   (three corners plus the prospective short-circuit current at every fuse).
+2. The network solve of a synthetic 200-stage drawing: one corner solve, and its steady-state
+   analysis (three corners, the cold duty of every element, the prospective short-circuit current at
+   every fuse); then the full check (switching, duty, field, every rule) of 4, 8 and 16 stages: the
+   switching rules grow with the square of the number of stages.
 
 Targets (issue: steady-state check): demo check under 1 s wall on a 2-core machine; the 200-stage
 solve under 50 ms.
@@ -155,8 +157,20 @@ def main() -> None:
         f"200-stage solve, one corner (hot, alternator limited): best {lo * 1e3:.1f} ms, median {med * 1e3:.1f} ms"
         "  (target < 50 ms)"
     )
-    lo, med = best_of(lambda: analyse(d), 5)
-    print(f"200-stage analysis (3 corners + 200 fault currents): best {lo * 1e3:.1f} ms, median {med * 1e3:.1f} ms")
+    lo, med = best_of(lambda: analyse(d, switching=False, heating=False), 5)
+    print(
+        f"200-stage steady-state analysis (3 corners, cold duty of every element, 200 fault currents): "
+        f"best {lo * 1e3:.0f} ms, median {med * 1e3:.0f} ms"
+    )
+    from coilstage import check
+
+    for n in (4, 8, 16):
+        dn = parse_drawing(synthetic(n), f"synthetic-{n}")
+        lo, med = best_of(lambda dn=dn: check(dn), 3)
+        print(
+            f"{n}-stage full check (switching scenarios, duty, field and every rule): best {lo * 1e3:.0f} ms, "
+            f"median {med * 1e3:.0f} ms"
+        )
 
 
 if __name__ == "__main__":

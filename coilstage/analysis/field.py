@@ -121,7 +121,12 @@ def analyse_field(a: Analysis) -> FieldResult:
     cold, hot = a.corners["cold"], a.corners["hot"]
 
     def effort(currents: list[float]) -> float:
-        return sum(_stage_field(s, "", i, circs[s.coil.name]).effort for s, i in zip(d.stages, currents, strict=True))
+        total = 0.0
+        for s, i in zip(d.stages, currents, strict=True):
+            ni = s.coil.turns * i * s.coil_current_factor
+            circ = circs[s.coil.name]
+            total += circ.gap_flux_density(ni) ** 2 if circ is not None else ni * ni
+        return total
 
     e_cold = effort([st.current for st in cold.stages])
     e_hot = effort([st.current for st in hot.stages])
@@ -151,10 +156,22 @@ def analyse_field(a: Analysis) -> FieldResult:
         torque,
         torque_speed,
         check,
-        [x for x in (_switch_on(a, s, circs[s.coil.name]) for s in d.stages) if x],
+        [x for x in (_switch_on(a, s, circs[s.coil.name]) for s in _one_per_coil(d)) if x],
         _ac(d, a, circs),
         any(c is not None for c in circs.values()),
     )
+
+
+def _one_per_coil(d: Drawing) -> list[Stage]:
+    """The first stage of each coil type and connection: the saturating switch-on of the others
+    differs only by their few milliohms of branch."""
+    seen, out = set(), []
+    for s in d.stages:
+        key = (s.coil.name, s.count, s.connection)
+        if key not in seen:
+            seen.add(key)
+            out.append(s)
+    return out
 
 
 def _switch_on(a: Analysis, s: Stage, circ: MagneticCircuit | None) -> SwitchOn | None:
@@ -171,7 +188,8 @@ def _switch_on(a: Analysis, s: Stage, circ: MagneticCircuit | None) -> SwitchOn 
     n = s.count
     # the stage's flux linkage against its current: coils in series add linkage; in parallel share current
     i_grid = np.linspace(0.0, 1.2 * i_final, 400)
-    per_coil = np.array([circ.linkage(i * s.coil_current_factor) for i in i_grid])
+    ni_tab, b_tab = circ.mmf_table(circ.gap_flux_density(circ.turns * 1.25 * i_final * s.coil_current_factor))
+    per_coil = circ.turns * circ.area * np.interp(circ.turns * i_grid * s.coil_current_factor, ni_tab, b_tab)
     lam = per_coil * (n if s.connection == "series" else 1.0)
     l_lin = s.inductance
     tau = l_lin / k
@@ -180,7 +198,7 @@ def _switch_on(a: Analysis, s: Stage, circ: MagneticCircuit | None) -> SwitchOn 
     def rhs(_t, y):
         return np.array([c - k * float(np.interp(y[0], lam, i_grid))])
 
-    ts, ys = integrate_dopri(rhs, 0.0, t_end, [0.0], rtol=1e-8, atol=1e-10, max_step=tau / 4)
+    ts, ys = integrate_dopri(rhs, 0.0, t_end, [0.0], rtol=1e-7, atol=1e-9)
     t = np.array(ts)
     i_sat = np.interp(np.array([y[0] for y in ys]), lam, i_grid)
     i_lin = i_final * (1 - np.exp(-t / tau))

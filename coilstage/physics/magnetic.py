@@ -24,6 +24,7 @@ import numpy as np
 from coilstage.physics.numeric import bracketed_root
 
 MU0 = 4e-7 * math.pi  # [H/m] (the pre-2019 exact value; the 2019 SI value differs by 1e-10)
+_KNEES: dict[tuple, float] = {}
 
 
 @dataclass(frozen=True)
@@ -50,10 +51,25 @@ class BHCurve:
             return s * float(np.interp(x, self.h, self.b))
         return s * float(self.b[-1] + MU0 * (x - self.h[-1]))
 
+    def h_of_b_array(self, b: np.ndarray) -> np.ndarray:
+        """:meth:`h_of_b` for an array of non-negative flux densities."""
+        b = np.asarray(b, dtype=float)
+        return np.where(b <= self.b[-1], np.interp(b, self.b, self.h), self.h[-1] + (b - self.b[-1]) / MU0)
+
+    def b_of_h_array(self, h: np.ndarray) -> np.ndarray:
+        h = np.asarray(h, dtype=float)
+        return np.where(h <= self.h[-1], np.interp(h, self.h, self.b), self.b[-1] + MU0 * (h - self.h[-1]))
+
     def knee(self, slope: float = 0.2) -> float:
         """Flux density [T] where d(ln B)/d(ln H) first falls to ``slope`` (past the steep part)."""
+        key = (self.name, id(self.h), slope)
+        if key not in _KNEES:
+            _KNEES[key] = self._knee(slope)
+        return _KNEES[key]
+
+    def _knee(self, slope: float) -> float:
         h = np.geomspace(max(self.h[1], 1e-3), self.h[-1], 4000)
-        b = np.array([self.b_of_h(x) for x in h])
+        b = self.b_of_h_array(h)
         g = np.gradient(np.log(b), np.log(h))
         start = int(np.argmax(g))
         below = np.nonzero(g[start:] <= slope)[0]
@@ -108,6 +124,13 @@ class MagneticCircuit:
         if self.mmf(hi) - target <= 0:  # only by rounding (vanishing ampere-turns or ideal iron)
             return s * hi
         return s * bracketed_root(lambda b: self.mmf(b) - target, 0.0, hi, xtol=1e-13)
+
+    def mmf_table(self, b_max: float, points: int = 2000) -> tuple[np.ndarray, np.ndarray]:
+        """(ampere-turns, gap flux density) on a grid of B from 0 to ``b_max``: monotone, so it also
+        serves as B(NI) by interpolation."""
+        b = np.linspace(0.0, b_max, points)
+        ni = self.curve.h_of_b_array(b * self.area / self.iron_area) * self.iron_length + self.gaps * b * self.gap / MU0
+        return ni, b
 
     def flux(self, current: float) -> float:
         """Flux Φ = B·A [Wb] at coil ``current`` [A]."""

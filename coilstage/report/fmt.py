@@ -6,7 +6,7 @@ import math
 from typing import Any
 
 _PREFIX = [(1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ")]
-_DISPLAY = {"ohm": "Ω", "degC": "°C", "1": "", "%": "%"}
+_DISPLAY = {"ohm": "Ω", "degC": "°C", "1": "", "%": "%", "A^2s": "A²s", "A*h": "A·h", "N*m": "N·m"}
 
 
 def si(value: float | None, unit: str, digits: int = 3) -> str:

@@ -230,8 +230,29 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
     for col in ("status", "rule", "subject", "value", "limit", "margin"):
         v.add_column(col, justify="right" if col in ("value", "limit", "margin") else "left")
     notes = []
+    passes: dict[str, list[dict[str, Any]]] = {}
+    for x in doc["verdicts"]:
+        if x["status"] == "pass" and not details:
+            passes.setdefault(x["rule"], []).append(x)
+    shown: set[str] = set()
     for x in doc["verdicts"]:
         st = x["status"]
+        group = passes.get(x["rule"]) if st == "pass" and not details else None
+        if group is not None:
+            if x["rule"] in shown:
+                continue
+            shown.add(x["rule"])
+            tight = min(group, key=lambda y: y["margin"] if y["margin"] is not None else float("inf"))
+            subject = tight["subject"] if len(group) == 1 else f"{len(group)}, tightest {tight['subject']}"
+            v.add_row(
+                Text("PASS", style=_STYLE["pass"]),
+                x["rule"],
+                subject,
+                qv(tight["value"]),
+                qv(tight["limit"]),
+                margin(tight["margin"]),
+            )
+            continue
         v.add_row(
             Text(st.upper(), style=_STYLE[st]),
             x["rule"],
@@ -244,7 +265,14 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             notes.append(x)
     console.print(v)
     if notes:
-        console.print("[bold]Why[/bold]" + ("" if details else " (verdicts other than pass; --details for all)"))
+        console.print(
+            "[bold]Why[/bold]"
+            + (
+                ""
+                if details
+                else " (verdicts other than pass; passes are grouped by rule: --details lists every verdict)"
+            )
+        )
         for x in notes:
             line = Text("  ")
             line.append(f"{x['status'].upper()} ", style=_STYLE[x["status"]])

@@ -537,9 +537,10 @@ def _coils(r: _Reader, raw: dict, env: Environment | None) -> dict[str, CoilType
             else:
                 hot = ins - allowance
                 hot_src = f"class {ins} limit less {allowance:g} K hot-spot allowance (not given)"
-                r.assume(
-                    f"{where}.hot_temperature not given: the hot corner runs the winding at {hot:g} °C ({hot_src})"
-                )
+                if "thermal_resistance" not in body:  # with a thermal model the hot corner computes it
+                    r.assume(
+                        f"{where}.hot_temperature not given: the hot corner runs the winding at {hot:g} °C ({hot_src})"
+                    )
         thermal = _coil_thermal(r, body, where, metal, env)
         magnetic = _coil_magnetic(r, body, where)
         if None in (metal, ins, inductance, turns, r_ref, t_ref, hot) or thermal is None or magnetic is False:

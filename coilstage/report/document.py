@@ -37,7 +37,7 @@ def cautions(a: Analysis) -> list[dict[str, str]]:
         {
             "hazard": "hot coils",
             "text": (
-                f"The windings are taken up to {hot:g} °C in the hot corner, and the rotor runs far hotter after a "
+                f"The windings are taken up to {hot:.0f} °C in the hot corner, and the rotor runs far hotter after a "
                 "long descent. Let the retarder cool before touching it or the cables near it; keep fuel and "
                 "brake lines clear of it."
             ),

@@ -38,7 +38,7 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
     for c in doc["corners"]:
         t = Table(title=f"{c['name'].upper()} corner — {c['purpose']}", box=box.SIMPLE_HEAD, title_justify="left")
         t.add_column("stage")
-        for col in ("winding °C", "R mΩ", "I A", "U V", "P W", "N·I A/coil", "drop V", "drop %", "½LI² J"):
+        for col in ("T °C", "R mΩ", "I A", "U V", "P W", "N·I A/coil", "drop V", "drop %", "½LI² J"):
             t.add_column(col, justify="right")
         for st in c["stages"]:
             t.add_row(

@@ -60,24 +60,50 @@ def _print_problems(source: str, problems, kind: str = "drawing") -> None:
         print(f"  {p}", file=sys.stderr)
 
 
-def _check(args: argparse.Namespace) -> int:
+def _load(drawing_path: Path, analyse: dict | None = None):
+    """The drawing (and, with ``analyse`` keywords, its analysis), or an exit code after printing
+    every problem."""
     from coilstage.errors import DataError, DrawingError
 
+    try:
+        from coilstage import load_drawing
+
+        drawing = load_drawing(drawing_path)
+        if analyse is None:
+            return drawing, None
+        from coilstage.analysis.corners import analyse as run_analysis
+
+        return drawing, run_analysis(drawing, **analyse)
+    except DrawingError as exc:
+        _print_problems(exc.source, exc.problems)
+    except DataError as exc:
+        _print_problems(exc.source, exc.problems, "table")
+    return EXIT_BAD_INPUT
+
+
+def _output_files(out: str, drawing_path: Path, what: str, exts: tuple[str, ...]) -> list[Path] | int:
+    """The files a command writes into ``out``; an exit code if one of them would be the drawing."""
+    folder = Path(out)
+    files = [folder / f"{drawing_path.stem}-{what}.{ext}" for ext in exts]
+    if any(f.resolve() == drawing_path.resolve() for f in files):
+        print("coilstage: the output would overwrite the drawing itself", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    folder.mkdir(parents=True, exist_ok=True)
+    return files
+
+
+def _check(args: argparse.Namespace) -> int:
     drawing_path = Path(args.drawing)
     if args.output and Path(args.output).resolve() == drawing_path.resolve():
         print("coilstage: --output would overwrite the drawing itself; choose another file", file=sys.stderr)
         return EXIT_BAD_INPUT
-    try:
-        from coilstage import check, load_drawing
+    loaded = _load(drawing_path, {})
+    if isinstance(loaded, int):
+        return loaded
+    _drawing, analysis = loaded
+    from coilstage.checks import run_checks
 
-        drawing = load_drawing(drawing_path)
-        analysis, verdicts = check(drawing)
-    except DrawingError as exc:
-        _print_problems(exc.source, exc.problems)
-        return EXIT_BAD_INPUT
-    except DataError as exc:
-        _print_problems(exc.source, exc.problems, "table")
-        return EXIT_BAD_INPUT
+    verdicts = run_checks(analysis)
     from coilstage.report import document
 
     doc = document.build(analysis, verdicts)
@@ -109,7 +135,6 @@ def _check(args: argparse.Namespace) -> int:
 
 
 def _waveforms(args: argparse.Namespace) -> int:
-    from coilstage.errors import DataError, DrawingError
     from coilstage.units import QuantityError, parse_quantity
 
     try:
@@ -121,27 +146,15 @@ def _waveforms(args: argparse.Namespace) -> int:
         print("coilstage: --step: expected a step between 1 µs and 1 s", file=sys.stderr)
         return EXIT_BAD_INPUT
     drawing_path = Path(args.drawing)
-    try:
-        from coilstage import load_drawing
-        from coilstage.analysis.corners import analyse
-
-        drawing = load_drawing(drawing_path)
-        analysis = analyse(drawing)
-    except DrawingError as exc:
-        _print_problems(exc.source, exc.problems)
-        return EXIT_BAD_INPUT
-    except DataError as exc:
-        _print_problems(exc.source, exc.problems, "table")
-        return EXIT_BAD_INPUT
+    loaded = _load(drawing_path, {"heating": False})
+    if isinstance(loaded, int):
+        return loaded
+    drawing, analysis = loaded
     from coilstage.report import waveforms
 
-    out = Path(args.out)
-    out.mkdir(parents=True, exist_ok=True)
-    stem = drawing_path.stem
-    files = [out / f"{stem}-waveforms.{ext}" for ext in ("csv", "json", "png", "svg")]
-    if any(f.resolve() == drawing_path.resolve() for f in files):
-        print("coilstage: the output would overwrite the drawing itself", file=sys.stderr)
-        return EXIT_BAD_INPUT
+    files = _output_files(args.out, drawing_path, "waveforms", ("csv", "json", "png", "svg"))
+    if isinstance(files, int):
+        return files
     rows = waveforms.series(analysis, step)
     ids = [s.id for s in drawing.stages]
     waveforms.write_csv(rows, files[0], ids)
@@ -153,19 +166,11 @@ def _waveforms(args: argparse.Namespace) -> int:
 
 
 def _descent(args: argparse.Namespace) -> int:
-    from coilstage.errors import DataError, DrawingError
-
     drawing_path = Path(args.drawing)
-    try:
-        from coilstage import load_drawing
-
-        drawing = load_drawing(drawing_path)
-    except DrawingError as exc:
-        _print_problems(exc.source, exc.problems)
-        return EXIT_BAD_INPUT
-    except DataError as exc:
-        _print_problems(exc.source, exc.problems, "table")
-        return EXIT_BAD_INPUT
+    loaded = _load(drawing_path)
+    if isinstance(loaded, int):
+        return loaded
+    drawing, _ = loaded
     import dataclasses
 
     from coilstage import tables
@@ -207,12 +212,9 @@ def _descent(args: argparse.Namespace) -> int:
         result = simulate(drawing, duty, progress=lambda done, total: bar.update(task, completed=done))
     from coilstage.report import descent
 
-    out = Path(args.out)
-    out.mkdir(parents=True, exist_ok=True)
-    files = [out / f"{drawing_path.stem}-descent.{ext}" for ext in ("csv", "json", "png", "svg")]
-    if any(f.resolve() == drawing_path.resolve() for f in files):
-        print("coilstage: the output would overwrite the drawing itself", file=sys.stderr)
-        return EXIT_BAD_INPUT
+    files = _output_files(args.out, drawing_path, "descent", ("csv", "json", "png", "svg"))
+    if isinstance(files, int):
+        return files
     descent.write_csv(result, files[0])
     descent.write_json(result, files[1], drawing.title)
     descent.plot(result, drawing, files[2:], drawing.title)
@@ -228,29 +230,16 @@ def _descent(args: argparse.Namespace) -> int:
 
 
 def _field(args: argparse.Namespace) -> int:
-    from coilstage.errors import DataError, DrawingError
-
     drawing_path = Path(args.drawing)
-    try:
-        from coilstage import load_drawing
-        from coilstage.analysis.corners import analyse
-
-        drawing = load_drawing(drawing_path)
-        analysis = analyse(drawing, switching=False, heating=True)
-    except DrawingError as exc:
-        _print_problems(exc.source, exc.problems)
-        return EXIT_BAD_INPUT
-    except DataError as exc:
-        _print_problems(exc.source, exc.problems, "table")
-        return EXIT_BAD_INPUT
+    loaded = _load(drawing_path, {"switching": False})
+    if isinstance(loaded, int):
+        return loaded
+    drawing, analysis = loaded
     from coilstage.report import field_plot
 
-    out = Path(args.out)
-    out.mkdir(parents=True, exist_ok=True)
-    files = [out / f"{drawing_path.stem}-field.{ext}" for ext in ("png", "svg")]
-    if any(f.resolve() == drawing_path.resolve() for f in files):
-        print("coilstage: the output would overwrite the drawing itself", file=sys.stderr)
-        return EXIT_BAD_INPUT
+    files = _output_files(args.out, drawing_path, "field", ("png", "svg"))
+    if isinstance(files, int):
+        return files
     if not field_plot.plot(analysis, files, drawing.title):
         print(
             "coilstage: no coil in this drawing has a magnetic circuit (pole_area, gap_length, iron_length): "

@@ -34,8 +34,10 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
     stages = _stage_map(a)
     cold = a.switching.stages["cold"]
     order = [row["category"] for row in tables.utilization_categories()]
+    switched = switched_stages(a.drawing)
+    cold_t = corner_sources(a.drawing)["cold"][0]
     for relay in a.drawing.of_kind(Relay):
-        ids = switched_stages(a.drawing).get(relay.id, [])
+        ids = switched.get(relay.id, [])
         if not ids:
             out.append(not_checked(RELAY_BREAKING, relay.id, "this relay switches no stage", "ms"))
             continue
@@ -74,9 +76,7 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
             )
             continue
         tau = max(cold[s].tau for s in bare)
-        power = sum(
-            cold[s].i_break ** 2 * element_resistance(stages[s], corner_sources(a.drawing)["cold"][0][s]) for s in bare
-        )
+        power = sum(cold[s].i_break ** 2 * element_resistance(stages[s], cold_t[s]) for s in bare)
         need = category_for(tau, power)
         rated = set(relay.categories)
         ib = relay.inductive_break

@@ -49,6 +49,65 @@ _AWG_RE_PREFIX = re.compile(rf"^\s*AWG\s*{_AWG_BODY}\s*$", re.IGNORECASE)
 _TRADE_SPELLINGS = (("mm²", "mm**2"), ("mm2", "mm**2"), ("²", "**2"), ("^", "**"), ("Ohm", "ohm"))
 
 
+#: Plain "number unit" forms read without pint (its import costs about 0.2 s on every run): unit ->
+#: (factor to SI, dimension). Everything else, and every error, goes through pint. tests/test_units.py
+#: holds each entry equal to pint's own conversion.
+FAST_UNITS: dict[str, tuple[float, str]] = {
+    "V": (1.0, "voltage"),
+    "mV": (1e-3, "voltage"),
+    "kV": (1e3, "voltage"),
+    "A": (1.0, "current"),
+    "mA": (1e-3, "current"),
+    "kA": (1e3, "current"),
+    "ohm": (1.0, "resistance"),
+    "mohm": (1e-3, "resistance"),
+    "Ω": (1.0, "resistance"),
+    "mΩ": (1e-3, "resistance"),
+    "m": (1.0, "length"),
+    "mm": (1e-3, "length"),
+    "cm": (1e-2, "length"),
+    "km": (1e3, "length"),
+    "mm^2": (1e-6, "area"),
+    "mm2": (1e-6, "area"),
+    "mm²": (1e-6, "area"),
+    "cm^2": (1e-4, "area"),
+    "m^2": (1.0, "area"),
+    "H": (1.0, "inductance"),
+    "mH": (1e-3, "inductance"),
+    "uH": (1e-6, "inductance"),
+    "µH": (1e-6, "inductance"),
+    "s": (1.0, "time"),
+    "ms": (1e-3, "time"),
+    "min": (60.0, "time"),
+    "h": (3600.0, "time"),
+    "A*h": (3600.0, "charge"),
+    "W": (1.0, "power"),
+    "kW": (1e3, "power"),
+    "J": (1.0, "energy"),
+    "kJ": (1e3, "energy"),
+    "K": (1.0, "temperature_difference"),
+    "K/W": (1.0, "thermal_resistance"),
+    "J/K": (1.0, "heat_capacity"),
+    "kg": (1.0, "mass"),
+    "g": (1e-3, "mass"),
+    "A^2*s": (1.0, "joule_integral"),
+    "N*m": (1.0, "torque"),
+    "rpm": (2 * math.pi / 60.0, "angular_speed"),
+    "rad/s": (1.0, "angular_speed"),
+    "Hz": (1.0, "frequency"),
+}
+_FAST_TEMPERATURE = {"degC": (1.0, 0.0), "°C": (1.0, 0.0), "K": (1.0, -273.15), "degF": (5 / 9, -32.0 * 5 / 9)}
+_FAST_RE = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(\S+)\s*$")
+
+
+def _fast(text: Any) -> tuple[float, str] | None:
+    """(number, unit) of a plain "number unit" text, or None."""
+    if not isinstance(text, str):
+        return None
+    m = _FAST_RE.match(text)
+    return (float(m.group(1)), m.group(2)) if m else None
+
+
 class QuantityError(ValueError):
     """Text that is not a quantity of the expected kind; the message says what was expected."""
 
@@ -106,6 +165,9 @@ def parse_quantity(text: Any, dimension: str) -> float:
     >>> parse_quantity("8 mohm", "resistance")
     0.008
     """
+    fast = _fast(text)
+    if fast is not None and FAST_UNITS.get(fast[1], (0, ""))[1] == dimension:
+        return fast[0] * FAST_UNITS[fast[1]][0]
     unit, example = DIMENSIONS[dimension]
     noun = "a " + dimension.replace("_", " ")
     q = _parse(text, noun, example)
@@ -123,6 +185,12 @@ def parse_temperature(text: Any) -> float:
     >>> round(parse_temperature("358.15 K"), 6)
     85.0
     """
+    fast = _fast(text)
+    if fast is not None and fast[1] in _FAST_TEMPERATURE:
+        scale, offset = _FAST_TEMPERATURE[fast[1]]
+        c = fast[0] * scale + offset
+        if c >= -273.15:
+            return c
     q = _parse(text, "a temperature", "85 degC")
     if q.dimensionality != registry().Quantity(1, "K").dimensionality:
         raise QuantityError(f'a temperature such as "85 degC", not a {dimension_name(q)}')
@@ -136,6 +204,9 @@ def parse_dimensionless(text: Any) -> float:
     """A plain ratio: a number, or text such as ``"75 %"``."""
     if isinstance(text, (int, float)) and not isinstance(text, bool):
         return float(text)
+    fast = _fast(text)
+    if fast is not None and fast[1] == "%":
+        return fast[0] / 100.0
     q = _parse(text, "a ratio", "75 %")
     if not q.dimensionless:
         raise QuantityError(f'a plain ratio such as 0.75 or "75 %", not a {dimension_name(q)}')

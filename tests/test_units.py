@@ -96,3 +96,26 @@ def test_dimensionless():
     assert parse_dimensionless(0.5) == 0.5
     with pytest.raises(QuantityError):
         parse_dimensionless("3 V")
+
+
+def test_fast_units_agree_with_pint():
+    # The fast path must give exactly what pint gives for every unit it reads without pint.
+    from coilstage.units import _FAST_TEMPERATURE, DIMENSIONS, FAST_UNITS, _normalise, registry
+
+    ureg = registry()
+    for unit, (factor, dim) in FAST_UNITS.items():
+        q = ureg.Quantity(2.5, _normalise(unit).replace("^", "**"))
+        assert q.to(DIMENSIONS[dim][0]).magnitude == pytest.approx(2.5 * factor, rel=1e-12), unit
+        assert parse_quantity(f"2.5 {unit}", dim) == pytest.approx(2.5 * factor, rel=1e-12)
+    for unit in _FAST_TEMPERATURE:
+        reference = (
+            ureg.Quantity(85, "degC" if unit == "°C" else unit).to("degC").magnitude
+        )  # pint reads "°C" as degreeC
+        assert parse_temperature(f"85 {unit}") == pytest.approx(reference, abs=1e-9), unit
+    assert parse_dimensionless("75 %") == pytest.approx(ureg.Quantity("75 %").to("").magnitude)
+
+
+def test_forms_outside_the_fast_path_still_parse():
+    assert parse_quantity("1.5e-3 kohm", "resistance") == pytest.approx(1.5)
+    assert parse_quantity("225 A * h", "charge") == pytest.approx(225 * 3600)
+    assert parse_quantity("2 ft", "length") == pytest.approx(0.6096)

@@ -195,3 +195,23 @@ def test_fault_currents_of_every_fuse_match_one_short_at_a_time():
         fuse = next(e for e in d.elements if e.id == fid)
         direct = a.circuit.solve(temps, src, short_at=fuse.b).fault_current
         assert i_sc == pytest.approx(abs(direct), rel=1e-9)
+
+
+def test_cold_duty_from_one_factorisation_matches_a_solve_per_state():
+    # Independent: a full DC solve for each state (all stages on; each stage alone, the others opened
+    # by a 1 TΩ resistance), taking the largest current of each element.
+    from coilstage.analysis.circuit import Circuit
+    from coilstage.analysis.corners import cold_duty, corner_sources
+
+    for d in (load_drawing(FLAWED), parse_drawing(drawing_text(stages=3, feed="6 mm^2"), "x")):
+        circuit = Circuit(d)
+        temps, src = corner_sources(d)["cold"]
+        ours, where = cold_duty(circuit, temps, src)
+        ids = [s.id for s in d.stages]
+        sols = [circuit.solve(temps, src)] + [
+            circuit.solve(temps, src, overrides={x: 1e12 for x in ids if x != k}) for k in ids
+        ]
+        for e in d.elements:
+            ref = max(abs(s.current[e.id]) for s in sols)
+            assert ours[e.id] == pytest.approx(ref, rel=1e-9, abs=1e-9), e.id
+        assert where["WM" if "WM" in where else "W-FEED"] == "all stages"

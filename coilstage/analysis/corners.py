@@ -110,21 +110,42 @@ def cold_duty(circuit: Circuit, temps: dict[str, float], src: SourceState) -> tu
     one stage on alone, and which state gives it.
 
     A branch carries most when its stage is the only one on (no other stage's current drops the
-    shared feed); a shared feed carries most with all on. With a stage off its element is open.
+    shared feed); a shared feed carries most with all on. The cold corner is linear (bus held,
+    alternator at a fixed output), so one factorisation serves every state: with the stages as the
+    RL system ``c − K·i`` of :func:`coilstage.analysis.switching.build_linear`, stage k alone draws
+    c_k/K_kk, all together K⁻¹c, and every element current is an affine read-out ``g·i + h``.
     """
+    import numpy as np
+
+    from coilstage.analysis.switching import build_linear
+
     d = circuit.drawing
-    stage_ids = [s.id for s in d.stages]
-    states = [("all stages", circuit.solve(temps, src))]
-    for sid in stage_ids if len(stage_ids) > 1 else []:
-        off = {x: 1e12 for x in stage_ids if x != sid}  # an open stage: 1 TΩ
-        states.append((f"{sid} alone", circuit.solve(temps, src, overrides=off)))
-    duty: dict[str, float] = {}
-    where: dict[str, str] = {}
-    for name, sol in states:
-        for e in d.elements:
-            i = abs(sol.current[e.id])
-            if i > duty.get(e.id, -1.0) * (1 + 1e-12):
-                duty[e.id], where[e.id] = i, name
+    ids = tuple(s.id for s in d.stages)
+    lin = build_linear(circuit, temps, src, ids, "fixed", all_elements=True)
+    k, c = lin.rl.k, lin.rl.c
+    i_all = np.linalg.solve(k, c)
+    i_alone = c / np.diag(k)  # stage j alone: c_j / K_jj
+    elems = d.elements
+    n = len(ids)
+    g = np.zeros((len(elems), n))
+    h = np.zeros(len(elems))
+    for r, e in enumerate(elems):
+        if e.id in lin.stages:
+            g[r, lin.stages.index(e.id)] = 1.0
+        else:
+            g[r], h[r] = lin.readout[f"element:{e.id}"]
+    all_on = np.abs(g @ i_all + h)  # (elements,)
+    names = ["all stages"]
+    if n > 1:
+        alone = np.abs(g * i_alone[None, :] + h[:, None])  # (elements, stages): column j = stage j alone
+        table = np.column_stack([all_on, alone])
+        names += [f"{sid} alone" for sid in ids]
+    else:
+        table = all_on[:, None]
+    top = table.max(axis=1)
+    best = np.where(table[:, 0] >= top * (1 - 1e-12), 0, np.argmax(table, axis=1))  # a tie goes to all stages
+    duty = {e.id: float(table[r, best[r]]) for r, e in enumerate(elems)}
+    where = {e.id: names[best[r]] for r, e in enumerate(elems)}
     return duty, where
 
 

@@ -92,10 +92,17 @@ class Scenario:
 
 
 def build_linear(
-    circuit: Circuit, temps: dict[str, float], src: SourceState, stages: tuple[str, ...], mode: str
+    circuit: Circuit,
+    temps: dict[str, float],
+    src: SourceState,
+    stages: tuple[str, ...],
+    mode: str,
+    all_elements: bool = False,
 ) -> Linear:
     """The RL system of the network with ``stages`` energised and the alternator in ``mode``
-    ("regulating", "current-limited", "off", or "fixed" where the corner fixes it)."""
+    ("regulating", "current-limited", "off", or "fixed" where the corner fixes it). Read-outs
+    ``element:<id>`` give the current of every fuse and relay, and of every element with
+    ``all_elements``."""
     d = circuit.drawing
     s = d.supply
     nd = circuit.nodes
@@ -157,8 +164,8 @@ def build_linear(
         readout["alternator_current"] = (zero, 0.0)
     from coilstage.drawing.schema import Fuse, Relay
 
-    for e in d.elements:  # currents of the protective devices, for the fuse and relay rules
-        if isinstance(e, (Fuse, Relay)):
+    for e in d.elements:  # element currents: every device, or every element when asked for
+        if isinstance(e, (Fuse, Relay)) or (all_elements and e.id not in all_stages):
             if e.id in vs_owner:
                 kb = nn + vs_owner.index(e.id)
                 readout[f"element:{e.id}"] = (zx[kb, :].copy(), float(x0[kb]))

@@ -66,5 +66,48 @@ def floor(value: float, limit: float) -> float | None:
     return (value - limit) / limit if limit > 0 else None
 
 
+def at_most(
+    rule: Rule,
+    subject: str,
+    value: float,
+    limit: float,
+    unit: str,
+    note: str,
+    corner: str = "",
+    over: Status = Status.FAIL,
+) -> Verdict:
+    """PASS when ``value`` <= ``limit``, else ``over`` (FAIL, or WARN for an advisory rule); margin
+    as :func:`ceiling` (on the kelvin scale for a temperature)."""
+    m = ceiling_temperature(value, limit) if unit == "degC" else ceiling(value, limit)
+    return Verdict(
+        rule.id, subject, Status.PASS if value <= limit else over, value, limit, unit, m, rule.clause, note, corner
+    )
+
+
+def at_least(
+    rule: Rule,
+    subject: str,
+    value: float,
+    limit: float,
+    unit: str,
+    note: str,
+    corner: str = "",
+    under: Status = Status.FAIL,
+) -> Verdict:
+    """PASS when ``value`` >= ``limit``, else ``under``; margin as :func:`floor`."""
+    return Verdict(
+        rule.id,
+        subject,
+        Status.PASS if value >= limit else under,
+        value,
+        limit,
+        unit,
+        floor(value, limit),
+        rule.clause,
+        note,
+        corner,
+    )
+
+
 def not_checked(rule: Rule, subject: str, reason: str, unit: str = "", corner: str = "") -> Verdict:
     return Verdict(rule.id, subject, Status.NOT_CHECKED, None, None, unit, None, rule.clause, reason, corner)

@@ -4,7 +4,15 @@ from __future__ import annotations
 
 from coilstage import tables
 from coilstage.analysis.corners import Analysis
-from coilstage.checks.base import Rule, Status, Verdict, ceiling, ceiling_temperature, not_checked
+from coilstage.checks.base import (
+    Rule,
+    Status,
+    Verdict,
+    at_most,
+    ceiling,
+    ceiling_temperature,
+    not_checked,
+)
 from coilstage.drawing.schema import Cable
 
 
@@ -76,7 +84,6 @@ def _ampacity(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        status = Status.PASS if i <= amp.value else Status.FAIL
         comp = computed_ampacity(c)
         table_value = amp.base * amp.ambient_factor * amp.bundle_factor
         note = (
@@ -86,9 +93,7 @@ def _ampacity(a: Analysis) -> list[Verdict]:
             + ("not available (no outside diameter)" if comp is None else f"{comp:.0f} A")
             + f"; current with {a.duty_state[c.id]} on"
         )
-        out.append(
-            Verdict(AMPACITY.id, c.id, status, i, amp.value, "A", ceiling(i, amp.value), AMPACITY.clause, note, "cold")
-        )
+        out.append(at_most(AMPACITY, c.id, i, amp.value, "A", note, "cold"))
     return out
 
 

@@ -4,7 +4,14 @@ from __future__ import annotations
 
 from coilstage.analysis.corners import Analysis
 from coilstage.analysis.field import INDUCTANCE_TOLERANCE
-from coilstage.checks.base import Rule, Status, Verdict, floor, not_checked
+from coilstage.checks.base import (
+    Rule,
+    Status,
+    Verdict,
+    at_least,
+    at_most,
+    not_checked,
+)
 
 
 def _inductance(a: Analysis) -> list[Verdict]:
@@ -60,20 +67,7 @@ def _saturation(a: Analysis) -> list[Verdict]:
                 f": saturated, so the cold current buys heat more than braking (hot corner: {h.b_iron:.2f} T "
                 f"with {h.ampere_turns:.0f} A)"
             )
-        out.append(
-            Verdict(
-                SATURATION.id,
-                s.id,
-                Status.PASS if ok else Status.WARN,
-                x.b_iron,
-                x.knee,
-                "T",
-                (x.knee - x.b_iron) / x.knee,
-                SATURATION.clause,
-                note,
-                "cold",
-            )
-        )
+        out.append(at_most(SATURATION, s.id, x.b_iron, x.knee, "T", note, "cold", over=Status.WARN))
     return out
 
 
@@ -91,21 +85,7 @@ def _retained(a: Analysis) -> list[Verdict]:
         note += f"; estimated torque {f.torque['cold']:.0f} N·m cold, {f.torque['hot']:.0f} N·m hot"
     if lim is None:
         return [not_checked(RETAINED, "retarder", note + "; no retarder.min_braking_ratio in the drawing", "1")]
-    ok = f.ratio_corners >= lim
-    return [
-        Verdict(
-            RETAINED.id,
-            "retarder",
-            Status.PASS if ok else Status.FAIL,
-            f.ratio_corners,
-            lim,
-            "1",
-            floor(f.ratio_corners, lim),
-            RETAINED.clause,
-            note,
-            "hot",
-        )
-    ]
+    return [at_least(RETAINED, "retarder", f.ratio_corners, lim, "1", note, "hot")]
 
 
 INDUCTANCE = Rule(

@@ -9,7 +9,15 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.corners import Analysis, cut_off_by
-from coilstage.checks.base import Rule, Status, Verdict, ceiling, ceiling_temperature, not_checked
+from coilstage.checks.base import (
+    Rule,
+    Status,
+    Verdict,
+    at_most,
+    ceiling,
+    ceiling_temperature,
+    not_checked,
+)
 from coilstage.checks.cables import cable_ampacity
 from coilstage.drawing.schema import Cable, Fuse
 from coilstage.physics.fault import (
@@ -174,7 +182,6 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
             theta_i = c.class_max
             theta_f = adiabatic_final_temperature(i_sc * i_sc * t, c.area, k, beta, theta_i)
             limit = float(tables.cable_class_rows()[c.insulation_class]["short_circuit"])
-            ok = theta_f <= limit
             note = (
                 f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the latest "
                 f"({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} adiabatically from "
@@ -182,20 +189,7 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
             )
             if t > 5:
                 note += "; beyond the 5 s adiabatic range, so the real conductor ends cooler"
-            out.append(
-                Verdict(
-                    SHORT.id,
-                    subject,
-                    Status.PASS if ok else Status.FAIL,
-                    theta_f,
-                    limit,
-                    "degC",
-                    ceiling_temperature(theta_f, limit),
-                    SHORT.clause,
-                    note,
-                    "cold",
-                )
-            )
+            out.append(at_most(SHORT, subject, theta_f, limit, "degC", note, "cold"))
     return out
 
 
@@ -232,7 +226,6 @@ def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
         limit = (
             ABYC_DISTANCES[2] if (c.sheathed and at_battery) else ABYC_DISTANCES[1] if c.sheathed else ABYC_DISTANCES[0]
         )
-        status = Status.PASS if c.length <= limit else Status.WARN
         what = (
             "sheathed, on the battery terminal"
             if c.sheathed and at_battery
@@ -241,17 +234,15 @@ def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
             else "not sheathed"
         )
         out.append(
-            Verdict(
-                AHEAD.id,
+            at_most(
+                AHEAD,
                 c.id,
-                status,
                 c.length,
                 limit,
                 "m",
-                ceiling(c.length, limit),
-                AHEAD.clause,
                 f"{c.length:g} m of cable ahead of any fuse ({what}); no fuse protects it",
                 "",
+                over=Status.WARN,
             )
         )
     return out
@@ -279,17 +270,13 @@ def _pulse(a: Analysis) -> list[Verdict]:
                 # the whole current through the fuse, not just the step: a preloaded fuse has less margin
                 worst = max(worst, float(np.trapezoid(i * i, grid)))
         limit = frac * f.melting_i2t
-        ok = worst <= limit
         out.append(
-            Verdict(
-                PULSE.id,
+            at_most(
+                PULSE,
                 f.id,
-                Status.PASS if ok else Status.FAIL,
                 worst,
                 limit,
                 "A^2s",
-                ceiling(worst, limit),
-                PULSE.clause,
                 f"I²t through the fuse over the first {window * 1e3:g} ms after each switch-on (largest of the "
                 "cold-corner scenarios) "
                 f"against {fnote} of the {f.melting_i2t:g} A²s melting I²t ({a.drawing.switching.cycles:,} switchings)",

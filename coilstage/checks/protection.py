@@ -4,7 +4,15 @@ from __future__ import annotations
 
 from coilstage import tables
 from coilstage.analysis.corners import Analysis
-from coilstage.checks.base import Rule, Status, Verdict, ceiling, floor, not_checked
+from coilstage.checks.base import (
+    Rule,
+    Status,
+    Verdict,
+    at_least,
+    at_most,
+    ceiling,
+    not_checked,
+)
 from coilstage.checks.cables import cable_ampacity
 from coilstage.drawing.schema import Cable, Fuse, Relay
 
@@ -101,17 +109,13 @@ def _fuse_voltage(a: Analysis) -> list[Verdict]:
     v = a.drawing.corners.limit_bus
     out = []
     for f in a.drawing.of_kind(Fuse):
-        status = Status.PASS if f.voltage_rating >= v else Status.FAIL
         out.append(
-            Verdict(
-                FUSE_VOLTAGE.id,
+            at_least(
+                FUSE_VOLTAGE,
                 f.id,
-                status,
                 f.voltage_rating,
                 v,
                 "V",
-                floor(f.voltage_rating, v),
-                FUSE_VOLTAGE.clause,
                 f"fuse rated {f.voltage_rating:g} V against the system's highest voltage {v:g} V "
                 f"({a.drawing.supply.limits_source or 'drawing'})",
                 "limit",
@@ -124,17 +128,13 @@ def _fuse_breaking(a: Analysis) -> list[Verdict]:
     out = []
     for f in a.drawing.of_kind(Fuse):
         i = a.fault_current[f.id]
-        status = Status.PASS if f.breaking_capacity >= i else Status.FAIL
         out.append(
-            Verdict(
-                FUSE_BREAKING.id,
+            at_most(
+                FUSE_BREAKING,
                 f.id,
-                status,
                 i,
                 f.breaking_capacity,
                 "A",
-                ceiling(i, f.breaking_capacity),
-                FUSE_BREAKING.clause,
                 f"bolted short from the load terminal ({f.b}) to chassis ({a.drawing.supply.chassis_node}) "
                 "at the cold corner, battery "
                 f"and alternator feeding; breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})",
@@ -217,17 +217,13 @@ def _relay_voltage(a: Analysis) -> list[Verdict]:
         if r.voltage_rating is None:
             out.append(not_checked(RELAY_VOLTAGE, r.id, "no voltage_rating given for this relay", "V", "limit"))
             continue
-        status = Status.PASS if r.voltage_rating >= v else Status.FAIL
         out.append(
-            Verdict(
-                RELAY_VOLTAGE.id,
+            at_least(
+                RELAY_VOLTAGE,
                 r.id,
-                status,
                 r.voltage_rating,
                 v,
                 "V",
-                floor(r.voltage_rating, v),
-                RELAY_VOLTAGE.clause,
                 f"highest switching voltage {r.voltage_rating:g} V against {v:g} V",
                 "limit",
             )

@@ -3,7 +3,14 @@
 from __future__ import annotations
 
 from coilstage.analysis.corners import Analysis
-from coilstage.checks.base import Rule, Status, Verdict, ceiling, floor, not_checked
+from coilstage.checks.base import (
+    Rule,
+    Status,
+    Verdict,
+    at_least,
+    at_most,
+    not_checked,
+)
 
 
 def _alternator(a: Analysis) -> list[Verdict]:
@@ -15,44 +22,26 @@ def _alternator(a: Analysis) -> list[Verdict]:
     out = []
     for label, limit in (("idle", alt.limit_idle), ("rated speed", alt.limit_rated)):
         share = max(demand - limit, 0.0)
-        status = Status.PASS if demand <= limit else Status.WARN
         note = (
             f"stages {cold.total_stage_current:.1f} A + base load {cold.base_load:.1f} A at the cold corner "
             f"against {limit:g} A at {label}"
         )
         if share > 0:
             note += f"; the battery supplies {share:.1f} A ({share / demand:.0%}) while the retarder is on"
-        out.append(
-            Verdict(
-                ALTERNATOR.id,
-                f"alternator ({label})",
-                status,
-                demand,
-                limit,
-                "A",
-                ceiling(demand, limit),
-                ALTERNATOR.clause,
-                note,
-                "cold",
-            )
-        )
+        out.append(at_most(ALTERNATOR, f"alternator ({label})", demand, limit, "A", note, "cold", over=Status.WARN))
     return out
 
 
 def _bus_minimum(a: Analysis) -> list[Verdict]:
     hot = a.corners["hot"]
     s = a.drawing.supply
-    status = Status.PASS if hot.bus_voltage >= s.v_min else Status.FAIL
     return [
-        Verdict(
-            BUS_MINIMUM.id,
+        at_least(
+            BUS_MINIMUM,
             "bus",
-            status,
             hot.bus_voltage,
             s.v_min,
             "V",
-            floor(hot.bus_voltage, s.v_min),
-            BUS_MINIMUM.clause,
             f"bus at the battery terminals in the hot corner (battery {hot.battery_current:.1f} A, alternator "
             f"{hot.alternator_current:.1f} A {hot.alternator_mode}) against the {s.limits_source} minimum",
             "hot",

@@ -5,7 +5,16 @@ from __future__ import annotations
 from coilstage import tables
 from coilstage.analysis.circuit import element_resistance
 from coilstage.analysis.corners import Analysis, corner_sources, switched_stages
-from coilstage.checks.base import Rule, Status, Verdict, ceiling, floor, not_checked
+from coilstage.checks.base import (
+    Rule,
+    Status,
+    Verdict,
+    at_least,
+    at_most,
+    ceiling,
+    floor,
+    not_checked,
+)
 from coilstage.drawing.schema import Relay, Stage
 from coilstage.physics.conductor import resistance_at_temperature
 
@@ -57,17 +66,13 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
                     )
                 )
                 continue
-            status = Status.PASS if cv <= relay.voltage_rating else Status.FAIL
             out.append(
-                Verdict(
-                    RELAY_BREAKING.id,
+                at_most(
+                    RELAY_BREAKING,
                     relay.id,
-                    status,
                     cv,
                     relay.voltage_rating,
                     "V",
-                    ceiling(cv, relay.voltage_rating),
-                    RELAY_BREAKING.clause,
                     f"suppressed at the coil ({', '.join(stages[s].suppression.kind for s in ids)}): the "
                     f"current commutates into the suppressor, a DC-1-like break of {i_break:.1f} A; the "
                     "opening contact sees the highest bus plus the suppressor voltage",
@@ -152,17 +157,13 @@ def _suppressors(a: Analysis) -> list[Verdict]:
                 )
             )
         else:
-            ok = sup.peak_current >= i0
             out.append(
-                Verdict(
-                    SUPPRESSOR.id,
+                at_most(
+                    SUPPRESSOR,
                     f"{s.id} peak current",
-                    Status.PASS if ok else Status.FAIL,
                     i0,
                     sup.peak_current,
                     "A",
-                    ceiling(i0, sup.peak_current),
-                    SUPPRESSOR.clause,
                     f"{sup.kind} carries the break current {i0:.1f} A as it commutates",
                     "cold",
                 )
@@ -175,17 +176,13 @@ def _suppressors(a: Analysis) -> list[Verdict]:
                 )
             )
         else:
-            ok = sup.reverse_voltage >= need_v
             out.append(
-                Verdict(
-                    SUPPRESSOR.id,
+                at_least(
+                    SUPPRESSOR,
                     f"{s.id} {what} voltage",
-                    Status.PASS if ok else Status.FAIL,
                     sup.reverse_voltage,
                     need_v,
                     "V",
-                    floor(sup.reverse_voltage, need_v),
-                    SUPPRESSOR.clause,
                     f"must block the clamped load dump ({dump:g} V, ISO 16750-2 Test B) and the highest bus "
                     f"({a.drawing.corners.limit_bus:g} V)",
                     "limit",
@@ -197,17 +194,13 @@ def _suppressors(a: Analysis) -> list[Verdict]:
                 not_checked(SUPPRESSOR, f"{s.id} energy", f"no energy_rating (it takes {e:.1f} J per break)", "J")
             )
         else:
-            ok = e <= sup.energy_rating
             out.append(
-                Verdict(
-                    SUPPRESSOR.id,
+                at_most(
+                    SUPPRESSOR,
                     f"{s.id} energy",
-                    Status.PASS if ok else Status.FAIL,
                     e,
                     sup.energy_rating,
                     "J",
-                    ceiling(e, sup.energy_rating),
-                    SUPPRESSOR.clause,
                     f"energy per break from the decay through the {sup.kind} (of ½LI² = {sw.stored_energy:.1f} J)",
                     "cold",
                 )
@@ -236,24 +229,10 @@ def _release(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        ok = t <= lim
         note = f"{s.suppression.kind}: current falls to {frac:.0%} of {sw.i_break:.1f} A in {t * 1e3:.0f} ms"
         if s.suppression.kind == "none":
             note += " (the contact's arc takes the energy: fast release, destructive for the contact)"
-        out.append(
-            Verdict(
-                RELEASE.id,
-                s.id,
-                Status.PASS if ok else Status.FAIL,
-                t * 1e3,
-                lim * 1e3,
-                "ms",
-                ceiling(t, lim),
-                RELEASE.clause,
-                note,
-                "cold",
-            )
-        )
+        out.append(at_most(RELEASE, s.id, t * 1e3, lim * 1e3, "ms", note, "cold"))
     return out
 
 

@@ -9,7 +9,13 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.corners import Analysis
-from coilstage.checks.base import Rule, Status, Verdict, ceiling, ceiling_temperature, not_checked
+from coilstage.checks.base import (
+    Rule,
+    Status,
+    Verdict,
+    at_most,
+    not_checked,
+)
 from coilstage.drawing.schema import Cable, Fuse
 
 NO_MODEL = "the coil has no thermal model (thermal_resistance and heat_capacity or conductor_mass)"
@@ -24,18 +30,14 @@ def _winding_temperature(a: Analysis) -> list[Verdict]:
             continue
         peak = float(np.max(r.stage_temperature[:, k]))
         lim = s.coil.limit_temperature
-        ok = peak <= lim
         end_i = r.stage_current[-1, k]
         out.append(
-            Verdict(
-                WINDING.id,
+            at_most(
+                WINDING,
                 s.id,
-                Status.PASS if ok else Status.FAIL,
                 peak,
                 lim,
                 "degC",
-                ceiling_temperature(peak, lim),
-                WINDING.clause,
                 f"highest average winding temperature over the duty ({a.drawing.duty.name}, "
                 f"{r.duty.duration / 60:.0f} min) against class {s.coil.insulation_class} less "
                 f"{s.coil.class_allowance:g} K; at its end {r.stage_temperature[-1, k]:.0f} °C, {end_i:.1f} A, "
@@ -102,17 +104,13 @@ def _cable_temperature(a: Analysis) -> list[Verdict]:
     for k, cid in enumerate(r.cable_ids):
         c = cables[cid]
         peak = float(np.max(r.cable_temperature[:, k]))
-        ok = peak <= c.class_max
         out.append(
-            Verdict(
-                CABLE_TEMP.id,
+            at_most(
+                CABLE_TEMP,
                 cid,
-                Status.PASS if ok else Status.FAIL,
                 peak,
                 c.class_max,
                 "degC",
-                ceiling_temperature(peak, c.class_max),
-                CABLE_TEMP.clause,
                 f"highest conductor temperature over the duty in zone {c.zone} ({c.zone_temperature:g} °C); "
                 f"{r.cable_models[cid]}",
                 "",
@@ -138,17 +136,13 @@ def _battery(a: Analysis) -> list[Verdict]:
     du = a.drawing.duty
     usable = (du.start_soc - du.min_soc) * cap
     end_soc = du.start_soc - drawn / cap
-    ok = peak_drawn <= usable
     return [
-        Verdict(
-            BATTERY.id,
+        at_most(
+            BATTERY,
             "battery",
-            Status.PASS if ok else Status.FAIL,
             peak_drawn,
             usable,
             "A*h",
-            ceiling(peak_drawn, usable),
-            BATTERY.clause,
             f"largest charge drawn over the duty {peak_drawn:.1f} A·h of {cap:g} A·h; from {du.start_soc:.0%} the "
             f"battery ends at {end_soc:.0%} (floor {du.min_soc:.0%}); the EMF is held at its stated "
             f"{a.drawing.corners.hot_battery_emf:g} V (it falls as the battery empties: the sag is optimistic)",
@@ -180,17 +174,13 @@ def _fuse_duty(a: Analysis) -> list[Verdict]:
             )
         )
         peak = float(np.max(i)) if len(i) else 0.0
-        ok = used < 1.0
         out.append(
-            Verdict(
-                FUSE_DUTY.id,
+            at_most(
+                FUSE_DUTY,
                 f.id,
-                Status.PASS if ok else Status.FAIL,
                 used,
                 1.0,
                 "1",
-                ceiling(used, 1.0),
-                FUSE_DUTY.clause,
                 f"share of the must-not-open time used along the duty (sum of dt / t_min(I)); highest current "
                 f"{peak:.1f} A = {peak / carry:.2f} x the {carry:.1f} A rerated rating",
                 "",

@@ -47,3 +47,15 @@ class DataError(CoilstageError):
         self.source = source
         self.problems = list(problems)
         super().__init__(f"table {source}: " + "; ".join(map(str, self.problems)))
+
+
+class AnalysisError(CoilstageError):
+    """A valid drawing whose analysis cannot be completed within bounded work (a non-finite state in
+    an integrator, a simulation over its budget, a size over a stated limit). ``reason`` says what
+    happened and, where one exists, which limit to raise or which value to change. The CLI reports it
+    like bad input (exit 2), never as an internal error."""
+
+    def __init__(self, source: str, reason: str):
+        self.source = source
+        self.reason = reason
+        super().__init__(f"{source}: {reason}")

@@ -143,7 +143,8 @@ def main() -> None:
 
     sys.path.insert(0, str(ROOT))
     from coilstage.analysis.circuit import Circuit
-    from coilstage.analysis.corners import analyse, corner_sources
+    from coilstage.analysis.conditions import corner_sources
+    from coilstage.analysis.run import analyse
     from coilstage.drawing.load import parse_drawing
 
     t = time.perf_counter()

@@ -23,7 +23,7 @@ def load_drawing(path):
 
 def check(drawing):
     """Analyse a drawing and run every rule: returns ``(analysis, verdicts)``."""
-    from coilstage.analysis.corners import analyse
+    from coilstage.analysis.run import analyse
     from coilstage.checks import run_checks
 
     a = analyse(drawing)

@@ -11,7 +11,7 @@ import numpy as np
 from scipy.integrate import solve_ivp
 
 from coilstage.analysis.circuit import element_resistance
-from coilstage.analysis.corners import corner_sources
+from coilstage.analysis.conditions import corner_sources
 from coilstage.physics.network import Branches, LimitedSource, solve_mna, solve_with_limited_source
 
 

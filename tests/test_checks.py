@@ -186,7 +186,7 @@ def test_element_resistance_of_a_parallel_stage():
 
 
 def test_fault_currents_of_every_fuse_match_one_short_at_a_time():
-    from coilstage.analysis.corners import corner_sources
+    from coilstage.analysis.conditions import corner_sources
 
     d = load_drawing(FLAWED)
     a, _ = check(d)
@@ -201,12 +201,14 @@ def test_cold_duty_from_one_factorisation_matches_a_solve_per_state():
     # Independent: a full DC solve for each state (all stages on; each stage alone, the others opened
     # by a 1 TΩ resistance), taking the largest current of each element.
     from coilstage.analysis.circuit import Circuit
-    from coilstage.analysis.corners import cold_duty, corner_sources
+    from coilstage.analysis.conditions import corner_sources
+    from coilstage.analysis.corners import cold_duty
+    from coilstage.analysis.linear import CaseNetwork
 
     for d in (load_drawing(FLAWED), parse_drawing(drawing_text(stages=3, feed="6 mm^2"), "x")):
         circuit = Circuit(d)
         temps, src = corner_sources(d)["cold"]
-        ours, where = cold_duty(circuit, temps, src)
+        ours, where = cold_duty(CaseNetwork(circuit, temps, src))
         ids = [s.id for s in d.stages]
         sols = [circuit.solve(temps, src)] + [
             circuit.solve(temps, src, overrides={x: 1e12 for x in ids if x != k}) for k in ids

@@ -144,8 +144,8 @@ def test_saturating_switch_on_against_solve_ivp():
     d = load_drawing(COACH)
     a, _ = check(d)
     so = next(x for x in a.field.switch_on if x.stage == "S1")
-    from coilstage.analysis.corners import corner_sources
-    from coilstage.analysis.switching import build_linear
+    from coilstage.analysis.conditions import corner_sources
+    from coilstage.analysis.linear import build_linear
 
     temps, src = corner_sources(d)["cold"]
     lin = build_linear(a.circuit, temps, src, ("S1",), "fixed")

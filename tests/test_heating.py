@@ -13,8 +13,8 @@ from scipy.optimize import brentq, fsolve
 
 from coilstage import check, tables
 from coilstage.analysis.circuit import Circuit
-from coilstage.analysis.corners import cold_temperatures
-from coilstage.analysis.duty import hot_winding_temperatures, simulate
+from coilstage.analysis.conditions import cold_temperatures, hot_winding_temperatures
+from coilstage.analysis.duty import simulate
 from coilstage.checks import Status
 from coilstage.drawing.load import load_drawing, parse_drawing
 from coilstage.drawing.schema import Cable
@@ -137,7 +137,7 @@ def test_network_coupled_steady_state_against_fsolve():
     d = load_drawing(COACH)
     ours = hot_winding_temperatures(d)
     circuit = Circuit(d)
-    from coilstage.analysis.corners import corner_sources
+    from coilstage.analysis.conditions import corner_sources
 
     _t, src = corner_sources(d)["hot"]
     temps = {c.id: c.zone_temperature for c in d.of_kind(Cable)}
@@ -164,7 +164,7 @@ def test_duty_simulation_against_solve_ivp():
     d = load_drawing(TRUCK)
     r = simulate(d, rtol=1e-9)
     circuit = Circuit(d)
-    from coilstage.analysis.corners import corner_sources
+    from coilstage.analysis.conditions import corner_sources
     from coilstage.analysis.duty import cable_thermal
 
     _t, src0 = corner_sources(d)["hot"]

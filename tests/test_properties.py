@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 
 from coilstage import check
 from coilstage.analysis.circuit import kcl_residuals
-from coilstage.analysis.corners import corner_sources
+from coilstage.analysis.conditions import corner_sources
 from coilstage.drawing.load import parse_drawing
 from coilstage.report import document, jsonout
 

@@ -14,8 +14,9 @@ from scipy.optimize import brentq
 
 from coilstage import check, tables
 from coilstage.analysis.circuit import Circuit
-from coilstage.analysis.corners import corner_sources
-from coilstage.analysis.switching import _t95, analyse_switching, run, scenario_events
+from coilstage.analysis.conditions import conditions
+from coilstage.analysis.linear import CaseNetwork, case_networks
+from coilstage.analysis.switching import analyse_switching, run, scenario_events, switch_on_t95
 from coilstage.checks import Status
 from coilstage.checks.switching import category_for
 from coilstage.drawing.load import load_drawing, parse_drawing
@@ -26,6 +27,11 @@ from coilstage.physics.transient import LN20, LinearRL, clamp_decay, rl_step_cur
 
 from .conftest import COACH, FLAWED, TRUCK, drawing_text
 from .reference_ivp import integrate
+
+
+def net(circuit: Circuit, corner: str) -> CaseNetwork:
+    """The network of one corner of the circuit's drawing."""
+    return case_networks(circuit, conditions(circuit.drawing))[corner]
 
 
 def test_single_rl_branch_closed_form():
@@ -86,7 +92,7 @@ def test_network_switching_matches_solve_ivp(corner, scenario):
     circuit = Circuit(d)
     ev = scenario_events(d)[scenario]
     t_end = ev[-1][0] + (d.switching.duration - d.switching.off_at)
-    sc = run(circuit, corner, scenario, ev, t_end)
+    sc = run(net(circuit, corner), corner, scenario, ev, t_end)
     times = np.arange(0.0, t_end, 1e-3)
     ours = sc.sample(times, [s.id for s in d.stages])
     ref = integrate(circuit, corner, ev, t_end, times)
@@ -97,7 +103,7 @@ def test_network_switching_matches_solve_ivp(corner, scenario):
 
 def test_hot_corner_alternator_changes_state_during_switch_on():
     d = load_drawing(COACH)
-    sw = analyse_switching(d)
+    sw = analyse_switching(d, case_networks(Circuit(d), conditions(d)))
     modes = [seg.lin.mode for seg in sw.scenarios["hot:all stages"].segments]
     assert modes[:2] == ["regulating", "current-limited"]
 
@@ -105,9 +111,8 @@ def test_hot_corner_alternator_changes_state_during_switch_on():
 def test_t95_in_the_network_against_solve_ivp():
     d = load_drawing(COACH)
     circuit = Circuit(d)
-    temps, src = corner_sources(d)["hot"]
     ids = tuple(s.id for s in d.stages)
-    ours = _t95(circuit, temps, src, ids)
+    ours = switch_on_t95(net(circuit, "hot"), ids)
     times = np.linspace(0, 2.0, 20001)
     ref = integrate(circuit, "hot", [(0.0, ids)], 2.0, times)
     for sid in ids:
@@ -158,10 +163,10 @@ def test_no_stage_exceeds_its_switched_on_alone_current(n, inductances, resistan
     d = parse_drawing(text, "x")
     circuit = Circuit(d)
     ids = tuple(s.id for s in d.stages)
-    sc = run(circuit, "cold", "all", [(0.0, ids)], 3.0)
+    sc = run(net(circuit, "cold"), "cold", "all", [(0.0, ids)], 3.0)
     x = sc.sample(np.linspace(0, 3.0, 3001), list(ids))
     for sid in ids:
-        alone = run(circuit, "cold", "alone", [(0.0, (sid,))], 60.0).segments[-1].sol.i_inf[0]
+        alone = run(net(circuit, "cold"), "cold", "alone", [(0.0, (sid,))], 60.0).segments[-1].sol.i_inf[0]
         assert np.max(x[sid]) <= alone * (1 + 1e-9)
         assert np.min(x[sid]) >= -1e-9
 
@@ -179,7 +184,7 @@ def test_single_stage_on_the_network_never_overshoots():
     d = load_drawing(COACH)
     circuit = Circuit(d)
     for corner in ("cold", "hot"):
-        sc = run(circuit, corner, "one", [(0.0, ("S2",))], 2.0)
+        sc = run(net(circuit, corner), corner, "one", [(0.0, ("S2",))], 2.0)
         x = sc.sample(np.linspace(0, 2.0, 4001), ["S2"])["S2"]
         assert np.all(np.diff(x) >= -1e-12)
         assert x.max() <= sc.segments[-1].sol.i_inf[0] * (1 + 1e-12)

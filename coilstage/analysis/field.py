@@ -9,10 +9,12 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from coilstage import tables
-from coilstage.analysis.corners import Analysis, corner_sources
+from coilstage.analysis.corners import CornerResult
+from coilstage.analysis.linear import CaseNetwork
 from coilstage.drawing.schema import CoilType, Drawing, Stage
 from coilstage.physics.magnetic import BHCurve, MagneticCircuit, ac_current, kloss_torque
 from coilstage.physics.numeric import integrate_dopri
+from coilstage.physics.transient import t95
 
 #: Geometry-derived and stated inductance may differ by this much before a warning (common
 #: practice: a lumped reluctance model leaves out fringing and leakage, worth tens of percent).
@@ -109,16 +111,18 @@ def _stage_field(s: Stage, corner: str, i_stage: float, circ: MagneticCircuit | 
     )
 
 
-def analyse_field(a: Analysis) -> FieldResult:
-    d = a.drawing
+def analyse_field(d: Drawing, corners: dict[str, CornerResult], cold: CaseNetwork) -> FieldResult:
+    """The field per stage in the cold and hot corners, what the hot corner leaves of the braking
+    effort, the saturating switch-on (in the cold network ``cold``) and the AC comparison."""
     circs = {name: circuit_of(c) for name, c in d.coils.items()}
     per: dict[str, dict[str, StageField]] = {}
     for corner in ("cold", "hot"):
         per[corner] = {
             st.id: _stage_field(s, corner, st.current, circs[s.coil.name])
-            for s, st in zip(d.stages, a.corners[corner].stages, strict=True)
+            for s, st in zip(d.stages, corners[corner].stages, strict=True)
         }
-    cold, hot = a.corners["cold"], a.corners["hot"]
+    cold_net = cold
+    cold, hot = corners["cold"], corners["hot"]
 
     def effort(currents: list[float]) -> float:
         total = 0.0
@@ -156,8 +160,8 @@ def analyse_field(a: Analysis) -> FieldResult:
         torque,
         torque_speed,
         check,
-        [x for x in (_switch_on(a, s, circs[s.coil.name]) for s in _one_per_coil(d)) if x],
-        _ac(d, a, circs),
+        [x for x in (_switch_on(cold_net, s, circs[s.coil.name]) for s in _one_per_coil(d)) if x],
+        _ac(d, corners["cold"], circs),
         any(c is not None for c in circs.values()),
     )
 
@@ -174,15 +178,11 @@ def _one_per_coil(d: Drawing) -> list[Stage]:
     return out
 
 
-def _switch_on(a: Analysis, s: Stage, circ: MagneticCircuit | None) -> SwitchOn | None:
+def _switch_on(net: CaseNetwork, s: Stage, circ: MagneticCircuit | None) -> SwitchOn | None:
     """One stage alone, cold corner: dλ/dt = c − K·i(λ) on its Thévenin equivalent in the network."""
     if circ is None:
         return None
-    from coilstage.analysis.switching import build_linear
-
-    d = a.drawing
-    temps, src = corner_sources(d)["cold"]
-    lin = build_linear(a.circuit, temps, src, (s.id,), "fixed")
+    lin = net.linear((s.id,), "fixed")
     k, c = float(lin.rl.k[0, 0]), float(lin.rl.c[0])
     i_final = c / k
     n = s.count
@@ -204,20 +204,20 @@ def _switch_on(a: Analysis, s: Stage, circ: MagneticCircuit | None) -> SwitchOn 
     i_lin = i_final * (1 - np.exp(-t / tau))
     target = 0.95 * i_final
     j = int(np.nonzero(i_sat >= target)[0][0])
-    t95 = float(np.interp(target, i_sat[j - 1 : j + 1], t[j - 1 : j + 1])) if j else float(t[0])
+    t95_sat = float(np.interp(target, i_sat[j - 1 : j + 1], t[j - 1 : j + 1])) if j else float(t[0])
     lam_f = float(np.interp(i_final, i_grid, lam))
     # W = ∫ i dλ from 0 to λ_final (co-energy's complement), by the trapezoid rule on the table
     m = lam <= lam_f
     w = float(np.trapezoid(i_grid[m], lam[m]) + (lam_f - lam[m][-1]) * 0.5 * (i_grid[m][-1] + i_final))
-    return SwitchOn(s.id, t95, tau * math.log(20.0), w, 0.5 * l_lin * i_final**2, t, i_sat, i_lin)
+    return SwitchOn(s.id, t95_sat, t95(tau), w, 0.5 * l_lin * i_final**2, t, i_sat, i_lin)
 
 
-def _ac(d: Drawing, a: Analysis, circs) -> list[ACResult]:
+def _ac(d: Drawing, cold_corner: CornerResult, circs) -> list[ACResult]:
     ac = d.ac_comparison
     if ac is None:
         return []
     out = []
-    cold = {st.id: st for st in a.corners["cold"].stages}
+    cold = {st.id: st for st in cold_corner.stages}
     for name, coil in d.coils.items():
         s = next((x for x in d.stages if x.coil.name == name), None)
         if s is None:

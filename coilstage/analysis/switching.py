@@ -13,23 +13,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from coilstage.analysis.circuit import Circuit, SourceState, element_resistance
-from coilstage.analysis.corners import corner_sources
+from coilstage.analysis.circuit import SourceState, element_resistance
+from coilstage.analysis.linear import CaseNetwork, Linear
 from coilstage.drawing.schema import Drawing, Stage
-from coilstage.physics.network import Branches, Factorized, mna_matrix
 from coilstage.physics.numeric import bracketed_root
-from coilstage.physics.transient import ExactSolution, LinearRL, clamp_decay
-
-
-@dataclass(frozen=True)
-class Linear:
-    """The network with a given set of energised stages and alternator state, as an RL system, and
-    the affine read-outs ``value = g·i + h`` of the figures the report needs."""
-
-    stages: tuple[str, ...]
-    mode: str
-    rl: LinearRL
-    readout: dict[str, tuple[np.ndarray, float]]  # name -> (g, h)
+from coilstage.physics.transient import Decay, ExactSolution, clamp_decay
 
 
 @dataclass(frozen=True)
@@ -46,7 +34,7 @@ class Break:
 
     stage: str
     t: float
-    decay: object  # physics.transient.Decay
+    decay: Decay
     current: object  # callable: time after the break -> current
 
 
@@ -89,115 +77,6 @@ class Scenario:
                 mm = m & ~energised_later
                 out.setdefault(b.stage, np.zeros_like(times))[mm] += b.current(times[mm] - b.t)
         return out
-
-
-def build_linear(
-    circuit: Circuit,
-    temps: dict[str, float],
-    src: SourceState,
-    stages: tuple[str, ...],
-    mode: str,
-    all_elements: bool = False,
-) -> Linear:
-    """The RL system of the network with ``stages`` energised and the alternator in ``mode``
-    ("regulating", "current-limited", "off", or "fixed" where the corner fixes it). Read-outs
-    ``element:<id>`` give the current of every fuse and relay, and of every element with
-    ``all_elements``."""
-    d = circuit.drawing
-    s = d.supply
-    nd = circuit.nodes
-    all_stages = {x.id for x in d.stages}
-    res_rows, vs_rows, vs_owner, is_rows, _r, alt_on, fixed = circuit._network(temps, src, None, exclude=all_stages)
-    if alt_on and not fixed:
-        a = s.alternator
-        node = nd[a.node]
-        if mode == "regulating":
-            res_rows.append((0, node, a.source_resistance))
-            is_rows.append((0, node, src.alt_setpoint / a.source_resistance))
-        elif mode == "current-limited":
-            is_rows.append((0, node, src.alt_limit))
-    n = len(nd)
-    rr, cc, xx, rhs, nn = mna_matrix(n, Branches.of(res_rows), Branches.of(vs_rows), Branches.of(is_rows))
-    f = Factorized(rr, cc, xx, len(rhs))
-    x0 = f.solve(rhs)
-    elems = [circuit.index[sid] for sid in stages]
-    b = np.zeros((len(rhs), len(elems)))
-    for j, e in enumerate(elems):
-        ia, ib = nd[e.a], nd[e.b]
-        if ib > 0:
-            b[ib - 1, j] += 1.0  # the stage delivers its current into node b ...
-        if ia > 0:
-            b[ia - 1, j] -= 1.0  # ... taking it from node a
-    zx = f.solve(b).reshape(len(rhs), len(elems)) if elems else np.zeros((len(rhs), 0))
-
-    def node_row(name: str) -> tuple[np.ndarray, float]:
-        i = nd[name]
-        if i == 0:
-            return np.zeros(len(elems)), 0.0
-        return zx[i - 1, :].copy(), float(x0[i - 1])
-
-    dmat = np.zeros((len(elems), len(elems)))
-    c = np.zeros(len(elems))
-    for j, e in enumerate(elems):
-        ga, ha = node_row(e.a)
-        gb, hb = node_row(e.b)
-        dmat[j, :] = ga - gb
-        c[j] = ha - hb
-    r_own = np.array([element_resistance(e, temps[e.id]) for e in elems])
-    ind = np.array([e.inductance for e in elems])
-    k = np.diag(r_own) - dmat
-    readout: dict[str, tuple[np.ndarray, float]] = {}
-    gbus, hbus = node_row(s.battery.node)
-    readout["bus_voltage"] = (gbus, hbus)
-    zero = np.zeros(len(elems))
-    if src.hold_bus is not None:
-        kb = nn + vs_owner.index("__bus__")
-        readout["battery_current"] = (zx[kb, :].copy(), float(x0[kb]))
-    else:
-        rb = s.battery.internal_resistance
-        readout["battery_current"] = (-gbus / rb, (src.battery_emf - hbus) / rb)
-    if not alt_on:
-        readout["alternator_current"] = (zero, 0.0)
-    elif fixed or mode == "current-limited":
-        readout["alternator_current"] = (zero, float(src.alt_limit))
-    elif mode == "off":
-        readout["alternator_current"] = (zero, 0.0)
-    from coilstage.drawing.schema import Fuse, Relay
-
-    for e in d.elements:  # element currents: every device, or every element when asked for
-        if isinstance(e, (Fuse, Relay)) or (all_elements and e.id not in all_stages):
-            if e.id in vs_owner:
-                kb = nn + vs_owner.index(e.id)
-                readout[f"element:{e.id}"] = (zx[kb, :].copy(), float(x0[kb]))
-            else:
-                r = element_resistance(e, temps.get(e.id, 20.0))
-                ga_, ha_ = node_row(e.a)
-                gb_, hb_ = node_row(e.b)
-                readout[f"element:{e.id}"] = ((ga_ - gb_) / r, (ha_ - hb_) / r)
-    if alt_on and not fixed:
-        ga, ha = node_row(s.alternator.node)
-        rs = s.alternator.source_resistance
-        law = (-ga / rs, (src.alt_setpoint - ha) / rs)  # what the regulator would deliver
-        readout["alternator_law"] = law
-        if mode == "regulating":
-            readout["alternator_current"] = law
-    return Linear(tuple(stages), "fixed" if fixed else mode, LinearRL(ind, k, c), readout)
-
-
-def _mode_at(circuit, temps, src, stages, x) -> str:
-    """The alternator state consistent with the stage currents ``x`` (the network is algebraic)."""
-    s = circuit.drawing.supply
-    alt_on = s.alternator is not None and src.alt_limit is not None and src.alt_limit > 0
-    if not alt_on or src.hold_bus is not None or src.alt_fixed:
-        return "fixed"
-    lin = build_linear(circuit, temps, src, stages, "regulating")
-    g, h = lin.readout["alternator_law"]
-    i = float(g @ x + h)
-    if i > src.alt_limit:
-        return "current-limited"
-    if i < 0:
-        return "off"
-    return "regulating"
 
 
 def _leaves_mode(lin: Linear, sol: ExactSolution, src: SourceState, span: float) -> tuple[float, str] | None:
@@ -245,11 +124,12 @@ _EMPTY = ExactSolution(np.zeros(0), np.zeros(0), np.zeros((0, 0)), np.zeros(0))
 
 
 def run(
-    circuit: Circuit, corner: str, name: str, events: list[tuple[float, tuple[str, ...]]], t_end: float
+    net: CaseNetwork, corner: str, name: str, events: list[tuple[float, tuple[str, ...]]], t_end: float
 ) -> Scenario:
-    """Simulate ``events`` (time, set of energised stages) from a de-energised start up to ``t_end``."""
-    d = circuit.drawing
-    temps, src = corner_sources(d)[corner]
+    """Simulate ``events`` (time, set of energised stages) from a de-energised start up to ``t_end``
+    in the operating case ``net`` (named ``corner``)."""
+    d = net.circuit.drawing
+    temps, src = net.temperatures, net.sources
     stage_by_id = {s.id: s for s in d.stages}
     scn = Scenario(name, corner, events, t_end)
     current: dict[str, float] = {}  # currents of energised stages at the event
@@ -283,9 +163,9 @@ def run(
         on = tuple(new_on)
         x = np.array(x0, dtype=float)
         t = t_ev
-        mode = _mode_at(circuit, temps, src, on, x)
+        mode = net.mode_at(on, x)
         for _ in range(20):  # alternator state changes within this interval
-            lin = build_linear(circuit, temps, src, on, mode)
+            lin = net.linear(on, mode)
             sol = lin.rl.solution(x) if on else _EMPTY
             leave = _leaves_mode(lin, sol, src, t_next - t)
             t1 = t_next if leave is None else t + leave[0]
@@ -302,8 +182,6 @@ def run(
 
 def _decay(stage: Stage, r_stage: float, i0: float, sup, fraction: float):
     if sup.kind == "none" or i0 <= 0:
-        from coilstage.physics.transient import Decay
-
         w = 0.5 * stage.inductance * i0 * i0
         dec = Decay(i0, stage.inductance / r_stage, 0.0, 0.0, fraction, w, 0.0, math.inf if i0 > 0 else 0.0)
         return dec, (lambda t: np.zeros_like(np.asarray(t, dtype=float)))
@@ -319,7 +197,7 @@ class StageSwitching:
     t95_all: float  # switched on with all the others [s]
     i_break: float  # current when its contact opens, all stages on (steady) [A]
     stored_energy: float  # ½ L I² at the break [J]
-    decay: object  # Decay
+    decay: Decay
     contact_voltage: float  # across the opening contact: highest bus + suppressor voltage [V] (inf: arc)
 
 
@@ -345,16 +223,16 @@ def scenario_events(d: Drawing) -> dict[str, list[tuple[float, tuple[str, ...]]]
     return out
 
 
-def analyse_switching(d: Drawing, circuit: Circuit | None = None, corners=("cold", "hot")) -> SwitchingResult:
-    """Every scenario in the cold and hot corners, and the per-stage switching figures."""
-    circuit = circuit or Circuit(d)
+def analyse_switching(d: Drawing, nets: dict[str, CaseNetwork], corners=("cold", "hot")) -> SwitchingResult:
+    """Every scenario in the cold and hot corners (``nets``: corner -> its network), and the
+    per-stage switching figures."""
     scen: dict[str, Scenario] = {}
     dips: dict[str, float] = {}
     events = scenario_events(d)
     for corner in corners:
         for name, ev in events.items():
             t_end = ev[-1][0] + (d.switching.duration - d.switching.off_at)
-            sc = run(circuit, corner, name, ev, t_end)
+            sc = run(nets[corner], corner, name, ev, t_end)
             scen[f"{corner}:{name}"] = sc
             grid = np.linspace(0.0, t_end, 3001)
             bus = sc.sample(grid, [])["bus_voltage"]
@@ -362,16 +240,17 @@ def analyse_switching(d: Drawing, circuit: Circuit | None = None, corners=("cold
     stages: dict[str, dict[str, StageSwitching]] = {}
     limit_bus = d.corners.limit_bus
     for corner in corners:
-        temps, src = corner_sources(d)[corner]
-        ids = tuple(s.id for s in d.stages)
+        net = nets[corner]
+        temps = net.temperatures
+        ids = net.stage_ids
         # T0.95: the exact solution of the switch-on, continued until each current gets there
-        t95_all = _t95(circuit, temps, src, ids)
+        t95_all = switch_on_t95(net, ids)
         per: dict[str, StageSwitching] = {}
-        full = build_linear(circuit, temps, src, ids, _steady_mode(circuit, temps, src, ids))
+        full = net.linear(ids, net.steady_mode(ids))
         i_ss = full.rl.steady_state()
         for j, st in enumerate(d.stages):
             r_stage = element_resistance(st, temps[st.id])
-            t95_alone = _t95(circuit, temps, src, (st.id,))[st.id]
+            t95_alone = switch_on_t95(net, (st.id,))[st.id]
             i0 = float(i_ss[j])
             dec, _fn = _decay(st, r_stage, i0, st.suppression, d.switching.release_fraction)
             cv = math.inf if st.suppression.kind == "none" else limit_bus + dec.u_suppressor_peak
@@ -390,29 +269,17 @@ def analyse_switching(d: Drawing, circuit: Circuit | None = None, corners=("cold
     return SwitchingResult(scen, stages, dips, bool(d.switching.positions))
 
 
-def _steady_mode(circuit, temps, src, ids) -> str:
-    """The alternator state at the steady state with ``ids`` energised (iterate the modes)."""
-    mode = _mode_at(circuit, temps, src, ids, np.zeros(len(ids)))
-    for _ in range(4):
-        lin = build_linear(circuit, temps, src, ids, mode)
-        nxt = _mode_at(circuit, temps, src, ids, lin.rl.steady_state())
-        if nxt == mode:
-            return mode
-        mode = nxt
-    return mode
-
-
-def _switch_on_segments(circuit, temps, src, ids: tuple[str, ...]):
+def _switch_on_segments(net: CaseNetwork, ids: tuple[str, ...]):
     """The exact, piecewise solution of switching ``ids`` on together from rest, with no switch-off,
     continued until the last alternator state change: [(t0, t_end or None, solution)]."""
     x = np.zeros(len(ids))
     t = 0.0
     segs = []
-    mode = _mode_at(circuit, temps, src, ids, x)
+    mode = net.mode_at(ids, x)
     for _ in range(20):
-        lin = build_linear(circuit, temps, src, ids, mode)
+        lin = net.linear(ids, mode)
         sol = lin.rl.solution(x)
-        leave = _leaves_mode(lin, sol, src, 60 * sol.slowest)
+        leave = _leaves_mode(lin, sol, net.sources, 60 * sol.slowest)
         segs.append((t, None if leave is None else t + leave[0], sol))
         if leave is None:
             break
@@ -422,10 +289,12 @@ def _switch_on_segments(circuit, temps, src, ids: tuple[str, ...]):
     return segs
 
 
-def _t95(circuit, temps, src, ids: tuple[str, ...]) -> dict[str, float]:
-    """Time for each stage of ``ids``, switched on together, to reach 95 % of its final current [s]."""
+def switch_on_t95(net: CaseNetwork, ids: tuple[str, ...]) -> dict[str, float]:
+    """Time for each stage of ``ids``, switched on together in the network ``net`` from rest, to reach
+    95 % of its final current [s] (T0.95 of the exact piecewise solution; for one stage alone on a
+    stiff supply it is τ·ln 20, :func:`coilstage.physics.transient.t95`)."""
 
-    segs = _switch_on_segments(circuit, temps, src, ids)
+    segs = _switch_on_segments(net, ids)
     final = segs[-1][2].i_inf
     out = {}
     for j, sid in enumerate(ids):

@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from coilstage.analysis.corners import Analysis
 from coilstage.analysis.field import INDUCTANCE_TOLERANCE
+from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
     Status,

@@ -8,7 +8,8 @@ import math
 import numpy as np
 
 from coilstage import tables
-from coilstage.analysis.corners import Analysis, cut_off_by
+from coilstage.analysis.run import Analysis
+from coilstage.analysis.topology import cut_off_by
 from coilstage.checks.base import (
     Rule,
     Status,

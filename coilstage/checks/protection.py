@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from coilstage import tables
-from coilstage.analysis.corners import Analysis
+from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
     Status,

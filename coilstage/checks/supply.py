@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from coilstage.analysis.corners import Analysis
+from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
     Status,

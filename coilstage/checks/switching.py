@@ -4,7 +4,9 @@ from __future__ import annotations
 
 from coilstage import tables
 from coilstage.analysis.circuit import element_resistance
-from coilstage.analysis.corners import Analysis, corner_sources, switched_stages
+from coilstage.analysis.conditions import corner_sources
+from coilstage.analysis.run import Analysis
+from coilstage.analysis.topology import switched_stages
 from coilstage.checks.base import (
     Rule,
     Status,

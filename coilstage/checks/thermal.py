@@ -8,7 +8,7 @@ import math
 import numpy as np
 
 from coilstage import tables
-from coilstage.analysis.corners import Analysis
+from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
     Status,

@@ -168,6 +168,25 @@ def short_circuit_currents(
     return out
 
 
+def charging_source_state(i_regulating: float, i_limit: float, tol: float = 0.0) -> str:
+    """The state of a current-limited charging source (an alternator) whose regulator, holding its
+    set-point, would deliver ``i_regulating`` [A]: ``"current-limited"`` above ``i_limit`` [A],
+    ``"off"`` below zero (its rectifier blocks reverse current), else ``"regulating"``; ``tol`` [A]
+    widens the regulating range against rounding.
+
+    The characteristic I = clamp((v_set − V)/r_source, 0, i_limit) of [1]_'s piecewise-linear source
+    model; the one place the program decides the state (DC solve, switching, heating).
+
+    >>> charging_source_state(120.0, 100.0), charging_source_state(-1.0, 100.0), charging_source_state(50.0, 100.0)
+    ('current-limited', 'off', 'regulating')
+    """
+    if i_regulating > i_limit + tol:
+        return "current-limited"
+    if i_regulating < -tol:
+        return "off"
+    return "regulating"
+
+
 @dataclass(frozen=True)
 class LimitedSource:
     """A charging source: set-point ``v_set`` [V] behind ``r_source`` [Ω] until it delivers
@@ -224,10 +243,10 @@ def solve_with_limited_source(
     # Regulating: Norton form of v_set behind r_source.
     dc = with_sources([(0, s.node, s.r_source)], [(0, s.node, s.v_set / s.r_source)])
     i = (s.v_set - dc.v[s.node]) / s.r_source
-    tol = 1e-9 * max(1.0, s.i_limit)
-    if -tol <= i <= s.i_limit + tol:
+    state = charging_source_state(float(i), s.i_limit, 1e-9 * max(1.0, s.i_limit))
+    if state == "regulating":
         return LimitedSolution(dc, "regulating", float(i))
-    if i > s.i_limit:
+    if state == "current-limited":
         dc = with_sources([], [(0, s.node, s.i_limit)])
         return LimitedSolution(dc, "current-limited", float(s.i_limit))
     dc = with_sources([], [])

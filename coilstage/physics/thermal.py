@@ -15,6 +15,8 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
+
 
 def cable_loss_coefficient(
     i_amp: float, r20_per_m: float, alpha20: float, theta_rating: float, theta_zone: float
@@ -74,7 +76,7 @@ def winding_steady_temperature(
     (shared physics notes §4.3, derived; the self-limiting effect: P falls as θ rises).
 
     Parameters: voltage [V], r_ref [Ω] at t_ref [°C], alpha20 [K⁻¹], r_th to the surroundings
-    [K/W], t_surroundings [°C].
+    [K/W], t_surroundings [°C]; floats, or numpy arrays of one value per winding (element-wise).
 
     >>> round(winding_steady_temperature(28.0, 0.60, 20.0, 0.00393, 0.10, 20.0), 2)
     115.11
@@ -82,5 +84,7 @@ def winding_steady_temperature(
     r20 = r_ref / (1 + alpha20 * (t_ref - 20.0))
     b = 1 + alpha20 * (t_surroundings - 20.0)
     k = voltage * voltage * r_th / r20
-    x = (-b + math.sqrt(b * b + 4 * alpha20 * k)) / (2 * alpha20)
+    disc = b * b + 4 * alpha20 * k
+    root = np.sqrt(disc) if isinstance(disc, np.ndarray) else math.sqrt(disc)
+    x = (-b + root) / (2 * alpha20)
     return t_surroundings + x

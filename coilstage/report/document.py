@@ -10,7 +10,7 @@ from collections import Counter
 from typing import Any
 
 from coilstage import __version__
-from coilstage.analysis.corners import Analysis
+from coilstage.analysis.run import Analysis
 from coilstage.checks import Status, Verdict
 
 SCHEMA_VERSION = "1.0"

@@ -1,0 +1,84 @@
+"""The orchestrator: ``analyse(drawing) -> Analysis``, the one module that imports every view.
+
+Layers (each module imports only from the lines above it)::
+
+    circuit, quasistatic   the drawing's network: node numbering, resistances, DC solves
+    conditions             what each operating case is (cold, hot, limit, fault)
+    linear                 the energised network of one case as an RL system (one factorisation per
+                           alternator state, reused for every set of energised stages)
+    topology               what a fuse cuts off, which stages a relay switches, what a fuse protects
+    corners · switching · duty · field · figures    views of the drawing under some conditions
+    run                    this module
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from coilstage.analysis.circuit import Circuit
+from coilstage.analysis.conditions import Conditions, conditions
+from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, solve_corner
+from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
+from coilstage.analysis.field import FieldResult, analyse_field
+from coilstage.analysis.linear import case_networks
+from coilstage.analysis.switching import SwitchingResult, analyse_switching
+from coilstage.analysis.topology import protected_cables, switched_stages, unfused_feed_cables
+from coilstage.drawing.schema import Drawing
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """Everything the checks compare and the reports show, for one drawing (frozen; built once)."""
+
+    drawing: Drawing
+    circuit: Circuit
+    conditions: dict[str, Conditions]  # cold, hot, limit, fault
+    corners: dict[str, CornerResult]  # cold, hot, limit
+    fault_current: dict[str, float]  # fuse id -> prospective current at its load terminal [A]
+    battery_short_circuit: float  # at the battery terminals, alternator included [A]
+    protected: dict[str, list[str]]  # fuse id -> cable ids
+    far_end_fault: dict[str, float]  # protected cable id -> short at its far end [A]
+    duty: dict[str, float]  # element id -> largest cold-corner current [A]
+    duty_state: dict[str, str]  # element id -> "all stages" or "<stage> alone"
+    switched: dict[str, list[str]]  # relay id -> the stages it switches
+    unfused: list[str]  # feed cables no fuse cuts off
+    switching: SwitchingResult | None
+    field: FieldResult
+    descent: DutyResult | None  # the drawing's duty profile
+    continuous: DutyResult | None  # continuous full retardation
+
+
+def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:
+    """Solve the three corners and the prospective fault currents of a drawing; with ``switching``,
+    also the switch-on and switch-off scenarios; with ``heating``, the drawing's duty profile and
+    continuous full retardation."""
+    circuit = Circuit(d)
+    cases = conditions(d)
+    nets = case_networks(circuit, cases)
+    corners = {name: solve_corner(circuit, cases[name]) for name in ("cold", "hot", "limit")}
+    protected = protected_cables(d)
+    faults, far_end, battery_sc = fault_currents(circuit, cases["fault"], protected)
+    duty, duty_state = cold_duty(nets["cold"])
+    sw = analyse_switching(d, nets) if switching else None
+    descent = continuous = None
+    if heating and d.duty is not None:
+        descent = simulate(d)
+        continuous = simulate(d, continuous_duty(d))
+    return Analysis(
+        d,
+        circuit,
+        cases,
+        corners,
+        faults,
+        battery_sc,
+        protected,
+        far_end,
+        duty,
+        duty_state,
+        switched_stages(d),
+        unfused_feed_cables(d),
+        sw,
+        analyse_field(d, corners, nets["cold"]),
+        descent,
+        continuous,
+    )

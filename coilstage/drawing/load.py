@@ -18,6 +18,7 @@ from typing import Any
 
 from coilstage import tables
 from coilstage.errors import DataError, DrawingError, Problem
+from coilstage.graph import Graph, UnionFind
 from coilstage.physics.conductor import awg_area
 from coilstage.units import (
     QuantityError,
@@ -1289,46 +1290,17 @@ def _topology(r: _Reader, supply: Supply, links: list[_Link], elements: list[Ele
         if len(refs) == 1 and node not in supply_nodes:
             r.problem(refs[0], node, f'a node that something else connects to (nothing else meets at "{node}")')
 
-    adj: dict[str, list[tuple[str, str]]] = defaultdict(list)
-    for e in links:
-        if e.kind == "stage":
-            continue  # a path through another load is neither feed nor return
-        adj[e.a].append((e.b, e.id))
-        adj[e.b].append((e.a, e.id))
-
-    def reaches(start: str, goal: str, avoid: str) -> bool:
-        seen, todo = {start}, [start]
-        while todo:
-            n = todo.pop()
-            if n == goal:
-                return True
-            for m, _eid in adj[n]:
-                if m not in seen and m != avoid:
-                    seen.add(m)
-                    todo.append(m)
-        return False
-
+    # a path through another load is neither feed nor return
+    net = Graph((e.a, e.b, e.id) for e in links if e.kind != "stage")
     for s in links:
         if s.kind == "stage":
-            if not reaches(s.b, neg, pos):
+            if not net.reaches(s.b, neg, avoid_nodes={pos}):
                 r.problem(f"{s.where}.to", s.b, f'a return path from the stage to the negative node "{neg}"')
-            if not reaches(s.a, pos, neg):
+            if not net.reaches(s.a, pos, avoid_nodes={neg}):
                 r.problem(f"{s.where}.from", s.a, f'a feed path from the stage to the battery node "{pos}"')
 
     # A loop made only of zero-ohm parts has no defined current split.
-    parent: dict[str, str] = {}
-
-    def find(x: str) -> str:
-        while parent.setdefault(x, x) != x:
-            parent[x] = parent[parent[x]]
-            x = parent[x]
-        return x
-
+    zero = UnionFind()
     for e in elements:
-        if getattr(e, "resistance", None) == 0.0:
-            ra, rb = find(e.a), find(e.b)
-            if ra == rb:
-                r.problem(
-                    e.where, "0 ohm", "a resistance: this part closes a loop of zero-ohm parts (give resistances)"
-                )
-            parent[ra] = rb
+        if getattr(e, "resistance", None) == 0.0 and not zero.union(e.a, e.b):
+            r.problem(e.where, "0 ohm", "a resistance: this part closes a loop of zero-ohm parts (give resistances)")

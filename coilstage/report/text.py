@@ -1,20 +1,38 @@
-"""Terminal report drawn with rich."""
+"""Terminal report drawn with rich.
+
+Every string reaches rich as a :class:`rich.text.Text` (never as markup), so an id such as "[/x]"
+or ":fire:" is shown as written; the document passes :func:`coilstage.report.safe.guard` first, so
+no control character and no NaN reaches the terminal.
+"""
 
 from __future__ import annotations
 
 from typing import Any
 
-from coilstage.report.fmt import margin, qv
+from coilstage.report import safe
+from coilstage.report.fmt import NOT_FINITE, margin, num, pct, qv
 
 _STYLE = {"pass": "green", "warn": "yellow", "fail": "bold red", "not checked": "magenta"}
 
 
 def _num(d: dict[str, Any] | None, scale: float = 1.0, places: int = 1) -> str:
-    return "—" if d is None else f"{d['value'] * scale:.{places}f}"
+    return num(d, scale, places)
 
 
 def _ms(d: dict[str, Any] | None) -> str:
-    return "—" if d is None else f"{d['value'] * 1e3:.0f}"
+    return num(d, 1e3, 0)
+
+
+def _g(d: dict[str, Any] | None) -> str:
+    if d is None:
+        return "—"
+    return NOT_FINITE if d["value"] is None else f"{d['value']:g}"
+
+
+def _cells(*cells: Any) -> list[Any]:
+    from rich.text import Text
+
+    return [c if isinstance(c, Text) else Text(str(c)) for c in cells]
 
 
 def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
@@ -23,6 +41,12 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
     from rich.panel import Panel
     from rich.table import Table
     from rich.text import Text
+
+    doc = safe.guard(doc)
+    plain_print = console.print
+
+    def say(line: Any = "", style: str | None = None) -> None:
+        plain_print(line if not isinstance(line, str) else Text(line), style=style)
 
     d, s, summ = doc["drawing"], doc["supply"], doc["summary"]
     head = Text()
@@ -33,15 +57,16 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
         f"{d['path']} · {qv(s['system_voltage'], 0)} system · operating limits {qv(s['v_min'], 1)}–{qv(s['v_max'], 1)} "
         f"({s['limits_source']})"
     )
-    console.print(Panel(head, title=f"coilstage {doc['tool']['version']}", expand=False))
+    say(Panel(head, title=Text(f"coilstage {doc['tool']['version']}"), expand=False))
 
     for c in doc["corners"]:
-        t = Table(title=f"{c['name'].upper()} corner — {c['purpose']}", box=box.SIMPLE_HEAD, title_justify="left")
+        t = Table(title=Text(f"{c['name'].upper()} corner — {c['purpose']}"), box=box.SIMPLE_HEAD, title_justify="left")
         t.add_column("stage")
         for col in ("T °C", "R mΩ", "I A", "U V", "P W", "N·I A/coil", "drop V", "drop %", "½LI² J"):
             t.add_column(col, justify="right")
         for st in c["stages"]:
             t.add_row(
+                *_cells(
                 st["id"],
                 _num(st["winding_temperature"], places=0),
                 _num(st["resistance"], 1e3, 0),
@@ -52,11 +77,12 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
                 _num(st["voltage_drop"], places=3),
                 _num(st["voltage_drop_fraction"], 100),
                 _num(st["stored_energy"]),
+                )
             )
-        console.print(t)
+        say(t)
         for k, v in c["conditions"].items():
-            console.print(f"  {k}: {v}", style="dim")
-        console.print(
+            say(f"  {k}: {v}", style="dim")
+        say(
             f"  bus {qv(c['bus_voltage'], 2)} · stages {qv(c['total_stage_current'], 1)} + base load "
             f"{qv(c['base_load'], 1)} · alternator {qv(c['alternator_current'], 1)} ({c['alternator_mode']}) · "
             f"battery {qv(c['battery_current'], 1)}\n"
@@ -65,7 +91,7 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
     sw = doc["switching"]
     if sw["stages"]:
         t = Table(
-            title="SWITCHING — switch-on in the network, switch-off through the suppressor",
+            title=Text("SWITCHING — switch-on in the network, switch-off through the suppressor"),
             box=box.SIMPLE_HEAD,
             title_justify="left",
         )
@@ -77,9 +103,9 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             "tvs": "TVS",
             "varistor": "MOV",
         }
-        t.caption = (
+        t.caption = Text(
             "L/R, T95 (to 95 % of the final current, alone | all stages on), →0 (to zero) and "
-            f"→{sw['release_fraction']:.0%} in ms; I, ½LI² and the suppressor's energy at the break; U: across the "
+            f"→{pct(sw['release_fraction'])} in ms; I, ½LI² and the suppressor's energy at the break; U: across the "
             "opening contact"
         )
         t.caption_justify = "left"
@@ -92,7 +118,7 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             "½LI² J",
             "suppr",
             "→0",
-            f"→{sw['release_fraction']:.0%}",
+            f"→{pct(sw['release_fraction'])}",
             "E J",
             "U V",
         ):
@@ -101,34 +127,36 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             t.add_row(Text(corner.upper(), style="bold"))
             for x in (y for y in sw["stages"] if y["corner"] == corner):
                 t.add_row(
+                    *_cells(
                     x["id"],
                     _num(x["time_constant"], 1e3, 0),
                     _ms(x["t95_alone"]),
                     _ms(x["t95_all"]),
                     _num(x["break_current"]),
                     _num(x["stored_energy"]),
-                    short[x["suppression"]],
+                    short.get(x["suppression"], x["suppression"]),
                     _ms(x["time_to_zero"]),
                     _num(x["release_time"], 1e3, 0),
                     _num(x["suppressor_energy"]),
                     "arc" if x["contact_voltage"] is None else _num(x["contact_voltage"]),
+                    )
                 )
-        console.print(t)
-        dips = "; ".join(f"{s['corner']} {s['name']} {s['bus_dip']['value']:.2f} V" for s in sw["scenarios"])
-        console.print(f"  bus dip at the battery terminals: {dips} (the cold corner holds the bus by definition)")
+        say(t)
+        dips = "; ".join(f"{s['corner']} {s['name']} {num(s['bus_dip'], places=2)} V" for s in sw["scenarios"])
+        say(f"  bus dip at the battery terminals: {dips} (the cold corner holds the bus by definition)")
         if not sw["sequence_given"]:
-            console.print("  the drawing gives no switching sequence ([[switching.positions]])", style="dim")
-        console.print()
+            say("  the drawing gives no switching sequence ([[switching.positions]])", style="dim")
+        say()
 
     he = doc["heating"]
     if he["duty"] is not None:
         du = he["duty"]
         t = Table(
-            title=f"HEATING — {du['name']} duty, {du['duration']['value'] / 60:.0f} min in {du['steps']} steps",
+            title=Text(f"HEATING — {du['name']} duty, {num(du['duration'], 1 / 60, 0)} min in {du['steps']} steps"),
             box=box.SIMPLE_HEAD,
             title_justify="left",
         )
-        t.caption = du["description"]
+        t.caption = Text(du["description"])
         t.caption_justify = "left"
         t.add_column("stage")
         for col in ("hot corner °C", "peak °C", "end °C", "limit °C", "to limit min", "end A", "end N·I"):
@@ -136,44 +164,49 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
         for x in he["stages"]:
             ttl = x["time_to_limit"]
             t.add_row(
+                *_cells(
                 x["id"],
                 _num(x["hot_corner_temperature"], places=0),
                 _num(x["peak_temperature"], places=0),
                 _num(x["end_temperature"], places=0),
                 _num(x["limit"], places=0),
-                ("never" if x["modelled"] else "—") if ttl is None else f"{ttl['value'] / 60:.1f}",
+                ("never" if x["modelled"] else "—") if ttl is None else num(ttl, 1 / 60, 1),
                 _num(x["end_current"]),
                 _num(x["end_ampere_turns"], places=0),
+                )
             )
-        console.print(t)
+        say(t)
         c = Table(box=box.SIMPLE_HEAD)
         c.add_column("cable")
         for col in ("table A", "heat balance A", "peak °C", "class °C"):
             c.add_column(col, justify="right")
         for x in he["cables"]:
             c.add_row(
+                *_cells(
                 x["id"],
                 _num(x["table_ampacity"], places=0),
                 _num(x["computed_ampacity"], places=0),
                 _num(x["peak_temperature"], places=0),
                 _num(x["class_temperature"], places=0),
+                )
             )
-        console.print(c)
+        say(c)
         bt = he["battery"]
         soc = bt["end_state_of_charge"]
-        console.print(
+        say(
             f"  battery: {_num(bt['charge_drawn'])} A·h drawn over the duty"
-            + (f" of {_num(bt['capacity'], places=0)} A·h, ending at {soc['value']:.0%} charge" if soc else "")
+            + (f" of {_num(bt['capacity'], places=0)} A·h, ending at {num(soc, 100, 0)} % charge" if soc else "")
             + "\n"
         )
 
     fd = doc["field"]
-    t = Table(title="FIELD — per coil, cold and hot corners", box=box.SIMPLE_HEAD, title_justify="left")
+    t = Table(title=Text("FIELD — per coil, cold and hot corners"), box=box.SIMPLE_HEAD, title_justify="left")
     t.add_column("stage")
     for col in ("corner", "I/coil A", "N·I A", "B gap T", "Φ mWb", "B iron T", "knee T", "L app mH", "L inc mH"):
         t.add_column(col, justify="right")
     for x in fd["stages"]:
         t.add_row(
+            *_cells(
             x["id"],
             x["corner"],
             _num(x["coil_current"]),
@@ -184,8 +217,9 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             _num(x["knee"], places=2),
             _num(x["apparent_inductance"], 1e3),
             _num(x["incremental_inductance"], 1e3),
+            )
         )
-    console.print(t)
+    say(t)
     br = fd["braking"]
     basis = (
         "B² from the magnetic circuit"
@@ -193,40 +227,40 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
         else "(N·I)²: no magnetic circuit given, coils taken as unsaturated"
     )
     if br["ratio_hot_cold"] is not None:
-        console.print(
-            f"  braking effort left hot: {br['ratio_hot_cold']:.0%} of cold ({basis}); hot windings alone "
-            f"{br['ratio_temperature']:.0%}, the sagging bus alone {br['ratio_bus']:.0%}"
+        say(
+            f"  braking effort left hot: {pct(br['ratio_hot_cold'])} of cold ({basis}); hot windings alone "
+            f"{pct(br['ratio_temperature'])}, the sagging bus alone {pct(br['ratio_bus'])}"
         )
     if br["torque"]:
-        console.print(
+        say(
             f"  estimated braking torque (scaled from the rated figure, an estimate): cold "
-            f"{br['torque']['cold']['value']:.0f} N·m, hot {br['torque']['hot']['value']:.0f} N·m"
+            f"{num(br['torque'].get('cold'), places=0)} N·m, hot {num(br['torque'].get('hot'), places=0)} N·m"
         )
     if br["torque_speed"]:
         for corner, pts in br["torque_speed"].items():
-            console.print(
+            say(
                 f"  torque against shaft speed, {corner}: "
                 + ", ".join(
-                    f"{p['speed']['value'] * 60 / (2 * 3.141592653589793):.0f} rpm {p['torque']['value']:.0f} N·m"
+                    f"{num(p['speed'], 60 / (2 * 3.141592653589793), 0)} rpm {num(p['torque'], places=0)} N·m"
                     for p in pts
                 )
             )
     for s in fd["switch_on"]:
-        console.print(
-            f"  {s['stage']} switched on alone (cold): T95 {s['t95_saturating']['value'] * 1e3:.0f} ms with the "
-            f"saturating inductance, {s['t95_linear']['value'] * 1e3:.0f} ms with the stated linear one; field "
-            f"energy {s['energy_saturating']['value']:.1f} J against ½LI² {s['energy_linear']['value']:.1f} J"
+        say(
+            f"  {s['stage']} switched on alone (cold): T95 {num(s['t95_saturating'], 1e3, 0)} ms with the "
+            f"saturating inductance, {num(s['t95_linear'], 1e3, 0)} ms with the stated linear one; field "
+            f"energy {num(s['energy_saturating'])} J against ½LI² {num(s['energy_linear'])} J"
         )
     for x in fd["ac"]:
-        console.print(
-            f"  AC comparison, coil {x['coil']}: {x['voltage']['value']:g} V at {x['frequency']['value']:g} Hz drives "
-            f"{x['current_ac']['value']:.2f} A (|Z| {x['impedance']['value']:.1f} Ω, "
-            f"{x['ampere_turns_ac']['value']:.0f} A-turns) against {x['current_dc']['value']:.1f} A on DC "
-            f"({x['ampere_turns_dc']['value']:.0f} A-turns)"
+        say(
+            f"  AC comparison, coil {x['coil']}: {_g(x['voltage'])} V at {_g(x['frequency'])} Hz drives "
+            f"{num(x['current_ac'], places=2)} A (|Z| {num(x['impedance'])} Ω, "
+            f"{num(x['ampere_turns_ac'], places=0)} A-turns) against {num(x['current_dc'])} A on DC "
+            f"({num(x['ampere_turns_dc'], places=0)} A-turns)"
         )
-    console.print()
+    say()
 
-    v = Table(title="Verdicts", box=box.SIMPLE_HEAD, title_justify="left")
+    v = Table(title=Text("Verdicts"), box=box.SIMPLE_HEAD, title_justify="left")
     for col in ("status", "rule", "subject", "value", "limit", "margin"):
         v.add_column(col, justify="right" if col in ("value", "limit", "margin") else "left")
     notes = []
@@ -242,66 +276,74 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             if x["rule"] in shown:
                 continue
             shown.add(x["rule"])
-            tight = min(group, key=lambda y: y["margin"] if y["margin"] is not None else float("inf"))
+            tight = min(group, key=lambda y: y["margin"] if isinstance(y["margin"], int | float) else float("inf"))
             subject = tight["subject"] if len(group) == 1 else f"{len(group)}, tightest {tight['subject']}"
             v.add_row(
-                Text("PASS", style=_STYLE["pass"]),
-                x["rule"],
-                subject,
-                qv(tight["value"]),
-                qv(tight["limit"]),
-                margin(tight["margin"]),
+                *_cells(
+                    Text("PASS", style=_STYLE["pass"]),
+                    x["rule"],
+                    subject,
+                    qv(tight["value"]),
+                    qv(tight["limit"]),
+                    margin(tight["margin"]),
+                )
             )
             continue
         v.add_row(
-            Text(st.upper(), style=_STYLE[st]),
-            x["rule"],
-            x["subject"],
-            qv(x["value"]),
-            qv(x["limit"]),
-            margin(x["margin"]),
+            *_cells(
+                Text(st.upper(), style=_STYLE.get(st, "")),
+                x["rule"],
+                x["subject"],
+                qv(x["value"]),
+                qv(x["limit"]),
+                margin(x["margin"]),
+            )
         )
         if details or st != "pass":
             notes.append(x)
-    console.print(v)
+    say(v)
     if notes:
-        console.print(
-            "[bold]Why[/bold]"
-            + (
+        say(
+            Text.assemble(
+                ("Why", "bold"),
                 ""
                 if details
-                else " (verdicts other than pass; passes are grouped by rule: --details lists every verdict)"
+                else " (verdicts other than pass; passes are grouped by rule: --details lists every verdict)",
             )
         )
         for x in notes:
             line = Text("  ")
-            line.append(f"{x['status'].upper()} ", style=_STYLE[x["status"]])
+            line.append(f"{x['status'].upper()} ", style=_STYLE.get(x["status"], ""))
             line.append(f"{x['rule']} {x['subject']}: ", style="bold")
             line.append(x["note"])
-            console.print(line)
+            say(line)
     rules: dict[str, str] = {}
     for x in doc["verdicts"]:
         rules.setdefault(x["rule"], x["clause"])
-    console.print("\n[bold]Clauses[/bold]")
+    say(Text.assemble("\n", ("Clauses", "bold")))
     for rid, clause in rules.items():
-        console.print(f"  {rid}: {clause}")
+        say(f"  {rid}: {clause}")
 
-    console.print(
-        "\n[bold]Prospective short-circuit currents[/bold] (cold corner, bolted short to chassis): battery terminals "
-        f"{qv(doc['faults']['battery_terminals'])}; "
-        + "; ".join(f"load side of {f['id']} {qv(f['prospective_current'])}" for f in doc["faults"]["fuses"])
+    say(
+        Text.assemble(
+            "\n",
+            ("Prospective short-circuit currents", "bold"),
+            " (cold corner, bolted short to chassis): battery terminals "
+            f"{qv(doc['faults']['battery_terminals'])}; "
+            + "; ".join(f"load side of {f['id']} {qv(f['prospective_current'])}" for f in doc["faults"]["fuses"]),
+        )
     )
     if doc["assumptions"]:
-        console.print("\n[bold]Assumptions[/bold] (defaults applied)")
+        say(Text.assemble("\n", ("Assumptions", "bold"), " (defaults applied)"))
         for a in doc["assumptions"]:
-            console.print(f"  - {a}")
+            say(f"  - {a}")
     caut = Text()
     for i, c in enumerate(doc["cautions"]):
         caut.append(("\n" if i else "") + c["hazard"].upper() + ": ", style="bold")
         caut.append(c["text"])
-    console.print(Panel(caut, title="Cautions", border_style="yellow"))
-    style = _STYLE["fail" if summ["result"] == "fail" else summ["result"]]
-    console.print(
+    say(Panel(caut, title=Text("Cautions"), border_style="yellow"))
+    style = _STYLE.get(summ["result"], "")
+    say(
         Text(
             f"RESULT: {summ['result'].upper()} — {summ['fail']} fail, {summ['warn']} warn, {summ['pass']} pass, "
             f"{summ['not_checked']} not checked",

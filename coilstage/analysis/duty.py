@@ -19,6 +19,7 @@ from functools import lru_cache
 import numpy as np
 
 from coilstage import tables
+from coilstage.analysis.materials import metal
 from coilstage.analysis.quasistatic import QuasiStatic, stage_thermal_resistance
 from coilstage.drawing.schema import Cable, Drawing, Duty, Fuse, Relay
 from coilstage.physics.numeric import integrate_dopri
@@ -53,9 +54,7 @@ def _shed_table(conductor_d: float, outer_d: float, k_ins: float, eps: float, t_
 
 
 def cable_thermal(c: Cable) -> CableThermal | None:
-    from coilstage.physics.fault import QC_ALUMINIUM, QC_COPPER
-
-    qc = QC_ALUMINIUM if c.material == "aluminium" else QC_COPPER
+    qc = metal(c.material).qc
     grid = c.zone_temperature + RISE_GRID
     fb = tables.bundle_factor(c.bundle)
     if c.outer_diameter is not None and c.conductor_diameter is not None:

@@ -21,6 +21,7 @@ from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, 
 from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
 from coilstage.analysis.field import FieldResult, analyse_field
 from coilstage.analysis.linear import case_networks
+from coilstage.analysis.ratings import Ratings, ratings
 from coilstage.analysis.switching import SwitchingResult, analyse_switching
 from coilstage.analysis.topology import protected_cables, switched_stages, unfused_feed_cables
 from coilstage.drawing.schema import Drawing
@@ -42,6 +43,7 @@ class Analysis:
     duty_state: dict[str, str]  # element id -> "all stages" or "<stage> alone"
     switched: dict[str, list[str]]  # relay id -> the stages it switches
     unfused: list[str]  # feed cables no fuse cuts off
+    ratings: Ratings  # cables' ampacity, fuses' heating of their cables, pulse I²t, relay pick-up
     switching: SwitchingResult | None
     field: FieldResult
     descent: DutyResult | None  # the drawing's duty profile
@@ -77,6 +79,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         duty_state,
         switched_stages(d),
         unfused_feed_cables(d),
+        ratings(d, protected, far_end, duty, sw, corners["hot"]),
         sw,
         analyse_field(d, corners, nets["cold"]),
         descent,

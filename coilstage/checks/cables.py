@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from coilstage import tables
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -16,54 +15,12 @@ from coilstage.checks.base import (
 from coilstage.drawing.schema import Cable
 
 
-def cable_ampacity(a: Analysis, cable: Cable) -> tables.Ampacity | str:
-    """Ampacity of a cable in its zone and bundle, or why it cannot be given: the table's
-    (33 CFR 183.425), and where the cable's diameters are known the lower of that and the still-air
-    heat balance's (a second opinion, with the same bundle factor)."""
-    if cable.material != "copper":
-        return f"the ampacity table is for copper; this cable is {cable.material}"
-    amp = tables.ampacity(cable.awg, cable.area, cable.class_max, cable.zone_temperature, cable.bundle)
-    if isinstance(amp, str):
-        return amp
-    comp = computed_ampacity(cable)
-    if comp is not None and comp < amp.value:
-        return tables.Ampacity(
-            comp,
-            amp.base,
-            amp.column,
-            amp.ambient_factor,
-            amp.bundle_factor,
-            amp.method + f"; the heat balance gives less, {comp:.0f} A, and governs",
-        )
-    return amp
-
-
-def computed_ampacity(cable: Cable) -> float | None:
-    """Current that holds the conductor at its class temperature in still air in its zone, by the
-    heat balance (``ht`` correlations), times the bundle factor [A]; None without diameters."""
-    if cable.outer_diameter is None or cable.conductor_diameter is None or cable.zone_temperature >= cable.class_max:
-        return None
-    from coilstage.physics.cable_heat import computed_ampacity as heat_balance_ampacity
-
-    k_ins, _name = tables.cable_insulation(cable.insulation_class)
-    i = heat_balance_ampacity(
-        cable.class_max,
-        cable.r20_per_m,
-        cable.alpha20,
-        cable.conductor_diameter,
-        cable.outer_diameter,
-        k_ins,
-        tables.cable_emissivity(),
-        cable.zone_temperature,
-    )
-    return i * tables.bundle_factor(cable.bundle)
-
-
 def _ampacity(a: Analysis) -> list[Verdict]:
     out = []
     for c in a.drawing.of_kind(Cable):
         i = a.duty[c.id]
-        amp = cable_ampacity(a, c)
+        rating = a.ratings.cables[c.id]
+        amp = rating.ampacity
         if isinstance(amp, str):
             out.append(not_checked(AMPACITY, c.id, amp, "A", "cold"))
             continue
@@ -84,7 +41,7 @@ def _ampacity(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        comp = computed_ampacity(c)
+        comp = rating.heat_balance
         table_value = amp.base * amp.ambient_factor * amp.bundle_factor
         note = (
             f"{c.size_label} ({amp.method}): table {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "

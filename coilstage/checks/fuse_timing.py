@@ -5,11 +5,9 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
-
 from coilstage import tables
+from coilstage.analysis.ratings import fuse_gates
 from coilstage.analysis.run import Analysis
-from coilstage.analysis.topology import cut_off_by
 from coilstage.checks.base import (
     Rule,
     Status,
@@ -19,40 +17,17 @@ from coilstage.checks.base import (
     ceiling_temperature,
     not_checked,
 )
-from coilstage.checks.cables import cable_ampacity
 from coilstage.drawing.schema import Cable, Fuse
-from coilstage.physics.fault import (
-    BETA_ALUMINIUM,
-    BETA_COPPER,
-    QC_ALUMINIUM,
-    QC_COPPER,
-    adiabatic_final_temperature,
-    material_k,
-)
-from coilstage.physics.thermal import cable_loss_coefficient, conductor_temperature
-from coilstage.tables import FuseGates
 
 #: ABYC E-11 distances for a conductor ahead of its overcurrent device [m]: 7 in; 40 in if sheathed;
 #: 72 in if sheathed and connected directly to the battery terminal.
 ABYC_DISTANCES = (0.178, 1.02, 1.83)
 
 
-def _gates(f: Fuse) -> FuseGates | None:
-    return FuseGates(f.gates, f.gates_source) if f.gates else None
-
-
-def _material(c: Cable) -> tuple[float, float, float]:
-    """(K, β, Qc) of a cable's conductor metal (IEC 60949 constants)."""
-    rho = tables.material(c.material)["rho20"]
-    if c.material == "aluminium":
-        return material_k(QC_ALUMINIUM, BETA_ALUMINIUM, rho), BETA_ALUMINIUM, QC_ALUMINIUM
-    return material_k(QC_COPPER, BETA_COPPER, rho), BETA_COPPER, QC_COPPER
-
-
 def _nuisance(a: Analysis) -> list[Verdict]:
     out = []
     for f in a.drawing.of_kind(Fuse):
-        g = _gates(f)
+        g = fuse_gates(f)
         if g is None:
             out.append(
                 not_checked(
@@ -60,14 +35,7 @@ def _nuisance(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        i_max = a.duty[f.id]
-        if a.switching is not None:
-            for sc in a.switching.scenarios.values():
-                if sc.corner == "cold":
-                    grid = np.linspace(0.0, sc.t_end, 1501)
-                    i_max = max(
-                        i_max, float(np.nanmax(np.abs(sc.sample(grid, [], (f"element:{f.id}",))[f"element:{f.id}"])))
-                    )
+        i_max = a.ratings.fuses[f.id].peak_current
         carry = f.rating * tables.fuse_rerating(f.zone_temperature)
         m = i_max / carry
         t_min = g.t_min(m)
@@ -97,32 +65,18 @@ def _nuisance(a: Analysis) -> list[Verdict]:
 
 def _cable_overload(a: Analysis) -> list[Verdict]:
     out = []
-    conv = float(tables.fuse_gate_table()["conventional_fusing"])
     cables = {c.id: c for c in a.drawing.of_kind(Cable)}
     for f in a.drawing.of_kind(Fuse):
-        g = _gates(f)
         for cid in a.protected.get(f.id, []):
             subject = f"{f.id} → {cid}"
             c = cables.get(cid)
             if c is None:
                 continue
-            if g is None:
-                out.append(not_checked(OVERLOAD, subject, f"no time-current gates for type {f.fuse_type}", "degC"))
+            ov = a.ratings.overload[(f.id, cid)]
+            if isinstance(ov, str):
+                out.append(not_checked(OVERLOAD, subject, ov, "degC"))
                 continue
-            amp = cable_ampacity(a, c)
-            if isinstance(amp, str) or amp.value <= 0:
-                out.append(
-                    not_checked(OVERLOAD, subject, "the cable has no ampacity in its zone (see cable.ampacity)", "degC")
-                )
-                continue
-            i = conv * f.rating
-            t = g.t_max(conv)
-            col = float(amp.column)
-            g_loss = cable_loss_coefficient(amp.value, c.r20_per_m, c.alpha20, col, c.zone_temperature)
-            _k, _beta, qc = _material(c)
-            theta = conductor_temperature(
-                t, i, c.r20_per_m, c.alpha20, g_loss, qc * c.area, c.zone_temperature, c.zone_temperature
-            )
+            conv, i, t, theta = ov.multiple, ov.current, ov.time, ov.temperature
             limit = float(tables.cable_class_rows()[c.insulation_class]["short_term"])
             ok = theta <= limit
             shown = theta if math.isfinite(theta) else None
@@ -150,19 +104,18 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
     out = []
     cables = {c.id: c for c in a.drawing.of_kind(Cable)}
     for f in a.drawing.of_kind(Fuse):
-        g = _gates(f)
+        g = fuse_gates(f)
         for cid in a.protected.get(f.id, []):
             c = cables.get(cid)
             if c is None:
                 continue
             subject = f"{f.id} → {cid}"
-            if g is None:
-                out.append(not_checked(SHORT, subject, f"no time-current gates for type {f.fuse_type}", "degC"))
+            sh = a.ratings.far_end[(f.id, cid)]
+            if isinstance(sh, str):
+                out.append(not_checked(SHORT, subject, sh, "degC"))
                 continue
-            i_sc = a.far_end_fault.get(cid, 0.0)
-            m = i_sc / f.rating
-            t = g.t_max(m)
-            if math.isinf(t):
+            i_sc, m, t = sh.current, sh.multiple, sh.clear_time
+            if sh.theta_final is None:
                 out.append(
                     Verdict(
                         SHORT.id,
@@ -179,9 +132,7 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
                     )
                 )
                 continue
-            k, beta, _qc = _material(c)
-            theta_i = c.class_max
-            theta_f = adiabatic_final_temperature(i_sc * i_sc * t, c.area, k, beta, theta_i)
+            theta_i, theta_f = sh.theta_initial, sh.theta_final
             limit = float(tables.cable_class_rows()[c.insulation_class]["short_circuit"])
             note = (
                 f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the latest "
@@ -196,15 +147,12 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
 
 def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
     d = a.drawing
-    fuses = [f.id for f in d.of_kind(Fuse)]
-    covered: set[str] = set()
-    for cut in cut_off_by(d, fuses).values():
-        covered |= cut
+    unfused = set(a.unfused)
     pos = d.supply.battery.node
     alt_node = d.supply.alternator.node if d.supply.alternator else None
     out = []
     for c in d.of_kind(Cable):
-        if c.role != "feed" or c.id in covered:
+        if c.id not in unfused:
             continue
         if alt_node is not None and alt_node != pos and alt_node in (c.a, c.b):
             out.append(
@@ -261,15 +209,7 @@ def _pulse(a: Analysis) -> list[Verdict]:
         if a.switching is None:
             out.append(not_checked(PULSE, f.id, "switching was not analysed", "A^2s"))
             continue
-        worst = 0.0
-        for sc in a.switching.scenarios.values():
-            if sc.corner != "cold":
-                continue
-            for t_on in sorted({ev[0] for ev in sc.events}):
-                grid = np.linspace(t_on, t_on + window, 2001)
-                i = sc.sample(grid, [], (f"element:{f.id}",))[f"element:{f.id}"]
-                # the whole current through the fuse, not just the step: a preloaded fuse has less margin
-                worst = max(worst, float(np.trapezoid(i * i, grid)))
+        worst = a.ratings.fuses[f.id].pulse_i2t
         limit = frac * f.melting_i2t
         out.append(
             at_most(

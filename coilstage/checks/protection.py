@@ -13,7 +13,6 @@ from coilstage.checks.base import (
     ceiling,
     not_checked,
 )
-from coilstage.checks.cables import cable_ampacity
 from coilstage.drawing.schema import Cable, Fuse, Relay
 
 
@@ -55,7 +54,7 @@ def _fuse_protects(a: Analysis) -> list[Verdict]:
             continue
         amps = []
         for cid in ids:
-            amp = cable_ampacity(a, cables[cid])
+            amp = a.ratings.cables[cid].ampacity
             if isinstance(amp, str):
                 out.append(not_checked(FUSE_PROTECTS, f.id, f"ampacity of {cid} unknown: {amp}", "A"))
                 break

@@ -3,10 +3,7 @@
 from __future__ import annotations
 
 from coilstage import tables
-from coilstage.analysis.circuit import element_resistance
-from coilstage.analysis.conditions import corner_sources
 from coilstage.analysis.run import Analysis
-from coilstage.analysis.topology import switched_stages
 from coilstage.checks.base import (
     Rule,
     Status,
@@ -18,7 +15,6 @@ from coilstage.checks.base import (
     not_checked,
 )
 from coilstage.drawing.schema import Relay, Stage
-from coilstage.physics.conductor import resistance_at_temperature
 
 #: Energise a relay at no less than 110 % of its must-operate voltage (a state transport agency's
 #: relay rules, shared protection notes §3.2): the margin of the pick-up rule.
@@ -45,8 +41,8 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
     stages = _stage_map(a)
     cold = a.switching.stages["cold"]
     order = [row["category"] for row in tables.utilization_categories()]
-    switched = switched_stages(a.drawing)
-    cold_t = corner_sources(a.drawing)["cold"][0]
+    switched = a.switched
+    r_cold = {st.id: st.resistance for st in a.corners["cold"].stages}
     for relay in a.drawing.of_kind(Relay):
         ids = switched.get(relay.id, [])
         if not ids:
@@ -83,7 +79,7 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
             )
             continue
         tau = max(cold[s].tau for s in bare)
-        power = sum(cold[s].i_break ** 2 * element_resistance(stages[s], cold_t[s]) for s in bare)
+        power = sum(cold[s].i_break ** 2 * r_cold[s] for s in bare)
         need = category_for(tau, power)
         rated = set(relay.categories)
         ib = relay.inductive_break
@@ -250,10 +246,8 @@ def _pickup(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        t = r.zone_temperature + c.rise
-        r_hot = resistance_at_temperature(c.r_ref, c.t_ref, t, 0.00393)
-        need = c.operate_voltage * r_hot / c.r_ref
-        have = hot.bus_voltage * r_hot / (r_hot + c.feed_resistance)
+        pick = a.ratings.relays[r.id]
+        t, need, have = pick.temperature, pick.need, pick.have
         limit = PICKUP_MARGIN * need
         status = Status.PASS if have >= limit else Status.WARN if have >= need else Status.FAIL
         out.append(

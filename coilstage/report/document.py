@@ -123,8 +123,6 @@ def switching(a: Analysis) -> dict[str, Any]:
 def heating(a: Analysis) -> dict[str, Any]:
     import numpy as np
 
-    from coilstage import tables
-    from coilstage.checks.cables import computed_ampacity
     from coilstage.drawing.schema import Cable
 
     d = a.drawing
@@ -151,15 +149,14 @@ def heating(a: Analysis) -> dict[str, Any]:
         )
     cables = []
     for c in d.of_kind(Cable):
-        amp = (
-            tables.ampacity(c.awg, c.area, c.class_max, c.zone_temperature, c.bundle) if c.material == "copper" else ""
-        )
+        rating = a.ratings.cables[c.id]
+        amp = rating.table
         k = r.cable_ids.index(c.id) if r is not None else None
         cables.append(
             {
                 "id": c.id,
                 "table_ampacity": None if isinstance(amp, str) else q(amp.value, "A"),
-                "computed_ampacity": qf(computed_ampacity(c), "A") if computed_ampacity(c) is not None else None,
+                "computed_ampacity": qf(rating.heat_balance, "A") if rating.heat_balance is not None else None,
                 "peak_temperature": q(float(np.max(r.cable_temperature[:, k])), "degC") if k is not None else None,
                 "class_temperature": q(c.class_max, "degC"),
             }

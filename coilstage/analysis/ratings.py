@@ -1,0 +1,252 @@
+"""What the cables, fuses and relays see against their ratings: each cable's ampacity (table and
+heat balance), the conductor's heating at a fuse's conventional fusing current and in a far-end short,
+the peak and pulse I²t a fuse carries when the stages switch, and a relay coil's hot pick-up voltage.
+Each figure names the model that made it; the checks only compare.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from coilstage import tables
+from coilstage.analysis.corners import CornerResult
+from coilstage.analysis.materials import metal
+from coilstage.analysis.switching import SwitchingResult
+from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay
+from coilstage.physics.cable_heat import computed_ampacity as heat_balance_ampacity
+from coilstage.physics.conductor import resistance_at_temperature
+from coilstage.physics.fault import adiabatic_final_temperature
+from coilstage.physics.thermal import cable_loss_coefficient, conductor_temperature
+from coilstage.tables import FuseGates
+
+
+def fuse_gates(f: Fuse) -> FuseGates | None:
+    """A fuse's time-current gates (the drawing's or the shipped ones for its type), or None."""
+    return FuseGates(f.gates, f.gates_source) if f.gates else None
+
+
+# ---------------------------------------------------------------- cables
+
+
+def computed_ampacity(cable: Cable) -> float | None:
+    """Current that holds the conductor at its class temperature in still air in its zone, by the
+    heat balance (:func:`coilstage.physics.cable_heat.computed_ampacity`), times the bundle factor [A];
+    None without diameters."""
+    if cable.outer_diameter is None or cable.conductor_diameter is None or cable.zone_temperature >= cable.class_max:
+        return None
+    k_ins, _name = tables.cable_insulation(cable.insulation_class)
+    i = heat_balance_ampacity(
+        cable.class_max,
+        cable.r20_per_m,
+        cable.alpha20,
+        cable.conductor_diameter,
+        cable.outer_diameter,
+        k_ins,
+        tables.cable_emissivity(),
+        cable.zone_temperature,
+    )
+    return i * tables.bundle_factor(cable.bundle)
+
+
+@dataclass(frozen=True)
+class CableRating:
+    """A cable's ampacity in its zone and bundle: the governing value (or why there is none), the
+    table's alone, and the still-air heat balance's [A]."""
+
+    id: str
+    ampacity: tables.Ampacity | str
+    table: tables.Ampacity | str
+    heat_balance: float | None
+
+
+def cable_rating(cable: Cable) -> CableRating:
+    """The table's ampacity (33 CFR 183.425), and where the cable's diameters are known the lower of
+    that and the still-air heat balance's (a second opinion, with the same bundle factor)."""
+    comp = computed_ampacity(cable)
+    if cable.material != "copper":
+        why = f"the ampacity table is for copper; this cable is {cable.material}"
+        return CableRating(cable.id, why, why, comp)
+    amp = tables.ampacity(cable.awg, cable.area, cable.class_max, cable.zone_temperature, cable.bundle)
+    if isinstance(amp, str):
+        return CableRating(cable.id, amp, amp, comp)
+    gov: tables.Ampacity = amp
+    if comp is not None and comp < amp.value:
+        gov = tables.Ampacity(
+            comp,
+            amp.base,
+            amp.column,
+            amp.ambient_factor,
+            amp.bundle_factor,
+            amp.method + f"; the heat balance gives less, {comp:.0f} A, and governs",
+        )
+    return CableRating(cable.id, gov, amp, comp)
+
+
+# ---------------------------------------------------------------- a fuse and the cables it protects
+
+
+@dataclass(frozen=True)
+class Overload:
+    """The conductor at the fuse's conventional fusing current for the longest time the gates allow
+    (first-order heating implied by its ampacity, :func:`coilstage.physics.thermal.conductor_temperature`)."""
+
+    fuse: str
+    cable: str
+    multiple: float  # conventional fusing current / rating
+    current: float  # [A]
+    time: float  # [s]
+    temperature: float  # [°C]; inf: thermal runaway
+    model: str = "physics.thermal.conductor_temperature (loss coefficient from the ampacity)"
+
+
+@dataclass(frozen=True)
+class FarEndShort:
+    """A bolted short at the far end of a protected cable: current, clearing time from the gates and
+    the conductor's adiabatic final temperature (:func:`coilstage.physics.fault.adiabatic_final_temperature`)."""
+
+    fuse: str
+    cable: str
+    current: float  # [A]
+    multiple: float  # of the rating
+    clear_time: float  # [s]; inf: the fuse need not open within its gates
+    i2t: float | None  # [A²s]
+    theta_initial: float  # [°C]
+    theta_final: float | None  # [°C]
+    model: str = "physics.fault.adiabatic_final_temperature (IEC 60949)"
+
+
+def overload(f: Fuse, c: Cable, rating: CableRating) -> Overload | str:
+    """The overload heating of cable ``c`` behind fuse ``f``, or why it cannot be given."""
+    g = fuse_gates(f)
+    if g is None:
+        return f"no time-current gates for type {f.fuse_type}"
+    amp = rating.ampacity
+    if isinstance(amp, str) or amp.value <= 0:
+        return "the cable has no ampacity in its zone (see cable.ampacity)"
+    conv = float(tables.fuse_gate_table()["conventional_fusing"])
+    i = conv * f.rating
+    t = g.t_max(conv)
+    g_loss = cable_loss_coefficient(amp.value, c.r20_per_m, c.alpha20, float(amp.column), c.zone_temperature)
+    qc = metal(c.material).qc
+    theta = conductor_temperature(
+        t, i, c.r20_per_m, c.alpha20, g_loss, qc * c.area, c.zone_temperature, c.zone_temperature
+    )
+    return Overload(f.id, c.id, conv, i, t, theta)
+
+
+def far_end_short(f: Fuse, c: Cable, i_sc: float) -> FarEndShort | str:
+    """The far-end short of cable ``c`` behind fuse ``f`` at prospective current ``i_sc`` [A]."""
+    g = fuse_gates(f)
+    if g is None:
+        return f"no time-current gates for type {f.fuse_type}"
+    m = i_sc / f.rating
+    t = g.t_max(m)
+    theta_i = c.class_max
+    if math.isinf(t):
+        return FarEndShort(f.id, c.id, i_sc, m, t, None, theta_i, None)
+    mt = metal(c.material)
+    theta_f = adiabatic_final_temperature(i_sc * i_sc * t, c.area, mt.k, mt.beta, theta_i)
+    return FarEndShort(f.id, c.id, i_sc, m, t, i_sc * i_sc * t, theta_i, theta_f)
+
+
+@dataclass(frozen=True)
+class FuseSwitching:
+    """What a fuse carries in the cold-corner switching scenarios: its peak current [A] (continuous
+    duty included) and the largest I²t over the pulse window after any switch-on [A²s] (trapezoid rule
+    on the exact switching solution)."""
+
+    fuse: str
+    peak_current: float
+    pulse_i2t: float | None  # None: switching not analysed
+    model: str = "analysis.switching (exact piecewise RL solution), sampled"
+
+
+def fuse_switching(f: Fuse, duty_current: float, sw: SwitchingResult | None) -> FuseSwitching:
+    i_max = duty_current
+    worst: float | None = None
+    if sw is not None:
+        window = float(tables.fuse_gate_table()["pulse_window"])
+        key = f"element:{f.id}"
+        worst = 0.0
+        for sc in sw.scenarios.values():
+            if sc.corner != "cold":
+                continue
+            grid = np.linspace(0.0, sc.t_end, 1501)
+            i_max = max(i_max, float(np.nanmax(np.abs(sc.sample(grid, [], (key,))[key]))))
+            for t_on in sorted({ev[0] for ev in sc.events}):
+                g = np.linspace(t_on, t_on + window, 2001)
+                i = sc.sample(g, [], (key,))[key]
+                # the whole current through the fuse, not just the step: a preloaded fuse has less margin
+                worst = max(worst, float(np.trapezoid(i * i, g)))
+    return FuseSwitching(f.id, i_max, worst)
+
+
+# ---------------------------------------------------------------- relays
+
+
+@dataclass(frozen=True)
+class RelayPickup:
+    """A relay coil in the hot corner: its temperature [°C] and resistance [Ω] (copper, R(T) of
+    :func:`coilstage.physics.conductor.resistance_at_temperature`), the voltage it needs to operate
+    (same ampere-turns as at its reference temperature) and the voltage it gets from the hot bus [V]."""
+
+    relay: str
+    temperature: float
+    resistance: float
+    need: float
+    have: float
+    bus: float
+    model: str = "physics.conductor.resistance_at_temperature (copper coil)"
+
+
+def relay_pickup(r: Relay, hot: CornerResult) -> RelayPickup | None:
+    c = r.coil
+    if c is None:
+        return None
+    t = r.zone_temperature + c.rise
+    r_hot = resistance_at_temperature(c.r_ref, c.t_ref, t, metal("copper").alpha20)
+    need = c.operate_voltage * r_hot / c.r_ref
+    have = hot.bus_voltage * r_hot / (r_hot + c.feed_resistance)
+    return RelayPickup(r.id, t, r_hot, need, have, hot.bus_voltage)
+
+
+# ---------------------------------------------------------------- all of them
+
+
+@dataclass(frozen=True)
+class Ratings:
+    cables: dict[str, CableRating]
+    overload: dict[tuple[str, str], Overload | str]  # (fuse id, cable id) -> figures or why not
+    far_end: dict[tuple[str, str], FarEndShort | str]
+    fuses: dict[str, FuseSwitching]
+    relays: dict[str, RelayPickup | None]
+
+
+def ratings(
+    d: Drawing,
+    protected: dict[str, list[str]],
+    far_end_fault: dict[str, float],
+    duty: dict[str, float],
+    sw: SwitchingResult | None,
+    hot: CornerResult,
+) -> Ratings:
+    """Every rating figure of a drawing (see the module docstring)."""
+    cables = {c.id: c for c in d.of_kind(Cable)}
+    rate = {cid: cable_rating(c) for cid, c in cables.items()}
+    over: dict[tuple[str, str], Overload | str] = {}
+    short: dict[tuple[str, str], FarEndShort | str] = {}
+    for f in d.of_kind(Fuse):
+        for cid in protected.get(f.id, []):
+            if cid in cables:
+                over[(f.id, cid)] = overload(f, cables[cid], rate[cid])
+                short[(f.id, cid)] = far_end_short(f, cables[cid], far_end_fault.get(cid, 0.0))
+    return Ratings(
+        rate,
+        over,
+        short,
+        {f.id: fuse_switching(f, duty[f.id], sw) for f in d.of_kind(Fuse)},
+        {r.id: relay_pickup(r, hot) for r in d.of_kind(Relay)},
+    )

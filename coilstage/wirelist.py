@@ -539,16 +539,15 @@ def sheet_to_harness(sheet: Sheet, system_voltage: int | None) -> Harness:
             where = f"{origin}, column {col.title}"
             before = len(problems)
             value = _cell_value(col, text, sheet.delimiter, where, problems)
-            if len(problems) > before:
+            if len(problems) > before:  # keep the cell as written: the loader's word on it is left out
                 h.reported.add((origin, col.name))
-                continue
+                value = text
             key = col.name
             if key == "kind" and value not in KINDS:
                 close = difflib.get_close_matches(value, KINDS, n=1, cutoff=0.6)
                 hint = f' (did you mean "{close[0]}"?)' if close else ""
                 problems.append(Problem(where, f'"{text}"', f"one of {', '.join(KINDS)}{hint}"))
                 h.reported.add((origin, "kind"))
-                continue
             if "." in key:
                 table, sub = key.split(".", 1)
                 nested = element.setdefault(table, {})

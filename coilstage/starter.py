@@ -213,7 +213,7 @@ ambient_min = "-30 degC"  # lowest surrounding temperature: the cold corner (inv
 ambient_max = "40 degC"  # highest surrounding temperature (invented)
 
 [environment.zones]  # named places on the vehicle with their highest temperature (invented)
-chassis_rail = "60 degC"
+chassis_rail = "60 degC"  # along the frame rails, where the battery box and cables run
 retarder_box = "70 degC"  # the relay box beside the retarder
 retarder = "80 degC"  # around the stator coils, warmed by the rotors
 

@@ -64,38 +64,133 @@ def write_json(r, path: Path, title: str) -> None:
     path.write_text(json.dumps(doc, allow_nan=False) + "\n", encoding="utf-8")
 
 
-def plot(r, d, paths: list[Path], title: str) -> None:
-    import matplotlib
+def state_of_charge(r, d) -> np.ndarray | None:
+    """Battery state of charge over the duty [fraction]: the start value less the charge drawn over
+    the capacity (a plain charge balance, as the battery rule takes it); None without a capacity."""
+    cap = d.supply.battery.capacity
+    if not cap or r.duty is None:
+        return None
+    start = d.duty.start_soc if d.duty is not None else 1.0
+    return start - np.asarray(r.charge_drawn) / cap
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
 
+def figure(r, d, title: str):
+    """Four panels against time: winding and hottest cable temperatures with the winding limit and
+    those cables' class temperatures; currents; the bus voltage with its lowest operating value; the
+    battery's state of charge with its floor. Equal curves are drawn once and named together."""
+    from coilstage.report import svgplot
+
+    plt = svgplot.pyplot()
     tm = r.t / 60.0
-    fig, ax = plt.subplots(3, 1, figsize=(9, 9), sharex=True)
-    for k, s in enumerate(r.stage_ids):
-        ax[0].plot(tm, r.stage_temperature[:, k], lw=1.5, label=f"{s} winding")
-    lims = sorted({st.coil.limit_temperature for st in d.stages})
-    for lim in lims:
-        ax[0].axhline(lim, color="red", ls=":", lw=1)
-        ax[0].text(tm[0], lim, f" winding limit {lim:g} °C", color="red", va="bottom", fontsize=8)
-    hottest = np.argsort(r.cable_temperature.max(axis=0))[::-1][:3]
-    for k in hottest:
-        ax[0].plot(tm, r.cable_temperature[:, k], "--", lw=1.1, label=f"{r.cable_ids[k]} conductor")
+    fig, ax = plt.subplots(4, 1, figsize=(8.6, 11.0), sharex=True)
+    st = {s: [r.stage_temperature[:, k]] for k, s in enumerate(r.stage_ids)}
+    groups = svgplot.coinciding(st)
+    for n, g in enumerate(groups):
+        k = r.stage_ids.index(g[0])
+        ax[0].plot(
+            tm,
+            r.stage_temperature[:, k],
+            svgplot.STYLES[n % 4],
+            lw=1.5,
+            label=f"{svgplot.group_label(g)} winding",
+        )
+    for lim in sorted({s.coil.limit_temperature for s in d.stages}):
+        ax[0].axhline(lim, color="tab:red", ls=":", lw=1)
+        ax[0].annotate(
+            f"winding limit {lim:g} °C",
+            (0.01, lim),
+            xycoords=("axes fraction", "data"),
+            va="bottom",
+            fontsize=7,
+            color="tab:red",
+        )
+    order = [int(k) for k in np.argsort(r.cable_temperature.max(axis=0))[::-1]]
+    cgroups = svgplot.coinciding({r.cable_ids[k]: [r.cable_temperature[:, k]] for k in order})[:3]
+    cls = {c.id: c.class_max for c in d.elements if hasattr(c, "class_max")}
+    shown = [cid for g in cgroups for cid in g]
+    drawn_class = set()
+    for n, g in enumerate(cgroups):
+        k = r.cable_ids.index(g[0])
+        ax[0].plot(
+            tm,
+            r.cable_temperature[:, k],
+            "--",
+            lw=1.1,
+            marker=svgplot.MARKERS[n],
+            markevery=0.1,
+            ms=4,
+            label=f"{svgplot.group_label(g)} conductor",
+        )
+        c_lim = cls.get(g[0])
+        if c_lim is not None and c_lim not in drawn_class:
+            drawn_class.add(c_lim)
+            ax[0].axhline(c_lim, color="tab:purple", ls="-.", lw=0.9)
+            ax[0].annotate(
+                f"cable class {c_lim:g} °C ({', '.join(x for x in shown if cls.get(x) == c_lim)})",
+                (0.99, c_lim),
+                xycoords=("axes fraction", "data"),
+                ha="right",
+                va="bottom",
+                fontsize=7,
+                color="tab:purple",
+            )
     ax[0].set_ylabel("temperature [°C]")
-    ax[0].legend(fontsize=8, ncol=2)
-    for k, s in enumerate(r.stage_ids):
-        ax[1].plot(tm, r.stage_current[:, k], lw=1.3, label=s)
+    ax[0].legend(fontsize=7, ncol=2, loc="lower right")
+    cur = {s: [r.stage_current[:, k]] for k, s in enumerate(r.stage_ids)}
+    for n, g in enumerate(svgplot.coinciding(cur)):
+        k = r.stage_ids.index(g[0])
+        ax[1].plot(tm, r.stage_current[:, k], svgplot.STYLES[n % 4], lw=1.3, label=svgplot.group_label(g))
     ax[1].plot(tm, r.battery_current, "k--", lw=1.1, label="battery (discharge +)")
     ax[1].plot(tm, r.alternator_current, "k:", lw=1.1, label="alternator")
     ax[1].set_ylabel("current [A]")
-    ax[1].legend(fontsize=8, ncol=3)
-    ax[2].plot(tm, r.bus_voltage, "k", lw=1.3)
-    ax[2].set_ylabel("bus voltage at the battery [V]")
-    ax[2].set_xlabel("time [min]")
+    ax[1].legend(fontsize=7, ncol=3)
+    ax[2].plot(tm, r.bus_voltage, "k", lw=1.3, label="bus at the battery")
+    ax[2].axhline(d.supply.v_min, color="tab:red", ls=":", lw=1.1)
+    ax[2].annotate(
+        f"lowest operating bus {d.supply.v_min:g} V",
+        (0.01, d.supply.v_min),
+        xycoords=("axes fraction", "data"),
+        va="bottom",
+        fontsize=7,
+        color="tab:red",
+    )
+    ax[2].set_ylabel("bus voltage [V]")
+    soc = state_of_charge(r, d)
+    if soc is not None:
+        ax[3].plot(tm, 100 * soc, "k", lw=1.3, label="state of charge (charge balance)")
+        floor = d.duty.min_soc if d.duty is not None else None
+        if floor is not None:
+            ax[3].axhline(100 * floor, color="tab:red", ls=":", lw=1.1)
+            ax[3].annotate(
+                f"floor {100 * floor:g} %",
+                (0.01, 100 * floor),
+                xycoords=("axes fraction", "data"),
+                va="bottom",
+                fontsize=7,
+                color="tab:red",
+            )
+        ax[3].set_ylabel("battery state of charge [%]")
+    else:
+        ax[3].plot(tm, r.charge_drawn / 3600, "k", lw=1.3, label="charge drawn")
+        ax[3].set_ylabel("battery charge drawn [A·h]")
+        ax[3].set_title("no battery capacity in the drawing: state of charge not known", fontsize=8)
+    ax[3].legend(fontsize=7)
+    ax[3].set_xlabel("time [min]")
     for a in ax:
         a.grid(alpha=0.3)
-    fig.suptitle(f"{title}\n{r.duty.name} duty: {r.duty.description}", fontsize=9)
+    sub = f"{r.duty.name} duty: {r.duty.description}"
+    note = svgplot.coincide_note(groups)
+    if note:
+        sub += f"\n{note} (drawn once)"
+    fig.suptitle(svgplot.wrap(title, 100) + "\n" + svgplot.wrap(sub, 110), fontsize=9)
     fig.tight_layout()
-    for p in paths:
-        fig.savefig(p, dpi=110)
-    plt.close(fig)
+    return fig
+
+
+def plot(r, d, paths: list[Path], title: str) -> None:
+    """:func:`figure` written to each of ``paths`` (PNG, SVG by suffix)."""
+    from coilstage.report import svgplot
+
+    fig = figure(r, d, title)
+    svgplot.save(fig, paths, dpi=110)
+    svgplot.pyplot().close(fig)

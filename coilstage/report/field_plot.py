@@ -9,51 +9,77 @@ import numpy as np
 from coilstage.analysis.field import circuit_of
 
 
-def plot(a, paths: list[Path], title: str) -> bool:
-    """One curve per coil type with a magnetic circuit; False if there is none to draw."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+def figure(a, title: str):
+    """One curve per coil type with a magnetic circuit, the knee, and each corner's operating
+    points (stages at the same point are named together); None if no coil has a circuit."""
+    from coilstage.report import svgplot
 
     d = a.drawing
     coils = {name: circuit_of(c) for name, c in d.coils.items()}
     coils = {k: v for k, v in coils.items() if v is not None}
     if not coils:
-        return False
-    fig, ax = plt.subplots(figsize=(8, 5.5))
-    for name, circ in coils.items():
-        ni_max = 1.3 * max(x.ampere_turns for per in a.field.stages.values() for x in per.values())
+        return None
+    plt = svgplot.pyplot()
+    fig, ax = plt.subplots(figsize=(8, 5.6))
+    ni_max = 1.3 * max(x.ampere_turns for per in a.field.stages.values() for x in per.values())
+    for n, (name, circ) in enumerate(coils.items()):
         ni = np.linspace(0, ni_max, 300)
-        ax.plot(ni, [circ.gap_flux_density(x) for x in ni], lw=1.6, label=f"coil {name} ({circ.curve.name})")
+        ax.plot(
+            ni,
+            [circ.gap_flux_density(x) for x in ni],
+            svgplot.STYLES[n % 4],
+            lw=1.6,
+            label=f"coil {name} ({circ.curve.name})",
+        )
         ax.plot(ni, 4e-7 * np.pi * ni / (circ.gaps * circ.gap), ":", lw=1, label=f"coil {name}, gaps only (μ0·N·I/g)")
         knee = circ.curve.knee()
         ax.axhline(knee * circ.iron_area / circ.area, color="grey", ls="--", lw=0.8)
-        ax.text(ni_max * 0.02, knee * circ.iron_area / circ.area, " knee of the iron", va="bottom", fontsize=8)
+        ax.annotate(
+            " knee of the iron",
+            (0.01, knee * circ.iron_area / circ.area),
+            xycoords=("axes fraction", "data"),
+            va="bottom",
+            fontsize=7,
+        )
+    notes = []
     for corner, marker, colour in (("cold", "o", "tab:blue"), ("hot", "s", "tab:red")):
+        pts: dict[tuple[float, float], list[str]] = {}
         for s in d.stages:
             x = a.field.stages[corner][s.id]
             if x.b_gap is not None:
-                ax.plot(
-                    x.ampere_turns,
-                    x.b_gap,
-                    marker,
-                    ms=8,
-                    mfc="none",
-                    mec=colour,
-                    mew=1.5,
-                    label=f"{corner} corner" if s is d.stages[0] else None,
-                )
-    ax.set_xlabel("ampere-turns per coil [A]")
+                pts.setdefault((round(x.ampere_turns, 6), round(x.b_gap, 9)), []).append(s.id)
+        for k, ((ni_, b), ids) in enumerate(pts.items()):
+            ax.plot(ni_, b, marker, ms=8, mfc="none", mec=colour, mew=1.5, label=f"{corner} corner" if k == 0 else None)
+            ax.annotate(
+                svgplot.group_label(ids) if len(ids) < 4 else f"{ids[0]}–{ids[-1]}",
+                (ni_, b),
+                textcoords="offset points",
+                xytext=(6, -10 if corner == "hot" else 6),
+                fontsize=7,
+                color=colour,
+            )
+            if len(ids) > 1:
+                notes.append(f"{corner}: {svgplot.coincide_note([ids])}")
+    ax.set_xlabel("ampere-turns per coil [A-turns]")
     ax.set_ylabel("gap flux density [T]")
     ax.set_ylim(0, None)
     ax.grid(alpha=0.3)
-    ax.legend(fontsize=8)
-    ax.set_title(
-        f"{title}\nbraking field against ampere-turns; operating points of the cold and hot corners", fontsize=9
-    )
+    ax.legend(fontsize=7.5, loc="lower right")
+    sub = "braking field against ampere-turns; operating points of the cold (circles) and hot (squares) corners"
+    if notes:
+        sub += "\n" + "; ".join(notes)
+    ax.set_title(svgplot.wrap(title, 95) + "\n" + svgplot.wrap(sub, 105), fontsize=8.5)
     fig.tight_layout()
-    for p in paths:
-        fig.savefig(p, dpi=110)
-    plt.close(fig)
+    return fig
+
+
+def plot(a, paths: list[Path], title: str) -> bool:
+    """:func:`figure` written to each of ``paths``; False if there is none to draw."""
+    from coilstage.report import svgplot
+
+    fig = figure(a, title)
+    if fig is None:
+        return False
+    svgplot.save(fig, paths, dpi=110)
+    svgplot.pyplot().close(fig)
     return True

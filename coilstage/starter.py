@@ -219,9 +219,9 @@ retarder = "80 degC"  # around the stator coils, warmed by the rotors
 
 [coils.RC]  # a coil type; stages name it (invented data plate)
 metal = "copper"  # winding metal: "copper" or "aluminium"
-resistance = "{s.coil_r}"  # one coil's resistance and the temperature it was measured at
-inductance = "{s.inductance}"  # one coil's inductance
-turns = {s.turns}  # turns of one coil
+resistance = "{s.coil_r}"  # one coil's resistance at the temperature it was measured at (invented)
+inductance = "{s.inductance}"  # one coil's inductance (invented)
+turns = {s.turns}  # turns of one coil (invented)
 insulation_class = "H"  # IEC 60085 thermal class of the winding (H = 180 °C)
 thermal_resistance = "{s.rth}"  # one coil to its surroundings, vehicle standing (optional; invented)
 thermal_resistance_moving = "{s.rth_moving}"  # the same with the vehicle moving (optional; invented)

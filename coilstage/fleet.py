@@ -2,7 +2,8 @@
 
 ``coilstage check DIR_OR_GLOB... --summary`` checks every drawing it is given (a folder stands for
 its ``*.toml`` files, not counting wire-list bases ``*.base.toml``; a pattern such as
-``"fleet/**/*.toml"`` is expanded), in a pool of worker processes sized to the machine's cores,
+``"fleet/**/*.toml"`` is expanded, wire-list bases again left out; a file named
+itself is always checked), in a pool of worker processes sized to the machine's cores,
 with a progress bar on the terminal's error stream. One drawing's bad input never stops the
 others: it appears in the summary as ``bad input`` with its problems.
 
@@ -87,7 +88,9 @@ def expand(paths: list[str]) -> tuple[list[Path], list[str]]:
         elif p.is_file():
             add(p)
         elif any(ch in arg for ch in "*?["):
-            found = sorted(Path(x) for x in glob.glob(arg, recursive=True) if Path(x).is_file())
+            found = sorted(
+                Path(x) for x in glob.glob(arg, recursive=True) if Path(x).is_file() and not x.endswith(".base.toml")
+            )
             if not found:
                 missing.append(f"{arg}: a pattern that matches no file")
             for x in found:

@@ -1,0 +1,1533 @@
+"""From a verdict to the part that passes: per-part suggestions, a coordinated design, an action list.
+
+Every suggestion comes from the rules themselves, never from a formula of its own: a candidate part is
+written into the drawing's text (:mod:`coilstage.tomledit`), read by the loader, analysed and judged
+by :data:`coilstage.checks.RULES`. So a suggestion follows the rules as they are corrected.
+
+Speed comes from three arguments, each checked where it is used:
+
+* Only the verdicts a part takes part in decide about it (its own subject; for a cable also the
+  voltage drop of every stage it feeds and the verdicts of the fuse that protects it; for a
+  suppressor also the break at the relay that switches its stage).
+* The standard series are ordered, and each such verdict is monotone in the part along its series
+  (a larger conductor has less resistance, more ampacity and more short-circuit withstand; a larger
+  fuse clears later and opens less often; a larger contact rating has more headroom): the smallest
+  passing part is found by bisection, and then *checked* — the part passes, the next smaller fails.
+* A screening analysis leaves the duty simulation out (it is most of the cost); its verdicts are
+  the full check's except for the duty rules, which it returns as not checked. The chosen part is
+  then re-checked with the full :func:`coilstage.check`.
+
+The drawing may write ``"auto"`` for a cable's ``size``, a fuse's ``rating``, a relay's contact rating
+or a stage's ``suppression``, and ``fixed = true`` on a harness element that sizing must not change;
+:func:`prepare` turns such a text into one the loader reads.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import tomllib
+from dataclasses import dataclass, field
+from functools import cache
+from pathlib import Path
+from typing import Any
+
+from coilstage.tomledit import TomlText, format_value
+
+#: Key of our naming that keeps a harness element as written.
+FIXED_KEY = "fixed"
+#: Value that asks sizing to choose.
+AUTO = "auto"
+
+_RANK = {"fail": 0, "warn": 1, "pass": 2}
+_SWITCHING_RULES = ("relay.inductive_break", "suppressor.rating", "stage.release_time")
+_HEATING_RULES = (
+    "winding.temperature",
+    "winding.time_to_limit",
+    "cable.conductor_temperature",
+    "battery.charge",
+    "fuse.duty_thermal_state",
+)
+#: What sizing cannot change, by rule: the part of the vehicle it belongs to.
+UNCHANGEABLE = {
+    "winding.temperature": "the coils and their cooling",
+    "winding.time_to_limit": "the coils and their cooling",
+    "battery.charge": "the battery",
+    "supply.alternator": "the alternator",
+    "supply.bus_minimum": "the battery and alternator",
+    "field.saturation": "the coils",
+    "field.inductance_crosscheck": "the coils",
+    "field.braking_retained": "the coils and their cooling",
+}
+
+
+class SizingError(ValueError):
+    """A drawing that sizing cannot work on (the message says where and why)."""
+
+
+# ---------------------------------------------------------------- series
+
+
+@cache
+def _series(name: str) -> tuple[float, ...]:
+    from coilstage import tables
+
+    for row in tables.shipped("suppressor_series.toml")["table"]["rows"]:
+        if row["name"] == name:
+            return tuple(float(v) for v in row["values"])
+    raise KeyError(name)
+
+
+def _qty(x: float, unit: str) -> str:
+    return f"{x:g} {unit}"
+
+
+def _size_text(label: str) -> str:
+    return label.replace("mm²", "mm^2")
+
+
+def _status(v) -> str:
+    return str(v.status.value if hasattr(v.status, "value") else v.status)
+
+
+def _rank(v) -> float:
+    """FAIL 0 < WARN 1 < NOT_CHECKED 1.5 < PASS 2: a verdict that could not be reached never counts
+    as passing where a part exists that passes it."""
+    st = _status(v)
+    return 1.5 if st == "not checked" else _RANK[st]
+
+
+def _tokens(subject: str) -> set[str]:
+    return {t for t in re.split(r"[\s,→()]+", subject) if t}
+
+
+# ---------------------------------------------------------------- preparing a drawing text
+
+
+@dataclass
+class Prepared:
+    """A drawing's text made readable by the loader, with what the user asked of sizing."""
+
+    text: str  # the text as given
+    loadable: str  # with "auto" replaced by a starting value and the fixed key removed
+    fixed: set[str] = field(default_factory=set)  # element ids to keep
+    auto: dict[tuple[int, str], str] = field(default_factory=dict)  # (harness index, key) -> start value
+    ids: dict[int, str] = field(default_factory=dict)  # harness index -> id
+
+
+def prepare(text: str) -> Prepared:
+    """Replace every ``"auto"`` by a starting value the loader accepts, and drop ``fixed = true``.
+
+    Starting values: a cable at the smallest size of its table, a fuse at the lowest rating of its
+    type, a relay at the lowest of the relay series, a stage without suppression. Sizing then
+    raises each to what the rules need.
+    """
+    from coilstage import tables
+
+    doc = TomlText(text)
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError:
+        return Prepared(text, text)  # the loader reports the TOML error with its line
+    out = Prepared(text, text)
+    default_mm2 = (raw.get("tables") or {}).get("conductors", tables.DEFAULT_MM2_TABLE)
+    for i, e in enumerate(raw.get("harness") or []):
+        if not isinstance(e, dict):
+            continue
+        eid = str(e.get("id", f"#{i}"))
+        out.ids[i] = eid
+        if e.get(FIXED_KEY) is True:
+            out.fixed.add(eid)
+        if FIXED_KEY in e:
+            doc.delete("harness", i, FIXED_KEY)
+        kind = e.get("kind")
+        for key, value in list(e.items()):
+            if value != AUTO:
+                continue
+            if key == "size" and kind in ("cable", "ground"):
+                name = e.get("conductor_table", default_mm2)
+                try:
+                    start = _size_text(tables.conductor_table(name).sizes()[0])
+                except Exception:
+                    continue
+                doc.set("harness", i, key, format_value(start))
+            elif key == "rating" and kind == "fuse":
+                row = tables.fuse_types().get(e.get("type"), {})
+                ser = row.get("series") or [
+                    v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)
+                ]
+                start = _qty(float(ser[0]), "A")
+                doc.set("harness", i, key, format_value(start))
+            elif key in ("rating_12v", "rating_24v") and kind == "relay":
+                start = _qty(_series("relay_contact_rating")[0], "A")
+                doc.set("harness", i, key, format_value(start))
+            elif key == "suppression" and kind == "stage":
+                start = ""
+                doc.delete("harness", i, key)
+            else:
+                continue
+            out.auto[(i, key)] = start
+    out.loadable = doc.text
+    return out
+
+
+# ---------------------------------------------------------------- evaluating candidates
+
+
+Edits = tuple[tuple[tuple[int, str], str | None], ...]  # ((harness index, key), value text or None = delete)
+
+
+class Bench:
+    """Candidates of one drawing, each its text with a few keys changed, read and judged (cached)."""
+
+    def __init__(self, text: str, source: str = "<drawing>", base_dir: Path | None = None):
+        self.text = text
+        self.source = source
+        self.base_dir = base_dir
+        self._drawings: dict[Edits, Any] = {}
+        self._fast: dict[Edits, dict] = {}
+        self._full: dict[Edits, tuple] = {}
+        self.evaluations = {"screen": 0, "full": 0}
+
+    @staticmethod
+    def key(edits: dict) -> Edits:
+        return tuple(sorted(edits.items()))
+
+    def render(self, edits: dict) -> str:
+        doc = TomlText(self.text)
+        for (i, k), v in sorted(edits.items()):
+            if v is None:
+                doc.delete("harness", i, k)
+            else:
+                doc.set("harness", i, k, v)
+        return doc.text
+
+    def drawing(self, edits: dict):
+        """The Drawing of a candidate, or None where the loader refuses it."""
+        from coilstage.drawing.load import parse_drawing
+        from coilstage.errors import DrawingError
+
+        k = self.key(edits)
+        if k not in self._drawings:
+            try:
+                self._drawings[k] = parse_drawing(self.render(edits), self.source, self.base_dir)
+            except DrawingError:
+                self._drawings[k] = None
+        return self._drawings[k]
+
+    def screen(self, edits: dict, switching: bool = True, rules: tuple[str, ...] = ()) -> dict | None:
+        """Verdicts by (rule, subject) of the screening analysis (no duty simulation; with
+        ``switching`` False no switching analysis either), of the rules whose ids start with one of
+        ``rules`` (all when empty). The rules the screen leaves out are dropped, not counted as
+        passing: the full check decides them."""
+        k = self.key(edits)
+        if k in self._full:
+            r = self._full[k]
+            return None if r is None else r[1]
+        for level in (True,) if switching else (False, True):
+            for rs in {rules, ()}:
+                if (k, level, rs) in self._fast:
+                    return self._fast[(k, level, rs)]
+        d = self.drawing(edits)
+        if d is None:
+            self._fast[(k, switching, rules)] = None
+            return None
+        skipped = _HEATING_RULES + (() if switching else _SWITCHING_RULES)
+        vs = _by_key(_screen_verdicts(d, switching, rules))
+        self._fast[(k, switching, rules)] = {
+            key: v for key, v in vs.items() if not (key[0] in skipped and _status(v) == "not checked")
+        }
+        self.evaluations["screen"] += 1
+        return self._fast[(k, switching, rules)]
+
+    def full(self, edits: dict) -> tuple | None:
+        """(analysis, verdicts by (rule, subject)) of the full check."""
+        import coilstage
+
+        k = self.key(edits)
+        if k not in self._full:
+            d = self.drawing(edits)
+            if d is None:
+                self._full[k] = None
+            else:
+                a, v = coilstage.check(d)
+                self._full[k] = (a, _by_key(v), v)
+            self.evaluations["full"] += 1
+        r = self._full[k]
+        return None if r is None else r
+
+
+def _by_key(verdicts) -> dict:
+    return {(v.rule, v.subject): v for v in verdicts}
+
+
+def _screen_verdicts(d, switching: bool = True, rules: tuple[str, ...] = ()) -> list:
+    """The rules (ids starting with one of ``rules``; all when empty) on an analysis without the
+    duty simulation; falls back to the full check where the analysis cannot be asked for less."""
+    try:
+        from coilstage.analysis.corners import analyse
+        from coilstage.checks import RULES
+
+        a = analyse(d, switching=switching, heating=False)
+        return [v for rule in RULES if not rules or rule.id.startswith(rules) for v in rule.evaluate(a)]
+    except (ImportError, TypeError):
+        import coilstage
+
+        return coilstage.check(d)[1]
+
+
+# ---------------------------------------------------------------- the parts and their verdicts
+
+
+def _reach(d, skip: set[str]) -> tuple[set[str], set[str]]:
+    """Nodes joined to the battery's positive and to its negative without the elements in ``skip``
+    (stages never conduct for this purpose)."""
+    from coilstage.drawing.schema import Stage
+
+    adj: dict[str, set[str]] = {}
+    for e in d.elements:
+        if isinstance(e, Stage) or e.id in skip:
+            continue
+        adj.setdefault(e.a, set()).add(e.b)
+        adj.setdefault(e.b, set()).add(e.a)
+
+    def walk(start: str) -> set[str]:
+        seen, todo = {start}, [start]
+        while todo:
+            for m in adj.get(todo.pop(), ()):
+                if m not in seen:
+                    seen.add(m)
+                    todo.append(m)
+        return seen
+
+    return walk(d.supply.battery.node), walk(d.supply.negative_node)
+
+
+def fed_stages(d, element_id: str) -> list[str]:
+    """Stages that lose their supply or return when ``element_id`` is taken out."""
+    pos, neg = _reach(d, set())
+    pos2, neg2 = _reach(d, {element_id})
+    return [s.id for s in d.stages if s.a in pos and s.b in neg and not (s.a in pos2 and s.b in neg2)]
+
+
+def upstream_of(d, element_id: str, kind) -> list[str]:
+    """Devices of ``kind`` whose opening cuts ``element_id`` off the battery."""
+    by_id = {e.id: e for e in d.elements}
+    el = by_id[element_id]
+    out = []
+    for f in d.of_kind(kind):
+        if f.id == element_id:
+            continue
+        pos, _ = _reach(d, {f.id})
+        if el.a not in pos and el.b not in pos:
+            out.append(f.id)
+    return out
+
+
+@dataclass(frozen=True)
+class Part:
+    id: str
+    kind: str  # cable | fuse | relay | suppressor
+    index: int  # harness index
+    key: str  # TOML key sizing sets
+    series: tuple[str, ...]  # candidate values (TOML text), smallest first
+    labels: tuple[str, ...]  # the same, as the report shows them
+    today: str  # present value, as the report shows it
+    today_pos: float  # position of today's value in the series (fractional where between)
+    rules: tuple[str, ...]  # rule-id prefixes that decide about the part
+    subjects: frozenset[str]  # subject tokens that decide about the part
+    note_subject: frozenset[str] = frozenset()  # subjects whose verdicts count when their note names the part
+
+
+def _position(values: list[float], x: float) -> float:
+    for k, v in enumerate(values):
+        if math.isclose(v, x, rel_tol=1e-9):
+            return float(k)
+        if v > x:
+            return k - 0.5
+    return len(values) - 0.5
+
+
+def parts_of(d, prepared: Prepared | None = None, text: str | None = None) -> list[Part]:
+    """The parts of a drawing that sizing can change, each with its series."""
+    from coilstage import tables
+    from coilstage.drawing.schema import Cable, Fuse, Relay
+    from coilstage.units import awg_label
+
+    out: list[Part] = []
+    raw = tomllib.loads(prepared.loadable if prepared else text) if (prepared or text) else {}
+    harness = raw.get("harness") or []
+    default_mm2 = (raw.get("tables") or {}).get("conductors", tables.DEFAULT_MM2_TABLE)
+    for e in d.elements:
+        m = re.match(r"harness\[(\d+)\]", e.where)
+        if not m:
+            continue
+        i = int(m.group(1))
+        entry = harness[i] if i < len(harness) else {}
+        if isinstance(e, Cable):
+            name = entry.get("conductor_table", tables.DEFAULT_AWG_TABLE if e.awg is not None else default_mm2)
+            try:
+                table = tables.conductor_table(name)
+            except Exception:
+                continue
+            nominal = sorted(table.rows, key=lambda n: table.rows[n].area)
+            areas = [table.rows[n].area for n in nominal]
+            labels = [f"{n:g} mm²" if table.size_system == "mm2" else awg_label(int(n)) for n in nominal]
+            out.append(
+                Part(
+                    e.id,
+                    "cable",
+                    i,
+                    "size",
+                    tuple(format_value(_size_text(lb)) for lb in labels),
+                    tuple(labels),
+                    e.size_label.replace("mm^2", "mm²"),
+                    _position(areas, e.area),
+                    ("cable.", "circuit.voltage_drop", "fuse."),
+                    frozenset({e.id, *fed_stages(d, e.id)}),
+                    frozenset(upstream_of(d, e.id, Fuse)),
+                )
+            )
+        elif isinstance(e, Fuse):
+            row = tables.fuse_types().get(e.fuse_type, {})
+            ser = list(e.series) or [
+                v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)
+            ]
+            out.append(
+                Part(
+                    e.id,
+                    "fuse",
+                    i,
+                    "rating",
+                    tuple(format_value(_qty(v, "A")) for v in ser),
+                    tuple(_qty(v, "A") for v in ser),
+                    _qty(e.rating, "A"),
+                    _position(ser, e.rating),
+                    ("fuse.",),
+                    frozenset({e.id}),
+                )
+            )
+        elif isinstance(e, Relay):
+            system = d.supply.system_voltage
+            key = f"rating_{system}v"
+            ser = list(_series("relay_contact_rating"))
+            have = e.rating_24v if system == 24 else e.rating_12v
+            out.append(
+                Part(
+                    e.id,
+                    "relay",
+                    i,
+                    key,
+                    tuple(format_value(_qty(v, "A")) for v in ser),
+                    tuple(_qty(v, "A") for v in ser),
+                    "none" if have is None else _qty(have, "A"),
+                    -1.0 if have is None else _position(ser, have),
+                    ("relay.contact_rating",),
+                    frozenset({e.id}),
+                )
+            )
+    for s in d.stages:
+        m = re.match(r"harness\[(\d+)\]", s.where)
+        if m:
+            relays = upstream_of(d, s.id, Relay)
+            out.append(
+                Part(
+                    s.id,
+                    "suppressor",
+                    int(m.group(1)),
+                    "suppression",
+                    (),
+                    (),
+                    s.suppression.kind,
+                    -1.0 if s.suppression.kind == "none" else 0.0,
+                    ("suppressor.rating", "stage.release_time", "relay.inductive_break"),
+                    frozenset({s.id, *relays}),
+                )
+            )
+    return out
+
+
+def involved(part: Part, verdicts: dict) -> dict:
+    """The verdicts that decide about ``part``."""
+    out = {}
+    for k, v in verdicts.items():
+        rule, subject = k
+        if not rule.startswith(part.rules):
+            continue
+        toks = _tokens(subject)
+        if part.kind == "suppressor" and rule == "relay.inductive_break":
+            if toks & (part.subjects - {part.id}):
+                out[k] = v
+            continue
+        if toks & part.subjects:
+            out[k] = v
+        elif part.note_subject and toks & part.note_subject and part.id in _tokens(v.note):
+            out[k] = v
+    return out
+
+
+# ---------------------------------------------------------------- suggestions
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One verdict a part fails: its rule, subject and status."""
+
+    rule: str
+    subject: str
+    status: str
+    note: str
+
+    @classmethod
+    def of(cls, v) -> Finding:
+        return cls(v.rule, v.subject, _status(v), v.note)
+
+    def text(self) -> str:
+        return f"{self.rule} {self.subject} ({self.status})"
+
+
+@dataclass(frozen=True)
+class Suggestion:
+    """What would pass for one part, checked against the rules."""
+
+    part: str
+    kind: str  # cable | fuse | relay | suppressor
+    key: str  # TOML key of the part
+    today: str
+    suggested: str | None  # value that passes, as shown (None: no value of the series passes)
+    value_text: str | None  # the same as TOML text
+    smaller: str | None  # next smaller standard part
+    smaller_fails: tuple[Finding, ...]  # what the next smaller part fails
+    answers: tuple[tuple[str, str], ...]  # (rule, subject) of the verdicts the suggestion clears
+    blocked: tuple[Finding, ...]  # verdicts this part alone cannot clear
+    checked: bool  # the suggested part passed the full check
+    text: str  # one line for the action list
+    fits: tuple[str, ...] = ()  # fuses: standard ratings of the type that pass
+    needs: tuple[str, ...] = ()  # further requirements (breaking capacity, voltage rating, DC category ...)
+    missing: tuple[str, ...] = ()  # data to give before the part can be judged
+    edits: tuple = ()  # ((harness index, key), TOML text) that make the suggestion
+
+    def to_dict(self) -> dict:
+        return {
+            "part": self.part,
+            "kind": self.kind,
+            "key": self.key,
+            "today": self.today,
+            "suggested": self.suggested,
+            "next_smaller": self.smaller,
+            "next_smaller_fails": [f.text() for f in self.smaller_fails],
+            "blocked": [f.text() for f in self.blocked],
+            "fits": list(self.fits),
+            "needs": list(self.needs),
+            "missing": list(self.missing),
+            "checked": self.checked,
+            "text": self.text,
+        }
+
+
+def _bad(inv: dict, targets: dict) -> list:
+    return [v for k, v in inv.items() if _rank(v) < targets.get(k, 2)]
+
+
+def _switching_for(part: Part) -> bool:
+    """Cables and relay contacts are screened without the switching analysis (no rule of theirs
+    reads it but the fuse's switch-on gate, which the full check then confirms)."""
+    return part.kind in ("fuse", "suppressor")
+
+
+def _verdicts(bench: Bench, part: Part, edits: dict, full: bool = False) -> dict | None:
+    if full:
+        r = bench.full(edits)
+        return None if r is None else r[1]
+    return bench.screen(edits, switching=_switching_for(part), rules=part.rules)
+
+
+def _ok(bench: Bench, part: Part, edits: dict, targets: dict, full: bool = False) -> tuple[bool, list]:
+    vs = _verdicts(bench, part, edits, full)
+    if vs is None:
+        return False, []
+    bad = _bad(involved(part, vs), targets)
+    return not bad, bad
+
+
+def _with(base: dict, *pairs) -> dict:
+    c = dict(base)
+    for k, v in pairs:
+        c[k] = v
+    return c
+
+
+@dataclass
+class _Boundary:
+    index: int | None  # smallest passing member of the series
+    targets: dict
+    blocked: tuple  # verdicts no member clears
+    smaller_fails: tuple  # what the member below the boundary fails
+    checked: bool  # passed the full check
+    improves: bool  # the series' largest member does better than today on some verdict
+
+
+def _smallest(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key: str | None = None) -> _Boundary:
+    """The smallest member of ``series`` clearing every verdict of ``part`` that its largest member
+    clears: bisection on the screen, then the full check (cables and fuses take part in duty rules),
+    stepping up while it fails."""
+    key = key or part.key
+    today = _verdicts(bench, part, base) or {}
+    inv_today = involved(part, today)
+    series = series[: _top(bench, part, base, series, key, inv_today) + 1]
+    vs = _verdicts(bench, part, _with(base, ((part.index, key), series[-1])))
+    if vs is None:
+        return _Boundary(None, {}, (), (), False, False)
+    inv = involved(part, vs)
+    # the targets: the best of today, the largest member and the member at three quarters (a table
+    # may leave its largest sizes without an ampacity, so the largest alone is no reference)
+    targets = {k: _rank(v) for k, v in inv.items()}
+    refs = [inv_today]
+    if len(series) > 2:
+        q = _verdicts(bench, part, _with(base, ((part.index, key), series[(3 * len(series)) // 4])))
+        refs.append(involved(part, q or {}))
+    for ref in refs:
+        for k, v in ref.items():
+            if k in targets:
+                targets[k] = max(targets[k], _rank(v))
+    blocked = tuple(Finding.of(inv[k]) for k in inv if targets[k] < 1.5)  # not checked: missing data, listed apart
+    improves = any(targets[k] > _rank(v) for k, v in inv_today.items() if k in targets) or any(
+        _rank(v) < 2 for k, v in inv_today.items() if k not in targets
+    )
+    if not improves and not _bad(inv_today, targets):
+        return _Boundary(None, targets, blocked, (), False, False)
+
+    def cand(j: int) -> dict:
+        return _with(base, ((part.index, key), series[j]))
+
+    lo, hi = -1, len(series) - 1  # lo = -1 stands for "below the series"
+    if not _ok(bench, part, cand(hi), targets)[0]:  # the best was reached lower down: not monotone
+        hi = next((j for j in range(len(series)) if _ok(bench, part, cand(j), targets)[0]), hi)
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        if _ok(bench, part, cand(mid), targets)[0]:
+            hi = mid
+        else:
+            lo = mid
+    j = hi
+    full = part.kind in ("cable", "fuse")
+    ok_full = _ok(bench, part, cand(j), targets, full=full)[0]
+    if not ok_full:  # a duty rule fails: bisection on the full check above the screen's answer
+        top_j = len(series) - 1
+        if not _ok(bench, part, cand(top_j), targets, full=True)[0]:
+            return _Boundary(None, targets, blocked, (), False, improves)
+        lo2, hi2 = j, top_j
+        while hi2 - lo2 > 1:
+            mid = (lo2 + hi2) // 2
+            lo2, hi2 = (lo2, mid) if _ok(bench, part, cand(mid), targets, full=True)[0] else (mid, hi2)
+        j = hi2
+    smaller: tuple = ()
+    if j > 0:
+        ok_s, bad = _ok(bench, part, cand(j - 1), targets)
+        if ok_s and full:
+            ok_s, bad = _ok(bench, part, cand(j - 1), targets, full=True)
+        smaller = tuple(Finding.of(v) for v in bad)
+        if ok_s:  # not monotone here: say so rather than claim the boundary
+            smaller = (Finding("(none)", part.id, "pass", "the next smaller part also passes"),)
+    return _Boundary(j, targets, blocked, smaller, True, improves)
+
+
+def _top(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key: str, inv_today: dict) -> int:
+    """The largest member of ``series`` that the rules can still judge: a part beyond the end of a
+    table the rules rest on (a conductor above the largest size of the ampacity table) turns a
+    verdict into NOT_CHECKED, and sizing never suggests what cannot be checked. The unjudgeable
+    members form the top of the series; bisection finds where they start."""
+
+    def judged(j: int) -> bool:
+        vs = _verdicts(bench, part, _with(base, ((part.index, key), series[j])))
+        if vs is None:
+            return False
+        return not any(
+            _status(v) == "not checked" and (k not in inv_today or _status(inv_today[k]) != "not checked")
+            for k, v in involved(part, vs).items()
+        )
+
+    n = len(series) - 1
+    if judged(n):
+        return n
+    lo, hi = -1, n  # hi: not judged
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        lo, hi = (mid, hi) if judged(mid) else (lo, mid)
+    return max(lo, 0)
+
+
+def _blocked_text(blocked) -> str:
+    if not blocked:
+        return ""
+    names = sorted({f"{b.rule} {b.subject}" for b in blocked})
+    return "; alone it cannot clear " + ", ".join(names)
+
+
+def suggest_part(bench: Bench, part: Part, base: dict | None = None) -> Suggestion | None:
+    """What would pass for one part with every other part as in ``base`` (edits to the drawing);
+    None where the part cannot improve any verdict it takes part in."""
+    base = dict(base or {})
+    if part.kind in ("cable", "relay"):
+        return _suggest_series(bench, part, base)
+    if part.kind == "fuse":
+        return _suggest_fuse(bench, part, base)
+    return _suggest_suppressor(bench, part, base)
+
+
+def _relay_needs(bench: Bench, part: Part, base: dict) -> tuple[list[str], tuple[str, ...]]:
+    needs: list[str] = []
+    missing: tuple[str, ...] = ()
+    vs = bench.screen(base) or {}
+    for (rule, subj), v in vs.items():
+        if subj != part.id:
+            continue
+        if rule == "relay.contact_rating" and "no derating given" in v.note:
+            missing += (f"give the derating (or the rated ambient) of {part.id}'s contact for its zone",)
+        if rule == "relay.voltage_rating" and _status(v) == "not checked":
+            missing += (f"give the voltage rating of {part.id}",)
+        if rule == "relay.coil_pickup":
+            if _status(v) == "not checked":
+                missing += (f"give the coil data of {part.id} (voltage, resistance, operate_voltage)",)
+            elif v.limit is not None and _rank(v) < 2:
+                needs.append(
+                    f"a coil that operates at {v.value / 1.1:.2f} V or less hot (it gets {v.value:.2f} V; 110 % margin)"
+                )
+        if rule == "relay.inductive_break" and _rank(v) < 2 and v.limit is not None:
+            needs.append(f"a DC category or inductive break rating for L/R {v.value:.0f} ms, or suppression")
+        if rule == "relay.inductive_break" and _status(v) == "not checked" and "voltage_rating" in v.note:
+            missing += (f"give the voltage rating of {part.id} (the suppressed break needs it)",)
+    return needs, missing
+
+
+def _insulation(bench: Bench, part: Part, base: dict) -> tuple[dict, str | None]:
+    """Where the cable's temperature class fails at every size: the lowest ISO 6722 class that passes
+    it, as an edit (sizing changes the class as well as the size)."""
+    from coilstage import tables
+
+    inv_today = involved(part, bench.screen(base, switching=False, rules=part.rules) or {})
+    top = _with(base, ((part.index, part.key), part.series[_top(bench, part, base, part.series, part.key, inv_today)]))
+    inv = involved(part, bench.screen(top, switching=False, rules=part.rules) or {})
+    k = ("cable.temperature_class", part.id)
+    ka = ("cable.ampacity", part.id)
+    if k not in inv or _rank(inv[k]) >= 2:
+        return base, None
+    # the lowest class that passes the class rule, and if one does, the lowest that also leaves the
+    # largest size an ampacity that passes (a hot zone eats the ampacity of a low class)
+    first = None
+    for letter, _tmax in sorted(tables.cable_classes().items(), key=lambda kv: kv[1]):
+        c = _with(top, ((part.index, "insulation"), format_value(letter)))
+        got = involved(part, bench.screen(c, switching=False, rules=part.rules) or {})
+        v = got.get(k)
+        if v is not None and _rank(v) >= 2:
+            first = first or letter
+            if ka not in got or _rank(got[ka]) >= 2:
+                return _with(base, ((part.index, "insulation"), format_value(letter))), letter
+    if first is None:
+        return base, None
+    return _with(base, ((part.index, "insulation"), format_value(first))), first
+
+
+def _suggest_series(bench: Bench, part: Part, base: dict) -> Suggestion | None:
+    if part.kind == "relay":
+        needs, missing = _relay_needs(bench, part, base)
+    extra: tuple = ()
+    letter = None
+    if part.kind == "cable":
+        base2, letter = _insulation(bench, part, base)
+        if letter is not None:
+            extra = (((part.index, "insulation"), format_value(letter)),)
+            base = base2
+    bd = _smallest(bench, part, base, part.series)
+    if part.kind != "relay":
+        needs, missing = [], ()
+    if not bd.improves and letter is None and (bd.index is None or bd.index <= part.today_pos):
+        if not missing:
+            return None
+        return Suggestion(
+            part.id,
+            part.kind,
+            part.key,
+            part.today,
+            None,
+            None,
+            None,
+            (),
+            (),
+            bd.blocked,
+            False,
+            f"{part.today} is enough for what it can clear" + _blocked_text(bd.blocked),
+            needs=tuple(needs),
+            missing=missing,
+        )
+    if bd.index is None:
+        text = f"no {part.key} of the series passes" + _blocked_text(bd.blocked)
+        return Suggestion(
+            part.id,
+            part.kind,
+            part.key,
+            part.today,
+            None,
+            None,
+            None,
+            (),
+            tuple(bd.targets),
+            bd.blocked,
+            False,
+            text,
+            needs=tuple(needs),
+            missing=missing,
+        )
+    j = bd.index
+    label = part.labels[j]
+    if part.kind == "cable":
+        text = f"use {label} or larger (today {part.today})"
+        if letter is not None:
+            text = f"use ISO 6722 class {letter} insulation and {label} or larger (today {part.today})"
+    else:
+        text = f"a contact rated {label} or more at {part.key[7:-1]} V (today {part.today})"
+    if j <= part.today_pos:
+        text = f"{part.today} is enough for what it can clear"
+    text += _blocked_text(bd.blocked)
+    if needs:
+        text += "; also " + "; ".join(needs)
+    return Suggestion(
+        part.id,
+        part.kind,
+        part.key,
+        part.today,
+        label,
+        part.series[j],
+        part.labels[j - 1] if j > 0 else None,
+        bd.smaller_fails,
+        tuple(bd.targets),
+        bd.blocked,
+        bd.checked,
+        text,
+        needs=tuple(needs),
+        missing=missing,
+        edits=(*extra, ((part.index, part.key), part.series[j])),
+    )
+
+
+# ---- fuses
+
+_TYPE_RULES = ("fuse.breaking_capacity", "fuse.voltage_rating")
+
+
+@dataclass
+class _Window:
+    ok: list[int]  # indices of the ratings that pass
+    floor_at: int | None  # lowest index passing the floor rules (None: none does)
+    ceil_at: int | None  # highest index passing the ceiling rules (None: none does)
+    floor_rules: set
+    ceil_rules: set
+    type_needs: list
+    missing: list
+    below: tuple  # what the rating below the window fails
+    above: tuple  # what the rating above the window fails
+
+
+def _window(bench: Bench, part: Part, base: dict, series: tuple[str, ...], extra: tuple = ()) -> _Window:
+    """The ratings of ``series`` that pass every rating-dependent fuse verdict; the floor and ceiling
+    rules are told apart by their margins at the two ends, then each bound is found by bisection
+    (a floor rule passes from some rating up, a ceiling rule up to some rating)."""
+
+    def inv(j: int) -> dict:
+        vs = bench.screen(_with(base, ((part.index, part.key), series[j]), *extra), switching=False, rules=part.rules)
+        return {} if vs is None else involved(part, vs)
+
+    bot, top = inv(0), inv(len(series) - 1)
+    keys = set(bot) | set(top)
+    type_needs, missing = [], []
+    floor_rules, ceil_rules = set(), set()
+    for k in keys:
+        v_top, v_bot = top.get(k), bot.get(k)
+        v = v_top or v_bot
+        if k[0] in _TYPE_RULES:
+            if _rank(v) < 2 and _status(v) != "not checked":
+                if k[0] == "fuse.breaking_capacity":
+                    type_needs.append(
+                        (
+                            "breaking",
+                            v.value,
+                            f"breaking capacity at least {v.value / 1e3:.2f} kA (today {v.limit / 1e3:.2f} kA)",
+                        )
+                    )
+                else:
+                    type_needs.append(("voltage", v.limit, f"voltage rating at least {v.limit:g} V"))
+            elif _status(v) == "not checked" and k[0] == "fuse.breaking_capacity":
+                missing.append(f"give the maker's breaking capacity for {part.id}")
+            continue
+        if all(x is not None and _status(x) == "not checked" for x in (v_top, v_bot)) and "given" in v.note:
+            if "melting_i2t" in v.note:
+                missing.append(f"give the maker's melting I²t for {part.id}")
+            continue
+        if v_top is not None and _rank(v_top) >= 2:
+            floor_rules.add(k)
+        elif v_bot is not None and _rank(v_bot) >= 2:
+            ceil_rules.add(k)
+        elif v_top is not None and v_bot is not None and (v_top.margin or 0) >= (v_bot.margin or 0):
+            floor_rules.add(k)
+        else:
+            ceil_rules.add(k)
+
+    def passes(j: int, rules: set) -> bool:
+        i = inv(j)
+        return all(_rank(i[k]) >= 2 for k in rules if k in i)
+
+    n = len(series)
+    floor_at = None
+    if passes(n - 1, floor_rules):
+        lo, hi = -1, n - 1
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            lo, hi = (lo, mid) if passes(mid, floor_rules) else (mid, hi)
+        floor_at = hi
+    ceil_at = None
+    if passes(0, ceil_rules):
+        lo, hi = 0, n
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            lo, hi = (mid, hi) if passes(mid, ceil_rules) else (lo, mid)
+        ceil_at = lo
+    ok = [] if floor_at is None or ceil_at is None or floor_at > ceil_at else list(range(floor_at, ceil_at + 1))
+    ok = [j for j in ok if passes(j, floor_rules | ceil_rules)]
+    below = above = ()
+    if floor_at is not None and floor_at > 0:
+        i = inv(floor_at - 1)
+        below = tuple(Finding.of(i[k]) for k in sorted(floor_rules) if k in i and _rank(i[k]) < 2)
+    elif floor_at is None:
+        below = tuple(Finding.of(top[k]) for k in sorted(floor_rules) if k in top and _rank(top[k]) < 2)
+    if ceil_at is not None and ceil_at + 1 < n:
+        i = inv(ceil_at + 1)
+        above = tuple(Finding.of(i[k]) for k in sorted(ceil_rules) if k in i and _rank(i[k]) < 2)
+    elif ceil_at is None:
+        above = tuple(Finding.of(bot[k]) for k in sorted(ceil_rules) if k in bot and _rank(bot[k]) < 2)
+    return _Window(
+        ok, floor_at, ceil_at, floor_rules, ceil_rules, type_needs, list(dict.fromkeys(missing)), below, above
+    )
+
+
+def _fuse_series(fuse_type: str) -> tuple[float, ...]:
+    from coilstage import tables
+
+    row = tables.fuse_types().get(fuse_type, {})
+    ser = row.get("series") or [v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)]
+    return tuple(float(v) for v in ser)
+
+
+def _span(labels: list[str]) -> str:
+    if len(labels) == 1:
+        return labels[0]
+    return f"{labels[0].removesuffix(' A')}–{labels[-1]}"
+
+
+def _protected_cables(bench: Bench, part: Part, base: dict, fixed: set[str]) -> list[Part]:
+    """The cables behind the fuse whose verdicts bound its ceiling (changeable ones)."""
+    from coilstage.drawing.schema import Fuse
+
+    d = bench.drawing(base)
+    out = []
+    for p in parts_of(d, None, bench.text):
+        if p.kind == "cable" and p.id not in fixed and part.id in upstream_of(d, p.id, Fuse):
+            out.append(p)
+    return out
+
+
+def _cable_for_window(bench, part, base, series, extra, cables) -> tuple | None:
+    """The smallest size of one protected cable that opens a window for the fuse: (cable part, size
+    index, window)."""
+    best = None
+    for c in cables:
+        start = math.floor(c.today_pos) + 1
+        c_today = involved(c, _verdicts(bench, c, _with(base, *extra)) or {})
+        cand = list(range(max(start, 0), _top(bench, c, _with(base, *extra), c.series, c.key, c_today) + 1))
+        if not cand:
+            continue
+
+        def win(j, c=c):
+            return _window(bench, part, base, series, (*extra, ((c.index, c.key), c.series[j])))
+
+        w_top = win(cand[-1])
+        if not w_top.ok:
+            continue
+        # the floor rules hardly move with the cable (the load decides them): a window exists at a
+        # size when the lowest rating of the largest size's window passes there; bisection on that,
+        # then the whole window at the size found
+        r0 = series[w_top.ok[0]]
+
+        def opens(j, c=c, r0=r0, w_top=w_top):
+            vs = bench.screen(
+                _with(base, ((part.index, part.key), r0), *extra, ((c.index, c.key), c.series[j])),
+                switching=False,
+                rules=part.rules,
+            )
+            inv = {} if vs is None else involved(part, vs)
+            return all(_rank(inv[k]) >= 2 for k in (w_top.floor_rules | w_top.ceil_rules) if k in inv)
+
+        lo, hi = -1, len(cand) - 1
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            lo, hi = (lo, mid) if opens(cand[mid]) else (mid, hi)
+        j = cand[hi]
+        if not win(j).ok:
+            j = cand[-1]
+        if best is None or c.series.index(c.series[j]) < best[1]:
+            best = (c, j, win(j))
+    return best
+
+
+def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None = None) -> Suggestion | None:
+    """The window of standard ratings that passes; where none does, which type or which cable change
+    makes one."""
+    from coilstage import tables
+
+    fixed = fixed or set()
+    d = bench.drawing(base)
+    ftype = _fuse_type(d, part.id)
+    w = _window(bench, part, base, part.series)
+    needs = [t for _, _, t in w.type_needs]
+    edits: tuple = ()
+    text = ""
+    suggested = value_text = smaller = None
+    fits: tuple[str, ...] = ()
+    checked = False
+    if w.ok and not w.type_needs:
+        fits = tuple(part.labels[j] for j in w.ok)
+        lo = w.ok[0]
+        # the duty rules: the lowest of the window, stepping up on the full check
+        j_ok = None
+        for j in w.ok:
+            r = bench.full(_with(base, ((part.index, part.key), part.series[j])))
+            if r is not None and not _bad(involved(part, r[1]), {}):
+                j_ok = j
+                break
+        checked = j_ok is not None
+        lo = j_ok if j_ok is not None else lo
+        fits = tuple(part.labels[j] for j in w.ok if j >= lo)
+        suggested, value_text = part.labels[lo], part.series[lo]
+        smaller = part.labels[lo - 1] if lo > 0 else None
+        if part.labels[lo] != part.today and part.today in fits:
+            text = f"{part.today} fits (window {_span(list(fits))})"
+        else:
+            text = f"fits {_span(list(fits))}, today {part.today}"
+            edits = (((part.index, part.key), value_text),)
+        if not checked:
+            text += " (the duty simulation fails every rating of the window: see fuse.duty_thermal_state)"
+    else:
+        low = f"at least {part.labels[w.floor_at]}" if w.floor_at is not None else f"more than {part.labels[-1]}"
+        high = f"at most {part.labels[w.ceil_at]}" if w.ceil_at is not None else f"less than {part.labels[0]}"
+        if not w.ceil_rules:
+            high = "no ceiling"
+        why_lo = ", ".join(sorted({k[0] for k in w.floor_rules})) or "no floor"
+        why_hi = ", ".join(sorted({k[0] for k in w.ceil_rules})) or "no ceiling"
+        text = (
+            f"no rating of type {ftype} fits: {low} ({why_lo}), {high}" + (f" ({why_hi})" if w.ceil_rules else "")
+            if not w.ok
+            else (f"ratings {_span([part.labels[j] for j in w.ok])} fit the cable and the load")
+        )
+        if needs:
+            text += "; needs " + ", ".join(needs)
+        # which type, and which cable change, makes a window
+        cables = _protected_cables(bench, part, base, fixed)
+        want_bc = max((x for k, x, _ in w.type_needs if k == "breaking"), default=0.0)
+        want_v = max((x for k, x, _ in w.type_needs if k == "voltage"), default=0.0)
+        options: list[tuple] = []
+        if not w.type_needs and w.floor_at is not None and cables:
+            got = _cable_for_window(bench, part, base, part.series, (), cables)
+            if got:
+                c, j, cw = got
+                options.append((ftype, part.series, (), c, j, cw))
+        if not options:
+            for t, row in tables.fuse_types().items():
+                if t == ftype or row["breaking_capacity"] < want_bc or max(row["voltages"]) < want_v:
+                    continue
+                ser = _fuse_series(t)
+                if not ser:
+                    continue
+                sv = tuple(format_value(_qty(v, "A")) for v in ser)
+                extra = (((part.index, "type"), format_value(t)),)
+                tw = _window(bench, part, base, sv, extra)
+                if tw.ok:
+                    options.append((t, sv, extra, None, None, tw))
+                    break
+                if tw.floor_at is not None and cables:
+                    got = _cable_for_window(bench, part, base, sv, extra, cables)
+                    if got:
+                        c, j, cw = got
+                        options.append((t, sv, extra, c, j, cw))
+                        break
+        if options:
+            t, sv, extra, c, j, ow = options[0]
+            labels = [sv[k].strip('"') for k in ow.ok]
+            lo = ow.ok[0]
+            what = [] if t == ftype else [f"type {t}"]
+            if c is not None:
+                what.append(f"{c.id} {c.labels[j]}")
+            text += f"; a window opens with {' and '.join(what)}: fits {_span(labels)}"
+            edits = (*extra, ((part.index, part.key), sv[lo])) + ((((c.index, c.key), c.series[j]),) if c else ())
+            suggested, value_text = sv[lo].strip('"'), sv[lo]
+            fits = tuple(labels)
+            smaller = sv[lo - 1].strip('"') if lo > 0 else None
+            r = bench.full(_with(base, *edits))
+            checked = r is not None and not _bad(involved(part, r[1]), {})
+            w = ow
+        elif needs or not w.ok:
+            text += "; no shipped ISO 8820 type makes a window: give the maker's data of a fuse that does"
+    return Suggestion(
+        part.id,
+        "fuse",
+        part.key,
+        part.today,
+        suggested,
+        value_text,
+        smaller,
+        w.below,
+        tuple(sorted(w.floor_rules | w.ceil_rules | {k for k in _all_keys(bench, part, base) if k[0] in _TYPE_RULES})),
+        w.above,
+        checked,
+        text,
+        fits=fits,
+        needs=tuple(needs),
+        missing=tuple(w.missing),
+        edits=edits,
+    )
+
+
+def _all_keys(bench: Bench, part: Part, base: dict) -> set:
+    return set(involved(part, bench.screen(base) or {}))
+
+
+def _fuse_type(d, fid: str) -> str:
+    return next(e.fuse_type for e in d.elements if e.id == fid)
+
+
+# ---- suppressors
+
+
+def _suggest_suppressor(bench: Bench, part: Part, base: dict) -> Suggestion | None:
+    """A suppressor across the stage: kind, clamp voltage from the series, and its three ratings."""
+    d = bench.drawing(base)
+    if d is None:
+        return None
+    stage = next(s for s in d.stages if s.id == part.id)
+    inv_today = involved(part, bench.screen(base) or {})
+    if stage.suppression.kind != "none" and all(_rank(v) >= 1.5 for v in inv_today.values()):
+        return None
+    if stage.suppression.kind == "none" and all(_rank(v) >= 1.5 for v in inv_today.values()):
+        return None
+    release = d.switching.release_limit is not None
+    big = {"peak_current": "100 kA", "reverse_voltage": "100 kV", "energy_rating": "1 MJ"}
+
+    def spec(kind: str, volts: float | None, ratings: dict) -> str:
+        s: dict[str, str] = {"kind": kind}
+        if kind == "diode_zener":
+            s["zener_voltage"] = _qty(volts, "V")
+        s.update(ratings)
+        return format_value(s)
+
+    # 1. the kind and clamp voltage: a plain diode where the drawing sets no release limit, else the
+    #    lowest zener voltage of the series that meets it (a higher clamp releases faster)
+    kinds: list[tuple[str, float | None]] = [("diode", None)] if not release else []
+    kinds += [("diode_zener", v) for v in _series("zener_voltage")]
+    seq = tuple(spec(k, v, big) for k, v in kinds)
+    labels = [("freewheel diode" if k == "diode" else f"diode + {v:g} V zener") for k, v in kinds]
+    bd = _smallest(bench, part, base, seq)
+    if bd.index is None:
+        text = "no suppressor of the series clears its verdicts" + _blocked_text(bd.blocked)
+        return Suggestion(
+            part.id,
+            "suppressor",
+            part.key,
+            part.today,
+            None,
+            None,
+            None,
+            (),
+            tuple(bd.targets),
+            bd.blocked,
+            False,
+            text,
+        )
+    j, targets = bd.index, bd.targets
+    kind, volts = kinds[j]
+    # the clamp range: up to the highest zener voltage the opening contact's voltage rating allows
+    hi_j = j
+    if kind == "diode_zener":
+        lo_, hi_ = j, len(kinds)
+        while hi_ - lo_ > 1:
+            mid = (lo_ + hi_) // 2
+            lo_, hi_ = (
+                (mid, hi_)
+                if _ok(bench, part, _with(base, ((part.index, part.key), seq[mid])), targets)[0]
+                else (lo_, mid)
+            )
+        hi_j = lo_
+    # 2. the ratings, each the smallest of its series above what the break asks
+    vs = bench.screen(_with(base, ((part.index, part.key), seq[j])), rules=part.rules) or {}
+    need = {
+        "peak_current": vs.get(("suppressor.rating", f"{part.id} peak current")),
+        "reverse_voltage": vs.get(("suppressor.rating", f"{part.id} reverse voltage")),
+        "energy_rating": vs.get(("suppressor.rating", f"{part.id} energy")),
+    }
+    unit = {"peak_current": "A", "reverse_voltage": "V", "energy_rating": "J"}
+    series = {
+        "peak_current": _series("suppressor_peak_current"),
+        "reverse_voltage": _series("suppressor_reverse_voltage"),
+        "energy_rating": _series("suppressor_energy"),
+    }
+    ratings: dict[str, str] = {}
+    lower: dict[str, str] = {}
+    for name, v in need.items():
+        if v is None or v.value is None:
+            continue
+        x = v.limit if name == "reverse_voltage" else v.value
+        k = next((n for n, s in enumerate(series[name]) if s >= x), None)
+        ratings[name] = _qty(series[name][k] if k is not None else math.ceil(x), unit[name])
+        if k:
+            lower[name] = _qty(series[name][k - 1], unit[name])
+    value_text = spec(kind, volts, ratings)
+    final = _with(base, ((part.index, part.key), value_text))
+    ok_final, bad = _ok(bench, part, final, targets)
+    # the next smaller part: the next lower clamp (no suppressor below the plain diode); and each rating
+    # one step down fails its own verdict
+    smaller_label = labels[j - 1] if j > 0 else "no suppressor"
+    smaller_fails = bd.smaller_fails
+    if j == 0:
+        _, bad0 = _ok(bench, part, _with(base, ((part.index, part.key), None)), targets)
+        smaller_fails = tuple(Finding.of(v) for v in bad0)
+    for name, low in lower.items():
+        _, badr = _ok(
+            bench, part, _with(base, ((part.index, part.key), spec(kind, volts, {**ratings, name: low}))), targets
+        )
+        smaller_fails += tuple(Finding.of(v) for v in badr)
+    rating_text = ", ".join(f"{k.replace('_', ' ')} ≥ {v}" for k, v in ratings.items())
+    clamp = ""
+    if kind == "diode_zener":
+        clamp = f"; clamp {volts:g}–{kinds[hi_j][1]:g} V" if hi_j > j else f"; clamp {volts:g} V"
+    needs, missing = (), ()
+    relay_ids = sorted(part.subjects - {part.id})
+    for (rule, subj), v in vs.items():
+        if rule == "relay.inductive_break" and subj in relay_ids and _status(v) == "not checked":
+            missing += (f"give the voltage rating of {subj} (the contact sees the bus plus the clamp)",)
+    text = f"fit a {labels[j]} across {part.id}{clamp} ({rating_text})" + _blocked_text(bd.blocked)
+    if not ok_final:
+        text += "; with these ratings it still fails: " + ", ".join(Finding.of(v).text() for v in bad)
+    label = labels[j] + (f" ({rating_text})" if rating_text else "")
+    return Suggestion(
+        part.id,
+        "suppressor",
+        part.key,
+        part.today,
+        label,
+        value_text,
+        smaller_label,
+        smaller_fails,
+        tuple(targets),
+        bd.blocked,
+        ok_final,
+        text,
+        needs=needs,
+        missing=missing,
+        edits=(((part.index, part.key), value_text),),
+    )
+
+
+# ---------------------------------------------------------------- per verdict, and the action list
+
+
+def suggestions(
+    drawing_text: str, source: str = "<drawing>", base_dir: Path | None = None, only_failing: bool = True
+) -> list[Suggestion]:
+    """A checked suggestion for every part that takes part in a failing or warning verdict."""
+    prepared = prepare(drawing_text)
+    bench = Bench(prepared.loadable, source, base_dir)
+    return _suggestions(bench, prepared, only_failing)
+
+
+def _suggestions(bench: Bench, prepared: Prepared, only_failing: bool = True, base: dict | None = None) -> list:
+    base = dict(base or {})
+    d = bench.drawing(base)
+    if d is None:
+        raise SizingError("the drawing does not load; run `coilstage check` for its problems")
+    r = bench.full(base)
+    vs = r[1]
+    out = []
+    for part in parts_of(d, prepared):
+        inv = involved(part, vs)
+        if only_failing and all(_rank(v) >= 2 for v in inv.values()):
+            continue
+        s = suggest_part(bench, part, base)
+        if s is not None:
+            out.append(s)
+    return out
+
+
+def suggestions_by_verdict(verdicts, suggestions_list) -> dict[tuple[str, str], dict]:
+    """For the JSON document: (rule, subject) -> the suggestion (as a dict) of the part that answers it.
+
+    Attach as ``verdict["suggestion"] = mapping.get((verdict["rule"], verdict["subject"]))``.
+    """
+    out: dict[tuple[str, str], dict] = {}
+    keys = {(v.rule, v.subject) for v in verdicts}
+    for s in suggestions_list:
+        for k in s.answers:
+            if k in keys and k not in out:
+                out[k] = s.to_dict()
+    return out
+
+
+def action_list(verdicts, suggestions_list) -> dict:
+    """What to change, as plain data: failures first, grouped by part, then warnings, then what
+    could not be checked for missing data, then what sizing cannot change.
+
+    Returns ``{"fail": [item], "warn": [item], "missing": [text], "cannot_change": [item]}``; an item is
+    ``{"part", "rules" (ids), "count", "text"}``.
+    """
+    by_part: dict[str, Suggestion] = {s.part: s for s in suggestions_list}
+    answered: dict[tuple[str, str], str] = {}
+    for s in suggestions_list:
+        for k in s.answers:
+            answered.setdefault(k, s.part)
+    fail: dict[str, list] = {}
+    warn: dict[str, list] = {}
+    rest_fail: dict[str, list] = {}
+    for v in verdicts:
+        st = _status(v)
+        if st not in ("fail", "warn"):
+            continue
+        k = (v.rule, v.subject)
+        part = answered.get(k)
+        if part is None:
+            rest_fail.setdefault(v.subject.split(" ")[0], []).append(v)
+            continue
+        (fail if st == "fail" else warn).setdefault(part, []).append(v)
+    seen_fail = set(fail)
+    for part, vs in list(warn.items()):
+        if part in seen_fail:
+            fail[part].extend(vs)
+            del warn[part]
+
+    def item(part: str, vs: list) -> dict:
+        s = by_part[part]
+        n = len(vs)
+        word = "fail" if any(_status(v) == "fail" for v in vs) else "warn"
+        return {
+            "part": part,
+            "rules": sorted({v.rule for v in vs}),
+            "count": n,
+            "text": f"{part} — {n} rule{'s' if n != 1 else ''} {word}{'s' if n == 1 else ''}: {s.text}",
+        }
+
+    missing = []
+    for s in suggestions_list:
+        missing.extend(s.missing)
+    for v in verdicts:
+        if _status(v) == "not checked" and v.rule == "fuse.breaking_capacity":
+            missing.append(f"give the maker's breaking capacity for {v.subject}")
+    cannot = []
+    for subj, vs in rest_fail.items():
+        rules = sorted({v.rule for v in vs})
+        what = sorted({UNCHANGEABLE.get(r, "") for r in rules} - {""})
+        cannot.append(
+            {
+                "part": subj,
+                "rules": rules,
+                "count": len(vs),
+                "text": f"{subj} — {len(vs)} rule{'s' if len(vs) != 1 else ''}: {', '.join(rules)}"
+                + (
+                    f" ({' and '.join(what)}: not changed by sizing)"
+                    if what
+                    else " (no part sizing changes answers it)"
+                ),
+            }
+        )
+    return {
+        "fail": [item(p, vs) for p, vs in fail.items()],
+        "warn": [item(p, vs) for p, vs in warn.items()],
+        "missing": list(dict.fromkeys(missing)),
+        "cannot_change": cannot,
+    }
+
+
+# ---------------------------------------------------------------- a coordinated design
+
+
+@dataclass(frozen=True)
+class Change:
+    part: str
+    key: str
+    old: str
+    new: str
+    why: str  # the rules that asked for it
+
+
+@dataclass
+class SizeResult:
+    text: str  # the new drawing's text
+    changes: list[Change]
+    verdicts: list  # of the new drawing (full check)
+    remaining: list[dict]  # what still fails or warns, with who blocks it
+    rounds: int
+    evaluations: dict
+
+
+_KIND_ORDER = {"cable": 0, "suppressor": 1, "relay": 2, "fuse": 3}
+
+
+def _value_index(part: Part, value_text: str | None) -> float:
+    if value_text is None or value_text not in part.series:
+        return part.today_pos
+    return float(part.series.index(value_text))
+
+
+def size_drawing(
+    text: str, source: str = "<drawing>", base_dir: Path | None = None, max_rounds: int = 12
+) -> SizeResult:
+    """A coordinated design: every changeable part raised (or, for a fuse, moved into its window)
+    until no part's verdicts improve any more — a fixed point over the standard series.
+
+    Parts written as ``"auto"`` start at the bottom of their series and take the smallest part that
+    passes; parts as given only change where a verdict they take part in fails or warns, and never
+    shrink (a cable or a contact rating is only raised); ``fixed = true`` keeps a part. Currents on a
+    shared feed change with every part, so each round starts from a fresh full check of the design
+    so far. Terminates: each change raises a part along a finite series, or moves a fuse to the
+    lowest rating of its window, and a round without a change ends the search.
+    """
+    prepared = prepare(text)
+    bench = Bench(prepared.loadable, source, base_dir)
+    d0 = bench.drawing({})
+    if d0 is None:
+        raise SizingError("the drawing does not load; run `coilstage check` for its problems")
+    edits: dict = {}
+    changes: dict[tuple[int, str], list] = {}  # (index, key) -> [part, old, new, whys]
+    rounds = 0
+    for rounds in range(1, max_rounds + 1):
+        r = bench.full(edits)
+        vs = r[1]
+        d = bench.drawing(edits)
+        changed = False
+        parts = sorted(parts_of(d, None, bench.render(edits)), key=lambda p: _KIND_ORDER[p.kind])
+        for part in parts:
+            if part.id in prepared.fixed:
+                continue
+            if changed:  # judged on the design as it now stands; the duty rules from the round's start
+                now = bench.screen(edits) or {}
+                vs_part = {**{k: v for k, v in vs.items() if k[0] in _HEATING_RULES}, **now}
+            else:
+                vs_part = vs
+            inv = involved(part, vs_part)
+            auto = (part.index, part.key) in prepared.auto
+            bad = [v for v in inv.values() if _rank(v) < 2]
+            if not bad and not (auto and rounds == 1):
+                continue
+            s = (
+                suggest_part(bench, part, edits)
+                if part.kind != "fuse"
+                else _suggest_fuse(bench, part, edits, prepared.fixed)
+            )
+            if s is None or not s.edits:
+                continue
+            new = dict(s.edits)
+            if part.kind in ("cable", "relay") and not auto:
+                # never shrink a part the user chose
+                val = new.get((part.index, part.key))
+                if _value_index(part, val) <= part.today_pos:
+                    new.pop((part.index, part.key), None)
+            new = {k: v for k, v in new.items() if edits.get(k, _original(bench, k)) != v}
+            if not new:
+                continue
+            why = sorted({f"{v.rule} {v.subject} ({_status(v)})" for v in bad}) or ["auto"]
+            for k, v in new.items():
+                old = edits.get(k, _original(bench, k))
+                rec = changes.setdefault(k, [prepared.ids.get(k[0], part.id), old, v, set()])
+                rec[2] = v
+                rec[3].update(why)
+            edits.update(new)
+            changed = True
+        if not changed:
+            break
+    out_text = _write(text, prepared, edits)
+    final = bench.full(edits)
+    verdicts = final[2]
+    remaining = _remaining(bench, prepared, edits, final[1])
+    ch = [
+        Change(part, key, _show(old, prepared.auto.get((i, key))), _show(new), "; ".join(sorted(whys)))
+        for (i, key), (part, old, new, whys) in changes.items()
+        if old != new
+    ]
+    return SizeResult(out_text, ch, verdicts, remaining, rounds, dict(bench.evaluations))
+
+
+def _original(bench: Bench, k: tuple[int, str]) -> str | None:
+    return TomlText(bench.text).get("harness", k[0], k[1])
+
+
+def _show(value_text: str | None, auto: str | None = None) -> str:
+    if auto is not None:
+        return "auto"
+    if value_text is None:
+        return "none"
+    try:
+        v = tomllib.loads(f"x = {value_text}")["x"]
+    except tomllib.TOMLDecodeError:
+        return value_text
+    if isinstance(v, dict):
+        return ", ".join(f"{k} {x}" for k, x in v.items())
+    return str(v).replace("mm^2", "mm²")
+
+
+def _write(text: str, prepared: Prepared, edits: dict) -> str:
+    """The user's text with the design written in: every edited key changed in place (its comment
+    kept), every "auto" replaced by what sizing chose or started from."""
+    doc = TomlText(text)
+    done = set()
+    for (i, key), value in sorted(edits.items()):
+        if value is None:
+            doc.delete("harness", i, key)
+        else:
+            doc.set("harness", i, key, value)
+        done.add((i, key))
+    for (i, key), start in prepared.auto.items():
+        if (i, key) in done:
+            continue
+        if key == "suppression":
+            doc.delete("harness", i, key)
+        else:
+            doc.set("harness", i, key, format_value(start))
+    return doc.text
+
+
+def _remaining(bench: Bench, prepared: Prepared, edits: dict, vs: dict) -> list[dict]:
+    """What still fails or warns in the design, and which part holds it: a fixed part, a part of
+    the vehicle sizing does not change, or a part no standard value of which passes."""
+    d = bench.drawing(edits)
+    parts = parts_of(d, None, bench.render(edits))
+    out = []
+    for k, v in vs.items():
+        if _rank(v) >= 1.5:
+            continue
+        holders = [p for p in parts if k in involved(p, {k: v})]
+        fixed = [p.id for p in holders if p.id in prepared.fixed]
+        if k[0] in UNCHANGEABLE:
+            who = f"{UNCHANGEABLE[k[0]]} (not changed by sizing)"
+        elif re.search(r"\bno [\w ]+ given\b", v.note):
+            who = "missing data: " + re.search(r"\bno [\w ]+ given\b", v.note).group(0)
+        elif fixed:
+            who = "fixed part " + ", ".join(fixed)
+        elif holders:
+            who = "no standard value of " + ", ".join(p.id for p in holders) + " passes"
+        else:
+            who = "not a part sizing changes"
+        margin = "" if v.margin is None else f" (margin {v.margin:+.0%})"
+        out.append(
+            {
+                "rule": k[0],
+                "subject": k[1],
+                "status": _status(v),
+                "held_by": who,
+                "text": f"{k[0]} {k[1]}: {_status(v)}{margin} — {who}",
+            }
+        )
+    return out

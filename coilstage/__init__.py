@@ -9,6 +9,16 @@ The small public API::
 
 from __future__ import annotations
 
+import os
+
+# One BLAS thread unless the user says otherwise: the matrices here are small (hundreds of unknowns) and
+# a thread pool costs more than it gives; measured with benchmarks/bench_growth.py, a 64-stage check
+# took 17 s with the default threads against 1.0 s with one on a 2-core machine. Effective where
+# coilstage is imported before numpy (the command line always is); a value already set is kept.
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+del _var
+
 __version__ = "0.1.0"
 
 __all__ = ["__version__", "check", "load_drawing"]

@@ -10,6 +10,7 @@ import numpy as np
 
 from coilstage.analysis.circuit import Circuit
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Resistor, Stage
+from coilstage.physics.network import SPARSE_THRESHOLD, Factorized, charging_source_state
 
 
 class QuasiStatic:
@@ -60,6 +61,8 @@ class QuasiStatic:
         if s.base_load > 0 and nd[s.base_load_node] > 0:
             rhs0[nd[s.base_load_node] - 1] -= s.base_load
         self.a0, self.rhs0 = a0, rhs0
+        self.r0, self.c0 = np.nonzero(a0)  # the fixed part as triplets, for the sparse path
+        self.v0 = a0[self.r0, self.c0]
         self.alt = s.alternator
         self.alt_node = nd[s.alternator.node] if s.alternator else 0
         self.alt_set = alt_setpoint
@@ -89,45 +92,57 @@ class QuasiStatic:
         rs = self.stage_r20 * (1 + self.stage_alpha * (t_stages - 20.0))
         return rc, rs
 
+    def _solver(self, g: np.ndarray, extra: float):
+        """A solve function for the matrix at variable conductances ``g`` [S], plus ``extra`` [S] at
+        the alternator node: dense below SPARSE_THRESHOLD unknowns, sparse LU above."""
+        node = self.alt_node - 1
+        if self.size <= SPARSE_THRESHOLD:
+            a = self.a0 + np.bincount(
+                self.flat, weights=(self.sign[self.keep] * g[self.which]), minlength=self.size * self.size
+            ).reshape(self.size, self.size)
+            if extra:
+                a[node, node] += extra
+            return lambda r: np.linalg.solve(a, r)
+        rows = [self.r0, self.flat // self.size]
+        cols = [self.c0, self.flat % self.size]
+        vals = [self.v0, self.sign[self.keep] * g[self.which]]
+        if extra:
+            rows.append(np.array([node]))
+            cols.append(np.array([node]))
+            vals.append(np.array([extra]))
+        return Factorized(np.concatenate(rows), np.concatenate(cols), np.concatenate(vals), self.size).solve
+
     def solve(self, t_cables: np.ndarray, t_stages: np.ndarray, on: np.ndarray, alt_limit: float | None):
-        """(cable currents, stage currents, battery current, alternator current, node vector)."""
+        """(cable currents, stage currents, battery current, alternator current, node vector).
+
+        The alternator's state is kept from the call before and changed where the solution leaves it
+        (:func:`coilstage.physics.network.charging_source_state` of what its regulator would deliver)."""
         rc, rs = self.resistances(t_cables, t_stages)
         g = np.concatenate([1.0 / rc, np.where(on, 1.0 / rs, 0.0)])
-        a = self.a0 + np.bincount(
-            self.flat, weights=(self.sign[self.keep] * g[self.which]), minlength=self.size * self.size
-        ).reshape(self.size, self.size)
-        rhs = self.rhs0.copy()
+        rhs = self.rhs0
         i_alt = 0.0
-        x = None
         if self.alt is not None and alt_limit:
             node = self.alt_node - 1
+            r_src = self.alt.source_resistance
+            plain = None
             for _ in range(3):
-                if self.mode == "regulating":
-                    a2 = a.copy()
-                    a2[node, node] += 1.0 / self.alt.source_resistance
-                    r2 = rhs.copy()
-                    r2[node] += self.alt_set / self.alt.source_resistance
-                    x = np.linalg.solve(a2, r2)
-                    i_alt = (self.alt_set - x[node]) / self.alt.source_resistance
-                    if i_alt > alt_limit:
-                        self.mode = "current-limited"
-                        continue
-                    if i_alt < 0:
-                        self.mode = "off"
-                        continue
-                    break
+                used = self.mode
                 r2 = rhs.copy()
-                if self.mode == "current-limited":
-                    r2[node] += alt_limit
-                x = np.linalg.solve(a, r2)
-                law = (self.alt_set - x[node]) / self.alt.source_resistance
-                i_alt = alt_limit if self.mode == "current-limited" else 0.0
-                if (self.mode == "current-limited" and law < alt_limit) or (self.mode == "off" and law > 0):
-                    self.mode = "regulating"
-                    continue
-                break
+                if used == "regulating":
+                    r2[node] += self.alt_set / r_src
+                    x = self._solver(g, 1.0 / r_src)(r2)
+                else:
+                    if used == "current-limited":
+                        r2[node] += alt_limit
+                    plain = plain or self._solver(g, 0.0)
+                    x = plain(r2)
+                law = (self.alt_set - x[node]) / r_src  # what the regulator would deliver
+                self.mode = charging_source_state(float(law), alt_limit)
+                if self.mode == used:
+                    break
+            i_alt = law if used == "regulating" else alt_limit if used == "current-limited" else 0.0
         else:
-            x = np.linalg.solve(a, rhs)
+            x = self._solver(g, 0.0)(rhs)
         v = np.concatenate(([0.0], x[: self.size - self.m]))
         dv = v[self.var_a] - v[self.var_b]
         i_var = dv * g

@@ -164,24 +164,30 @@ class FuseSwitching:
     model: str = "analysis.switching (exact piecewise RL solution), sampled"
 
 
-def fuse_switching(f: Fuse, duty_current: float, sw: SwitchingResult | None) -> FuseSwitching:
-    i_max = duty_current
-    worst: float | None = None
-    if sw is not None:
+def fuse_switching(fuses: list[Fuse], duty: dict[str, float], sw: SwitchingResult | None) -> dict[str, FuseSwitching]:
+    """Each fuse's peak current (largest of its cold-corner duty and the cold switching scenarios) and
+    its largest I²t over the pulse window after any switch-on; every fuse read out in one sampling of
+    each scenario."""
+    peak = {f.id: duty[f.id] for f in fuses}
+    worst: dict[str, float | None] = dict.fromkeys(peak)
+    if sw is not None and fuses:
         window = float(tables.fuse_gate_table()["pulse_window"])
-        key = f"element:{f.id}"
-        worst = 0.0
+        keys = tuple(f"element:{f.id}" for f in fuses)
+        worst = dict.fromkeys(peak, 0.0)
         for sc in sw.scenarios.values():
             if sc.corner != "cold":
                 continue
             grid = np.linspace(0.0, sc.t_end, 1501)
-            i_max = max(i_max, float(np.nanmax(np.abs(sc.sample(grid, [], (key,))[key]))))
+            x = sc.sample(grid, [], keys)
+            for f, key in zip(fuses, keys, strict=True):
+                peak[f.id] = max(peak[f.id], float(np.nanmax(np.abs(x[key]))))
             for t_on in sorted({ev[0] for ev in sc.events}):
                 g = np.linspace(t_on, t_on + window, 2001)
-                i = sc.sample(g, [], (key,))[key]
-                # the whole current through the fuse, not just the step: a preloaded fuse has less margin
-                worst = max(worst, float(np.trapezoid(i * i, g)))
-    return FuseSwitching(f.id, i_max, worst)
+                x = sc.sample(g, [], keys)
+                for f, key in zip(fuses, keys, strict=True):
+                    # the whole current through the fuse, not just the step: a preloaded fuse has less margin
+                    worst[f.id] = max(worst[f.id], float(np.trapezoid(x[key] * x[key], g)))
+    return {f.id: FuseSwitching(f.id, peak[f.id], worst[f.id]) for f in fuses}
 
 
 # ---------------------------------------------------------------- relays
@@ -247,6 +253,6 @@ def ratings(
         rate,
         over,
         short,
-        {f.id: fuse_switching(f, duty[f.id], sw) for f in d.of_kind(Fuse)},
+        fuse_switching(d.of_kind(Fuse), duty, sw),
         {r.id: relay_pickup(r, hot) for r in d.of_kind(Relay)},
     )

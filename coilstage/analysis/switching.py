@@ -60,13 +60,19 @@ class Scenario:
             if not m.any():
                 continue
             tt = times[m] - seg.t0
-            if seg.lin.stages:
+            if not seg.lin.stages:
+                for k in names:
+                    out[k][m] = seg.lin.readout[k][1]
+                continue
+            if stage_ids:  # the stage currents, only where asked for (the read-outs do not need them)
                 cur = seg.sol.at(tt)
                 for j, sid in enumerate(seg.lin.stages):
                     out.setdefault(sid, np.zeros_like(times))[m] = cur[:, j]
-            for k in names:
-                g, h = seg.lin.readout[k]
-                out[k][m] = seg.sol.linear(g, h, tt) if seg.lin.stages else h
+            g = np.array([seg.lin.readout[k][0] for k in names])
+            h = np.array([seg.lin.readout[k][1] for k in names])
+            vals = seg.sol.linear_many(g, h, tt)  # every read-out from one exponential table
+            for col, k in enumerate(names):
+                out[k][m] = vals[:, col]
         for b in self.breaks:
             m = times >= b.t
             if m.any():
@@ -296,21 +302,24 @@ def switch_on_t95(net: CaseNetwork, ids: tuple[str, ...]) -> dict[str, float]:
 
     segs = _switch_on_segments(net, ids)
     final = segs[-1][2].i_inf
+    tables = []  # each segment's currents on its grid, computed once for every stage
+    for t0, t1, sol in segs:
+        span = (t1 - t0) if t1 is not None else 60 * sol.slowest
+        grid = np.linspace(0.0, span, 2001)
+        tables.append((t0, sol, grid, sol.at(grid)))
     out = {}
     for j, sid in enumerate(ids):
         target = 0.95 * final[j]
         found = math.inf
-        for t0, t1, sol in segs:
-            span = (t1 - t0) if t1 is not None else 60 * sol.slowest
-            grid = np.linspace(0.0, span, 2001)
-            hit = np.nonzero(sol.at(grid)[:, j] >= target)[0]
+        for t0, sol, grid, cur in tables:
+            hit = np.nonzero(cur[:, j] >= target)[0]
             if len(hit):
                 k = hit[0]
                 if k == 0:
                     found = t0
                 else:
                     found = t0 + bracketed_root(
-                        lambda tt, sol=sol, j=j, target=target: float(sol.at(tt)[0, j] - target),
+                        lambda tt, sol=sol, j=j, target=target: sol.component(j, tt) - target,
                         grid[k - 1],
                         grid[k],
                         xtol=1e-13,

@@ -181,6 +181,17 @@ class ExactSolution:
         t = np.atleast_1d(np.asarray(t, dtype=float))
         return g @ self.i_inf + h + np.exp(np.outer(t, self.lam)) @ (self.w * (g @ self.phi))
 
+    def component(self, k: int, t: float) -> float:
+        """Current ``k`` at one time ``t`` [s] (one row of :meth:`at`, in O(n))."""
+        return float(self.i_inf[k] + self.phi[k] @ (np.exp(self.lam * t) * self.w))
+
+    def linear_many(self, g: np.ndarray, h: np.ndarray, t) -> np.ndarray:
+        """Several read-outs at once: ``g`` (k, n), ``h`` (k,); returns shape (len(t), k), column j
+        equal to ``linear(g[j], h[j], t)`` (one table of exponentials serves them all)."""
+        t = np.atleast_1d(np.asarray(t, dtype=float))
+        g = np.atleast_2d(g)
+        return (g @ self.i_inf + h)[None, :] + np.exp(np.outer(t, self.lam)) @ (self.w[:, None] * (self.phi.T @ g.T))
+
     @property
     def slowest(self) -> float:
         """The slowest time constant of the network [s]."""

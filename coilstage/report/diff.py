@@ -363,11 +363,6 @@ def run(args: argparse.Namespace) -> int:
         print(f'coilstage: --threshold: found "{args.threshold}"; expected points such as "5 %"', file=sys.stderr)
         return 2
     old_p, new_p = Path(args.old), Path(args.new)
-    if args.output:
-        out_p = Path(args.output).resolve()
-        if out_p in (old_p.resolve(), new_p.resolve()):
-            print("coilstage: --output would overwrite a drawing; choose another file", file=sys.stderr)
-            return 2
     results = []
     bad = False
     for p in (old_p, new_p):
@@ -387,7 +382,9 @@ def run(args: argparse.Namespace) -> int:
     d = build(od, nd, op, np_, orec, nrec, threshold)
     text = RENDERERS[args.format](d)
     if args.output:
-        Path(args.output).write_text(text, encoding="utf-8")
+        from coilstage.outputs import write_text
+
+        write_text(args.output, text, protected=[old_p, new_p])
         print(f"coilstage: diff written to {args.output} ({d['result']})", file=sys.stderr)
     else:
         sys.stdout.write(text)

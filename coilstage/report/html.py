@@ -751,7 +751,7 @@ def make_plots(analysis: Any, max_points: int = 1500) -> list[dict[str, str]]:
     plt = svgplot.pyplot()
     out = []
     a = analysis
-    title = a.drawing.title
+    title = svgplot.literal(a.drawing.title)
     if a.switching is not None and a.switching.scenarios:
         t_end = max(sc.t_end for sc in a.switching.scenarios.values())
         step = max(t_end / max_points, 1e-6)

@@ -40,6 +40,15 @@ def pyplot():
     return plt
 
 
+def literal(text: str) -> str:
+    """Drawing text as literal plot text: control characters shown as escapes, no mathtext ($)."""
+    try:
+        from coilstage.report.safe import clean
+    except ImportError:  # pragma: no cover - older tree without the terminal-safe helper
+        clean = str
+    return clean(text).replace("$", r"\$")
+
+
 def wrap(text: str, width: int = 90) -> str:
     """A title broken into lines of at most ``width`` characters (so a long drawing title is not cut)."""
     return "\n".join(textwrap.fill(line, width) for line in text.splitlines())

@@ -1,0 +1,119 @@
+"""A ``[[harness]]`` element of kind "relay": contact ratings, derating, categories and its coil."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from coilstage import tables
+from coilstage.units import (
+    QuantityError,
+    parse_dimensionless,
+    parse_pair,
+    parse_resistance_at,
+    parse_temperature,
+)
+
+from .defaults import default
+from .environment import read_zone
+from .reader import MISSING, Reader
+from .schema import (
+    Relay,
+    RelayCoil,
+)
+
+#: key path -> the keys allowed there
+KEYS = {
+    "relay_coil": {"feed_resistance", "operate_voltage", "resistance", "rise", "voltage"},
+}
+
+
+def read_relay(r, e, where, env, common, system) -> Relay | None:
+    r12 = r.quantity(e, "rating_12v", where, "current", default=None, positive=True)
+    r24 = r.quantity(e, "rating_24v", where, "current", default=None, positive=True)
+    if "rating_12v" not in e and "rating_24v" not in e:
+        r.problem(where, MISSING, "a contact rating: rating_12v and/or rating_24v")
+    zone, zt = read_zone(r, e, where, env)
+    ra = r.temperature(e, "rated_ambient", where, default=None)
+    if ra is None and "rated_ambient" not in e:
+        ra = default("relay.rated_ambient")
+        r.assume(
+            f"{where}.rated_ambient not given: the contact ratings are taken as stated at 23 °C "
+            "(usual datasheet reference)"
+        )
+    derated = None
+    if "derating" in e:
+        d = r.value(
+            e,
+            "derating",
+            where,
+            lambda t: _fraction_at(t),
+            expected='a fraction at a temperature, e.g. "67 % @ 85 degC"',
+        )
+        if d is not None:
+            derated = d
+    ma = r.temperature(e, "max_ambient", where, default=None)
+    vr = r.quantity(e, "voltage_rating", where, "voltage", default=None, positive=True)
+    res = r.quantity(e, "resistance", where, "resistance", default=None, nonnegative=True)
+    if res is None and "resistance" not in e:
+        res = default("relay.resistance")
+        r.assume(f"{where}.resistance not given: the contact is taken as 0 ohm")
+    cats: tuple[str, ...] = ()
+    known = [row["category"] for row in tables.utilization_categories()]
+    if "categories" in e:
+        c = e["categories"]
+        if not isinstance(c, list) or not all(isinstance(x, str) and x in known for x in c):
+            r.problem(f"{where}.categories", c, "a list of rated categories from " + ", ".join(known))
+        else:
+            cats = tuple(c)
+    ib = r.value(e, "inductive_break", where, lambda t: parse_pair(t, "current", "time"), default=None)
+    coil = _relay_coil(r, e, where)
+    if None in (zone, zt, ra, res) or (r12 is None and r24 is None) or coil is False:
+        return None
+    return Relay(
+        **common,
+        rating_12v=r12,
+        rating_24v=r24,
+        rated_ambient=ra,
+        derated=derated,
+        max_ambient=ma,
+        voltage_rating=vr,
+        zone=zone,
+        zone_temperature=zt,
+        resistance=res,
+        categories=cats,
+        inductive_break=ib,
+        coil=coil,
+    )
+
+
+def _relay_coil(r: Reader, e: dict, where: str):
+    """The relay's coil data (for the pick-up check): None when not given, False when wrong."""
+    if "coil" not in e:
+        return None
+    c = e["coil"]
+    cw = f"{where}.coil"
+    if not isinstance(c, dict):
+        r.problem(cw, c, 'a table { voltage = "24 V", resistance = "320 ohm @ 20 degC", operate_voltage = "16.8 V" }')
+        return False
+    r.unknown(c, KEYS["relay_coil"], cw)
+    v = r.quantity(c, "voltage", cw, "voltage", positive=True)
+    rt = r.value(c, "resistance", cw, parse_resistance_at)
+    op = r.quantity(c, "operate_voltage", cw, "voltage", positive=True)
+    feed = r.quantity(c, "feed_resistance", cw, "resistance", default=0.0, nonnegative=True)
+    rise = r.quantity(c, "rise", cw, "temperature_difference", default=None, nonnegative=True)
+    if rise is None and "rise" not in c:
+        rise = default("relay.coil.rise")
+        r.assume(f"{cw}.rise not given: the relay coil is taken at its zone temperature (no self-heating)")
+    if None in (v, rt, op, feed, rise):
+        return False
+    return RelayCoil(v, rt[0], rt[1], op, feed, rise)
+
+
+def _fraction_at(text: Any) -> tuple[float, float]:
+    if not isinstance(text, str) or "@" not in text:
+        raise QuantityError('a fraction at a temperature, e.g. "67 % @ 85 degC"')
+    left, right = text.split("@", 1)
+    f = parse_dimensionless(left.strip())
+    if not 0 < f <= 1.5:
+        raise QuantityError('a fraction between 0 and 150 %, e.g. "67 % @ 85 degC"')
+    return f, parse_temperature(right)

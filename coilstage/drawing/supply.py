@@ -1,0 +1,127 @@
+"""The ``[supply]`` section: system voltage, supply code or limits, battery, alternator, base load."""
+
+from __future__ import annotations
+
+from coilstage import tables
+
+from .defaults import default
+from .reader import MISSING, Reader
+from .schema import (
+    Alternator,
+    Battery,
+    Supply,
+)
+
+#: key path -> the keys allowed there
+KEYS = {
+    "supply": {
+        "alternator",
+        "base_load",
+        "base_load_node",
+        "battery",
+        "chassis",
+        "code",
+        "limits",
+        "negative",
+        "system",
+    },
+    "supply.limits": {"max", "min"},
+    "supply.battery": {"capacity", "emf", "internal_resistance", "node"},
+    "supply.alternator": {"limit_idle", "limit_rated", "node", "setpoint", "source_resistance", "tolerance"},
+}
+
+
+def read_supply(r: Reader, raw: dict) -> Supply | None:
+    s = r.table(raw, "supply", "supply")
+    if s is None:
+        return None
+    r.unknown(s, KEYS["supply"], "supply")
+    system = r.quantity(s, "system", "supply", "voltage")
+    if system is not None and round(system) not in (12, 24):
+        r.problem("supply.system", s["system"], '"12 V" or "24 V"')
+        system = None
+    negative = r.text(s, "negative", "supply", default=default("supply.negative"))
+    chassis = r.text(s, "chassis", "supply", default=negative)
+
+    b = r.table(s, "battery", "supply.battery")
+    battery = None
+    if b is not None:
+        r.unknown(b, KEYS["supply.battery"], "supply.battery")
+        emf = r.quantity(b, "emf", "supply.battery", "voltage", positive=True)
+        rint = r.quantity(b, "internal_resistance", "supply.battery", "resistance", positive=True)
+        node = r.text(b, "node", "supply.battery", default=default("supply.battery.node"))
+        cap = r.quantity(b, "capacity", "supply.battery", "charge", default=None, positive=True)
+        if None not in (emf, rint, node):
+            battery = Battery(emf, rint, node, cap)
+
+    alternator = None
+    a = r.table(s, "alternator", "supply.alternator", required=False)
+    if a is not None:
+        r.unknown(a, KEYS["supply.alternator"], "supply.alternator")
+        setpoint = r.quantity(a, "setpoint", "supply.alternator", "voltage", positive=True)
+        tol = r.quantity(a, "tolerance", "supply.alternator", "voltage", default=None, nonnegative=True)
+        if tol is None and "tolerance" not in a:
+            tol = default("supply.alternator.tolerance")
+            r.assume("supply.alternator.tolerance not given: the cold corner uses the set-point itself")
+        rs = r.quantity(a, "source_resistance", "supply.alternator", "resistance", positive=True)
+        idle = r.quantity(a, "limit_idle", "supply.alternator", "current", positive=True)
+        rated = r.quantity(a, "limit_rated", "supply.alternator", "current", positive=True)
+        node = r.text(
+            a, "node", "supply.alternator", default=battery.node if battery else default("supply.battery.node")
+        )
+        if idle is not None and rated is not None and idle > rated:
+            r.problem("supply.alternator.limit_idle", a["limit_idle"], "no more than limit_rated")
+        if None not in (setpoint, tol, rs, idle, rated, node):
+            alternator = Alternator(setpoint, tol, rs, idle, rated, node)
+    elif "alternator" not in s:
+        r.assume("no alternator in the drawing: the battery alone feeds the bus")
+
+    base = r.quantity(s, "base_load", "supply", "current", default=None, nonnegative=True)
+    if base is None and "base_load" not in s:
+        base = default("supply.base_load")
+        r.assume("supply.base_load not given: the rest of the vehicle draws nothing")
+    base_node = r.text(
+        s, "base_load_node", "supply", default=battery.node if battery else default("supply.battery.node")
+    )
+
+    code = None
+    v_min = v_max = None
+    limits_source = ""
+    if "code" in s:
+        code = r.text(s, "code", "supply", choices=sorted(tables.supply_codes()))
+        if code is not None:
+            row = tables.supply_codes()[code]
+            if system is not None and row["system"] != round(system):
+                r.problem("supply.code", code, f"a code for a {round(system)} V system")
+            v_min, v_max = float(row["min"]), float(row["max"])
+            limits_source = f"ISO 16750-2:2010 code {code}"
+    lim = r.table(s, "limits", "supply.limits", required=False)
+    if lim is not None:
+        r.unknown(lim, KEYS["supply.limits"], "supply.limits")
+        lo = r.quantity(lim, "min", "supply.limits", "voltage", positive=True)
+        hi = r.quantity(lim, "max", "supply.limits", "voltage", positive=True)
+        if lo is not None and hi is not None:
+            if lo >= hi:
+                r.problem("supply.limits.min", lim["min"], "a minimum below the maximum")
+            v_min, v_max = lo, hi
+            limits_source = "supply.limits in the drawing"
+    if v_min is None and "code" not in s and lim is None:
+        r.problem("supply", MISSING, 'an ISO 16750-2 supply code (code = "F") or [supply.limits] min and max')
+    if None in (system, battery, base, base_node, negative, v_min, v_max):
+        return None
+    if battery.node == negative:
+        r.problem("supply.battery.node", battery.node, "a node other than the negative node")
+        return None
+    return Supply(
+        round(system),
+        code,
+        v_min,
+        v_max,
+        limits_source,
+        battery,
+        alternator,
+        base,
+        base_node,
+        negative,
+        chassis or negative,
+    )

@@ -61,6 +61,12 @@ UNCHANGEABLE = {
 }
 
 
+#: What a rule or analysis may raise on a candidate far from any sensible design (an exponential out of
+#: range for a thin cable behind a large fuse, a solver that does not converge): such a candidate is
+#: taken as failing, never as passing.
+_CANDIDATE_ERRORS = (ArithmeticError, ValueError, RuntimeError)
+
+
 class SizingError(ValueError):
     """A drawing that sizing cannot work on (the message says where and why)."""
 
@@ -233,7 +239,13 @@ class Bench:
             self._fast[(k, switching, rules)] = None
             return None
         skipped = _HEATING_RULES + (() if switching else _SWITCHING_RULES)
-        vs = _by_key(_screen_verdicts(d, switching, rules))
+        try:
+            vs = _by_key(_screen_verdicts(d, switching, rules))
+        except _CANDIDATE_ERRORS:
+            # a candidate the rules cannot judge (a figure out of range) is never one that passes
+            self._fast[(k, switching, rules)] = None
+            self.evaluations["screen"] += 1
+            return None
         self._fast[(k, switching, rules)] = {
             key: v for key, v in vs.items() if not (key[0] in skipped and _status(v) == "not checked")
         }
@@ -250,8 +262,11 @@ class Bench:
             if d is None:
                 self._full[k] = None
             else:
-                a, v = coilstage.check(d)
-                self._full[k] = (a, _by_key(v), v)
+                try:
+                    a, v = coilstage.check(d)
+                    self._full[k] = (a, _by_key(v), v)
+                except _CANDIDATE_ERRORS:
+                    self._full[k] = None
             self.evaluations["full"] += 1
         r = self._full[k]
         return None if r is None else r
@@ -523,6 +538,11 @@ class Suggestion:
             "checked": self.checked,
             "text": self.text,
         }
+
+
+def _failing(inv: dict) -> list:
+    """The verdicts that fail or warn (a verdict not checked for missing data is listed apart)."""
+    return [v for v in inv.values() if _rank(v) < 1.5]
 
 
 def _bad(inv: dict, targets: dict) -> list:
@@ -1000,7 +1020,7 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
         j_ok = None
         for j in w.ok:
             r = bench.full(_with(base, ((part.index, part.key), part.series[j])))
-            if r is not None and not _bad(involved(part, r[1]), {}):
+            if r is not None and not _failing(involved(part, r[1])):
                 j_ok = j
                 break
         checked = j_ok is not None
@@ -1071,7 +1091,7 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
             fits = tuple(labels)
             smaller = sv[lo - 1].strip('"') if lo > 0 else None
             r = bench.full(_with(base, *edits))
-            checked = r is not None and not _bad(involved(part, r[1]), {})
+            checked = r is not None and not _failing(involved(part, r[1]))
             w = ow
         elif needs or not w.ok:
             text += "; no shipped ISO 8820 type makes a window: give the maker's data of a fuse that does"
@@ -1402,6 +1422,15 @@ def size_drawing(
         raise SizingError("the drawing does not load; run `coilstage check` for its problems")
     edits: dict = {}
     changes: dict[tuple[int, str], list] = {}  # (index, key) -> [part, old, new, whys]
+    # "auto" cables start at the smallest size; where the rules cannot judge that start (a figure out
+    # of range), raise every auto cable two sizes at a time until they can
+    auto_cables = [p for p in parts_of(d0, prepared) if p.kind == "cable" and (p.index, p.key) in prepared.auto]
+    step = 0
+    while bench.full(edits) is None and auto_cables and step < 40:
+        step += 2
+        edits = {**edits, **{(p.index, p.key): p.series[min(step, len(p.series) - 1)] for p in auto_cables}}
+    if bench.full(edits) is None:
+        raise SizingError("the drawing's analysis cannot be completed; run `coilstage check` for the reason")
     rounds = 0
     for rounds in range(1, max_rounds + 1):
         r = bench.full(edits)

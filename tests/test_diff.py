@@ -78,7 +78,7 @@ def test_verdicts_that_moved(comparison):
 
 
 def test_threshold_and_identity(comparison):
-    d, new = comparison
+    _d, new = comparison
     o = diff.analyse_one(FLAWED)
     same = diff.build(o[0], o[0], o[1], o[1], o[2], o[2])
     assert same["parts"] == {"added": [], "removed": [], "changed": []}

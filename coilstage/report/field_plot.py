@@ -42,24 +42,35 @@ def figure(a, title: str):
             fontsize=7,
         )
     notes = []
+    b_top = max((x.b_gap for per in a.field.stages.values() for x in per.values() if x.b_gap is not None), default=1.0)
     for corner, marker, colour in (("cold", "o", "tab:blue"), ("hot", "s", "tab:red")):
-        pts: dict[tuple[float, float], list[str]] = {}
+        # stages whose points lie within 1 % of the axes of each other are drawn and named as one
+        clusters: list[list] = []
         for s in d.stages:
             x = a.field.stages[corner][s.id]
-            if x.b_gap is not None:
-                pts.setdefault((round(x.ampere_turns, 6), round(x.b_gap, 9)), []).append(s.id)
-        for k, ((ni_, b), ids) in enumerate(pts.items()):
+            if x.b_gap is None:
+                continue
+            for c in clusters:
+                if abs(c[0] - x.ampere_turns) <= 0.01 * ni_max and abs(c[1] - x.b_gap) <= 0.01 * b_top:
+                    c[2].append(s.id)
+                    break
+            else:
+                clusters.append([x.ampere_turns, x.b_gap, [s.id]])
+        for k, (ni_, b, ids) in enumerate(clusters):
             ax.plot(ni_, b, marker, ms=8, mfc="none", mec=colour, mew=1.5, label=f"{corner} corner" if k == 0 else None)
+            order = [s.id for s in d.stages]
+            run = order[order.index(ids[0]) : order.index(ids[0]) + len(ids)] == ids
+            name = f"{ids[0]}–{ids[-1]}" if len(ids) > 2 and run else svgplot.group_label(ids)
             ax.annotate(
-                svgplot.group_label(ids) if len(ids) < 4 else f"{ids[0]}–{ids[-1]}",
+                name,
                 (ni_, b),
                 textcoords="offset points",
-                xytext=(6, -10 if corner == "hot" else 6),
-                fontsize=7,
+                xytext=(7, -12 if corner == "hot" else 7),
+                fontsize=7.5,
                 color=colour,
             )
             if len(ids) > 1:
-                notes.append(f"{corner}: {svgplot.coincide_note([ids])}")
+                notes.append(f"{corner}: {svgplot.coincide_note([ids])} (within 1 %)")
     ax.set_xlabel("ampere-turns per coil [A-turns]")
     ax.set_ylabel("gap flux density [T]")
     ax.set_ylim(0, None)

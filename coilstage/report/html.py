@@ -20,7 +20,6 @@ from html import escape
 from typing import Any
 
 from coilstage.report import actions as actions_mod
-from coilstage.report.parts import ORIGIN_WORDS
 
 #: How each status is shown: symbol, word, CSS class.
 STATUS = {
@@ -196,8 +195,13 @@ figcaption { font-size: 8pt; color: #4a545c; }
 .caution b { text-transform: uppercase; letter-spacing: 0.04em; font-size: 8.5pt; }
 .rulehead td { background: var(--soft); font-size: 7.5pt; }
 .origin-default { font-weight: bold; }
-.origin-default::before { content: "◆ "; }
+.origin-default::before { content: "◆\\00a0"; }
 .origin-absent { font-style: italic; color: #4a545c; }
+table.parts { font-size: 7pt; }
+table.parts th { font-size: 6.8pt; }
+ol.notes { font-size: 7pt; color: #4a545c; margin: 0 0 3mm 0; padding-left: 6mm; }
+.kvgrid { display: grid; grid-template-columns: 1fr 1fr; gap: 0 5mm; }
+.kvgrid h3 { margin-top: 2mm; }
 .brief-note { border: 1pt dashed var(--ink); padding: 2mm; }
 @media screen { body { background: #fafbfc; } }
 @page { size: A4; margin: 14mm 12mm 16mm 12mm; }
@@ -640,32 +644,84 @@ def _verdicts(doc: dict, h: str) -> str:
     return "".join(out)
 
 
+_KIND_TITLES = {
+    "cable": "Cables and grounds",
+    "fuse": "Fuses",
+    "relay": "Relays and contactors",
+    "stage": "Stages",
+    "resistor": "Joints, busbars and measured grounds",
+}
+
+
+def _cell(r: dict, notes: dict[str, int]) -> str:
+    shown = e(r["shown"])
+    if r["origin"] == "default":
+        shown = f'<span class="origin-default">{shown}</span>'
+    elif r["origin"] == "absent":
+        shown = '<span class="origin-absent">not given</span>'
+    if r["note"]:
+        k = notes.setdefault(r["note"], len(notes) + 1)
+        shown += f"<sup>{k}</sup>"
+    return shown
+
+
+def _notes(notes: dict[str, int]) -> str:
+    if not notes:
+        return ""
+    items = "".join(f"<li value={k}>{e(n)}</li>" for n, k in notes.items())
+    return f'<ol class="notes">{items}</ol>'
+
+
+def _kind_table(ps: list[dict]) -> str:
+    """One table for parts of one kind: a row per part, a column per value (union, in order)."""
+    cols: dict[str, str] = {}
+    for p in ps:
+        for r in p["values"]:
+            cols.setdefault(r["key"], r["label"])
+    notes: dict[str, int] = {}
+    rows = []
+    for p in ps:
+        vals = {r["key"]: r for r in p["values"]}
+        rows.append(
+            [f"<b>{e(p['id'])}</b>", f"{e(p['from'])} → {e(p['to'])}"]
+            + [_cell(vals[k], notes) if k in vals else "" for k in cols]
+        )
+    head = ["id", "from → to", *(e(x) for x in cols.values())]
+    return _table(head, rows, cls="ev parts") + _notes(notes)
+
+
+def _kv_table(p: dict) -> str:
+    notes: dict[str, int] = {}
+    rows = [[e(r["label"]), _cell(r, notes)] for r in p["values"]]
+    conn = f" · {e(p['from'])} → {e(p['to'])}" if p["from"] or p["to"] else ""
+    return (
+        f'<div class="kv keep"><h3>{e(p["id"])} <span class="note">{e(p["kind"])}{conn}</span></h3>'
+        + _table(["value", "as resolved"], rows, cls="ev")
+        + _notes(notes)
+        + "</div>"
+    )
+
+
 def _parts(parts: dict, h: str) -> str:
     out = [f'<section class="evidence">{_h2("Parts list (as read from the drawing)", h)}']
     out.append(
-        '<p class="note">Every part with its resolved values. <span class="origin-default">DEFAULT</span> marks a '
-        "value the drawing did not give and the program put in; “from table” a value looked up from what the drawing "
-        "gave; “not given” a value that is missing (checks that need it say NOT CHECKED). Defaults found from: "
-        f"{e(', '.join(parts['defaults_from']))}.</p>"
+        '<p class="note">Every part with its resolved values. <span class="origin-default">bold with ◆</span>: a '
+        "default — the drawing does not give it and the program put it in (see the assumptions); "
+        '<span class="origin-absent">not given</span>: missing, and checks that need it say NOT CHECKED; plain: '
+        "as drawn, or looked up in a table from what the drawing gives. Numbered notes give the source. "
+        f"Defaults found from {e(', '.join(parts['defaults_from']))}.</p>"
     )
-    for p in parts["parts"]:
-        conn = f" · {e(p['from'])} → {e(p['to'])}" if p["from"] or p["to"] else ""
-        rows = []
-        for r in p["values"]:
-            word = ORIGIN_WORDS.get(r["origin"], r["origin"])
-            rows.append(
-                [
-                    e(r["label"]),
-                    e(r["shown"]),
-                    f'<span class="origin-{e(r["origin"])}">{e(word)}</span>',
-                    e(r["note"]) if r["note"] else "",
-                ]
-            )
-        out.append(
-            f'<div class="keep"><h3>{e(p["id"])} <span class="note">{e(p["kind"])}{conn} · {e(p["where"])}</span></h3>'
-            + _table(["value", "as resolved", "origin", "source"], rows)
-            + "</div>"
-        )
+    supply = [p for p in parts["parts"] if p["section"] in ("supply", "coils")]
+    out.append('<div class="kvgrid">' + "".join(_kv_table(p) for p in supply) + "</div>")
+    harness = [p for p in parts["parts"] if p["section"] == "harness"]
+    groups: dict[str, list[dict]] = {}
+    for p in harness:
+        k = "cable" if p["kind"] in ("cable", "ground") and any(r["key"] == "size" for r in p["values"]) else p["kind"]
+        k = k if k in _KIND_TITLES else "resistor"
+        groups.setdefault(k, []).append(p)
+    for k, title in _KIND_TITLES.items():
+        if k in groups:
+            out.append(f"<h3>{escape(title)}</h3>" + _kind_table(groups[k]))
     out.append("</section>")
     return "".join(out)
 

@@ -196,7 +196,7 @@ def _cable(c) -> list[dict]:
     return [
         _v("size", "size", c.size_label),
         _v("size.area", "conducting area", c.area, "m^2", "table", c.r20_source),
-        _v("conductor_table", "resistance at 20 °C", c.r20_per_m, "ohm/m", None, c.r20_source),
+        _v("conductor_table", "resistance at 20 °C", c.r20_per_m, "ohm/m", None, c.r20_source, otherwise="table"),
         _v("material", "conductor", c.material, otherwise="table"),
         _v("length", "length", c.length, "m"),
         _v("insulation", "insulation class (ISO 6722)", c.insulation_class),
@@ -215,7 +215,7 @@ def _cable(c) -> list[dict]:
             "a ground is a return" if c.kind == "ground" else "",
         ),
         _v("sheathed", "sheathed", c.sheathed),
-        _v("outer_diameter", "outer diameter", c.outer_diameter, "m", None, c.diameter_source),
+        _v("outer_diameter", "outer diameter", c.outer_diameter, "m", None, c.diameter_source, otherwise="table"),
     ]
 
 

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import math
 import re
+import unicodedata
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
@@ -44,8 +45,8 @@ DIMENSIONS: dict[str, tuple[str, str]] = {
 }
 
 _AWG_BODY = r"(?:(0{2,4})|([1-4])\s*/\s*0|(\d{1,2}))"
-_AWG_RE = re.compile(rf"^\s*{_AWG_BODY}\s*AWG\s*$", re.IGNORECASE)
-_AWG_RE_PREFIX = re.compile(rf"^\s*AWG\s*{_AWG_BODY}\s*$", re.IGNORECASE)
+_AWG_RE = re.compile(rf"^\s*{_AWG_BODY}\s*AWG\s*$", re.IGNORECASE | re.ASCII)
+_AWG_RE_PREFIX = re.compile(rf"^\s*AWG\s*{_AWG_BODY}\s*$", re.IGNORECASE | re.ASCII)
 _TRADE_SPELLINGS = (("mm²", "mm**2"), ("mm2", "mm**2"), ("²", "**2"), ("^", "**"), ("Ohm", "ohm"))
 
 
@@ -97,12 +98,96 @@ FAST_UNITS: dict[str, tuple[float, str]] = {
     "Hz": (1.0, "frequency"),
 }
 _FAST_TEMPERATURE = {"degC": (1.0, 0.0), "°C": (1.0, 0.0), "K": (1.0, -273.15), "degF": (5 / 9, -32.0 * 5 / 9)}
-_FAST_RE = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(\S+)\s*$")
+_FAST_RE = re.compile(r"^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*(\S+)\s*$", re.ASCII)
+
+# ---------------------------------------------------------------- the number gate
+
+#: Longest quantity text read [characters]: a number, a unit and a few spaces fit easily.
+MAX_TEXT = 80
+
+#: kind -> (smallest magnitude other than zero, largest magnitude), in the SI unit of DIMENSIONS.
+#: Plausible bounds for the DC supply of a vehicle's coil stages, wide enough for every real part
+#: (common practice, no source: each bound is at least a thousand times past the largest or
+#: smallest value such a supply uses); a value outside them is a typing error or a hostile input,
+#: and would only make the analysis divide by nearly zero or overflow.
+PLAUSIBLE: dict[str, tuple[float, float]] = {
+    "length": (1e-6, 1e4),
+    "area": (1e-12, 100.0),
+    "resistance": (1e-9, 1e6),
+    "voltage": (1e-6, 1e5),
+    "current": (1e-6, 1e6),
+    "inductance": (1e-9, 1e3),
+    "time": (1e-9, 1e8),
+    "charge": (1e-3, 1e8),
+    "power": (1e-6, 1e9),
+    "energy": (1e-9, 1e12),
+    "temperature_difference": (1e-6, 1e3),
+    "thermal_resistance": (1e-6, 1e6),
+    "heat_capacity": (1e-6, 1e9),
+    "mass": (1e-6, 1e5),
+    "joule_integral": (1e-9, 1e12),
+    "torque": (1e-6, 1e7),
+    "angular_speed": (1e-6, 1e5),
+    "frequency": (1e-6, 1e7),
+    "ratio": (0.0, 1e6),
+}
+#: Temperatures read [°C]: from well above the zero-resistance temperature of every shipped metal
+#: (about -234.5 °C for copper, -228 °C for aluminium: 20 °C - 1/alpha20 with the alpha20 of
+#: IEC 60028 and IEC 60287-1-1), so that every R(T) stays positive, to past any insulation class.
+TEMPERATURE_RANGE = (-200.0, 1000.0)
+
+_NUMBER = re.compile(r"\s*[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]{1,3})?", re.ASCII)
+_UNIT_POWER = re.compile(r"(?<=[A-Za-zµΩ°)])\s*(?:\*\*|\^)\s*(?:-?[1-4]|\(-?[1-4]\))(?![0-9.])")
+_UNIT_TEXT = re.compile(r"[A-Za-zµΩ°%·*/() ]*")
 
 
-def _fast(text: Any) -> tuple[float, str] | None:
-    """(number, unit) of a plain "number unit" text, or None."""
-    if not isinstance(text, str):
+def article(noun: str) -> str:
+    """``"a voltage"``, ``"an inductance"``."""
+    return ("an " if noun[:1].lower() in "aeiou" else "a ") + noun
+
+
+def gate(value: float, kind: str) -> float:
+    """The one check every number leaving the loader passes: finite and within :data:`PLAUSIBLE`
+    for its kind (``"temperature"``: within :data:`TEMPERATURE_RANGE`, in °C). Returns the value;
+    raises QuantityError saying what was expected."""
+    noun = "temperature" if kind == "temperature" else kind.replace("_", " ")
+    if not isinstance(value, (int, float)) or isinstance(value, bool) or not math.isfinite(value):
+        raise QuantityError(f"{article(noun)} with a finite number")
+    if kind == "temperature":
+        lo, hi = TEMPERATURE_RANGE
+        if not lo <= value <= hi:
+            raise QuantityError(f"a temperature between {lo:g} degC and {hi:g} degC")
+        return float(value)
+    smallest, largest = PLAUSIBLE[kind]
+    unit = DIMENSIONS[kind][0].replace("**", "^") if kind in DIMENSIONS else ""
+    if abs(value) > largest:
+        raise QuantityError(f"{article(noun)} of at most {largest:g} {unit}".rstrip() + " (a plausible value)")
+    if value != 0 and abs(value) < smallest:
+        raise QuantityError(f"{article(noun)} of zero or at least {smallest:g} {unit} (a plausible value)")
+    return float(value)
+
+
+def _screen(text: str, noun: str, example: str) -> None:
+    """Refuse, before any parser sees it, text that is not "a number and a unit": too long,
+    digits other than 0-9, arithmetic (sums, powers of numbers, towers of powers)."""
+    shape = f'{noun} written as a number and a unit, e.g. "{example}"'
+    if len(text) > MAX_TEXT:
+        raise QuantityError(f"{shape} (at most {MAX_TEXT} characters)")
+    if any(unicodedata.category(ch) == "Nd" and not ch.isascii() for ch in text):
+        raise QuantityError(f"{shape} (digits 0-9 only)")
+    t = _normalise(text)
+    m = _NUMBER.match(t)
+    if m is None:
+        raise QuantityError(f"{shape} (it must start with the number)")
+    rest = _UNIT_POWER.sub("", t[m.end() :])
+    if not _UNIT_TEXT.fullmatch(rest):
+        raise QuantityError(f"{shape} (no arithmetic: only units may carry a power, such as mm^2)")
+
+
+
+def _fast(text: Any, use_fast: bool = True) -> tuple[float, str] | None:
+    """(number, unit) of a plain "number unit" text, or None (also when ``use_fast`` is False)."""
+    if not use_fast or not isinstance(text, str):
         return None
     m = _FAST_RE.match(text)
     return (float(m.group(1)), m.group(2)) if m else None
@@ -134,13 +219,14 @@ def _parse(text: Any, expected: str, example: str) -> Any:
         raise QuantityError(f'{expected} as text with its unit, e.g. "{example}"')
     if isinstance(text, (int, float)):
         raise QuantityError(f'{expected} with its unit, e.g. "{example}" (a bare number has no unit)')
+    _screen(text, expected, example)
     ureg = registry()
     try:
         q = ureg.Quantity(_normalise(text))
     except Exception as exc:  # pint raises several kinds for unreadable text
         raise QuantityError(f'{expected} such as "{example}" ({type(exc).__name__}: {exc})') from None
     if not isinstance(q.magnitude, (int, float)) or not math.isfinite(float(q.magnitude)):
-        raise QuantityError(f'{expected} with a finite number, e.g. "{example}"')
+        raise QuantityError(f"{expected} with a finite number")
     return q
 
 
@@ -157,27 +243,31 @@ def dimension_name(q: Any) -> str:
     return str(q.dimensionality)
 
 
-def parse_quantity(text: Any, dimension: str) -> float:
+def parse_quantity(text: Any, dimension: str, use_fast: bool = True) -> float:
     """Parse ``text`` as a quantity of ``dimension`` (a key of :data:`DIMENSIONS`); return SI float.
+
+    Plain "number unit" forms are read without pint; ``use_fast=False`` sends every text through
+    pint (both paths pass :func:`_screen` and :func:`gate`, so they accept and refuse alike).
 
     >>> parse_quantity("35 mm^2", "area")
     3.5e-05
     >>> parse_quantity("8 mohm", "resistance")
     0.008
     """
-    fast = _fast(text)
-    if fast is not None and FAST_UNITS.get(fast[1], (0, ""))[1] == dimension:
-        return fast[0] * FAST_UNITS[fast[1]][0]
     unit, example = DIMENSIONS[dimension]
-    noun = "a " + dimension.replace("_", " ")
+    noun = article(dimension.replace("_", " "))
+    fast = _fast(text, use_fast)
+    if fast is not None and FAST_UNITS.get(fast[1], (0, ""))[1] == dimension:
+        _screen(text, noun, example)
+        return gate(fast[0] * FAST_UNITS[fast[1]][0], dimension)
     q = _parse(text, noun, example)
     target = registry().Quantity(1, unit)
     if q.dimensionality != target.dimensionality:
-        raise QuantityError(f'{noun} such as "{example}", not a {dimension_name(q)}')
-    return float(q.to(unit).magnitude)
+        raise QuantityError(f'{noun} such as "{example}", not {article(dimension_name(q))}')
+    return gate(float(q.to(unit).magnitude), dimension)
 
 
-def parse_temperature(text: Any) -> float:
+def parse_temperature(text: Any, use_fast: bool = True) -> float:
     """Parse an absolute temperature (``"85 degC"``, ``"-40 degC"``, ``"358 K"``); return °C.
 
     >>> parse_temperature("85 degC")
@@ -185,32 +275,32 @@ def parse_temperature(text: Any) -> float:
     >>> round(parse_temperature("358.15 K"), 6)
     85.0
     """
-    fast = _fast(text)
+    fast = _fast(text, use_fast)
     if fast is not None and fast[1] in _FAST_TEMPERATURE:
+        _screen(text, "a temperature", "85 degC")
         scale, offset = _FAST_TEMPERATURE[fast[1]]
-        c = fast[0] * scale + offset
-        if c >= -273.15:
-            return c
+        return gate(fast[0] * scale + offset, "temperature")
     q = _parse(text, "a temperature", "85 degC")
     if q.dimensionality != registry().Quantity(1, "K").dimensionality:
-        raise QuantityError(f'a temperature such as "85 degC", not a {dimension_name(q)}')
-    c = float(q.to("degC").magnitude)
-    if c < -273.15:
-        raise QuantityError("a temperature above absolute zero")
-    return c
+        hint = ""
+        if isinstance(text, str) and re.search(r"[0-9.\s](C|F)\s*$", text):
+            hint = f" (did you mean deg{text.strip()[-1]}?)"
+        raise QuantityError(f'a temperature such as "85 degC", not {article(dimension_name(q))}{hint}')
+    return gate(float(q.to("degC").magnitude), "temperature")
 
 
-def parse_dimensionless(text: Any) -> float:
+def parse_dimensionless(text: Any, use_fast: bool = True) -> float:
     """A plain ratio: a number, or text such as ``"75 %"``."""
     if isinstance(text, (int, float)) and not isinstance(text, bool):
-        return float(text)
-    fast = _fast(text)
+        return gate(float(text), "ratio")
+    fast = _fast(text, use_fast)
     if fast is not None and fast[1] == "%":
-        return fast[0] / 100.0
+        _screen(text, "a ratio", "75 %")
+        return gate(fast[0] / 100.0, "ratio")
     q = _parse(text, "a ratio", "75 %")
     if not q.dimensionless:
-        raise QuantityError(f'a plain ratio such as 0.75 or "75 %", not a {dimension_name(q)}')
-    return float(q.to("").magnitude)
+        raise QuantityError(f'a plain ratio such as 0.75 or "75 %", not {article(dimension_name(q))}')
+    return gate(float(q.to("").magnitude), "ratio")
 
 
 def parse_resistance_at(text: Any) -> tuple[float, float]:
@@ -239,7 +329,7 @@ def parse_value_at(text: Any, dimension: str) -> tuple[float, float]:
     _unit, example = DIMENSIONS[dimension]
     ex = f"{example} @ 85 degC"
     if not isinstance(text, str) or "@" not in text:
-        raise QuantityError(f'a {dimension} with the temperature it applies at, e.g. "{ex}"')
+        raise QuantityError(f'{article(dimension)} with the temperature it applies at, e.g. "{ex}"')
     left, right = text.split("@", 1)
     return parse_quantity(left, dimension), parse_temperature(right)
 
@@ -248,7 +338,7 @@ def parse_pair(text: Any, first: str, second: str) -> tuple[float, float]:
     """Parse ``"60 A @ 150 ms"`` into two SI floats of the named dimensions."""
     ex = f"{DIMENSIONS[first][1]} @ {DIMENSIONS[second][1]}"
     if not isinstance(text, str) or "@" not in text:
-        raise QuantityError(f'a {first} at a {second}, e.g. "{ex}"')
+        raise QuantityError(f'{article(first)} at {article(second)}, e.g. "{ex}"')
     left, right = text.split("@", 1)
     return parse_quantity(left, first), parse_quantity(right, second)
 

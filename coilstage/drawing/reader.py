@@ -11,6 +11,8 @@ from typing import Any
 from coilstage.errors import Problem
 from coilstage.units import (
     QuantityError,
+    article,
+    parse_dimensionless,
     parse_quantity,
     parse_temperature,
 )
@@ -24,8 +26,15 @@ def suggest(word: str, choices: set[str] | list[str]) -> str:
 
 
 def show(value: Any) -> str:
-    text = repr(value) if not isinstance(value, str) else f'"{value}"'
+    try:
+        text = repr(value) if not isinstance(value, str) else f'"{value}"'
+    except RecursionError:
+        return "(a value nested too deeply to show)"
     return text if len(text) <= 60 else text[:57] + "..."
+
+
+#: Longest name or free text read from a drawing [characters].
+MAX_NAME = 2000
 
 
 class Reader:
@@ -72,18 +81,21 @@ class Reader:
             return parse(raw[key])
         except QuantityError as exc:
             self.problem(path, raw[key], str(exc))
-        except (TypeError, ValueError) as exc:
+        except ValueError as exc:
+            self.problem(path, raw[key], str(exc) or expected or "a valid value")
+        except TypeError as exc:
             self.problem(path, raw[key], expected or str(exc))
         return None
 
     def quantity(self, raw, key, where, dim, default=MISSING, positive=False, nonnegative=False):
         v = self.value(raw, key, where, lambda t: parse_quantity(t, dim), default=default)
         if isinstance(v, float):
+            noun = article(dim.replace("_", " "))
             if positive and not v > 0:
-                self.problem(f"{where}.{key}", raw[key], f"a {dim} greater than zero")
+                self.problem(f"{where}.{key}", raw[key], f"{noun} greater than zero")
                 return None
             if nonnegative and v < 0:
-                self.problem(f"{where}.{key}", raw[key], f"a {dim} of zero or more")
+                self.problem(f"{where}.{key}", raw[key], f"{noun} of zero or more")
                 return None
         return v
 
@@ -91,22 +103,37 @@ class Reader:
         return self.value(raw, key, where, parse_temperature, default=default)
 
     def text(self, raw, key, where, default=MISSING, choices=None):
+        """A text; with ``choices``, one of them (a wrong value is answered with the list)."""
+        allowed = None if choices is None else "one of " + ", ".join(f'"{c}"' for c in choices)
+
         def parse(t):
             if not isinstance(t, str) or not t.strip():
-                raise ValueError("a text")
+                raise ValueError(allowed or "a text")
+            if len(t) > MAX_NAME:
+                raise ValueError(f"a text of at most {MAX_NAME} characters")
             if choices is not None and t not in choices:
-                raise ValueError(f"one of {', '.join(map(str, choices))}{suggest(t, list(map(str, choices)))}")
+                raise ValueError(f"{allowed}{suggest(t, list(map(str, choices)))}")
             return t
 
-        return self.value(raw, key, where, parse, expected="a text", default=default)
+        return self.value(raw, key, where, parse, expected=allowed or "a text", default=default)
 
-    def integer(self, raw, key, where, default=MISSING, minimum=1):
+    def integer(self, raw, key, where, default=MISSING, minimum=1, maximum=1_000_000):
         def parse(t):
-            if isinstance(t, bool) or not isinstance(t, int) or t < minimum:
-                raise ValueError(f"a whole number of at least {minimum}")
+            if isinstance(t, bool) or not isinstance(t, int) or not minimum <= t <= maximum:
+                raise ValueError(f"a whole number from {minimum} to {maximum:,}")
             return t
 
         return self.value(raw, key, where, parse, default=default)
+
+    def share(self, raw, key, where, default=MISSING, low=0.0, high=1.0, low_open=False):
+        """A ratio between ``low`` and ``high`` (a number or text such as "75 %")."""
+        v = self.value(raw, key, where, parse_dimensionless, default=default)
+        inside = isinstance(v, float) and ((low < v) if low_open else (low <= v)) and v <= high
+        if isinstance(v, float) and not inside:
+            lo = f"above {low * 100:g} %" if low_open else f"from {low * 100:g} %"
+            self.problem(f"{where}.{key}", raw.get(key, v), f"a share {lo} to {high * 100:g} %")
+            return None
+        return v
 
     def assume(self, text: str) -> None:
         self.assumptions.append(text)

@@ -296,6 +296,19 @@ class CornerSettings:
 class Limits:
     drop_pass: float  # fraction of nominal system voltage
     drop_warn: float
+    max_stages: int = 512  # largest drawing analysed ([limits] max_stages)
+    max_elements: int = 4096  # ([limits] max_elements)
+    max_duty: float = 86400.0  # longest duty or descent simulated [s] ([limits] max_duty)
+
+
+@dataclass(frozen=True)
+class DrawingInfo:
+    """Who and what a drawing is for, as its ``[drawing]`` table says (all optional free text)."""
+
+    revision: str = ""
+    author: str = ""
+    vehicle: str = ""  # fleet number or VIN
+    note: str = ""
 
 
 @dataclass(frozen=True)
@@ -314,6 +327,7 @@ class Drawing:
     retarder: Retarder = Retarder()
     ac_comparison: ACComparison | None = None
     assumptions: tuple[str, ...] = field(default_factory=tuple)
+    info: DrawingInfo = DrawingInfo()
 
     def of_kind(self, cls: type) -> list:
         return [e for e in self.elements if isinstance(e, cls)]

@@ -145,6 +145,8 @@ def test_brief_is_the_first_part_only():
     brief, _ = _report(FLAWED, plots=False, brief=True)
     assert "<b>Result: FAIL</b>" in brief and 'class="actions"' in brief
     assert "Verdicts" not in brief and "Parts list" not in brief and len(brief) < len(full) / 2
+    for c in doc["cautions"]:  # the cautions stay, even in the brief report
+        assert html.e(c["text"]) in brief
 
 
 def test_suggestion_slot():
@@ -252,3 +254,23 @@ def test_outside_request_would_be_seen(tmp_path):
     bad.write_text('<!doctype html><p>x</p><img src="http://192.0.2.1/x.png">', encoding="utf-8")
     _pdf(bad, tmp_path / "bad.pdf", tmp_path / "bad.json")
     assert "http://192.0.2.1/x.png" in _page_requests(tmp_path / "bad.json")
+
+
+def test_drawing_metadata_on_the_first_page(tmp_path):
+    from coilstage.errors import DrawingError
+
+    t = TRUCK.read_text(encoding="utf-8").replace(
+        "format = 1", 'format = 1\nrevision = "C"\nauthor = "A. Fitter"\nvehicle = "fleet no. 7 (invented)"', 1
+    )
+    p = tmp_path / "meta.toml"
+    p.write_text(t, encoding="utf-8")
+    try:
+        load_drawing(p)
+    except DrawingError as exc:
+        if any("revision" in pr.where for pr in exc.problems):
+            pytest.skip("the loader does not read [drawing] revision/author/vehicle yet")
+        raise
+    text, _ = _report(p, plots=False)
+    cover = text[: text.index('<section class="actions">')]
+    for want in ("<td>C</td>", "<td>A. Fitter</td>", "<td>fleet no. 7 (invented)</td>"):
+        assert want in cover

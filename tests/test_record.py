@@ -121,6 +121,18 @@ def test_drawing_metadata_read_from_the_drawing():
     }
 
 
+def test_drawing_metadata_from_the_info_block():
+    info = SimpleNamespace(revision="D", author="B. Inspector", vehicle="VIN-INVENTED-0001", note="after repair")
+    stub = SimpleNamespace(title="T", note="", info=info)
+    m = record.drawing_metadata(stub)
+    assert (m["revision"], m["author"], m["vehicle"], m["note"]) == (
+        "D",
+        "B. Inspector",
+        "VIN-INVENTED-0001",
+        "after repair",
+    )
+
+
 def test_lines_name_every_table():
     d = load_drawing(TRUCK)
     rec = record.build(d, revision={"commit": "0" * 40, "modified": True})

@@ -333,6 +333,16 @@ def _actions(doc: dict) -> str:
     return "".join(out)
 
 
+def _caution_strip(doc: dict, brief: bool) -> str:
+    names = ", ".join(c["hazard"] for c in doc["cautions"] if c["hazard"] != "scope")
+    where = "below" if brief else "in the last section of this report"
+    return (
+        f'<div class="caution keep"><b>⚠ before working on this installation</b><br>Mind the {e(names)}: the '
+        f"cautions {where} give this drawing's own figures. Follow the vehicle maker's instructions, local codes "
+        "and licensed practice; this report does not replace them.</div>"
+    )
+
+
 def _signoff() -> str:
     return (
         '<div class="signoff keep"><b>Sign-off</b>'
@@ -485,7 +495,8 @@ def _heating(doc: dict, h: str) -> str:
     duty = ht["duty"]
     if duty:
         out.append(
-            f"<p>Duty <b>{e(duty['name'])}</b>, {duration(duty['duration']['value'])} in {duty['steps']} steps: "
+            f"<p>Duty <b>{e(duty['name'])}</b>, {duration(duty['duration']['value'])} in {duty['steps']} "
+            f"step{'s' * (duty['steps'] != 1)}: "
             f"{e(duty['description'])}</p>"
         )
     else:
@@ -497,7 +508,7 @@ def _heating(doc: dict, h: str) -> str:
             qv(s["peak_temperature"], 0),
             qv(s["end_temperature"], 0),
             qv(s["limit"], 0),
-            (f"{s['limit']['value'] - s['peak_temperature']['value']:+.0f} K" if s["peak_temperature"] else "—"),
+            (f"{s['limit']['value'] - s['peak_temperature']['value']:+.1f} K" if s["peak_temperature"] else "—"),
             qv(s["time_to_limit"]) if s["time_to_limit"] else ("never" if s["modelled"] else "—"),
             qv(s["end_current"], 1),
             turns(s["end_ampere_turns"]),
@@ -520,7 +531,7 @@ def _heating(doc: dict, h: str) -> str:
             qv(c["peak_temperature"], 0),
             qv(c["class_temperature"], 0),
             (
-                f"{c['class_temperature']['value'] - c['peak_temperature']['value']:+.0f} K"
+                f"{c['class_temperature']['value'] - c['peak_temperature']['value']:+.1f} K"
                 if c["peak_temperature"]
                 else "—"
             ),
@@ -778,11 +789,21 @@ def render(
     short = digest[:12] + "…" if digest else "(no file)"
     footer = f"coilstage {record['tool']['version']} · drawing SHA-256 {digest or '(no file)'}"
     title = record["drawing"].get("title") or doc["drawing"]["title"]
-    body = [f'<section class="cover">{_titleblock(doc, record)}{_meta(doc, record)}</section>', _actions(doc)]
+    body = [
+        f'<section class="cover">{_titleblock(doc, record)}{_meta(doc, record)}{_caution_strip(doc, brief)}</section>',
+        _actions(doc),
+    ]
     if brief:
         body.append(
             '<p class="brief-note">Brief report: the result and the action list only. The full report adds the '
             "record block, the sign-off and the evidence.</p>"
+        )
+        body.append(
+            "<section><h3>Cautions</h3>"
+            + "".join(
+                f'<div class="caution"><b>⚠ {e(c["hazard"])}</b><br>{e(c["text"])}</div>' for c in doc["cautions"]
+            )
+            + "</section>"
         )
         return page(f"{title} — coilstage (brief)", "\n".join(body), footer)
     body.append(f"<section>{_record(record)}{_signoff()}</section>")

@@ -142,8 +142,8 @@ def drawing_metadata(drawing: Any) -> dict[str, Any]:
 
     def text(name: str) -> str | None:
         v = getattr(drawing, name, None)
-        if v is None:
-            meta = getattr(drawing, "meta", None) or getattr(drawing, "metadata", None)
+        if v in (None, ""):
+            meta = getattr(drawing, "info", None) or getattr(drawing, "metadata", None)
             v = _get(meta, name) if meta is not None else None
         return str(v) if v not in (None, "") else None
 

@@ -141,7 +141,7 @@ def test_drawing_text_escaped(tmp_path):
 
 
 def test_brief_is_the_first_part_only():
-    full, _doc = _report(FLAWED, plots=False)
+    full, doc = _report(FLAWED, plots=False)
     brief, _ = _report(FLAWED, plots=False, brief=True)
     assert "<b>Result: FAIL</b>" in brief and 'class="actions"' in brief
     assert "Verdicts" not in brief and "Parts list" not in brief and len(brief) < len(full) / 2

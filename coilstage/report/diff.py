@@ -282,6 +282,10 @@ def render_html(d: dict) -> str:
             + f" · {H.status_badge(s['result'])} {s['fail']} fail, {s['warn']} warn, {s['pass']} pass, "
             f"{s['not_checked']} not checked<div class='hashfull'>SHA-256 {H.e(r['sha256'])}</div></td></tr>"
         )
+    body.append(
+        f"<tr><th>run</th><td class='mono'>{H.e(new_rec['run_at'])} · coilstage {H.e(new_rec['tool']['version'])} · "
+        f"{H.e(new_rec['command'])}</td></tr>"
+    )
     body.append("</table></section>")
     p = d["parts"]
     body.append(f"<section>{H._h2('Parts', short)}")

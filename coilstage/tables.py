@@ -6,8 +6,10 @@ carries a ``status`` saying whether it is published, from memory, common practic
 
 from __future__ import annotations
 
+import hashlib
 import itertools
 import math
+import re
 import tomllib
 from dataclasses import dataclass
 from functools import cache
@@ -36,23 +38,91 @@ def _data_files() -> list[str]:
     return sorted(p.name for p in resources.files("coilstage.data").iterdir() if p.name.endswith(".toml"))
 
 
+@dataclass(frozen=True)
+class TableUse:
+    """One table file this process read: where, the SHA-256 of its bytes (hex), its header, and
+    whether it ships with coilstage or is the user's own."""
+
+    path: str
+    sha256: str
+    title: str
+    standard: str
+    status: str
+    origin: str  # "shipped" or "user"
+
+    @property
+    def shipped(self) -> bool:
+        return self.origin == "shipped"
+
+
+_USED: dict[str, TableUse] = {}
+
+
+def used_tables() -> list[TableUse]:
+    """Every table file read in this process so far (shipped and user), in the order first read."""
+    return list(_USED.values())
+
+
+def _record(path: str, raw: bytes, data: dict[str, Any], origin: str) -> None:
+    head = data.get("table") if isinstance(data.get("table"), dict) else {}
+    _USED[path] = TableUse(
+        path,
+        hashlib.sha256(raw).hexdigest(),
+        str(head.get("title", "")),
+        str(head.get("standard", "")),
+        str(head.get("status", "")),
+        origin,
+    )
+
+
+#: Largest user table read [bytes]; the shipped ones are a few kB.
+MAX_TABLE_BYTES = 4_000_000
+_TOML_LINE = re.compile(r"\(at line (\d+), column (\d+)\)")
+
+
 @cache
 def shipped(filename: str) -> dict[str, Any]:
     """The parsed content of one shipped table file, validated."""
-    text = resources.files("coilstage.data").joinpath(filename).read_text(encoding="utf-8")
-    data = tomllib.loads(text)
+    ref = resources.files("coilstage.data").joinpath(filename)
+    raw = ref.read_bytes()
+    data = tomllib.loads(raw.decode("utf-8"))
     _validate(filename, data)
+    _record(str(ref), raw, data, "shipped")
     return data
 
 
 def read_user_table(path: Path) -> dict[str, Any]:
-    """A user's own table in the shipped format; raises DataError on anything malformed."""
+    """A user's own table in the shipped format; raises DataError listing everything malformed
+    (file, then row and column). The file is only read."""
+    src = str(path)
     try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except (OSError, tomllib.TOMLDecodeError) as exc:
-        raise DataError(str(path), [Problem(str(path), "", f"a readable TOML table ({exc})")]) from None
-    _validate(str(path), data)
+        with open(path, "rb") as f:
+            raw = f.read(MAX_TABLE_BYTES + 1)
+    except OSError as exc:
+        raise DataError(src, [Problem(src, "", f"a readable table file ({exc.strerror})")]) from None
+    if len(raw) > MAX_TABLE_BYTES:
+        raise DataError(src, [Problem(src, "", f"a table file of at most {MAX_TABLE_BYTES:,} bytes")])
+    if b"\x00" in raw:
+        raise DataError(src, [Problem(src, "binary data", "a TOML text table")])
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise DataError(src, [Problem(src, "", "a UTF-8 text file")]) from None
+    try:
+        data = tomllib.loads(text)
+    except RecursionError:
+        raise DataError(src, [Problem(src, "", "arrays nested less deeply")]) from None
+    except tomllib.TOMLDecodeError as exc:
+        m = _TOML_LINE.search(str(exc))
+        where = f"line {m.group(1)}, column {m.group(2)}" if m else src
+        raise DataError(src, [Problem(where, "", f"valid TOML ({_TOML_LINE.sub('', str(exc)).strip()})")]) from None
+    _validate(src, data)
+    _record(str(path.resolve()), raw, data, "user")
     return data
+
+
+def _finite_number(x: Any) -> bool:
+    return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
 
 
 def _validate(source: str, data: dict[str, Any]) -> None:
@@ -64,7 +134,12 @@ def _validate(source: str, data: dict[str, Any]) -> None:
         if not isinstance(head.get(key), str):
             problems.append(Problem(f"table.{key}", repr(head.get(key)), "a text"))
     rows = head.get("rows", [])
+    if not isinstance(rows, list):
+        raise DataError(source, [*problems, Problem("table.rows", repr(rows)[:60], "a list of row tables")])
     for i, row in enumerate(rows):
+        if not isinstance(row, dict):
+            problems.append(Problem(f"table.rows[{i}]", repr(row)[:60], "a table { ... } (one row)"))
+            continue
         status = row.get("status", head.get("status"))
         if not isinstance(status, str) or not any(w in status for w in _STATUS_WORDS):
             problems.append(Problem(f"table.rows[{i}].status", repr(status), "one of " + ", ".join(_STATUS_WORDS)))
@@ -151,14 +226,39 @@ def _conductor_from_data(name: str, data: dict[str, Any]) -> ConductorTable:
         scale = {"mohm/m": 1e-3, "ohm/km": 1e-3, "ohm/m": 1.0}.get(unit)
         if scale is None:
             raise DataError(name, [Problem("table.r20_unit", repr(unit), "mohm/m, ohm/km or ohm/m")])
+        problems = []
         for i, row in enumerate(head["rows"]):
-            try:
-                size = float(row["size"])
-                r20 = float(row["r20"]) * scale
-            except (KeyError, TypeError, ValueError):
-                raise DataError(name, [Problem(f"table.rows[{i}]", repr(row), "size and r20 numbers")]) from None
+            bad = False
+            for col in ("size", "r20"):
+                if col not in row:
+                    problems.append(Problem(f"table.rows[{i}].{col}", "", f"a {col} column (a number)"))
+                    bad = True
+                elif not _finite_number(row[col]):
+                    problems.append(Problem(f"table.rows[{i}].{col}", repr(row[col])[:60], "a finite number"))
+                    bad = True
+            if bad:
+                continue
+            size, r20 = float(row["size"]), float(row["r20"]) * scale
+            if head["size_system"] == "mm2" and not 0 < size <= 10_000:
+                problems.append(Problem(f"table.rows[{i}].size", repr(row["size"]), "a size from 0 to 10000 mm²"))
+                continue
+            if head["size_system"] == "awg" and (size != int(size) or not -3 <= size <= 40):
+                problems.append(
+                    Problem(f"table.rows[{i}].size", repr(row["size"]), "an AWG number from -3 (4/0) to 40")
+                )
+                continue
+            if not r20 > 0:
+                problems.append(Problem(f"table.rows[{i}].r20", repr(row["r20"]), "a resistance greater than zero"))
+                continue
+            if size in rows:
+                problems.append(Problem(f"table.rows[{i}].size", repr(row["size"]), "a size not listed before"))
+                continue
             area = awg_area(int(size)) if head["size_system"] == "awg" else size * 1e-6
             rows[size] = ConductorRow(area, r20, row.get("status", head["status"]), head["standard"])
+        if not rows and not problems:
+            problems.append(Problem("table.rows", "[]", "at least one row"))
+        if problems:
+            raise DataError(name, problems)
     return ConductorTable(name, head["title"], head["standard"], head["material"], head["size_system"], rows)
 
 
@@ -440,14 +540,32 @@ def user_bh_curve(path: Path):
     from coilstage.physics.magnetic import BHCurve
 
     data = read_user_table(path)
+    if data["table"].get("kind") != "bh_curve":
+        raise DataError(str(path), [Problem("table.kind", repr(data["table"].get("kind")), '"bh_curve"')])
     pts = data["table"].get("points")
-    try:
-        p = np.array(pts, dtype=float)
-        ok = p.ndim == 2 and p.shape[1] == 2 and p[0, 0] == 0 and p[0, 1] == 0 and np.all(np.diff(p, axis=0) > 0)
-    except (TypeError, ValueError):
-        ok = False
-    if not ok:
-        raise DataError(str(path), [Problem("table.points", repr(pts)[:60], "[[0, 0], [H, B], ...] rising in both")])
+    want = "[[0, 0], [H A/m, B T], ...] rising in both"
+    if not isinstance(pts, list):
+        raise DataError(str(path), [Problem("table.points", repr(pts)[:60], f"a list of points {want}")])
+    problems = []
+    good: list[tuple[float, float]] = []
+    for i, pt in enumerate(pts):
+        if not isinstance(pt, list) or len(pt) != 2:
+            problems.append(Problem(f"table.points[{i}]", repr(pt)[:60], "a point [H, B] of two numbers"))
+            continue
+        for j, (x, col) in enumerate(zip(pt, ("H", "B"), strict=True)):
+            if not _finite_number(x):
+                problems.append(Problem(f"table.points[{i}][{j}]", repr(x)[:60], f"a finite number ({col})"))
+        if all(_finite_number(x) for x in pt):
+            if good and not (pt[0] > good[-1][0] and pt[1] > good[-1][1]):
+                problems.append(Problem(f"table.points[{i}]", repr(pt), "a point above the one before in both H and B"))
+            good.append((float(pt[0]), float(pt[1])))
+    if len(pts) < 2:
+        problems.append(Problem("table.points", repr(pts)[:60], "at least two points (a curve)"))
+    elif good and good[0] != (0.0, 0.0):
+        problems.append(Problem("table.points[0]", repr(pts[0]), "[0, 0] (the curve starts at the origin)"))
+    if problems:
+        raise DataError(str(path), problems)
+    p = np.array(good, dtype=float)
     return BHCurve(path.stem, p[:, 0], p[:, 1])
 
 

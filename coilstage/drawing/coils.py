@@ -11,7 +11,6 @@ from coilstage.errors import DataError
 from coilstage.physics.conductor import awg_area
 from coilstage.units import (
     parse_cable_size,
-    parse_dimensionless,
     parse_resistance_at,
 )
 
@@ -98,6 +97,17 @@ def read_coils(r: Reader, raw: dict, env: Environment | None) -> dict[str, CoilT
                 if not r_ref > 0:
                     r.problem(f"{where}.resistance", body["resistance"], "a resistance greater than zero")
                     r_ref = None
+                elif metal is not None:
+                    # R(T) = R20 (1 + alpha20 (T - 20)) is zero at T0 = 20 - 1/alpha20 (IEC 60028 form):
+                    # a reference at or below T0 would make every R(T) divide by zero or turn negative.
+                    t_zero = 20.0 - 1.0 / float(tables.material(metal)["alpha20"])
+                    if t_ref <= t_zero + 1.0:
+                        r.problem(
+                            f"{where}.resistance",
+                            body["resistance"],
+                            f"a reference temperature above {t_zero:.1f} degC ({metal}'s resistance would be zero)",
+                        )
+                        r_ref = None
                 rsource = "resistance given in the drawing"
         elif metal is not None:
             mtl = r.quantity(body, "mean_turn_length", where, "length", positive=True)
@@ -155,7 +165,7 @@ def _coil_thermal(r: Reader, body: dict, where: str, metal: str | None, env: Env
     cap = r.quantity(body, "heat_capacity", where, "heat_capacity", default=None, positive=True)
     mc = r.quantity(body, "conductor_mass", where, "mass", default=None, positive=True)
     mi = r.quantity(body, "iron_mass", where, "mass", default=0.0, nonnegative=True)
-    share = r.value(body, "iron_share", where, parse_dimensionless, default=None)
+    share = r.share(body, "iron_share", where, default=None)
     src = ""
     if cap is not None:
         src = "heat capacity given in the drawing"
@@ -244,7 +254,7 @@ def read_retarder(r: Reader, raw: dict):
     if (torque is None) != (cur is None) and ("rated_torque" in rt or "rated_current" in rt):
         r.problem("retarder", MISSING, "rated_torque and rated_current together")
     ws = r.quantity(rt, "critical_speed", "retarder", "angular_speed", default=None, positive=True)
-    ratio = r.value(rt, "min_braking_ratio", "retarder", parse_dimensionless, default=None)
+    ratio = r.share(rt, "min_braking_ratio", "retarder", default=None, low_open=True)
     ac = r.table(raw, "ac_comparison", "ac_comparison", required=False)
     acc = None
     if ac is not None:

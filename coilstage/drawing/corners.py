@@ -23,7 +23,7 @@ KEYS = {
     "corners.cold": {"ambient", "bus_voltage"},
     "corners.hot": {"alternator", "battery_emf"},
     "corners.limit": {"bus_voltage"},
-    "limits": {"voltage_drop_pass", "voltage_drop_warn"},
+    "limits": {"max_duty", "max_elements", "max_stages", "voltage_drop_pass", "voltage_drop_warn"},
 }
 
 
@@ -59,9 +59,12 @@ def read_limits(r: Reader, raw: dict) -> Limits | None:
     r.unknown(lim, KEYS["limits"], "limits")
     p = r.value(lim, "voltage_drop_pass", "limits", parse_dimensionless, default=default("limits.voltage_drop_pass"))
     w = r.value(lim, "voltage_drop_warn", "limits", parse_dimensionless, default=default("limits.voltage_drop_warn"))
-    if p is None or w is None:
+    ms = r.integer(lim, "max_stages", "limits", default=default("limits.max_stages"), maximum=100_000)
+    me = r.integer(lim, "max_elements", "limits", default=default("limits.max_elements"), maximum=1_000_000)
+    md = r.quantity(lim, "max_duty", "limits", "time", default=default("limits.max_duty"), positive=True)
+    if None in (p, w, ms, me, md):
         return None
     if not 0 < p <= w < 1:
         r.problem("limits.voltage_drop_pass", lim.get("voltage_drop_pass", p), "0 < pass limit <= warn limit < 100 %")
         return None
-    return Limits(p, w)
+    return Limits(p, w, ms, me, md)

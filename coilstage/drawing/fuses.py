@@ -99,8 +99,8 @@ def _gates(r: Reader, e: dict, where: str, ftype: str | None):
         tmin = r.value(g, "min", gw, lambda t: t_or_none(t, 0.0), default=0.0)
         tmax = r.value(g, "max", gw, lambda t: t_or_none(t, math.inf), default=math.inf)
         if None not in (m, tmin, tmax):
-            if m <= 1 or tmin > tmax:
-                r.problem(gw, g, "a multiple above 1 and min <= max")
+            if m <= 1 or tmin < 0 or tmin > tmax:
+                r.problem(gw, g, "a multiple above 1 and 0 <= min <= max")
             else:
                 pts.append((m, tmin, tmax))
     pts.sort()

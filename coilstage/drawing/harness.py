@@ -62,6 +62,7 @@ class Link:
     a: str
     b: str
     where: str
+    role_given: bool = False  # a cable whose drawing states its role
 
 
 def read_harness(r, raw, env, coils, default_mm2, supply, links: list[Link]) -> list[Element] | None:
@@ -89,7 +90,7 @@ def read_harness(r, raw, env, coils, default_mm2, supply, links: list[Link]) -> 
         if a is not None and a == b:
             r.problem(f"{where}.to", b, "a node other than its 'from' node")
         if a is not None and b is not None:
-            links.append(Link(eid or f"#{i}", kind, a, b, where))
+            links.append(Link(eid or f"#{i}", kind, a, b, where, "role" in e))
         if kind is None:
             continue
         r.unknown(e, ELEMENT_KEYS[kind], where)

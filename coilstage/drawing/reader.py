@@ -120,7 +120,7 @@ class Reader:
     def integer(self, raw, key, where, default=MISSING, minimum=1, maximum=1_000_000):
         def parse(t):
             if isinstance(t, bool) or not isinstance(t, int) or not minimum <= t <= maximum:
-                raise ValueError(f"a whole number from {minimum} to {maximum:,}")
+                raise ValueError(f"a whole number of at least {minimum} (and at most {maximum:,})")
             return t
 
         return self.value(raw, key, where, parse, default=default)

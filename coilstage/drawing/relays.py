@@ -66,6 +66,13 @@ def read_relay(r, e, where, env, common, system) -> Relay | None:
         else:
             cats = tuple(c)
     ib = r.value(e, "inductive_break", where, lambda t: parse_pair(t, "current", "time"), default=None)
+    if ib is not None and not (ib[0] > 0 and ib[1] > 0):
+        r.problem(
+            f"{where}.inductive_break",
+            e["inductive_break"],
+            'a current and a time constant above zero, e.g. "60 A @ 15 ms"',
+        )
+        ib = None
     coil = _relay_coil(r, e, where)
     if None in (zone, zt, ra, res) or (r12 is None and r24 is None) or coil is False:
         return None
@@ -104,6 +111,9 @@ def _relay_coil(r: Reader, e: dict, where: str):
     if rise is None and "rise" not in c:
         rise = default("relay.coil.rise")
         r.assume(f"{cw}.rise not given: the relay coil is taken at its zone temperature (no self-heating)")
+    if rt is not None and not rt[0] > 0:
+        r.problem(f"{cw}.resistance", c["resistance"], "a resistance greater than zero")
+        return False
     if None in (v, rt, op, feed, rise):
         return False
     return RelayCoil(v, rt[0], rt[1], op, feed, rise)

@@ -92,7 +92,8 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
         if code is not None:
             row = tables.supply_codes()[code]
             if system is not None and row["system"] != round(system):
-                r.problem("supply.code", code, f"a code for a {round(system)} V system")
+                fits = sorted(k for k, v in tables.supply_codes().items() if v["system"] == round(system))
+                r.problem("supply.code", code, f"a code for a {round(system)} V system: one of {', '.join(fits)}")
             v_min, v_max = float(row["min"]), float(row["max"])
             limits_source = f"ISO 16750-2:2010 code {code}"
     lim = r.table(s, "limits", "supply.limits", required=False)

@@ -100,11 +100,11 @@ def read_duty(r: Reader, raw: dict, stage_ids: list[str], switching: Switching |
     """The duty profile: the drawing's own steps, or a shipped profile (default: endurance)."""
     du = r.table(raw, "duty", "duty", required=False) or {}
     r.unknown(du, KEYS["duty"], "duty")
-    soc = r.value(du, "state_of_charge", "duty", parse_dimensionless, default=None)
+    soc = r.share(du, "state_of_charge", "duty", default=None)
     if soc is None and "state_of_charge" not in du:
         soc = default("duty.state_of_charge")
         r.assume("duty.state_of_charge not given: the battery starts the duty fully charged")
-    min_soc = r.value(du, "min_state_of_charge", "duty", parse_dimensionless, default=None)
+    min_soc = r.share(du, "min_state_of_charge", "duty", default=None)
     if min_soc is None and "min_state_of_charge" not in du:
         min_soc = default("duty.min_state_of_charge")
         r.assume(

@@ -279,16 +279,17 @@ def _by_key(verdicts) -> dict:
 def _screen_verdicts(d, switching: bool = True, rules: tuple[str, ...] = ()) -> list:
     """The rules (ids starting with one of ``rules``; all when empty) on an analysis without the
     duty simulation; falls back to the full check where the analysis cannot be asked for less."""
+    from coilstage.checks import RULES
+
     try:
         from coilstage.analysis.corners import analyse
-        from coilstage.checks import RULES
 
         a = analyse(d, switching=switching, heating=False)
-        return [v for rule in RULES if not rules or rule.id.startswith(rules) for v in rule.evaluate(a)]
-    except (ImportError, TypeError):
+    except (ImportError, TypeError):  # the analysis no longer offers the lighter call: the full check
         import coilstage
 
         return coilstage.check(d)[1]
+    return [v for rule in RULES if not rules or rule.id.startswith(rules) for v in rule.evaluate(a)]
 
 
 # ---------------------------------------------------------------- the parts and their verdicts
@@ -782,6 +783,8 @@ def _suggest_series(bench: Bench, part: Part, base: dict) -> Suggestion | None:
         )
     if bd.index is None:
         text = f"no {part.key} of the series passes" + _blocked_text(bd.blocked)
+        if letter is not None:
+            text = f"use ISO 6722 class {letter} insulation; then {text}"
         return Suggestion(
             part.id,
             part.kind,
@@ -797,6 +800,7 @@ def _suggest_series(bench: Bench, part: Part, base: dict) -> Suggestion | None:
             text,
             needs=tuple(needs),
             missing=missing,
+            edits=extra,
         )
     j = bd.index
     label = part.labels[j]
@@ -1402,6 +1406,100 @@ def _value_index(part: Part, value_text: str | None) -> float:
     return float(part.series.index(value_text))
 
 
+def _joint_series(bench: Bench, parts: list[Part], edits: dict, auto: set, vs: dict) -> dict:
+    """Bisection of many parts at once along their series (cables, relay contacts): one candidate
+    drawing per step carries every part at its own trial value, and each part reads its own
+    verdicts. A part that has found its smallest passing value holds it while the others go on.
+    Sound where parts couple weakly and in one direction — a larger conductor elsewhere raises the
+    current here only by the drop it removes — and checked afterwards: the fixed-point loop
+    re-judges every part on the design that results. Returns the new edits."""
+    if not parts:
+        return {}
+    top = dict(edits)
+    for p in parts:
+        top[(p.index, p.key)] = p.series[-1]
+    vs_top = bench.screen(top, switching=False) or {}
+    d = bench.drawing(edits)
+    private = {p.id: set(fed_stages(d, p.id)) for p in parts if p.kind == "cable"}
+    private = {k: v for k, v in private.items() if len(v) == 1}
+
+    def own(p: Part, inv: dict) -> dict:
+        """The verdicts only this part moves: its own subject, and the voltage drop of a stage it
+        alone feeds (a shared feed's drop is left to the per-part search)."""
+        return {
+            k: v
+            for k, v in inv.items()
+            if p.id in _tokens(k[1]) or (k[0] == "circuit.voltage_drop" and {k[1]} == private.get(p.id))
+        }
+
+    lo: dict[str, int] = {}
+    hi: dict[str, int] = {}
+    targets: dict[str, dict] = {}
+    for p in parts:
+        inv_today = involved(p, vs)
+        t = {
+            k: max(_rank(v), _rank(inv_today[k]) if k in inv_today else 0)
+            for k, v in own(p, involved(p, vs_top)).items()
+        }
+        targets[p.id] = t
+        start = -1 if (p.index, p.key) in auto else math.floor(p.today_pos)
+        lo[p.id], hi[p.id] = start, len(p.series) - 1
+        if start >= 0 and p.today_pos == start and not _bad(own(p, inv_today), t):
+            hi[p.id] = start  # today's part already does what the largest does: keep it
+    active = [p for p in parts if hi[p.id] - lo[p.id] > 1]
+    while active:
+        cand = dict(edits)
+        mids = {}
+        for p in parts:
+            j = (lo[p.id] + hi[p.id]) // 2 if p in active else hi[p.id]
+            mids[p.id] = j
+            cand[(p.index, p.key)] = p.series[j]
+        got = bench.screen(cand, switching=False)
+        for p in active:
+            ok = got is not None and not _bad(own(p, involved(p, got)), targets[p.id])
+            if ok:
+                hi[p.id] = mids[p.id]
+            else:
+                lo[p.id] = mids[p.id]
+        active = [p for p in active if hi[p.id] - lo[p.id] > 1]
+    out = {}
+    for p in parts:
+        j = hi[p.id]
+        if (p.index, p.key) in auto or j > p.today_pos:
+            out[(p.index, p.key)] = p.series[j]
+    return out
+
+
+def _joint_suppressors(bench: Bench, parts: list[Part], edits: dict) -> dict:
+    """Suppressors for many stages at once: the kind and clamp from one candidate, the ratings from
+    the break it sees (each stage's own verdicts); the per-stage path handles a release limit."""
+    d = bench.drawing(edits)
+    if d is None or not parts or d.switching.release_limit is not None:
+        return {}
+    big = {"kind": "diode", "peak_current": "100 kA", "reverse_voltage": "100 kV", "energy_rating": "1 MJ"}
+    cand = dict(edits)
+    for p in parts:
+        cand[(p.index, p.key)] = format_value(big)
+    vs = bench.screen(cand) or {}
+    series = {
+        "peak_current": (_series("suppressor_peak_current"), "A", "peak current"),
+        "reverse_voltage": (_series("suppressor_reverse_voltage"), "V", "reverse voltage"),
+        "energy_rating": (_series("suppressor_energy"), "J", "energy"),
+    }
+    out = {}
+    for p in parts:
+        spec: dict[str, str] = {"kind": "diode"}
+        for name, (ser, unit, word) in series.items():
+            v = vs.get(("suppressor.rating", f"{p.id} {word}"))
+            if v is None or v.value is None:
+                continue
+            x = v.limit if name == "reverse_voltage" else v.value
+            pick = next((y for y in ser if y >= x), None)
+            spec[name] = _qty(pick if pick is not None else math.ceil(x), unit)
+        out[(p.index, p.key)] = format_value(spec)
+    return out
+
+
 def size_drawing(
     text: str, source: str = "<drawing>", base_dir: Path | None = None, max_rounds: int = 12
 ) -> SizeResult:
@@ -1432,15 +1530,93 @@ def size_drawing(
     if bench.full(edits) is None:
         raise SizingError("the drawing's analysis cannot be completed; run `coilstage check` for the reason")
     rounds = 0
+    done_insulation: set = set()
     for rounds in range(1, max_rounds + 1):
         r = bench.full(edits)
         vs = r[1]
         d = bench.drawing(edits)
         changed = False
         parts = sorted(parts_of(d, None, bench.render(edits)), key=lambda p: _KIND_ORDER[p.kind])
+        auto_keys = set(prepared.auto) if rounds == 1 else set()
+
+        def needs(p: Part, verdicts: dict) -> list:
+            return [v for v in involved(p, verdicts).values() if _rank(v) < 2]
+
+        # 1. every cable and relay contact that fails or warns, bisected together; then the
+        #    suppressors together; the per-part path below takes what is left (insulation classes,
+        #    fuse windows, release limits)
+        joint: set[str] = set()
+        grouped: set[str] = set()
+        # 0. a cable whose insulation class fails in its zone takes the lowest class that passes first,
+        #    so that its size is chosen for the class it will have
+        for p in parts:
+            if p.kind != "cable" or p.id in prepared.fixed:
+                continue
+            tc = involved(p, vs).get(("cable.temperature_class", p.id))
+            if tc is None or _rank(tc) >= 2:
+                continue
+            _, letter = _insulation(bench, p, edits)
+            if letter is None:
+                continue
+            k = (p.index, "insulation")
+            v = format_value(letter)
+            rec = changes.setdefault(k, [p.id, edits.get(k, _original(bench, k)), v, set()])
+            rec[2] = v
+            rec[3].add(f"cable.temperature_class {p.id} ({_status(tc)})")
+            edits[k] = v
+            changed = True
+        if changed:
+            vs = {**vs, **(bench.screen(edits) or {})}
+        for kinds in (("cable", "relay"), ("suppressor",)):
+            group = [
+                p
+                for p in parts
+                if p.kind in kinds
+                and p.id not in prepared.fixed
+                and (needs(p, vs) or (p.index, p.key) in auto_keys)
+                and not (p.kind == "suppressor" and p.today != "none")
+            ]
+            if not group:
+                continue
+            grouped.update(p.id for p in group)
+            before = bench.screen(edits) or vs
+            new = (
+                _joint_series(bench, group, edits, auto_keys, {**vs, **before})
+                if kinds[0] == "cable"
+                else _joint_suppressors(bench, group, edits)
+            )
+            new = {k: v for k, v in new.items() if edits.get(k, _original(bench, k)) != v}
+            for k, v in new.items():
+                part = next(p for p in group if (p.index, p.key) == k)
+                why = sorted({f"{x.rule} {x.subject} ({_status(x)})" for x in needs(part, vs)}) or ["auto"]
+                rec = changes.setdefault(
+                    k, [prepared.ids.get(k[0], part.id), edits.get(k, _original(bench, k)), v, set()]
+                )
+                rec[2] = v
+                rec[3].update(why)
+                joint.add(part.id)
+            if new:
+                edits.update(new)
+                changed = True
         for part in parts:
             if part.id in prepared.fixed:
                 continue
+            if part.id in grouped:
+                # bisected with its group on its own verdicts; a cable goes on here where its
+                # insulation class fails, or a voltage drop it shares still fails or warns (the
+                # first such cable of the round only: the drop moves with every change)
+                if part.kind != "cable":
+                    continue
+                inv_now = involved(part, bench.screen(edits, switching=False) or {})
+                tc = inv_now.get(("cable.temperature_class", part.id))
+                insul = tc is not None and _rank(tc) < 2 and (part.id, "insulation") not in done_insulation
+                shared = [k for k, v in inv_now.items() if k[0] == "circuit.voltage_drop" and _rank(v) < 2] and (
+                    part.id,
+                    edits.get((part.index, part.key)),
+                ) not in done_insulation
+                if not (insul or shared):
+                    continue
+                done_insulation.add((part.id, "insulation") if insul else (part.id, edits.get((part.index, part.key))))
             if changed:  # judged on the design as it now stands; the duty rules from the round's start
                 now = bench.screen(edits) or {}
                 vs_part = {**{k: v for k, v in vs.items() if k[0] in _HEATING_RULES}, **now}

@@ -184,7 +184,6 @@ def _screen(text: str, noun: str, example: str) -> None:
         raise QuantityError(f"{shape} (no arithmetic: only units may carry a power, such as mm^2)")
 
 
-
 def _fast(text: Any, use_fast: bool = True) -> tuple[float, str] | None:
     """(number, unit) of a plain "number unit" text, or None (also when ``use_fast`` is False)."""
     if not use_fast or not isinstance(text, str):
@@ -207,8 +206,11 @@ def registry() -> Any:
         return pint.UnitRegistry(str(p), autoconvert_offset_to_baseunit=True)
 
 
+_LEADING_ZEROS = re.compile(r"^([+-]?)0+(?=[0-9])")
+
+
 def _normalise(text: str) -> str:
-    out = text.strip()
+    out = _LEADING_ZEROS.sub(r"\1", text.strip())  # "01 V": pint's tokenizer would read 0, not 1
     for old, new in _TRADE_SPELLINGS:
         out = out.replace(old, new)
     return out

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 import math
 
 from coilstage import tables
@@ -104,4 +105,13 @@ def _gates(r: Reader, e: dict, where: str, ftype: str | None):
             else:
                 pts.append((m, tmin, tmax))
     pts.sort()
+    for (m0, lo0, hi0), (m1, lo1, hi1) in itertools.pairwise(pts):
+        if m1 == m0 or lo1 > lo0 or hi1 > hi0:
+            r.problem(
+                f"{where}.gates",
+                f"{m1:g} x rating",
+                "one point per multiple, and times that do not rise as the multiple rises (a fuse opens faster "
+                "at a higher current)",
+            )
+            return None, ""
     return tuple(pts), "time-current gates given in the drawing"

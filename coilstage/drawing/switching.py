@@ -141,7 +141,7 @@ def read_duty(r: Reader, raw: dict, stage_ids: list[str], switching: Switching |
         name = du.get("profile", default("duty.profile"))
         if "profile" not in du:
             r.assume("duty.profile not given: the shipped endurance descent (about 12 min of full retardation)")
-        if name not in profiles:
+        if not isinstance(name, str) or name not in profiles:
             r.problem("duty.profile", name, f"one of the shipped profiles {', '.join(profiles)} (or [[duty.steps]])")
             return None
         row = profiles[name]

@@ -1123,6 +1123,12 @@ def _all_keys(bench: Bench, part: Part, base: dict) -> set:
     return set(involved(part, bench.screen(base) or {}))
 
 
+def _fuse_types() -> dict:
+    from coilstage import tables
+
+    return tables.fuse_types()
+
+
 def _fuse_type(d, fid: str) -> str:
     return next(e.fuse_type for e in d.elements if e.id == fid)
 
@@ -1278,13 +1284,90 @@ def _suggestions(bench: Bench, prepared: Prepared, only_failing: bool = True, ba
     r = bench.full(base)
     vs = r[1]
     out = []
-    for part in parts_of(d, prepared):
+    parts = parts_of(d, prepared)
+    bare = [
+        p
+        for p in parts
+        if p.kind == "suppressor" and p.today == "none" and any(_rank(v) < 1.5 for v in involved(p, vs).values())
+    ]
+    joint = _suppressor_suggestions(bench, bare, base, vs) if d.switching.release_limit is None else {}
+    for part in parts:
         inv = involved(part, vs)
         if only_failing and all(_rank(v) >= 2 for v in inv.values()):
             continue
-        s = suggest_part(bench, part, base)
+        s = joint.get(part.id) or suggest_part(bench, part, base)
         if s is not None:
             out.append(s)
+    return out
+
+
+def _suppressor_suggestions(bench: Bench, parts: list[Part], base: dict, vs: dict) -> dict[str, Suggestion]:
+    """Freewheel diodes for every bare stage at once (no release limit: the lightest suppressor), each
+    rating the smallest of its series above what the stage's own break asks, then checked: with the
+    ratings every stage passes; with no suppressor, or with any one rating a step lower, it fails.
+    A stage's suppressor moves only its own switch-off (and the break of the relay that switches it)."""
+    if not parts:
+        return {}
+    specs = _joint_suppressors(bench, parts, base)
+    if len(specs) != len(parts):
+        return {}
+    final = _with(base, *specs.items())
+    got = bench.screen(final, rules=parts[0].rules) or {}
+    lower: dict[str, dict] = {}
+    names = {
+        "peak_current": "suppressor_peak_current",
+        "reverse_voltage": "suppressor_reverse_voltage",
+        "energy_rating": "suppressor_energy",
+    }
+    for name, series_name in names.items():
+        c = dict(final)
+        for p in parts:
+            spec = tomllib.loads(f"x = {specs[(p.index, p.key)]}")["x"]
+            if name not in spec:
+                continue
+            ser = _series(series_name)
+            x = float(spec[name].split()[0])
+            k = next((n for n, y in enumerate(ser) if y >= x), None)
+            if k:
+                c[(p.index, p.key)] = format_value({**spec, name: _qty(ser[k - 1], spec[name].split()[1])})
+        lower[name] = bench.screen(c, rules=parts[0].rules) or {}
+    out = {}
+    for p in parts:
+        inv = involved(p, got)
+        bad = [v for v in inv.values() if _rank(v) < 1.5]
+        smaller_fails = tuple(Finding.of(v) for v in involved(p, vs).values() if _rank(v) < 1.5)
+        for name in names:
+            smaller_fails += tuple(
+                Finding.of(v)
+                for k, v in involved(p, lower[name]).items()
+                if k[1].startswith(p.id) and _rank(v) < 1.5 and k[0] == "suppressor.rating"
+            )
+        spec = tomllib.loads(f"x = {specs[(p.index, p.key)]}")["x"]
+        rating_text = ", ".join(f"{k.replace('_', ' ')} ≥ {v}" for k, v in spec.items() if k != "kind")
+        missing = tuple(
+            f"give the voltage rating of {k[1]} (the contact sees the bus plus the clamp)"
+            for k, v in inv.items()
+            if k[0] == "relay.inductive_break" and _status(v) == "not checked"
+        )
+        text = f"fit a freewheel diode across {p.id} ({rating_text})"
+        if bad:
+            text += "; with these ratings it still fails: " + ", ".join(Finding.of(v).text() for v in bad)
+        out[p.id] = Suggestion(
+            p.id,
+            "suppressor",
+            p.key,
+            p.today,
+            f"freewheel diode ({rating_text})",
+            specs[(p.index, p.key)],
+            "no suppressor",
+            smaller_fails,
+            tuple(involved(p, vs)),
+            (),
+            not bad,
+            text,
+            missing=missing,
+            edits=(((p.index, p.key), specs[(p.index, p.key)]),),
+        )
     return out
 
 
@@ -1470,6 +1553,71 @@ def _joint_series(bench: Bench, parts: list[Part], edits: dict, auto: set, vs: d
     return out
 
 
+def _joint_fuses(bench: Bench, parts: list[Part], edits: dict, auto: set) -> tuple[dict, list[Part]]:
+    """The fuse windows of many fuses at once: every fuse at the bottom, then the top, of its own
+    series tells its floor rules from its ceiling rules; a joint bisection finds each floor; one
+    candidate with every fuse at its floor checks the ceilings. A fuse's rating moves its own
+    verdicts only (its resistance is the same at every rating), so the fuses do not couple. Returns
+    the new edits and the fuses whose window is empty (left to the per-fuse search of a type or a
+    cable change)."""
+    if not parts:
+        return {}, []
+
+    def at(idx: dict[str, int]) -> dict | None:
+        c = dict(edits)
+        for p in parts:
+            c[(p.index, p.key)] = p.series[idx[p.id]]
+        return bench.screen(c, switching=False, rules=("fuse.",))
+
+    bot = at({p.id: 0 for p in parts}) or {}
+    top = at({p.id: len(p.series) - 1 for p in parts}) or {}
+    floor_rules: dict[str, set] = {}
+    ceil_rules: dict[str, set] = {}
+    for p in parts:
+        ib, it = involved(p, bot), involved(p, top)
+        fl, ce = set(), set()
+        for k in set(ib) | set(it):
+            vb, vt = ib.get(k), it.get(k)
+            v = vt or vb
+            if k[0] in _TYPE_RULES or (_status(v) == "not checked" and "given" in v.note):
+                continue
+            if vt is not None and _rank(vt) >= 2:
+                fl.add(k)
+            elif vb is not None and _rank(vb) >= 2:
+                ce.add(k)
+            else:
+                (fl if (vt and vb and (vt.margin or 0) >= (vb.margin or 0)) else ce).add(k)
+        floor_rules[p.id], ceil_rules[p.id] = fl, ce
+    lo = {p.id: -1 for p in parts}
+    hi = {p.id: len(p.series) - 1 for p in parts}
+    active = [p for p in parts if hi[p.id] - lo[p.id] > 1]
+    while active:
+        mids = {p.id: (lo[p.id] + hi[p.id]) // 2 if p in active else hi[p.id] for p in parts}
+        got = at(mids) or {}
+        for p in active:
+            inv = involved(p, got)
+            ok = all(_rank(inv[k]) >= 2 for k in floor_rules[p.id] if k in inv)
+            lo[p.id], hi[p.id] = (lo[p.id], mids[p.id]) if ok else (mids[p.id], hi[p.id])
+        active = [p for p in active if hi[p.id] - lo[p.id] > 1]
+    at_floor = at(hi) or {}
+    today = bench.screen(edits, switching=False, rules=("fuse.",)) or {}
+    out, left = {}, []
+    for p in parts:
+        inv = involved(p, at_floor)
+        type_ok = all(_rank(inv[k]) >= 1.5 for k in inv if k[0] in _TYPE_RULES)
+        window = all(_rank(inv[k]) >= 2 for k in floor_rules[p.id] | ceil_rules[p.id] if k in inv)
+        if window and type_ok:
+            inv_t = involved(p, today)
+            keep = (p.index, p.key) not in auto and all(
+                _rank(inv_t[k]) >= 2 for k in floor_rules[p.id] | ceil_rules[p.id] if k in inv_t
+            )
+            if not keep:
+                out[(p.index, p.key)] = p.series[hi[p.id]]
+        else:
+            left.append(p)
+    return out, left
+
+
 def _joint_suppressors(bench: Bench, parts: list[Part], edits: dict) -> dict:
     """Suppressors for many stages at once: the kind and clamp from one candidate, the ratings from
     the break it sees (each stage's own verdicts); the per-stage path handles a release limit."""
@@ -1598,6 +1746,32 @@ def size_drawing(
             if new:
                 edits.update(new)
                 changed = True
+        fuses = [
+            p
+            for p in parts
+            if p.kind == "fuse" and p.id not in prepared.fixed and (needs(p, vs) or (p.index, p.key) in auto_keys)
+        ]
+        new, left = _joint_fuses(bench, fuses, edits, auto_keys)
+        new = {k: v for k, v in new.items() if edits.get(k, _original(bench, k)) != v}
+        grouped.update(p.id for p in fuses if p not in left)
+        for k, v in new.items():
+            part = next(p for p in fuses if (p.index, p.key) == k)
+            why = sorted({f"{x.rule} {x.subject} ({_status(x)})" for x in needs(part, vs)}) or ["auto"]
+            rec = changes.setdefault(k, [part.id, edits.get(k, _original(bench, k)), v, set()])
+            rec[2] = v
+            rec[3].update(why)
+        if new:
+            edits.update(new)
+            changed = True
+        # a fuse with no window of its own type: the per-fuse search, only where a shipped type has
+        # the breaking capacity and voltage it needs, or a cable change could open one
+        for p in left:
+            inv = involved(p, bench.screen(edits, switching=False, rules=("fuse.",)) or {})
+            need_bc = max(
+                (v.value for k, v in inv.items() if k[0] == "fuse.breaking_capacity" and _rank(v) < 1.5), default=0.0
+            )
+            if need_bc and not any(r["breaking_capacity"] >= need_bc for r in _fuse_types().values()):
+                grouped.add(p.id)
         for part in parts:
             if part.id in prepared.fixed:
                 continue

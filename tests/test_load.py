@@ -141,3 +141,22 @@ def test_file_is_never_modified(tmp_path):
     with pytest.raises(DrawingError):
         load_drawing(p)
     assert p.read_text() == text and p.stat().st_mtime_ns == before
+
+
+def test_every_default_the_loader_applies_is_a_sourced_row():
+    """The defaults are data (coilstage/data/drawing_defaults.toml): each key the loader code asks
+    for has a row with a source and a status, and each row is used."""
+    import re
+    from pathlib import Path
+
+    from coilstage.drawing import defaults
+
+    code = "".join(p.read_text(encoding="utf-8") for p in Path(defaults.__file__).parent.glob("*.py"))
+    asked = set(re.findall(r'default\("([a-z_.]+)"\)', code)) | set(re.findall(r"rows\(\)\['([a-z_.]+)'\]", code))
+    rows = defaults.rows()
+    assert asked <= set(rows), asked - set(rows)
+    unused = set(rows) - asked
+    assert not unused, unused
+    for key, row in rows.items():
+        assert row["source"] and row["status"] in ("published", "common practice", "from memory"), key
+        defaults.default(key)  # parses

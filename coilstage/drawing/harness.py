@@ -120,7 +120,7 @@ def read_harness(r, raw, env, coils, default_mm2, supply, links: list[Link]) -> 
             coil = None
             if cname is not None and coils is not None:
                 coil = coils.get(cname)
-                if coil is None and cname not in (raw.get("coils") or {}):
+                if coil is None and not (isinstance(raw.get("coils"), dict) and cname in raw["coils"]):
                     r.problem(
                         f"{where}.coil",
                         cname,

@@ -165,7 +165,7 @@ def _sizes(r: Reader, raw: dict, limits: Limits, links: list[Link], duty: Duty |
             f"{stages} stages",
             f"at most {limits.max_stages} stages (raise the limit with [limits] max_stages = {stages})",
         )
-    elements = len(raw.get("harness") or [])
+    elements = len(raw["harness"]) if isinstance(raw.get("harness"), list) else 0
     if elements > limits.max_elements:
         r.problem(
             "harness",

@@ -10,6 +10,12 @@ Conventions of the whole package:
 * every physical value is a float in SI base units (m, m², Ω, V, A, H, s, W, J, C);
 * temperatures are floats in **°C**, because every conductor and insulation table of the trade is
   written in °C; temperature *differences* are in K.
+
+Every text is screened before any parser reads it (:func:`_screen`: a number and a unit, at most
+:data:`MAX_TEXT` characters, digits 0-9, no arithmetic beyond a unit's power), and every number
+read passes :func:`gate` (finite, within :data:`PLAUSIBLE` for its kind). Both the fast path and
+pint go through the same two, so they accept and refuse the same texts (a property test holds them
+to it).
 """
 
 from __future__ import annotations

@@ -40,11 +40,14 @@ def check_structure(r: Reader, supply: Supply, links: list[Link], elements: list
 
     # a path through another load is neither feed nor return
     net = Graph((e.a, e.b, e.id) for e in links if e.kind != "stage")
+    # one walk from each pole (the graph is undirected: a node reaches a pole iff the pole reaches it)
+    returns = net.reachable(neg, avoid_nodes={pos})
+    feeds = net.reachable(pos, avoid_nodes={neg})
     for s in links:
         if s.kind == "stage":
-            if not net.reaches(s.b, neg, avoid_nodes={pos}):
+            if s.b not in returns:
                 r.problem(f"{s.where}.to", s.b, f'a return path from the stage to the negative node "{neg}"')
-            if not net.reaches(s.a, pos, avoid_nodes={neg}):
+            if s.a not in feeds:
                 r.problem(f"{s.where}.from", s.a, f'a feed path from the stage to the battery node "{pos}"')
 
     # A loop made only of zero-ohm parts has no defined current split.
@@ -84,16 +87,20 @@ def _zero_ohm_shorts(r: Reader, supply: Supply, elements: list[Element]) -> None
     across a stage shorts it: the network has no finite solution."""
     zero = [e for e in elements if isinstance(e, (Fuse, Relay, Resistor)) and e.resistance == 0.0]
     net = Graph((e.a, e.b, e.id) for e in zero)
+    joined = UnionFind()
+    for e in zero:
+        joined.union(e.a, e.b)
     pos, neg = supply.battery.node, supply.negative_node
-    if net.reaches(pos, neg):
-        parts = sorted(e.id for e in zero if e.a in net.reachable(pos))
+    if joined.same(pos, neg):
+        shorted = net.reachable(pos)
+        parts = sorted(e.id for e in zero if e.a in shorted)
         r.problem(
             "supply",
             ", ".join(parts[:6]),
             f'no path of zero-ohm parts from "{pos}" to "{neg}" (it shorts the battery; give resistances)',
         )
     for s in elements:
-        if isinstance(s, Stage) and net.reaches(s.a, s.b):
+        if isinstance(s, Stage) and joined.same(s.a, s.b):
             r.problem(s.where, f"{s.a} - {s.b}", "no path of zero-ohm parts across the stage (it shorts the stage)")
 
 

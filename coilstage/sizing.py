@@ -1054,7 +1054,9 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
         if needs:
             text += "; needs " + ", ".join(needs)
         # which type, and which cable change, makes a window
-        cables = _protected_cables(bench, part, base, fixed)
+        # the cables that bound the ceiling: those the failing ceiling verdicts name
+        named = set().union(*(_tokens(f.subject) | _tokens(f.note) for f in w.above)) if w.above else set()
+        cables = [c for c in _protected_cables(bench, part, base, fixed) if c.id in named][:3]
         want_bc = max((x for k, x, _ in w.type_needs if k == "breaking"), default=0.0)
         want_v = max((x for k, x, _ in w.type_needs if k == "voltage"), default=0.0)
         options: list[tuple] = []
@@ -1063,9 +1065,18 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
             if got:
                 c, j, cw = got
                 options.append((ftype, part.series, (), c, j, cw))
+        cable_tries = 0
+        # a rating passing the continuous rule is at least the current it carries: types rated below
+        # it are not tried
+        load = max(
+            (v.value for k, v in _all_verdicts(bench, part, base).items() if k[0] == "fuse.continuous" and v.value),
+            default=0.0,
+        )
         if not options:
             for t, row in tables.fuse_types().items():
                 if t == ftype or row["breaking_capacity"] < want_bc or max(row["voltages"]) < want_v:
+                    continue
+                if row.get("max_rating", 1e9) < load:
                     continue
                 ser = _fuse_series(t)
                 if not ser:
@@ -1076,7 +1087,8 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
                 if tw.ok:
                     options.append((t, sv, extra, None, None, tw))
                     break
-                if tw.floor_at is not None and cables:
+                if tw.floor_at is not None and cables and cable_tries < 1:
+                    cable_tries += 1  # one cable search per fuse: the first type whose floor the load allows
                     got = _cable_for_window(bench, part, base, sv, extra, cables)
                     if got:
                         c, j, cw = got
@@ -1117,6 +1129,10 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
         missing=tuple(w.missing),
         edits=edits,
     )
+
+
+def _all_verdicts(bench: Bench, part: Part, base: dict) -> dict:
+    return involved(part, bench.screen(base, switching=False, rules=("fuse.",)) or {})
 
 
 def _all_keys(bench: Bench, part: Part, base: dict) -> set:
@@ -1679,6 +1695,7 @@ def size_drawing(
         raise SizingError("the drawing's analysis cannot be completed; run `coilstage check` for the reason")
     rounds = 0
     done_insulation: set = set()
+    searched: set[str] = set()
     for rounds in range(1, max_rounds + 1):
         r = bench.full(edits)
         vs = r[1]
@@ -1775,6 +1792,10 @@ def size_drawing(
         for part in parts:
             if part.id in prepared.fixed:
                 continue
+            if part.kind == "fuse" and part.id in searched:
+                continue  # a fuse's search for a type or cable change runs once
+            if part.kind == "fuse":
+                searched.add(part.id)
             if part.id in grouped:
                 # bisected with its group on its own verdicts; a cable goes on here where its
                 # insulation class fails, or a voltage drop it shares still fails or warns (the

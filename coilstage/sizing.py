@@ -121,6 +121,30 @@ class Prepared:
     ids: dict[int, str] = field(default_factory=dict)  # harness index -> id
 
 
+#: How ``size`` keeps a part's ``fixed = true`` in a drawing it writes while the loader does not read
+#: the key: as this comment, which :func:`prepare` reads back.
+_FIXED_COMMENT = re.compile(r"#[ \t]*fixed[ \t]*=[ \t]*true \(kept by coilstage size\)")
+
+
+def _harness_block(text: str, i: int) -> str:
+    parts = re.split(r"^[ \t]*\[\[harness\]\][^\n]*\n", text, flags=re.MULTILINE)
+    if i + 1 >= len(parts):
+        return ""
+    return re.split(r"^[ \t]*\[", parts[i + 1], maxsplit=1, flags=re.MULTILINE)[0]
+
+
+def _loader_rejects_fixed(text: str) -> bool:
+    """Whether the loader refuses the ``fixed`` key in this text (until it reads it)."""
+    from coilstage.drawing.load import parse_drawing
+    from coilstage.errors import DrawingError
+
+    try:
+        parse_drawing(text)
+    except DrawingError as exc:
+        return any(p.where.endswith(f".{FIXED_KEY}") for p in exc.problems)
+    return False
+
+
 def prepare(text: str) -> Prepared:
     """Replace every ``"auto"`` by a starting value the loader accepts, and drop ``fixed = true``.
 
@@ -146,6 +170,8 @@ def prepare(text: str) -> Prepared:
             out.fixed.add(eid)
         if FIXED_KEY in e:
             doc.delete("harness", i, FIXED_KEY)
+        elif _FIXED_COMMENT.search(_harness_block(text, i)):
+            out.fixed.add(eid)
         kind = e.get("kind")
         for key, value in list(e.items()):
             if value != AUTO:
@@ -1896,6 +1922,12 @@ def _write(text: str, prepared: Prepared, edits: dict) -> str:
             doc.delete("harness", i, key)
         else:
             doc.set("harness", i, key, format_value(start))
+    if prepared.fixed and _loader_rejects_fixed(doc.text):
+        # keep the mark as a comment the loader skips and `size` reads back
+        for i, eid in prepared.ids.items():
+            if eid in prepared.fixed and doc.get("harness", i, FIXED_KEY) is not None:
+                doc.delete("harness", i, FIXED_KEY)
+                doc.set("harness", i, "id", doc.get("harness", i, "id") + "  # fixed = true (kept by coilstage size)")
     return doc.text
 
 

@@ -253,6 +253,10 @@ def test_fixed_part_stays_and_is_named():
     assert 'size = "4 mm^2"' in r.text.split('id = "W2"')[1].split("[[harness]]")[0]
     held = [x for x in r.remaining if x["subject"] == "W2"]
     assert held and all("fixed part W2" in x["held_by"] for x in held)
+    # the written drawing loads, and sizing it again keeps W2 fixed and changes nothing
+    parse_drawing(r.text, str(FLAWED), FLAWED.parent)
+    again = sizing.size_drawing(r.text, str(FLAWED), FLAWED.parent)
+    assert again.changes == [] and "W2" in sizing.prepare(r.text).fixed
 
 
 def test_auto_parts_are_filled():

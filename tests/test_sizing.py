@@ -327,3 +327,17 @@ def test_action_list_groups_by_part():
     assert {v.rule for v in verdicts if v.status.value == "fail"} <= listed
     mapping = sizing.suggestions_by_verdict(verdicts, sug)
     assert mapping[("cable.ampacity", "W2")]["suggested"] == "12 mm²"
+
+
+def test_cable_size_awg_hand_worked():
+    """The same branch in AWG sizes (ASTM B258 table): 6 AWG (13.3 mm²) has 125 A x 0.827 = 103 A
+    < 113 A; 5 AWG (16.8 mm²) lies between 6 AWG 125 A and 4 AWG 170 A (33 CFR 183.425 Table 5, 125 °C):
+    125 x (16.8/13.3)^(ln(170/125)/ln(21.15/13.3)) x 0.827 ≈ 121 A: 5 AWG passes, 6 AWG fails."""
+    exp = math.log(170 / 125) / math.log(21.15 / 13.3)
+    assert 125 * math.sqrt(65 / 95) < 113 < 125 * (16.77 / 13.3) ** exp * math.sqrt(65 / 95)
+    text = drawing_text(stages=1, coil_r=[0.3], branch="12 AWG").replace(
+        'breaking_capacity = "20 kA"', 'breaking_capacity = "20 kA"\nprotects = ["WM"]'
+    )
+    s = _by_part(sizing.suggestions(text))["W0"]
+    assert s.suggested == "5 AWG" and s.smaller == "6 AWG"
+    assert [f.rule for f in s.smaller_fails] == ["cable.ampacity"]

@@ -27,7 +27,7 @@ from __future__ import annotations
 import math
 import re
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cache
 from pathlib import Path
 from typing import Any
@@ -1339,7 +1339,10 @@ def _suggestions(bench: Bench, prepared: Prepared, only_failing: bool = True, ba
             continue
         s = joint.get(part.id) or suggest_part(bench, part, base)
         if s is not None:
-            out.append(s)
+            # the suggestion answers every failing or warning verdict of its part, the duty rules
+            # (judged by the full check only) included
+            extra = tuple(k for k, v in inv.items() if _rank(v) < 1.5 and k not in s.answers)
+            out.append(replace(s, answers=s.answers + extra) if extra else s)
     return out
 
 
@@ -1492,10 +1495,17 @@ def action_list(verdicts, suggestions_list) -> dict:
                 ),
             }
         )
+    seen_missing: set[str] = set()
+    unique = []
+    for m in missing:  # one line per request, however many rules ask for it
+        head = re.sub(r" \([^()]*\)$", "", m)
+        if head not in seen_missing:
+            seen_missing.add(head)
+            unique.append(m)
     return {
         "fail": [item(p, vs) for p, vs in fail.items()],
         "warn": [item(p, vs) for p, vs in warn.items()],
-        "missing": list(dict.fromkeys(missing)),
+        "missing": unique,
         "cannot_change": cannot,
     }
 

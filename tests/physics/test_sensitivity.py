@@ -1,0 +1,348 @@
+"""Adjoint and direct sensitivities of a linear nodal solve against central finite differences of
+independent numpy.linalg solves, the worked check of a series circuit, and the sensitivity-directed
+worst vertex against brute-force enumeration of every vertex."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from coilstage.physics.sensitivity import (
+    Factors,
+    adjoint_sensitivities,
+    adjoint_solution,
+    all_vertices,
+    central_difference,
+    direct_sensitivities,
+    linear_worst_case,
+    normalised_sensitivity,
+    resistance_sensitivity,
+    vertex_search,
+)
+
+# ---------------------------------------------------------------- a small MNA builder of the test's own
+
+
+def mna(n_nodes, resistors, vsources, isources):
+    """A (dense) and b of a network, stamped here independently of coilstage.physics.network:
+    node 0 is the reference; resistors (a, b, R); voltage sources (a, b, E) with V(b) - V(a) = E;
+    current sources (a, b, J) driving J into node b. Unknowns: node 1..n-1, then source currents."""
+    n = n_nodes - 1
+    m = len(vsources)
+    a = np.zeros((n + m, n + m))
+    rhs = np.zeros(n + m)
+    for i, j, r in resistors:
+        g = 1.0 / r
+        for p, q, s in ((i, i, g), (j, j, g), (i, j, -g), (j, i, -g)):
+            if p and q:
+                a[p - 1, q - 1] += s
+    for k, (i, j, e) in enumerate(vsources):
+        row = n + k
+        if i:
+            a[i - 1, row] += 1.0
+            a[row, i - 1] -= 1.0
+        if j:
+            a[j - 1, row] -= 1.0
+            a[row, j - 1] += 1.0
+        rhs[row] = e
+    for i, j, cur in isources:
+        if i:
+            rhs[i - 1] -= cur
+        if j:
+            rhs[j - 1] += cur
+    return a, rhs
+
+
+def d_a_resistor(size, i, j, r):
+    """dA/dR of a resistor's stamp: -(1/R^2) (e_i - e_j)(e_i - e_j)^T (node 0 dropped)."""
+    u = np.zeros(size)
+    if i:
+        u[i - 1] = 1.0
+    if j:
+        u[j - 1] = -1.0
+    return -np.outer(u, u) / r**2
+
+
+def ladder():
+    """A 24 V supply network of 7 nodes: battery E behind Rb, an alternator as a current source, a
+    feed, two branches of cable + coil each. Parameters: every resistance, E and J."""
+    res = [(1, 2, 0.009), (2, 3, 0.002), (3, 4, 0.003), (4, 0, 0.62), (3, 5, 0.004), (5, 6, 0.001), (6, 0, 0.7)]
+    vs = [(0, 1, 25.2)]
+    cur = [(0, 2, 80.0)]
+    return 7, res, vs, cur
+
+
+def build(params):
+    """A and b of the ladder with parameters p = (R_1..R_7, E, J)."""
+    n_nodes, res, _vs, _cur = ladder()
+    rs = [(i, j, params[k]) for k, (i, j, _) in enumerate(res)]
+    return mna(n_nodes, rs, [(0, 1, params[len(res)])], [(0, 2, params[len(res) + 1])])
+
+
+def nominal_params():
+    _n, res, vs, cur = ladder()
+    return np.array([r for *_, r in res] + [vs[0][2], cur[0][2]])
+
+
+def derivatives(params):
+    """dA/dp and db/dp of every parameter of the ladder (stamped by hand)."""
+    n_nodes, res, _vs, _cur = ladder()
+    a, _b = build(params)
+    size = a.shape[0]
+    n = n_nodes - 1
+    p = len(params)
+    d_a = np.zeros((p, size, size))
+    d_b = np.zeros((p, size))
+    for k, (i, j, _r) in enumerate(res):
+        d_a[k] = d_a_resistor(size, i, j, params[k])
+    d_b[len(res), n] = 1.0  # dE: the source row
+    d_b[len(res) + 1, 2 - 1] = 1.0  # dJ: into node 2
+    return d_a, d_b
+
+
+def read_out(size, node):
+    c = np.zeros(size)
+    c[node - 1] = 1.0
+    return c
+
+
+# ---------------------------------------------------------------- worked check
+
+
+def test_series_circuit_worked_check():
+    # Hand-worked: E = 28 V, Rs = 0.05 Ohm in series with RL = 0.5 Ohm; y = V_L = 25.4545 V;
+    # dV_L/dRs = -E RL/(Rs + RL)^2 = -46.281 V/Ohm; normalised S = -0.0909 (closed form).
+    a, b = mna(3, [(1, 2, 0.05), (2, 0, 0.5)], [(0, 1, 28.0)], [])
+    x = np.linalg.solve(a, b)
+    assert x[1] == pytest.approx(28 * 0.5 / 0.55)
+    d_a = np.array([d_a_resistor(3, 1, 2, 0.05)])
+    dy = adjoint_sensitivities(a, x, read_out(3, 2), d_a)
+    assert dy[0] == pytest.approx(-28 * 0.5 / 0.55**2, rel=1e-12)
+    assert dy[0] == pytest.approx(-46.281, abs=5e-4)
+    # Element form of the adjoint: x_hat of the load node = Rs || RL (hand-worked: 0.045455).
+    xh = adjoint_solution(a, read_out(3, 2))
+    assert xh[1] == pytest.approx(0.05 * 0.5 / 0.55)
+    assert resistance_sensitivity(x, xh, 1, 2, 0.05) == pytest.approx(dy[0], rel=1e-12)
+    assert normalised_sensitivity(x[1], 0.05, dy[0]) == pytest.approx(-0.0909, abs=1e-4)
+
+
+# ---------------------------------------------------------------- against finite differences
+
+
+def fd_of_node(node, p0):
+    """Central differences of an independent numpy.linalg.solve at perturbed parameters."""
+
+    def f(p):
+        a, b = build(p)
+        return np.linalg.solve(a, b)[node - 1]
+
+    return central_difference(f, p0, 1e-4)
+
+
+@pytest.mark.parametrize("node", [2, 4, 6])
+def test_adjoint_equals_central_differences(node):
+    # Independent reference: numpy.linalg.solve of the perturbed network, central differences with a
+    # relative step 1e-4 (truncation O(h^2) ~ 1e-8 relative; round-off eps|y|/h ~ 1e-11: tolerance 1e-6).
+    p0 = nominal_params()
+    a, b = build(p0)
+    x = np.linalg.solve(a, b)
+    d_a, d_b = derivatives(p0)
+    dy = adjoint_sensitivities(a, x, read_out(a.shape[0], node), d_a, d_b)
+    assert dy == pytest.approx(fd_of_node(node, p0), rel=1e-6, abs=1e-9)
+
+
+def test_direct_equals_adjoint_and_differences():
+    p0 = nominal_params()
+    a, b = build(p0)
+    x = np.linalg.solve(a, b)
+    d_a, d_b = derivatives(p0)
+    dx = direct_sensitivities(a, x, d_a, d_b)  # (P, n)
+    for node in (2, 4, 6):
+        c = read_out(a.shape[0], node)
+        assert dx @ c == pytest.approx(adjoint_sensitivities(a, x, c, d_a, d_b), rel=1e-10)
+        assert dx[:, node - 1] == pytest.approx(fd_of_node(node, p0), rel=1e-6, abs=1e-9)
+    # The source current (battery branch, the last unknown) too.
+    c = np.zeros(a.shape[0])
+    c[-1] = 1.0
+
+    def i_bat(p):
+        aa, bb = build(p)
+        return np.linalg.solve(aa, bb)[-1]
+
+    assert adjoint_sensitivities(a, x, c, d_a, d_b) == pytest.approx(
+        central_difference(i_bat, p0, 1e-4), rel=1e-6, abs=1e-7
+    )
+
+
+def test_element_forms_equal_the_general_adjoint():
+    # Element forms (Director & Rohrer 1969): dy/dR = (x_i - x_j)(xh_i - xh_j)/R^2; dy/dE = xh_row;
+    # dy/dJ (into node j from reference) = xh_j.
+    p0 = nominal_params()
+    a, b = build(p0)
+    x = np.linalg.solve(a, b)
+    d_a, d_b = derivatives(p0)
+    c = read_out(a.shape[0], 6)
+    general = adjoint_sensitivities(a, x, c, d_a, d_b)
+    xh = adjoint_solution(a, c)
+    _n, res, _v, _c = ladder()
+    i = np.array([e[0] for e in res])
+    j = np.array([e[1] for e in res])
+    r = p0[: len(res)]
+    assert resistance_sensitivity(x, xh, i, j, r) == pytest.approx(general[: len(res)], rel=1e-10)
+    assert xh[6] == pytest.approx(general[len(res)], rel=1e-10)  # the voltage source's row
+    assert xh[1] == pytest.approx(general[len(res) + 1], rel=1e-10)  # node 2
+
+
+# ---------------------------------------------------------------- vectorised over samples and read-outs
+
+
+def test_many_right_hand_sides_at_once_equal_one_by_one():
+    # One factorisation, s samples of the sources (the sweep's case: b varies, A does not).
+    rng = np.random.default_rng(7)
+    p0 = nominal_params()
+    a, b0 = build(p0)
+    d_a, _ = derivatives(p0)
+    size = a.shape[0]
+    s = 50
+    bs = np.repeat(b0[:, None], s, axis=1)
+    bs[-1] = rng.uniform(23.8, 25.4, s)  # battery EMF per sample
+    bs[1] = rng.uniform(0.0, 150.0, s)  # alternator current per sample
+    f = Factors(a)
+    xs = f.solve(bs)
+    assert xs == pytest.approx(np.linalg.solve(a, bs), rel=1e-12)
+    c = np.stack([read_out(size, 4), read_out(size, 6)], axis=1)  # two read-outs
+    many = adjoint_sensitivities(f, xs, c, d_a)  # (P, K, s)
+    assert many.shape == (len(p0), 2, s)
+    for k in range(s):
+        for q in range(2):
+            assert many[:, q, k] == pytest.approx(adjoint_sensitivities(a, xs[:, k], c[:, q], d_a), rel=1e-10)
+    dx = direct_sensitivities(f, xs, d_a)  # (P, n, s)
+    assert dx.shape == (len(p0), size, s)
+    assert np.einsum("pns,n->ps", dx, c[:, 1]) == pytest.approx(many[:, 1, :], rel=1e-9)
+
+
+def test_per_sample_source_derivatives():
+    # d_b given per sample (P, n, s) is used column by column.
+    p0 = nominal_params()
+    a, b = build(p0)
+    d_a, d_b = derivatives(p0)
+    x = np.linalg.solve(a, b)
+    xs = np.stack([x, x], axis=1)
+    d_bs = np.stack([d_b, 2 * d_b], axis=2)
+    c = read_out(a.shape[0], 6)
+    out = adjoint_sensitivities(a, xs, c, d_a, d_bs)
+    single = adjoint_sensitivities(a, x, c, d_a, d_b)
+    assert out[:, 0] == pytest.approx(single)
+    n_r = len(ladder()[1])
+    assert out[n_r:, 1] == pytest.approx(2 * single[n_r:])  # the source terms double, not the resistors'
+
+
+def test_sparse_factorisation_of_a_long_chain():
+    # Above SPARSE_THRESHOLD unknowns the sparse LU (scipy.sparse.linalg.splu, trans="T") is used;
+    # reference numpy.linalg.solve on the dense matrix and its transpose.
+    n_nodes = 200
+    res = [(k, k + 1, 0.001 * (1 + k % 5)) for k in range(1, n_nodes - 1)] + [(k, 0, 5.0) for k in range(2, n_nodes, 7)]
+    a, b = mna(n_nodes, res, [(0, 1, 24.0)], [])
+    f = Factors(a)
+    assert f._inv is None  # the sparse path
+    assert f.solve(b) == pytest.approx(np.linalg.solve(a, b), rel=1e-10)
+    c = read_out(a.shape[0], 150)
+    assert f.solve_transposed(c) == pytest.approx(np.linalg.solve(a.T, c), rel=1e-9, abs=1e-15)
+    from scipy.sparse import csc_matrix
+
+    g = Factors(csc_matrix(a))
+    assert g.solve(b) == pytest.approx(np.linalg.solve(a, b), rel=1e-10)
+
+
+def test_singular_and_bad_matrices():
+    with pytest.raises(ValueError):
+        Factors(np.zeros((2, 3)))
+    with pytest.raises(np.linalg.LinAlgError):
+        Factors(np.zeros((3, 3)))
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    st.lists(st.floats(1e-3, 10.0), min_size=7, max_size=7),
+    st.floats(10.0, 30.0),
+    st.floats(1.0, 200.0),  # a relative step on a near-zero source current would be all round-off
+)
+def test_adjoint_matches_differences_on_random_values(rs, e, j):
+    # Property: for any positive resistances and sources the adjoint equals central differences of
+    # numpy.linalg.solve. Compared as p·dy/dp [V] (the change of y per unit relative change of p):
+    # the differences carry round-off of about cond(A)·eps·|x|/h, large where resistances lie
+    # four decades apart, so the tolerance is 1e-6 V absolute plus 1e-6 relative.
+    p0 = np.array([*rs, e, j])
+    a, b = build(p0)
+    x = np.linalg.solve(a, b)
+    d_a, d_b = derivatives(p0)
+    dy = adjoint_sensitivities(a, x, read_out(a.shape[0], 6), d_a, d_b)
+    assert dy * p0 == pytest.approx(fd_of_node(6, p0) * p0, rel=1e-6, abs=1e-6)
+
+
+# ---------------------------------------------------------------- worst case
+
+
+def test_sensitivity_directed_vertex_and_search_equal_brute_force():
+    # The worst vertices against brute-force enumeration of all 2^9 vertices (independent of the
+    # sensitivities). At nominal the alternator (80 A) charges the battery, so raising the battery's
+    # resistance raises the coil voltage; at the low vertex the battery discharges and the sign of
+    # that effect flips: the read-out is not monotone in R_b over the box, the signs alone miss the
+    # minimum, and the vertex search finds it and names R_b (index 0).
+    p0 = nominal_params()
+    a, b = build(p0)
+    x = np.linalg.solve(a, b)
+    d_a, d_b = derivatives(p0)
+    node = 6
+    dy = adjoint_sensitivities(a, x, read_out(a.shape[0], node), d_a, d_b)
+    half = 0.1 * p0  # ±10 % on every parameter
+    w = linear_worst_case(x[node - 1], dy, half)
+
+    def y(p):
+        aa, bb = build(p)
+        return np.linalg.solve(aa, bb)[node - 1]
+
+    values = np.array([y(p0 + s * half) for s in all_vertices(len(p0))])
+    # Maximum: monotone, the sign vertex is the worst and the search confirms it without moving.
+    assert y(p0 + w.vertex_signs * half) == pytest.approx(values.max(), rel=1e-12)
+    hi = vertex_search(y, p0, half, w.vertex_signs, maximise=True)
+    assert hi.value == pytest.approx(values.max(), rel=1e-12)
+    assert hi.not_monotone == ()
+    # Minimum: the opposite sign vertex is not the lowest ...
+    assert y(p0 - w.vertex_signs * half) > values.min() + 1e-3
+    lo = vertex_search(y, p0, half, -w.vertex_signs, maximise=False)
+    # ... the search finds it, and says which parameter was not monotone.
+    assert lo.value == pytest.approx(values.min(), rel=1e-12)
+    assert lo.not_monotone == (0,)
+    assert lo.evaluations < 2 ** len(p0) // 10
+    # The linear estimate is close to the true upward spread for ±10 % (second-order terms only).
+    assert values.max() - y(p0) == pytest.approx(w.linear, rel=0.05)
+
+
+def test_linear_worst_case_arithmetic():
+    # Hand-worked: gradient (2, -0.5, 0) with half-widths (0.1, 1, 5): terms 0.2, -0.5, 0;
+    # linear 0.7; RSS sqrt(0.04 + 0.25) = 0.5385; order by size 1, 0, 2.
+    w = linear_worst_case(3.0, np.array([2.0, -0.5, 0.0]), np.array([0.1, 1.0, 5.0]))
+    assert w.linear == pytest.approx(0.7)
+    assert w.rss == pytest.approx(np.sqrt(0.29))
+    assert list(w.order) == [1, 0, 2]
+    assert list(w.terms) == pytest.approx([0.2, -0.5, 0.0])
+
+
+def test_central_difference_of_a_polynomial():
+    # Central differences are exact for a quadratic (the O(h^2) error term vanishes): d/dp of
+    # p0^2 + 3 p0 p1 at (2, 5) is (2 p0 + 3 p1, 3 p0) = (19, 6).
+    g = central_difference(lambda p: p[0] ** 2 + 3 * p[0] * p[1], np.array([2.0, 5.0]), 1e-3)
+    assert g == pytest.approx([19.0, 6.0], rel=1e-9)
+    # A zero parameter takes an absolute step.
+    assert central_difference(lambda p: 4 * p[0], np.array([0.0]))[0] == pytest.approx(4.0)
+
+
+def test_all_vertices():
+    v = all_vertices(3)
+    assert v.shape == (8, 3)
+    assert len({tuple(r) for r in v}) == 8
+    with pytest.raises(ValueError):
+        all_vertices(21)

@@ -361,8 +361,10 @@ def run_many(
             print(f"coilstage: -o {folder}: expected a folder for the reports", file=stderr)
             return EXIT_BAD_INPUT
         reports = report_paths(drawings, folder, fmt)
+        from coilstage.wirelist import _same_file
+
         inputs = {d.resolve() for d in drawings}
-        if any(r.resolve() in inputs for r in reports):
+        if any(r.resolve() in inputs or (r.exists() and any(_same_file(r, d) for d in drawings)) for r in reports):
             print("coilstage: a report would overwrite a drawing; choose another folder", file=stderr)
             return EXIT_BAD_INPUT
         folder.mkdir(parents=True, exist_ok=True)

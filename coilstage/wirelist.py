@@ -309,7 +309,10 @@ def write_atomic(path: Path, data: str | bytes) -> None:
 
 
 def _same_file(a: Path, b: Path) -> bool:
+    """The same file: by identity where both exist (a hard or symbolic link is still the file)."""
     try:
+        if a.exists() and b.exists():
+            return os.path.samefile(a, b)
         return a.resolve() == b.resolve()
     except OSError:
         return False

@@ -438,3 +438,22 @@ def test_toml_string_reads_back(s):
 def test_toml_dumps_reads_back(demo):
     raw = tomllib.loads(demo.read_text(encoding="utf-8"))
     assert tomllib.loads(toml_dumps(raw)) == raw
+
+
+def test_command_modules_through_a_parser(tmp_path):
+    """importcmd and exportcmd in the shape the CLI's registry takes (HELP, add_arguments, run)."""
+    from coilstage import exportcmd, importcmd
+
+    for mod in (importcmd, exportcmd):
+        assert isinstance(mod.HELP, str) and mod.HELP
+    p = argparse.ArgumentParser()
+    sub = p.add_subparsers(dest="command", required=True)
+    importcmd.add_arguments(sub.add_parser("import"))
+    exportcmd.add_arguments(sub.add_parser("export"))
+    wl, out = tmp_path / "t.csv", tmp_path / "t.toml"
+    assert (
+        exportcmd.run(p.parse_args(["export", str(TRUCK), "-o", str(wl), "--build-list", str(tmp_path / "b.csv")])) == 0
+    )
+    assert (tmp_path / "b.csv").read_text(encoding="utf-8").startswith("group,item,quantity")
+    assert importcmd.run(p.parse_args(["import", str(wl), "-o", str(out), "-b", str(TRUCK)])) == 0
+    assert check(load_drawing(out))[1] == check(load_drawing(TRUCK))[1]

@@ -253,3 +253,23 @@ def test_descent_command_writes_series_and_plots(tmp_path):
         assert (tmp_path / f"{stem}-descent.{ext}").stat().st_size > 1000
     assert main(["descent", str(TRUCK), "-o", str(tmp_path), "--profile", "continuous"]) == 0
     assert main(["descent", str(TRUCK), "-o", str(tmp_path), "--profile", "nonesuch"]) == 2
+
+
+def test_winding_heating_rate_against_solve_ivp_and_its_steady_state():
+    # Independent: scipy.integrate.solve_ivp on the law, against the lumped-capacitance closed form
+    # θ(t) = θa + P·Rth·(1 − exp(−t/(Rth·C))) for a constant power (Incropera et al., Fundamentals of
+    # Heat and Mass Transfer, §5.3); rtol 1e-10 of the solver leaves 1e-8 K.
+    from scipy.integrate import solve_ivp
+
+    from coilstage.physics.thermal import winding_heating_rate
+
+    p, ta, rth, c = 900.0, 35.0, 0.12, 4.0e4
+    t = np.linspace(0.0, 20000.0, 41)
+    sol = solve_ivp(lambda _t, y: [winding_heating_rate(p, y[0], ta, rth, c)], (0, t[-1]), [ta], t_eval=t, rtol=1e-10)
+    closed = ta + p * rth * (1 - np.exp(-t / (rth * c)))
+    np.testing.assert_allclose(sol.y[0], closed, atol=1e-6)
+    # with P = V²/R(θ) the rate is zero at the closed-form steady state (the law the hot corner uses)
+    v, r_ref, alpha = 28.0, 0.60, 0.00393
+    theta = winding_steady_temperature(v, r_ref, 20.0, alpha, 0.10, 20.0)
+    power = v * v / (r_ref * (1 + alpha * (theta - 20.0)))
+    assert winding_heating_rate(power, theta, 20.0, 0.10, 1.0) == pytest.approx(0.0, abs=1e-9)

@@ -99,3 +99,21 @@ def test_temporary_forwards_still_exist():
     for (m, t), _why in TEMPORARY_FORWARDS.items():
         path = _modules()[m]
         assert f'"{t}"' in path.read_text(encoding="utf-8"), (m, t)
+
+
+#: Rules that compare stated ratings or table values alone, with no physics function behind them.
+PLAIN_COMPARISONS = {"cable.temperature_class", "cable.ahead_of_fuse", "fuse.voltage_rating", "relay.voltage_rating"}
+
+
+def test_every_rule_names_the_physics_it_rests_on():
+    from coilstage.analysis.laws import rule_laws
+    from coilstage.checks import RULES
+
+    for rule in RULES:
+        if rule.id in PLAIN_COMPARISONS:
+            assert rule.laws == (), rule.id
+            continue
+        assert rule.laws, f"{rule.id} names no physics function"
+        for law in rule_laws(rule.laws):
+            assert law.summary, law.name
+            assert law.references, f"{law.name} cites no source (its own or its module's References)"

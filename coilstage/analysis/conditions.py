@@ -23,6 +23,7 @@ import numpy as np
 from coilstage.analysis.circuit import SourceState
 from coilstage.analysis.quasistatic import QuasiStatic, stage_thermal_resistance
 from coilstage.drawing.schema import Cable, Drawing, Stage
+from coilstage.errors import AnalysisError
 from coilstage.physics.thermal import winding_steady_temperature
 
 #: The corners, in the order the report lists them, and what each is for.
@@ -96,6 +97,12 @@ def hot_winding_temperatures(d: Drawing) -> dict[str, float]:
                 t_st = new
                 break
             t_st = new
+        else:
+            raise AnalysisError(
+                "hot winding temperatures", "the steady state did not settle within 200 passes (to 1e-9 K)"
+            )
+        if not np.all(np.isfinite(t_st)):
+            raise AnalysisError("hot winding temperatures", "a winding's steady temperature is not finite")
         for s, t in zip(net.stages, t_st, strict=True):
             if s.coil.has_thermal_model:
                 out[s.id] = float(t)

@@ -23,7 +23,7 @@ from coilstage.analysis.materials import metal
 from coilstage.analysis.quasistatic import QuasiStatic, stage_thermal_resistance
 from coilstage.drawing.schema import Cable, Drawing, Duty, Fuse, Relay
 from coilstage.physics.numeric import integrate_dopri
-from coilstage.physics.thermal import cable_loss_coefficient
+from coilstage.physics.thermal import cable_loss_coefficient, winding_heating_rate
 
 
 @dataclass(frozen=True)
@@ -140,7 +140,7 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
             i_c, i_s, i_bat, _ia, _x = net.solve(tc, ts, on, limit)
             _rc, rs = net.resistances(tc, ts)
             p = i_s * i_s * rs
-            dts = np.where(modelled, (p - (ts - st_zone) / np.where(modelled, rth, 1.0)) / st_cap, 0.0)
+            dts = np.where(modelled, winding_heating_rate(p, ts, st_zone, np.where(modelled, rth, 1.0), st_cap), 0.0)
             q = i_c * i_c * r20c * (1 + net.cable_alpha * (tc - 20.0))
             dtc = np.where(has_cab, (q - q_shed(tc)) / cab_c, 0.0)
             return np.concatenate([dtc, dts, [i_bat]])
@@ -155,7 +155,15 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
         on = np.array([s.id in step.stages for s in net.stages], dtype=bool)
         limit = (alt.limit_idle if step.engine == "idle" else alt.limit_rated) if alt else None
         rth = np.array([stage_thermal_resistance(s, step.moving) for s in net.stages])
-        ts, ys = integrate_dopri(rhs_factory(on, limit, rth), t0, t0 + step.duration, y, rtol=rtol, atol=1e-4)
+        ts, ys = integrate_dopri(
+            rhs_factory(on, limit, rth),
+            t0,
+            t0 + step.duration,
+            y,
+            rtol=rtol,
+            atol=1e-4,
+            source=f"duty {duty.name}, {step.label}",
+        )
         # the first point of a step repeats the last of the one before: the temperatures carry over,
         # the currents jump, so the series keeps both
         ts_all += ts

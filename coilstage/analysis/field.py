@@ -198,7 +198,7 @@ def _switch_on(net: CaseNetwork, s: Stage, circ: MagneticCircuit | None) -> Swit
     def rhs(_t, y):
         return np.array([c - k * float(np.interp(y[0], lam, i_grid))])
 
-    ts, ys = integrate_dopri(rhs, 0.0, t_end, [0.0], rtol=1e-7, atol=1e-9)
+    ts, ys = integrate_dopri(rhs, 0.0, t_end, [0.0], rtol=1e-7, atol=1e-9, source=f"saturating switch-on of {s.id}")
     t = np.array(ts)
     i_sat = np.interp(np.array([y[0] for y in ys]), lam, i_grid)
     i_lin = i_final * (1 - np.exp(-t / tau))

@@ -16,8 +16,13 @@ import numpy as np
 from coilstage.analysis.circuit import SourceState, element_resistance
 from coilstage.analysis.linear import CaseNetwork, Linear
 from coilstage.drawing.schema import Drawing, Stage
+from coilstage.errors import AnalysisError
 from coilstage.physics.numeric import bracketed_root
 from coilstage.physics.transient import Decay, ExactSolution, clamp_decay
+
+#: Most alternator state changes (regulating, current-limited, off) followed between two switching
+#: events: the state is monotone in the stage currents, so a real switch-on makes two or three.
+MAX_STATE_CHANGES = 20
 
 
 @dataclass(frozen=True)
@@ -170,7 +175,7 @@ def run(
         x = np.array(x0, dtype=float)
         t = t_ev
         mode = net.mode_at(on, x)
-        for _ in range(20):  # alternator state changes within this interval
+        for _ in range(MAX_STATE_CHANGES):  # alternator state changes within this interval
             lin = net.linear(on, mode)
             sol = lin.rl.solution(x) if on else _EMPTY
             leave = _leaves_mode(lin, sol, src, t_next - t)
@@ -182,6 +187,11 @@ def run(
             if leave is None:
                 break
             mode = leave[1]
+        else:
+            raise AnalysisError(
+                f"switching {corner}:{name}",
+                f"the alternator changed state more than {MAX_STATE_CHANGES} times between two events",
+            )
         current = {sid: float(x[j]) for j, sid in enumerate(on)}
     return scn
 
@@ -282,7 +292,7 @@ def _switch_on_segments(net: CaseNetwork, ids: tuple[str, ...]):
     t = 0.0
     segs = []
     mode = net.mode_at(ids, x)
-    for _ in range(20):
+    for _ in range(MAX_STATE_CHANGES):
         lin = net.linear(ids, mode)
         sol = lin.rl.solution(x)
         leave = _leaves_mode(lin, sol, net.sources, 60 * sol.slowest)
@@ -292,6 +302,10 @@ def _switch_on_segments(net: CaseNetwork, ids: tuple[str, ...]):
         x = sol.at(leave[0])[0]
         t += leave[0]
         mode = leave[1]
+    else:
+        raise AnalysisError(
+            "switch-on", f"the alternator changed state more than {MAX_STATE_CHANGES} times during a switch-on"
+        )
     return segs
 
 

@@ -44,10 +44,16 @@ class Verdict:
 
 @dataclass(frozen=True)
 class Rule:
+    """A rule: its id, title, the clause it rests on, the function from an Analysis to its verdicts, and
+    the physics functions its figures come from (names relative to ``coilstage.physics``, e.g.
+    ``"thermal.conductor_temperature"``; empty for a plain comparison of stated ratings): from a
+    verdict to its rule, and from the rule to each law and its source."""
+
     id: str
     title: str
     clause: str
     evaluate: Callable[..., list[Verdict]]
+    laws: tuple[str, ...] = ()
 
 
 def ceiling(value: float, limit: float) -> float | None:

@@ -117,17 +117,20 @@ AMPACITY = Rule(
     "bundle factors of the USCG Electrical System Compliance Guideline; the lower of that and a still-air heat "
     "balance (Churchill-Chu via ht)",
     _ampacity,
+    ("conductor.ampacity_ambient_factor", "cable_heat.computed_ampacity", "network.mna_matrix"),
 )
 TEMPERATURE_CLASS = Rule(
     "cable.temperature_class",
     "Cable temperature class above the highest temperature of its zone",
     "ISO 6722-1 temperature classes A-H (class = ambient + self-heating)",
     _temperature_class,
+    (),
 )
 VOLTAGE_DROP = Rule(
     "circuit.voltage_drop",
     "Voltage drop from the battery to each stage's terminals",
     "ABYC E-11: 3 % for critical circuits (a retarder is a braking device), 10 % otherwise; limits per drawing",
     _voltage_drop,
+    ("network.solve_with_limited_source", "conductor.resistance_at_temperature"),
 )
 RULES = [AMPACITY, TEMPERATURE_CLASS, VOLTAGE_DROP]

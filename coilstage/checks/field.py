@@ -93,17 +93,20 @@ INDUCTANCE = Rule(
     "Stated inductance and the magnetic circuit's agree within 25 %",
     "L = N²/ℛ of the lumped circuit (fringing and leakage left out; 25 % tolerance: common practice)",
     _inductance,
+    ("magnetic.MagneticCircuit",),
 )
 SATURATION = Rule(
     "field.saturation",
     "Iron below the knee of its B-H curve at the cold corner",
     "Ampère's law around the pole circuit on the B-H curve; knee at d(ln B)/d(ln H) = 0.2 (after IEC 61869-2)",
     _saturation,
+    ("magnetic.MagneticCircuit", "magnetic.BHCurve"),
 )
 RETAINED = Rule(
     "field.braking_retained",
     "Braking effort the hot corner leaves, against the drawing's minimum",
     "Low-speed eddy-current law T ∝ σ·B²·ω (Smythe; Schieber); B from the magnetic circuit",
     _retained,
+    ("magnetic.MagneticCircuit", "network.solve_with_limited_source"),
 )
 RULES = [INDUCTANCE, SATURATION, RETAINED]

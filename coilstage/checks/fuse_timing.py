@@ -232,6 +232,7 @@ NUISANCE = Rule(
     "Fuse current over switch-on, sequence and continuous cold duty below its must-not-open gate",
     "Fuse time-current gates (shipped ISO 8820 gates from memory, or the maker's curve); rerating for the zone",
     _nuisance,
+    ("transient.LinearRL", "network.mna_matrix"),
 )
 OVERLOAD = Rule(
     "fuse.cable_overload",
@@ -239,6 +240,7 @@ OVERLOAD = Rule(
     "Conventional fusing current and its longest time from the gates; first-order cable heating implied by its "
     "ampacity; ISO 6722 short-term limit class + 50 K (from memory)",
     _cable_overload,
+    ("thermal.cable_loss_coefficient", "thermal.conductor_temperature"),
 )
 SHORT = Rule(
     "fuse.cable_short_circuit",
@@ -246,17 +248,20 @@ SHORT = Rule(
     "IEC 60949 adiabatic equation (K = 226 for copper); clearing time from the gates; limits by ISO 6722 class "
     "(common practice)",
     _short_circuit,
+    ("network.short_circuit_currents", "fault.material_k", "fault.adiabatic_final_temperature"),
 )
 AHEAD = Rule(
     "cable.ahead_of_fuse",
     "Cable ahead of the first fuse no longer than the ABYC E-11 distances (7 in / 40 in / 72 in)",
     "ABYC E-11 (7 in; 40 in sheathed; 72 in sheathed on the battery terminal); alternator cables exempt",
     _ahead_of_fuse,
+    (),
 )
 PULSE = Rule(
     "fuse.pulse_withstand",
     "Switch-on pulse I²t within the fuse's pulse-withstand fraction of its melting I²t",
     "Fuse maker's pulse guide: 48 / 38 / 29 / 22 % of melting I²t for 10² / 10³ / 10⁴ / 10⁵ pulses",
     _pulse,
+    ("transient.LinearRL",),
 )
 RULES = [NUISANCE, OVERLOAD, SHORT, AHEAD, PULSE]

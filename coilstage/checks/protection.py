@@ -235,35 +235,41 @@ FUSE_CONTINUOUS = Rule(
     "Fuse continuous current within 75 % of its rating rerated for its zone",
     "75 % continuous-load rule (common practice; circuitprotection.ca fuseology); rerating curve from memory",
     _fuse_continuous,
+    ("network.mna_matrix",),
 )
 FUSE_PROTECTS = Rule(
     "fuse.protects_cable",
     "Fuse rating not above the ampacity of the cable it protects (next size up at most 150 %)",
     "ABYC E-11 overcurrent protection of conductors (150 % next-size-up allowance)",
     _fuse_protects,
+    ("conductor.ampacity_ambient_factor", "cable_heat.computed_ampacity"),
 )
 FUSE_VOLTAGE = Rule(
     "fuse.voltage_rating",
     "Fuse voltage rating at least the system's highest voltage",
     "ISO 8820-1/-3: rated voltage 32 V or 58 V; system maximum from ISO 16750-2",
     _fuse_voltage,
+    (),
 )
 FUSE_BREAKING = Rule(
     "fuse.breaking_capacity",
     "Fuse breaking capacity at least the prospective short-circuit current at its place",
     "ISO 8820-3/-4 (1 000 A), -5/-6 (2 000 A) breaking capacity; fault current computed from the network",
     _fuse_breaking,
+    ("network.short_circuit_currents",),
 )
 RELAY_CONTACT = Rule(
     "relay.contact_rating",
     "Relay contact current within its rating at the system voltage and zone temperature",
     "Maker's contact rating at 12 V / 24 V (a 12 V rating is about twice the 24 V one: arcs sustain at 24-28 V)",
     _relay_contact,
+    ("network.mna_matrix",),
 )
 RELAY_VOLTAGE = Rule(
     "relay.voltage_rating",
     "Relay switching voltage rating at least the system's highest voltage",
     "ISO 16750-2 system maximum; maker's rated switching voltage",
     _relay_voltage,
+    (),
 )
 RULES = [FUSE_CONTINUOUS, FUSE_PROTECTS, FUSE_VOLTAGE, FUSE_BREAKING, RELAY_CONTACT, RELAY_VOLTAGE]

@@ -54,11 +54,13 @@ ALTERNATOR = Rule(
     "Alternator output at idle and at rated speed against stages plus base load",
     "ISO 8854 rating convention (output at idle and at rated speed); energy balance of the descent is the arbiter",
     _alternator,
+    ("network.solve_with_limited_source", "network.charging_source_state"),
 )
 BUS_MINIMUM = Rule(
     "supply.bus_minimum",
     "Bus voltage with the retarder on stays above the supply code's minimum",
     "ISO 16750-2:2010 Tables 1 and 2 (supply voltage codes)",
     _bus_minimum,
+    ("network.solve_with_limited_source",),
 )
 RULES = [ALTERNATOR, BUS_MINIMUM]

@@ -16,8 +16,8 @@ from coilstage.checks.base import (
 )
 from coilstage.drawing.schema import Relay, Stage
 
-#: Energise a relay at no less than 110 % of its must-operate voltage (a state transport agency's
-#: relay rules, shared protection notes §3.2): the margin of the pick-up rule.
+#: Energise a relay at no less than 110 % of its must-operate voltage (California Department of
+#: Transportation, electrical quality standards, Electric-08 "Relays"): the margin of the pick-up rule.
 PICKUP_MARGIN = 1.10
 
 
@@ -274,18 +274,21 @@ RELAY_BREAKING = Rule(
     "Relay contact can break its stage: DC category by L/R, or contact voltage when suppressed",
     "IEC 60947-4-1 DC-1/DC-3/DC-5 time constants; IEC 60947-5-1 DC-13 (300 ms cap)",
     _relay_breaking,
+    ("transient.LinearRL", "transient.clamp_decay"),
 )
 SUPPRESSOR = Rule(
     "suppressor.rating",
     "Suppressor peak current, reverse (stand-off) voltage and energy per break",
     "Break current at the cold corner; ISO 16750-2 Test B clamped load dump (35 V / 58 V); clamp energy computed",
     _suppressors,
+    ("transient.clamp_decay",),
 )
 RELEASE = Rule(
     "stage.release_time",
     "Braking field gone within the drawing's release-time limit after switch-off",
     "Decay through the suppressor, closed form t = tau ln((I0 + U/R)/(x I0 + U/R)); limit from the drawing",
     _release,
+    ("transient.clamp_decay",),
 )
 PICKUP = Rule(
     "relay.coil_pickup",
@@ -293,5 +296,6 @@ PICKUP = Rule(
     "Maker's must-operate voltage scaled by coil R(T) (copper, IEC 60028 alpha); "
     "110 % margin (transport-agency relay rules)",
     _pickup,
+    ("conductor.resistance_at_temperature",),
 )
 RULES = [RELAY_BREAKING, SUPPRESSOR, RELEASE, PICKUP]

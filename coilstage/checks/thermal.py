@@ -194,12 +194,19 @@ WINDING = Rule(
     "Average winding temperature over the duty within its insulation class less the hot-spot allowance",
     "IEC 60085 thermal classes; hot-spot allowance 10 K (<= 155) / 15 K (above), machine convention (common practice)",
     _winding_temperature,
+    (
+        "thermal.winding_heating_rate",
+        "thermal.winding_steady_temperature",
+        "conductor.resistance_at_temperature",
+        "numeric.integrate_dopri",
+    ),
 )
 TIME_TO_LIMIT = Rule(
     "winding.time_to_limit",
     "Under continuous full retardation the winding takes longer than the duty to reach its limit",
     "Lumped winding model C dT/dt = I^2 R(T) - (T - Ta)/Rth coupled through the network",
     _time_to_limit,
+    ("thermal.winding_heating_rate", "numeric.integrate_dopri"),
 )
 CABLE_TEMP = Rule(
     "cable.conductor_temperature",
@@ -207,6 +214,7 @@ CABLE_TEMP = Rule(
     "Still-air heat balance (Churchill-Chu convection and radiation via ht; insulation ln(D/d)/(2 pi k)); "
     "ISO 6722 classes",
     _cable_temperature,
+    ("cable_heat.heat_shed", "thermal.cable_loss_coefficient", "numeric.integrate_dopri"),
 )
 BATTERY = Rule(
     "battery.charge",
@@ -214,11 +222,13 @@ BATTERY = Rule(
     "Charge balance of the duty; usable share from the drawing's state of charge and floor "
     "(50 % floor: common practice)",
     _battery,
+    ("network.charging_source_state", "numeric.integrate_dopri"),
 )
 FUSE_DUTY = Rule(
     "fuse.duty_thermal_state",
     "Fuse current along the duty stays clear of its must-not-open gate",
     "Linear sum of dt/t_min(I) along the duty (common practice, no source) on the fuse's time-current gates",
     _fuse_duty,
+    ("network.charging_source_state",),
 )
 RULES = [WINDING, TIME_TO_LIMIT, CABLE_TEMP, BATTERY, FUSE_DUTY]

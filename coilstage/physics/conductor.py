@@ -118,6 +118,11 @@ def ampacity_ambient_factor(t_rating: float, t_ambient: float, t_reference: floa
     --------
     >>> round(ampacity_ambient_factor(105.0, 50.0), 3)
     0.856
+
+    References
+    ----------
+    .. [1] NFPA 70 (NEC) 2017, Table 310.15(B)(2)(a), ambient temperature correction factors (the
+       square-root law reproduces them; the law itself is derived from the heat balance above).
     """
     if t_ambient >= t_rating:
         return 0.0

@@ -174,8 +174,10 @@ def charging_source_state(i_regulating: float, i_limit: float, tol: float = 0.0)
     ``"off"`` below zero (its rectifier blocks reverse current), else ``"regulating"``; ``tol`` [A]
     widens the regulating range against rounding.
 
-    The characteristic I = clamp((v_set − V)/r_source, 0, i_limit) of [1]_'s piecewise-linear source
-    model; the one place the program decides the state (DC solve, switching, heating).
+    The characteristic I = clamp((v_set − V)/r_source, 0, i_limit): a regulated source with an output
+    current limit and a blocking rectifier (the output characteristic ISO 8854 tests an alternator with
+    regulator for, taken at one speed); the one place the program decides the state (DC solve,
+    switching, heating).
 
     >>> charging_source_state(120.0, 100.0), charging_source_state(-1.0, 100.0), charging_source_state(50.0, 100.0)
     ('current-limited', 'off', 'regulating')

@@ -72,6 +72,8 @@ def integrate_dopri(
     atol: float = 1e-6,
     h0: float | None = None,
     max_step: float = float("inf"),
+    max_steps: int = 100_000,
+    source: str = "integration",
 ):
     """Integrate y' = f(t, y) from t0 to t1 with the adaptive Dormand–Prince 5(4) pair.
 
@@ -79,8 +81,23 @@ def integrate_dopri(
     as in Hairer, Nørsett & Wanner II.4 (mixed absolute/relative norm, safety 0.9, step ratio 0.2-5).
     Used for the thermal system of a duty: smooth, mildly stiff at most, and it keeps scipy.integrate
     (about 0.8 s to import) off the path of a plain ``coilstage check``.
+
+    Raises
+    ------
+    coilstage.errors.AnalysisError
+        (named ``source``) when the state or its derivative becomes non-finite, when the step size
+        falls below the resolution of t, or after ``max_steps`` trial steps: bounded work on any input.
+
+    References
+    ----------
+    .. [1] J. R. Dormand, P. J. Prince, "A family of embedded Runge-Kutta formulae", J. Comput. Appl.
+       Math. 6(1):19-26, 1980.
+    .. [2] E. Hairer, S. P. Nørsett, G. Wanner, *Solving Ordinary Differential Equations I*, 2nd ed.,
+       Springer, 1993, §II.4 (step size control) and Table 5.2.
     """
     import numpy as np
+
+    from coilstage.errors import AnalysisError
 
     t = float(t0)
     y = np.asarray(y0, dtype=float).copy()
@@ -88,16 +105,22 @@ def integrate_dopri(
     if t1 <= t0:
         return ts, ys
     k1 = np.asarray(f(t, y), dtype=float)
+    if not (np.all(np.isfinite(y)) and np.all(np.isfinite(k1))):
+        raise AnalysisError(source, f"non-finite state or rate at the start (t = {t:g} s)")
     if h0 is None:
         scale = atol + rtol * np.abs(y)
         d0 = np.sqrt(np.mean((y / scale) ** 2))
         d1 = np.sqrt(np.mean((k1 / scale) ** 2))
         h0 = 0.01 * d0 / d1 if d0 > 1e-5 and d1 > 1e-5 else 1e-3
     h = min(h0, t1 - t0, max_step)
-    for _ in range(100000):
+    for _ in range(max_steps):
         if t >= t1:
             break
         h = min(h, t1 - t, max_step)
+        if h <= 1e-14 * max(1.0, abs(t)):
+            raise AnalysisError(
+                source, f"the step size fell to {h:.3g} s at t = {t:g} s (a stiff or non-finite rate of change)"
+            )
         k = [k1]
         for i in range(1, 7):
             yi = y + h * sum(a * kk for a, kk in zip(_A[i], k, strict=False))
@@ -110,10 +133,13 @@ def integrate_dopri(
             t = t + h if t + h < t1 - 1e-12 * max(1.0, abs(t1)) else t1
             y = y_new
             k1 = k[6]  # first-same-as-last
+            if not (np.all(np.isfinite(y)) and np.all(np.isfinite(k1))):
+                raise AnalysisError(source, f"the state became non-finite at t = {t:g} s")
             ts.append(t)
             ys.append(y.copy())
         fac = 0.9 * en ** (-0.2) if en > 0 else 5.0
         h = h * min(5.0, max(0.2, fac))
     else:
-        raise RuntimeError("integrate_dopri: too many steps")
+        if t < t1:
+            raise AnalysisError(source, f"the step budget of {max_steps} steps ran out at t = {t:g} s of {t1:g} s")
     return ts, ys

@@ -8,7 +8,14 @@ insulation's share is left out, which heats the model faster, the safe side) and
 
 .. math:: C' \frac{dθ}{dt} = I^2 R'_{20}[1 + α(θ - 20)] - G'(θ - θ_z) = k_0 + k_1 θ,
 
-solved in closed form.
+solved in closed form. The winding model is the same first-order balance with one thermal resistance
+to the surroundings (lumped capacitance).
+
+References
+----------
+.. [1] F. P. Incropera, D. P. DeWitt, T. L. Bergman, A. S. Lavine, *Fundamentals of Heat and Mass
+   Transfer*, 6th ed., Wiley, 2007, §5.3 (the lumped capacitance method, its first-order solution).
+.. [2] IEC 60287-1-1:2006, clause 1.4 (the conductor's I²R(θ) with R(θ) = R20[1 + α20(θ − 20)]).
 """
 
 from __future__ import annotations
@@ -73,7 +80,7 @@ def winding_steady_temperature(
 
     .. math:: x = \frac{-b + \sqrt{b^2 + 4αk}}{2α}
 
-    (shared physics notes §4.3, derived; the self-limiting effect: P falls as θ rises).
+    (derived from the balance of [1]_; the self-limiting effect: P falls as θ rises).
 
     Parameters: voltage [V], r_ref [Ω] at t_ref [°C], alpha20 [K⁻¹], r_th to the surroundings
     [K/W], t_surroundings [°C]; floats, or numpy arrays of one value per winding (element-wise).
@@ -88,3 +95,26 @@ def winding_steady_temperature(
     root = np.sqrt(disc) if isinstance(disc, np.ndarray) else math.sqrt(disc)
     x = (-b + root) / (2 * alpha20)
     return t_surroundings + x
+
+
+def winding_heating_rate(power, theta, theta_surroundings, r_th, heat_capacity):
+    r"""Rate of change of a lumped winding's temperature [K/s]: its heat balance.
+
+    .. math:: C \frac{dθ}{dt} = P - \frac{θ - θ_a}{R_{th}}
+
+    One temperature for the whole winding (and the iron heated with it), heat to the surroundings
+    through one thermal resistance: the first-order thermal model of a machine winding
+    (IEC 60034-1 thermal equivalent; F. P. Incropera et al., *Fundamentals of Heat and Mass Transfer*,
+    6th ed., §5.3, the lumped capacitance method). With P = V²/R(θ) its zero is
+    :func:`winding_steady_temperature`.
+
+    Parameters: power P dissipated in the winding [W], theta θ [°C], theta_surroundings θa [°C],
+    r_th to the surroundings [K/W], heat_capacity C [J/K]; floats or numpy arrays (element-wise).
+
+    Valid while the winding's temperature is nearly uniform (Biot number well below 1) and its
+    thermal resistance does not depend on temperature.
+
+    >>> winding_heating_rate(1000.0, 20.0, 20.0, 0.1, 5000.0)
+    0.2
+    """
+    return (power - (theta - theta_surroundings) / r_th) / heat_capacity

@@ -112,8 +112,9 @@ def clamp_decay(i0: float, r: float, inductance: float, u0: float, r_series: flo
 
     References
     ----------
-    .. [1] First-order circuit with a constant source; shared reference notes (protection §5.2,
-       physics §5.2) give the same t0 and clamp energy.
+    .. [1] First-order circuit with a constant source: C. K. Alexander, M. N. O. Sadiku, *Fundamentals
+       of Electric Circuits*, 5th ed., McGraw-Hill, 2013, §7.6 (step response of an RL circuit); the
+       clamp energy follows from the energy balance above.
     """
     rt = r + r_series
     tau = inductance / rt

@@ -149,7 +149,7 @@ def test_cranking_table_in_data_matches_code():
 
 def test_resistance_from_short_circuit_current():
     # Hand-worked: Ri = OCV / Isc; 12.7 V and 2 540 A -> 5.0 mOhm; a 24 V pair 25.4 V / 2 540 A -> 10 mOhm
-    # (the prospective-current figures of the shared battery notes: 25.4 V / 10 mOhm ~ 2.5 kA).
+    # (so 25.4 V behind 10 mOhm gives about 2.5 kA at the terminals).
     assert resistance_from_short_circuit_current(12.7, 2540.0) == pytest.approx(0.005)
     assert resistance_from_short_circuit_current(25.4, 2540.0) == pytest.approx(0.010)
     with pytest.raises(ValueError):
@@ -173,7 +173,7 @@ def test_resistance_of_flat_battery_and_age():
 
 
 def test_resistance_range_of_a_24v_pair_spans_the_quoted_band():
-    # Derived example of the shared battery notes: a new warm pair 4-10 mOhm; cold, half-charged and
+    # From memory (typical figures, not confirmed): a new warm 24 V pair 4-10 mOhm; cold, half-charged and
     # aged about 30 mOhm. From 9 mOhm stated (25 degC, full): -30 degC, 50 % SOC, age 1.5 -> ~26 mOhm.
     r = internal_resistance(0.009, 0.5, -30.0, age_factor=1.5)
     assert 0.020 < r < 0.032

@@ -28,7 +28,13 @@ from typing import Any
 EXIT_OK, EXIT_FAIL, EXIT_BAD_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
 
 #: name -> module path of a plug-in command (``HELP``, ``add_arguments(parser)``, ``run(args) -> int``)
-COMMAND_MODULES: dict[str, str] = {}
+COMMAND_MODULES: dict[str, str] = {
+    "size": "coilstage.sizecmd",
+    "diff": "coilstage.report.diff",
+    "import": "coilstage.importcmd",
+    "export": "coilstage.exportcmd",
+    "init": "coilstage.starter",
+}
 
 _OUT_FOLDER_HELP = "folder to write the files into; created if its parent exists (default: %(default)s)"
 
@@ -99,7 +105,7 @@ def _load(drawing_path: Path, analyse: dict | None = None) -> tuple[Any, Any]:
     drawing = load_drawing(drawing_path)
     if analyse is None:
         return drawing, None
-    from coilstage.analysis.corners import analyse as run_analysis
+    from coilstage.analysis.run import analyse as run_analysis
 
     return drawing, run_analysis(drawing, **analyse)
 
@@ -115,19 +121,41 @@ def _plot_title(title: str) -> str:
 
 
 def _check_arguments(c: argparse.ArgumentParser) -> None:
-    c.add_argument("drawing", help="the drawing file (TOML)")
-    c.add_argument("--format", "-f", choices=["text", "json", "markdown"], default="text", help="report format (text)")
+    c.add_argument(
+        "drawing",
+        nargs="+",
+        help="the drawing file (TOML); with --summary also several files, folders or patterns such as 'fleet/*.toml'",
+    )
+    c.add_argument(
+        "--format", "-f", choices=["text", "json", "markdown", "html"], default="text", help="report format (text)"
+    )
     c.add_argument(
         "--output",
         "-o",
         metavar="FILE",
-        help="write the report to FILE (a file, not a folder) instead of the terminal; written all or nothing",
+        help="write the report to FILE instead of the terminal; written all or nothing. With --summary: a FOLDER "
+        "for each drawing's report and the summary",
     )
     c.add_argument("--details", "-d", action="store_true", help="text report: show the reasoning of every verdict")
+    c.add_argument(
+        "--brief", action="store_true", help="only the result and the action list (no evidence tables or plots)"
+    )
+    c.add_argument(
+        "--summary", action="store_true", help="fleet mode: check many drawings and print one summary line each"
+    )
+    c.add_argument(
+        "--summary-format",
+        choices=["text", "csv", "json"],
+        default="text",
+        help="fleet mode: form of the printed summary (text)",
+    )
+    c.add_argument("--jobs", "-j", type=int, metavar="N", help="fleet mode: worker processes (default: the cores)")
 
 
-def _render(doc: dict[str, Any], fmt: str, stream: Any, to_file: bool, details: bool) -> None:
-    if fmt == "json":
+def _render(doc: dict[str, Any], fmt: str, stream: Any, to_file: bool, details: bool, extra: Any = None) -> None:
+    if fmt == "html":
+        stream.write(extra())
+    elif fmt == "json":
         from coilstage.report import jsonout
 
         stream.write(jsonout.render(doc))
@@ -144,24 +172,46 @@ def _render(doc: dict[str, Any], fmt: str, stream: Any, to_file: bool, details: 
 def _check(args: argparse.Namespace) -> int:
     from coilstage import outputs
 
-    drawing_path = Path(args.drawing)
+    paths = list(args.drawing)
+    if args.summary or len(paths) > 1 or Path(paths[0]).is_dir() or any(ch in paths[0] for ch in "*?["):
+        if not args.summary:
+            _err("coilstage: several drawings, a folder or a pattern need --summary (one summary line per drawing)")
+            return EXIT_BAD_INPUT
+        if args.jobs is not None and args.jobs < 1:
+            _err("coilstage: --jobs: expected a whole number of at least 1")
+            return EXIT_BAD_INPUT
+        if args.format == "html":
+            _err("coilstage: --summary: the reports can be text, json or markdown")
+            return EXIT_BAD_INPUT
+        from coilstage import fleet
+
+        return fleet.run_many(paths, args.format, args.output, args.jobs, args.summary_format)
+    drawing_path = Path(paths[0])
     if args.output:
         outputs.check_target(args.output, [drawing_path])
     elif sys.stdout is None:
         raise outputs.OutputError("standard output", "it is closed; write the report to a file with -o FILE")
-    _drawing, analysis = _load(drawing_path, {})
+    drawing, analysis = _load(drawing_path, {})
     from coilstage.checks import run_checks
 
     verdicts = run_checks(analysis)
     from coilstage.report import document
 
     doc = document.build(analysis, verdicts)
+
+    def html_page() -> str:
+        from coilstage.report import html, parts, record
+
+        rec = record.build(drawing)
+        plots = None if args.brief else html.make_plots(analysis)
+        return html.render(doc, rec, parts.build(drawing), plots=plots, brief=args.brief)
+
     if args.output:
         with outputs.staged([args.output], _protected(drawing_path)) as (tmp,):
             with open(tmp, "w", encoding="utf-8", newline="") as fh:
-                _render(doc, args.format, fh, True, args.details)
+                _render(doc, args.format, fh, True, args.details, html_page)
     else:
-        _render(doc, args.format, sys.stdout, False, args.details)
+        _render(doc, args.format, sys.stdout, False, args.details, html_page)
         sys.stdout.flush()
     summ = doc["summary"]
     if args.output or args.format != "text":
@@ -205,6 +255,7 @@ def _waveforms(args: argparse.Namespace) -> int:
     drawing, analysis = _load(drawing_path, {"heating": False})
     from coilstage.report import waveforms
 
+    waveforms.check_size(analysis, step)
     rows = waveforms.series(analysis, step)
     ids = [s.id for s in drawing.stages]
     names = [f"{drawing_path.stem}-waveforms.{ext}" for ext in ("csv", "json", "png", "svg")]
@@ -251,6 +302,13 @@ def _descent(args: argparse.Namespace) -> int:
                 for dur, _stg, eng, mov in row["steps"]
             )
             duty = dataclasses.replace(duty, name=args.profile, description=row["description"], steps=steps)
+        total = sum(st.duration for st in duty.steps)
+        if total > drawing.limits.max_duty:
+            _err(
+                f"coilstage: --profile {args.profile}: a duty of {total:g} s is longer than the drawing allows "
+                f'({drawing.limits.max_duty:g} s); raise it with [limits] max_duty = "{total:g} s"'
+            )
+            return EXIT_BAD_INPUT
     if duty is None:
         _err("coilstage: the drawing gives no duty ([duty]); choose a shipped one with --profile")
         return EXIT_BAD_INPUT
@@ -367,9 +425,15 @@ def _rules(args: argparse.Namespace) -> int:
         raise OutputError("standard output", "it is closed")
     c = _console(sys.stdout, False)
     c.print(Text("Rules\n", style="bold"))
+    from coilstage.analysis.laws import rule_laws
+
     for r in RULES:
         c.print(Text.assemble((r.id, "bold"), f"  {r.title}"))
         c.print(f"    clause: {r.clause}", style="dim")
+        for law in rule_laws(getattr(r, "laws", ())):
+            c.print(f"    physics: {law.name} — {law.summary}")
+            for ref in law.references:
+                c.print(f"      source: {ref}", style="dim")
     sys.stdout.flush()
     return EXIT_OK
 
@@ -387,7 +451,11 @@ class Command:
 
 
 BUILTIN: dict[str, Command] = {
-    "check": Command("solve a drawing and give the verdicts (-o FILE: the report file)", _check_arguments, _check),
+    "check": Command(
+        "solve a drawing and give the verdicts (-o FILE: the report file); --summary checks a fleet (-o DIR)",
+        _check_arguments,
+        _check,
+    ),
     "waveforms": Command(
         "write the switching time series (CSV, JSON) and plots (PNG, SVG) into a folder (-o DIR)",
         _waveforms_arguments,
@@ -404,7 +472,7 @@ BUILTIN: dict[str, Command] = {
         _field,
     ),
     "tables": Command("list the shipped data tables and their sources", lambda p: None, _tables),
-    "rules": Command("list the rules with the clauses they rest on", lambda p: None, _rules),
+    "rules": Command("list the rules with the clauses and the physics they rest on", lambda p: None, _rules),
 }
 
 
@@ -429,9 +497,10 @@ def _parser(selected: str | None = None) -> argparse.ArgumentParser:
         prog="coilstage",
         description="Check the DC supply of a retarder's coil stages: currents, bus, cables, fuses, relays.",
         epilog=(
-            "-o is a file for a command that writes one report (check) and a folder for a command that writes "
-            "several files (waveforms, descent, field). Files are written all or nothing and never over the "
-            "drawing. Exit codes: 0 no failure, 1 a failed check, 2 bad input or output, 3 a bug."
+            "-o is a file for a command that writes one file (check, diff, size, import, export, init) and a folder "
+            "for a command that writes several files (waveforms, descent, field, check --summary). Files are "
+            "written all or nothing and never over the drawing. Exit codes: 0 no failure, 1 a failed check, "
+            "2 bad input or output, 3 a bug."
         ),
     )
     p.add_argument("--version", action="version", version=f"coilstage {__version__}")

@@ -202,7 +202,7 @@ def test_staged_keeps_extensions_and_commits_together(tmp_path: Path):
 
 
 def test_analysis_error_is_exit_2_with_its_reason(drawing: Path, monkeypatch, capsys):
-    from coilstage.analysis import corners
+    from coilstage.analysis import run as corners
     from coilstage.errors import AnalysisError
 
     def refuse(*a, **k):
@@ -215,7 +215,7 @@ def test_analysis_error_is_exit_2_with_its_reason(drawing: Path, monkeypatch, ca
 
 
 def test_a_genuine_bug_is_exit_3(drawing: Path, monkeypatch, capsys):
-    from coilstage.analysis import corners
+    from coilstage.analysis import run as corners
 
     monkeypatch.setattr(corners, "analyse", lambda *a, **k: 1 / 0)
     assert main(["check", str(drawing)]) == 3
@@ -434,7 +434,7 @@ def test_help_states_one_meaning_of_o(capsys):
     with pytest.raises(SystemExit):
         main(["--help"])
     out = capsys.readouterr().out
-    assert "-o is a file for a command that writes one report" in " ".join(out.split())
+    assert "-o is a file for a command that writes one file" in " ".join(out.split())
     with pytest.raises(SystemExit):
         main(["waveforms", "--help"])
     assert "folder" in capsys.readouterr().out

@@ -9,7 +9,7 @@ from typing import Any
 
 import numpy as np
 
-from coilstage.analysis.corners import Analysis
+from coilstage.analysis.run import Analysis
 from coilstage.errors import AnalysisError
 
 WAVEFORM_SCHEMA = "coilstage-waveforms-1"

@@ -1,34 +1,26 @@
 """What the harness's connectivity says: what a fuse cuts off, which stages a relay switches, which
-cables a fuse protects. One walk (the nodes still fed from the battery with one device open) answers
-all three."""
+cables a fuse protects. One walk (the nodes still fed from the battery with one device open, asked of
+:class:`coilstage.graph.Graph`, the loader's walk) answers all three."""
 
 from __future__ import annotations
 
-from collections import defaultdict
-
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
+from coilstage.graph import Graph
+
+
+def supply_graph(d: Drawing) -> Graph:
+    """The harness without its stages, as a :class:`coilstage.graph.Graph` (the same walk the
+    loader's structure checks ask): an edge per cable, fuse, relay contact and ground strap."""
+    return Graph((e.a, e.b, e.id) for e in d.elements if not isinstance(e, Stage))
 
 
 def live_nodes_without(d: Drawing, device_ids: list[str]) -> dict[str, set[str]]:
     """For each device: the nodes still fed from the battery with that device open (supply side
     only: never through a stage or the negative node)."""
-    pos, neg = d.supply.battery.node, d.supply.negative_node
-    adj: dict[str, list[tuple[str, str]]] = defaultdict(list)
-    for e in d.elements:
-        if not isinstance(e, Stage):
-            adj[e.a].append((e.b, e.id))
-            adj[e.b].append((e.a, e.id))
-    out = {}
-    for did in device_ids:
-        seen, todo = {pos}, [pos]
-        while todo:
-            n = todo.pop()
-            for m, eid in adj[n]:
-                if eid != did and m not in seen and m != neg:
-                    seen.add(m)
-                    todo.append(m)
-        out[did] = seen
-    return out
+    live = supply_graph(d).reachable_without_each(
+        d.supply.battery.node, device_ids, avoid_nodes={d.supply.negative_node}
+    )
+    return {did: set(nodes) for did, nodes in live.items()}
 
 
 def cut_off_by(d: Drawing, device_ids: list[str]) -> dict[str, set[str]]:

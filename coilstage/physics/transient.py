@@ -51,8 +51,9 @@ def rl_switch_on_i2t(i_final: float, tau: float, t: float) -> float:
 
     .. math:: I^2 t = I_∞^2\left[t - 2τ(1 - e^{-t/τ}) + \frac{τ}{2}(1 - e^{-2t/τ})\right]
 
-    Source: integration of i = I∞(1 − e^{−t/τ}); the same expression is tabulated in fuse makers'
-    pulse-shape guides (shared reference notes, protection §1.5).
+    Source: integration of i = I∞(1 − e^{−t/τ}) (first-order RL circuit, e.g. Hayt, Kemmerly & Durbin,
+    *Engineering Circuit Analysis*, ch. 8); the same expression is tabulated in fuse makers' pulse-shape
+    guides (docs/references.md#rl-switch-on).
     """
     e1 = math.exp(-t / tau)
     return i_final**2 * (t - 2 * tau * (1 - e1) + tau / 2 * (1 - e1 * e1))

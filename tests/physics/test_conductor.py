@@ -49,8 +49,8 @@ def test_copper_resistivity_iec60028():
 
 @pytest.mark.parametrize(
     ("t", "ratio"),
-    # Source: R(t)/R20 = 1 + 0.00393 (t - 20), IEC 60028 alpha; values as tabulated in the shared
-    # physics notes (derived) and recomputed here with the beta form (234.5 + t)/254.5 to 1e-4.
+    # Source: R(t)/R20 = 1 + 0.00393 (t - 20), IEC 60028 alpha; values derived with the beta form
+    # (234.5 + t)/254.5 of IEC 60287-1-1 table 1 (docs/references.md#copper-resistance-temperature), to 1e-4.
     [(-40, 0.7642), (-30, 0.8035), (0, 0.9214), (80, 1.2358), (105, 1.3340), (150, 1.5109), (180, 1.6288)],
 )
 def test_copper_r_of_t(t, ratio):

@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 
 from coilstage import tables
+from coilstage.analysis.insulation import short_circuit_limit
 from coilstage.analysis.ratings import fuse_gates
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
@@ -133,11 +134,17 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
                 )
                 continue
             theta_i, theta_f = sh.theta_initial, sh.theta_final
-            limit = float(tables.cable_class_rows()[c.insulation_class]["short_circuit"])
+            lim = short_circuit_limit(c)
+            limit = lim.limit
+            whose = (
+                f"class {c.insulation_class}'s usual material, {lim.name} (not stated on the cable)"
+                if lim.assumed
+                else lim.name
+            )
             note = (
                 f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the latest "
                 f"({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} adiabatically from "
-                f"{theta_i:g} °C to {theta_f:.0f} °C (IEC 60949) against {limit:g} °C"
+                f"{theta_i:g} °C to {theta_f:.0f} °C (IEC 60949) against {limit:g} °C for {whose} ({lim.status})"
             )
             if t > 5:
                 note += "; beyond the 5 s adiabatic range, so the real conductor ends cooler"
@@ -245,8 +252,9 @@ OVERLOAD = Rule(
 SHORT = Rule(
     "fuse.cable_short_circuit",
     "A short at the far end of each protected cable is cleared before the insulation's short-circuit limit",
-    "IEC 60949 adiabatic equation (K = 226 for copper); clearing time from the gates; limits by ISO 6722 class "
-    "(common practice)",
+    "IEC 60949 adiabatic equation (K = 226 for copper); clearing time from the gates; final temperature by "
+    "insulation material (IEC 60364-4-43 Table 43A / IEC 60364-5-54 Annex A; vehicle and fluoropolymer rows common "
+    "practice), the ISO 6722 class's usual material where none is stated",
     _short_circuit,
     ("network.short_circuit_currents", "fault.material_k", "fault.adiabatic_final_temperature"),
 )

@@ -21,6 +21,7 @@ CABLE_KEYS = {
     "size",
     "length",
     "insulation",
+    "insulation_material",
     "zone",
     "bundle",
     "material",
@@ -112,6 +113,10 @@ def read_cable_fields(r: Reader, e: dict, where: str, env, default_mm2: str) -> 
     cond = _conductor(r, e, where, size, default_mm2) if size is not None else None
     if "material" in e and cond is not None and e["material"] != cond[3]:
         r.problem(f"{where}.material", e["material"], f"{cond[3]}, the metal of the conductor table used")
+    ins_mat = e.get("insulation_material", "")
+    materials = [m["material"] for m in tables.shipped("insulation_materials.toml")["table"]["rows"]]
+    if "insulation_material" in e and ins_mat not in materials:
+        r.problem(f"{where}.insulation_material", ins_mat, "one of " + ", ".join(materials))
     if None in (size, length, ins, zone, zt, bundle, cond):
         return None
     area, r20, src, metal = cond
@@ -131,5 +136,6 @@ def read_cable_fields(r: Reader, e: dict, where: str, env, default_mm2: str) -> 
         zone_temperature=zt,
         bundle=bundle,
         sheathed=bool(sheathed),
+        insulation_material=ins_mat if ins_mat in materials else "",
         **dia,
     )

@@ -217,6 +217,7 @@ class Cable(Element):
     diameter_source: str = ""
 
 
+    insulation_material: str = ""  # key of insulation_materials.toml; "" = the ISO 6722 class's default
 @dataclass(frozen=True)
 class Fuse(Element):
     fuse_type: str

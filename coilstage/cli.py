@@ -152,21 +152,32 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
     c.add_argument("--jobs", "-j", type=int, metavar="N", help="fleet mode: worker processes (default: the cores)")
 
 
-def _render(doc: dict[str, Any], fmt: str, stream: Any, to_file: bool, details: bool, extra: Any = None) -> None:
+def _render(
+    doc: dict[str, Any],
+    fmt: str,
+    stream: Any,
+    to_file: bool,
+    details: bool,
+    extra: Any = None,
+    *,
+    brief: bool = False,
+    record: dict[str, Any] | None = None,
+    parts: dict[str, Any] | None = None,
+) -> None:
     if fmt == "html":
         stream.write(extra())
     elif fmt == "json":
         from coilstage.report import jsonout
 
-        stream.write(jsonout.render(doc))
+        stream.write(jsonout.render(doc, record, parts))
     elif fmt == "markdown":
         from coilstage.report import markdown
 
-        stream.write(markdown.render(doc))
+        stream.write(markdown.render(doc, brief=brief, record=record))
     else:
         from coilstage.report import text
 
-        text.render(doc, _console(stream, to_file), details=details)
+        text.render(doc, _console(stream, to_file), details=details, brief=brief, record=record)
 
 
 def _check(args: argparse.Namespace) -> int:
@@ -199,19 +210,24 @@ def _check(args: argparse.Namespace) -> int:
 
     doc = document.build(analysis, verdicts)
 
+    from coilstage.report import parts, record
+
+    rec = record.build(drawing)
+    listed = parts.build(drawing) if args.format in ("json", "html") else None
+
     def html_page() -> str:
-        from coilstage.report import html, parts, record
+        from coilstage.report import html
 
-        rec = record.build(drawing)
         plots = None if args.brief else html.make_plots(analysis)
-        return html.render(doc, rec, parts.build(drawing), plots=plots, brief=args.brief)
+        return html.render(doc, rec, listed, plots=plots, brief=args.brief)
 
+    how = {"brief": args.brief, "record": rec, "parts": listed}
     if args.output:
         with outputs.staged([args.output], _protected(drawing_path)) as (tmp,):
             with open(tmp, "w", encoding="utf-8", newline="") as fh:
-                _render(doc, args.format, fh, True, args.details, html_page)
+                _render(doc, args.format, fh, True, args.details, html_page, **how)
     else:
-        _render(doc, args.format, sys.stdout, False, args.details, html_page)
+        _render(doc, args.format, sys.stdout, False, args.details, html_page, **how)
         sys.stdout.flush()
     summ = doc["summary"]
     if args.output or args.format != "text":

@@ -130,7 +130,7 @@ def test_injected_enospc_keeps_the_earlier_report(drawing: Path, monkeypatch, ca
     out.write_text("earlier report\n")
     from coilstage.report import jsonout
 
-    def full(doc):
+    def full(doc, *a, **k):
         raise OSError(errno.ENOSPC, "No space left on device")
 
     monkeypatch.setattr(jsonout, "render", full)
@@ -145,7 +145,7 @@ def test_ctrl_c_while_writing_leaves_no_half_file(drawing: Path, monkeypatch):
     out.write_text("earlier\n")
     from coilstage.report import markdown
 
-    def interrupted(doc):
+    def interrupted(doc, *a, **k):
         raise KeyboardInterrupt
 
     monkeypatch.setattr(markdown, "render", interrupted)

@@ -16,15 +16,20 @@ _DISPLAY = {"ohm": "Ω", "degC": "°C", "1": "", "%": "%", "A^2s": "A²s", "A*h"
 
 
 def si(value: float | None, unit: str, digits: int = 3) -> str:
-    """``si(0.0009, "ohm") == '0.9 mΩ'``; temperatures and percentages keep their own scale."""
+    """``si(0.0009, "ohm") == '0.9 mΩ'``, three significant figures; a fraction (unit "1") as a
+    percentage, a duration in ms/s/min/h (:func:`duration`), temperatures in °C with one decimal."""
     if value is None:
         return "—"
     if not math.isfinite(value):
         return NOT_FINITE
+    if unit == "1":
+        return percent(value)
+    if unit == "s":
+        return duration(value)
     u = _DISPLAY.get(unit, unit)
-    if abs(value) < 1e-9:
+    if abs(value) < 1e-12:
         return f"0 {u}".strip()
-    if unit in ("degC", "%", "1"):
+    if unit in ("degC", "%", "A*h"):
         return f"{value:.1f} {u}".strip()
     mag = abs(value)
     for scale, p in _PREFIX:
@@ -32,6 +37,59 @@ def si(value: float | None, unit: str, digits: int = 3) -> str:
             x = value / scale
             return f"{x:.{max(digits - 1 - math.floor(math.log10(abs(x))) if x else 0, 0)}f} {p}{u}"
     return f"{value:g} {u}"
+
+
+def percent(fraction: float | None, places: int = 1) -> str:
+    """A fraction or ratio as a percentage: ``percent(0.031) == '3.1 %'``."""
+    if fraction is None:
+        return "—"
+    if not math.isfinite(fraction):
+        return NOT_FINITE
+    return f"{fraction * 100:.{places}f} %"
+
+
+def duration(seconds: float | None) -> str:
+    """A duration [s] in ms, s, min or h, whichever a person would say (never "1.80 ks")."""
+    if seconds is None:
+        return "—"
+    if not math.isfinite(seconds):
+        return "never"
+    s = abs(seconds)
+    if s == 0:
+        return "0 s"
+    if s < 1:
+        return f"{seconds * 1e3:.3g} ms"
+    if s < 120:
+        return f"{seconds:.3g} s"
+    if s < 2 * 3600:
+        return f"{seconds / 60:.1f} min"
+    return f"{seconds / 3600:.2f} h"
+
+
+def turns(d: dict[str, Any] | None) -> str:
+    """Ampere-turns (the document carries them in A) as "A-turns"."""
+    if d is None:
+        return "—"
+    if d["value"] is None:
+        return NOT_FINITE
+    return f"{d['value']:.0f} A-turns"
+
+
+def margin_text(v: dict[str, Any]) -> str:
+    """A verdict's headroom: in K for a temperature (limit − value), else as a percentage of the limit."""
+    m = v.get("margin")
+    val, lim = v.get("value"), v.get("limit")
+    if (
+        val is not None
+        and lim is not None
+        and val.get("unit") == "degC"
+        and val.get("value") is not None
+        and lim.get("value") is not None
+    ):
+        return f"{lim['value'] - val['value']:+.1f} K"
+    if m is None:
+        return "—"
+    return f"{m * 100:+.0f} %" if math.isfinite(m) else NOT_FINITE
 
 
 def fixed(value: float | None, unit: str, places: int = 1) -> str:
@@ -49,7 +107,7 @@ def qv(d: dict[str, Any] | None, places: int | None = None) -> str:
         return "—"
     if d["value"] is None:
         return NOT_FINITE
-    if places is not None:
+    if places is not None and d["unit"] not in ("1", "s"):
         return fixed(d["value"], d["unit"], places)
     return si(d["value"], d["unit"])
 

@@ -15,11 +15,11 @@ the short hash as well).
 
 from __future__ import annotations
 
-import math
 from html import escape
 from typing import Any
 
 from coilstage.report import actions as actions_mod
+from coilstage.report.fmt import duration, margin_text, percent, qv, si, turns
 
 #: How each status is shown: symbol, word, CSS class.
 STATUS = {
@@ -32,86 +32,6 @@ STATUS = {
 CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; font-src 'none'; form-action 'none'"
 
 # ---------------------------------------------------------------- numbers as a practitioner reads them
-
-_PREFIX = [(1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ")]
-_DISPLAY = {"ohm": "Ω", "degC": "°C", "A^2s": "A²s", "A*h": "A·h", "N*m": "N·m", "rad/s": "rad/s"}
-
-
-def si(value: float | None, unit: str, digits: int = 3) -> str:
-    """``si(0.0009, "ohm") == '0.9 mΩ'`` style, three significant figures."""
-    if value is None:
-        return "—"
-    if not math.isfinite(value):
-        return "unbounded" if value > 0 else "—"
-    u = _DISPLAY.get(unit, unit)
-    if abs(value) < 1e-12:
-        return f"0 {u}".strip()
-    if unit == "degC":
-        return f"{value:.1f} °C"
-    if unit == "1":
-        return percent(value)
-    if unit == "s":
-        return duration(value)
-    if unit == "A*h":
-        return f"{value:.1f} A·h"
-    if unit == "%":
-        return f"{value:.1f} %"
-    mag = abs(value)
-    for scale, p in _PREFIX:
-        if mag >= scale or scale == _PREFIX[-1][0]:
-            x = value / scale
-            places = max(digits - 1 - math.floor(math.log10(abs(x))), 0) if x else 0
-            return f"{x:.{places}f} {p}{u}"
-    return f"{value:g} {u}"
-
-
-def percent(fraction: float | None, places: int = 1) -> str:
-    if fraction is None:
-        return "—"
-    return f"{fraction * 100:.{places}f} %"
-
-
-def duration(seconds: float | None) -> str:
-    """A duration in ms, s, min or h, whichever a person would say."""
-    if seconds is None:
-        return "—"
-    if not math.isfinite(seconds):
-        return "never"
-    s = abs(seconds)
-    if s == 0:
-        return "0 s"
-    if s < 1:
-        return f"{seconds * 1e3:.3g} ms"
-    if s < 120:
-        return f"{seconds:.3g} s"
-    if s < 2 * 3600:
-        return f"{seconds / 60:.1f} min"
-    return f"{seconds / 3600:.2f} h"
-
-
-def qv(d: dict[str, Any] | None, places: int | None = None) -> str:
-    """A ``{"value", "unit"}`` pair of the document, formatted."""
-    if d is None:
-        return "—"
-    if places is not None and d["unit"] not in ("1", "s"):
-        return f"{d['value']:.{places}f} {_DISPLAY.get(d['unit'], d['unit'])}".strip()
-    return si(d["value"], d["unit"])
-
-
-def turns(d: dict[str, Any] | None) -> str:
-    """Ampere-turns (the document carries them in A)."""
-    return "—" if d is None else f"{d['value']:.0f} A-turns"
-
-
-def margin_text(v: dict[str, Any]) -> str:
-    """Headroom: in K for a temperature (limit − value), else as a percentage of the limit."""
-    m = v.get("margin")
-    val, lim = v.get("value"), v.get("limit")
-    if val is not None and lim is not None and val.get("unit") == "degC":
-        return f"{lim['value'] - val['value']:+.1f} K"
-    if m is None:
-        return "—"
-    return f"{m * 100:+.0f} %"
 
 
 def e(x: Any) -> str:

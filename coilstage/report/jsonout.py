@@ -4,6 +4,11 @@ The document passes :func:`coilstage.report.safe.guard` first: no NaN or inf can
 (``allow_nan=False`` would refuse one anyway), and drawing text is kept exactly, with control,
 bidirectional and format characters written as ``\\uXXXX`` escapes so that printing the file on a
 terminal shows them rather than obeying them.
+
+At the top level, beside the document's keys: ``actions`` (always: what to change, failures first,
+grouped by part, from :mod:`coilstage.report.actions`), and where given ``record`` (the run's
+traceability block, :mod:`coilstage.report.record`) and ``parts`` (every element as read,
+:mod:`coilstage.report.parts`). Their addition is schema version 1.1.
 """
 
 from __future__ import annotations
@@ -11,10 +16,22 @@ from __future__ import annotations
 import json
 from typing import Any
 
-from coilstage.report import safe
+from coilstage.report import actions, safe
+
+#: the version of the JSON report's layout (1.1: record, parts and actions at the top level)
+SCHEMA_VERSION = "1.1"
 
 
-def render(doc: dict[str, Any]) -> str:
-    """The report as JSON text."""
-    text = json.dumps(safe.guard(doc, for_json=True), indent=2, ensure_ascii=False, allow_nan=False)
+def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dict[str, Any] | None = None) -> str:
+    """The report as JSON text: the result first, then the record, the actions, the evidence."""
+    out: dict[str, Any] = {"schema_version": SCHEMA_VERSION, "summary": doc["summary"]}
+    if record is not None:
+        out["record"] = record
+    out["actions"] = actions.build(doc)
+    for k, v in doc.items():
+        if k not in out and k != "schema_version":
+            out[k] = v
+    if parts is not None:
+        out["parts"] = parts
+    text = json.dumps(safe.guard(out, for_json=True), indent=2, ensure_ascii=False, allow_nan=False)
     return safe.json_safe(text) + "\n"

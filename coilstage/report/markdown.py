@@ -10,8 +10,10 @@ from __future__ import annotations
 import re
 from typing import Any
 
+from coilstage.report import actions as actions_mod
+from coilstage.report import record as record_mod
 from coilstage.report import safe
-from coilstage.report.fmt import margin, num, pct, qv
+from coilstage.report.fmt import margin_text, num, pct, qv
 
 _MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|#~])")
 
@@ -32,9 +34,50 @@ def _code(text: object) -> str:
     return f"{fence}{pad}{s}{pad}{fence}"
 
 
-def render(doc: dict[str, Any]) -> str:
-    """The report as Markdown text."""
+_ACTION_HEADS = {
+    "failures": "Failures — change these before the vehicle goes into service",
+    "warnings": "Warnings — look at these",
+    "missing": "Could not be checked — data missing from the drawing",
+}
+
+
+def _opening(doc: dict[str, Any], record: dict[str, Any] | None) -> list[str]:
+    """The drawing's metadata, the record block and the action list."""
+    out: list[str] = []
+    meta = (record or {}).get("drawing") or {}
+    given = [(k, meta[k]) for k in ("revision", "author", "vehicle") if meta.get(k)]
+    if given:
+        out += [" · ".join(f"{k}: {_esc(v)}" for k, v in given), ""]
+    if record is not None:
+        out += ["## Record", "", "| | |", "|---|---|"]
+        out += [f"| {_esc(label)} | {_esc(value)} |" for label, value in record_mod.lines(record)]
+        out.append("")
+    acts = actions_mod.build(doc)
+    out += ["## What to do", ""]
+    for name in ("failures", "warnings", "missing"):
+        n = actions_mod.count(acts, name)
+        out += [f"### {_ACTION_HEADS[name]} ({n})", ""]
+        if not n:
+            out += ["none", ""]
+        for g in acts[name]:
+            out.append(f"- **{_esc(g['part'])}**")
+            for v in g["items"]:
+                subj = "" if v["subject"] == g["part"] else f" ({_esc(v['subject'])})"
+                out.append(
+                    f"  - {v['status'].upper()} {_code(v['rule'])}{subj}: {qv(v['value'])} against "
+                    f"{qv(v['limit'])}, margin {margin_text(v)}. {_esc(v['note'])}"
+                    + (f" What would pass: {_esc(v['suggestion'])}" if v.get("suggestion") else "")
+                )
+        if n:
+            out.append("")
+    return out
+
+
+def render(doc: dict[str, Any], *, brief: bool = False, record: dict[str, Any] | None = None) -> str:
+    """The report as Markdown text: the result, the record and the action list, then (unless
+    ``brief``) the evidence."""
     doc = safe.guard(doc)
+    record = safe.guard(record) if record is not None else None
     d, s, summ = doc["drawing"], doc["supply"], doc["summary"]
     out = [f"# {_esc(d['title'])}", ""]
     if d["note"]:
@@ -48,6 +91,12 @@ def render(doc: dict[str, Any]) -> str:
         f"{summ['not_checked']} not checked",
         "",
     ]
+    out += _opening(doc, record)
+    if brief:
+        out += ["## Cautions", ""] + [f"- **{_esc(c['hazard'])}**: {_esc(c['text'])}" for c in doc["cautions"]]
+        out += ["", "_Brief report: the result and the action list only; run without --brief for the evidence._", ""]
+        return "\n".join(out)
+    out += ["# Evidence", ""]
     for c in doc["corners"]:
         out += [f"## {_esc(c['name'].capitalize())} corner — {_esc(c['purpose'])}", ""]
         out += [f"- {_esc(k)}: {_esc(v)}" for k, v in c["conditions"].items()]
@@ -147,9 +196,7 @@ def render(doc: dict[str, Any]) -> str:
             f"{pct(br['ratio_temperature'])}, the sagging bus alone {pct(br['ratio_bus'])})",
         ]
     if br["torque"]:
-        out.append(
-            f"- estimated torque: cold {qv(br['torque'].get('cold'), 0)}, hot {qv(br['torque'].get('hot'), 0)}"
-        )
+        out.append(f"- estimated torque: cold {qv(br['torque'].get('cold'), 0)}, hot {qv(br['torque'].get('hot'), 0)}")
     for s in fd["switch_on"]:
         out.append(
             f"- {_esc(s['stage'])} alone, cold: T0.95 {qv(s['t95_saturating'])} saturating, "
@@ -171,7 +218,7 @@ def render(doc: dict[str, Any]) -> str:
         out.append(
             f"| {_esc(v['status'].upper())} | {_code(v['rule'])} | {_esc(v['subject'])} | {qv(v['value'])} | "
             f"{qv(v['limit'])} | "
-            f"{margin(v['margin'])} | {_esc(v['note'])} | {_esc(v['clause'])} |"
+            f"{margin_text(v)} | {_esc(v['note'])} | {_esc(v['clause'])} |"
         )
     out += ["", "## Prospective short-circuit currents (cold corner)", ""]
     out.append(f"- battery terminals: {qv(doc['faults']['battery_terminals'])}")

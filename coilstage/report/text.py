@@ -9,8 +9,10 @@ from __future__ import annotations
 
 from typing import Any
 
+from coilstage.report import actions as actions_mod
+from coilstage.report import record as record_mod
 from coilstage.report import safe
-from coilstage.report.fmt import NOT_FINITE, margin, num, pct, qv
+from coilstage.report.fmt import NOT_FINITE, margin_text, num, pct, qv, turns
 
 _STYLE = {"pass": "green", "warn": "yellow", "fail": "bold red", "not checked": "magenta"}
 
@@ -35,29 +37,98 @@ def _cells(*cells: Any) -> list[Any]:
     return [c if isinstance(c, Text) else Text(str(c)) for c in cells]
 
 
-def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
-    """Print the report on a rich Console; ``details`` adds the note of every passing verdict."""
+def _result_line(summ: dict[str, Any]) -> str:
+    return (
+        f"RESULT: {summ['result'].upper()} — {summ['fail']} fail, {summ['warn']} warn, {summ['pass']} pass, "
+        f"{summ['not_checked']} not checked"
+    )
+
+
+_ACTION_HEADS = {
+    "failures": "Failures — change these before the vehicle goes into service",
+    "warnings": "Warnings — look at these",
+    "missing": "Could not be checked — data missing from the drawing",
+}
+
+
+def render(
+    doc: dict[str, Any],
+    console: Any,
+    details: bool = False,
+    *,
+    brief: bool = False,
+    record: dict[str, Any] | None = None,
+) -> None:
+    """Print the report on a rich Console: the result, the drawing's metadata and the record block,
+    the action list, then (unless ``brief``) the evidence; ``details`` adds the note of every passing
+    verdict. No cell is cut short: every column folds its text onto further lines."""
     from rich import box
     from rich.panel import Panel
     from rich.table import Table
     from rich.text import Text
 
     doc = safe.guard(doc)
+    record = safe.guard(record) if record is not None else None
     plain_print = console.print
 
     def say(line: Any = "", style: str | None = None) -> None:
+        if isinstance(line, Table):
+            for col in line.columns:
+                col.overflow = "fold"
+                col.no_wrap = False
         plain_print(line if not isinstance(line, str) else Text(line), style=style)
 
     d, s, summ = doc["drawing"], doc["supply"], doc["summary"]
+    say(Text(_result_line(summ), style=_STYLE.get(summ["result"], "")))
     head = Text()
     head.append(d["title"] + "\n", style="bold")
     if d["note"]:
         head.append(d["note"] + "\n", style="italic")
+    meta = (record or {}).get("drawing") or d
+    for key in ("revision", "author", "vehicle"):
+        if meta.get(key):
+            head.append(f"{key}: {meta[key]}\n")
     head.append(
         f"{d['path']} · {qv(s['system_voltage'], 0)} system · operating limits {qv(s['v_min'], 1)}–{qv(s['v_max'], 1)} "
         f"({s['limits_source']})"
     )
-    say(Panel(head, title=Text(f"coilstage {doc['tool']['version']}"), expand=False))
+    say(Panel(head, title=Text(f"coilstage {doc['tool']['version']}")))
+    if record is not None:
+        rt = Table(title=Text("Record"), box=box.SIMPLE_HEAD, title_justify="left", show_header=False)
+        rt.add_column("what", style="dim")
+        rt.add_column("value")
+        for label, value in record_mod.lines(record):
+            rt.add_row(Text(label), Text(str(value)))
+        say(rt)
+
+    acts = actions_mod.build(doc)
+    say(Text("What to do", style="bold"))
+    for name in ("failures", "warnings", "missing"):
+        n = actions_mod.count(acts, name)
+        say(Text(f"{_ACTION_HEADS[name]} ({n})", style="bold"))
+        if not n:
+            say("  none")
+        for g in acts[name]:
+            say(Text(f"  {g['part']}", style="bold"))
+            for v in g["items"]:
+                line = Text("    ")
+                line.append(v["status"].upper(), style=_STYLE.get(v["status"], ""))
+                subj = "" if v["subject"] == g["part"] else f" ({v['subject']})"
+                line.append(f" {v['rule']}{subj}: {qv(v['value'])} against {qv(v['limit'])}, margin {margin_text(v)}")
+                say(line)
+                say(f"      {v['note']}")
+                if v.get("suggestion"):
+                    say(f"      what would pass: {v['suggestion']}")
+    say()
+    if brief:
+        caut = Text()
+        for i, c in enumerate(doc["cautions"]):
+            caut.append(("\n" if i else "") + c["hazard"].upper() + ": ", style="bold")
+            caut.append(c["text"])
+        say(Panel(caut, title=Text("Cautions"), border_style="yellow"))
+        say("Brief report: the result and the action list only; run without --brief for the evidence.")
+        return
+    say(Text("Evidence", style="bold underline"))
 
     for c in doc["corners"]:
         t = Table(title=Text(f"{c['name'].upper()} corner — {c['purpose']}"), box=box.SIMPLE_HEAD, title_justify="left")
@@ -67,16 +138,16 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
         for st in c["stages"]:
             t.add_row(
                 *_cells(
-                st["id"],
-                _num(st["winding_temperature"], places=0),
-                _num(st["resistance"], 1e3, 0),
-                _num(st["current"]),
-                _num(st["terminal_voltage"], places=2),
-                _num(st["power"], places=0),
-                _num(st["ampere_turns"], places=0),
-                _num(st["voltage_drop"], places=3),
-                _num(st["voltage_drop_fraction"], 100),
-                _num(st["stored_energy"]),
+                    st["id"],
+                    _num(st["winding_temperature"], places=0),
+                    _num(st["resistance"], 1e3, 0),
+                    _num(st["current"]),
+                    _num(st["terminal_voltage"], places=2),
+                    _num(st["power"], places=0),
+                    _num(st["ampere_turns"], places=0),
+                    _num(st["voltage_drop"], places=3),
+                    _num(st["voltage_drop_fraction"], 100),
+                    _num(st["stored_energy"]),
                 )
             )
         say(t)
@@ -128,17 +199,17 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             for x in (y for y in sw["stages"] if y["corner"] == corner):
                 t.add_row(
                     *_cells(
-                    x["id"],
-                    _num(x["time_constant"], 1e3, 0),
-                    _ms(x["t95_alone"]),
-                    _ms(x["t95_all"]),
-                    _num(x["break_current"]),
-                    _num(x["stored_energy"]),
-                    short.get(x["suppression"], x["suppression"]),
-                    _ms(x["time_to_zero"]),
-                    _num(x["release_time"], 1e3, 0),
-                    _num(x["suppressor_energy"]),
-                    "arc" if x["contact_voltage"] is None else _num(x["contact_voltage"]),
+                        x["id"],
+                        _num(x["time_constant"], 1e3, 0),
+                        _ms(x["t95_alone"]),
+                        _ms(x["t95_all"]),
+                        _num(x["break_current"]),
+                        _num(x["stored_energy"]),
+                        short.get(x["suppression"], x["suppression"]),
+                        _ms(x["time_to_zero"]),
+                        _num(x["release_time"], 1e3, 0),
+                        _num(x["suppressor_energy"]),
+                        "arc" if x["contact_voltage"] is None else _num(x["contact_voltage"]),
                     )
                 )
         say(t)
@@ -165,14 +236,14 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
             ttl = x["time_to_limit"]
             t.add_row(
                 *_cells(
-                x["id"],
-                _num(x["hot_corner_temperature"], places=0),
-                _num(x["peak_temperature"], places=0),
-                _num(x["end_temperature"], places=0),
-                _num(x["limit"], places=0),
-                ("never" if x["modelled"] else "—") if ttl is None else num(ttl, 1 / 60, 1),
-                _num(x["end_current"]),
-                _num(x["end_ampere_turns"], places=0),
+                    x["id"],
+                    _num(x["hot_corner_temperature"], places=0),
+                    _num(x["peak_temperature"], places=0),
+                    _num(x["end_temperature"], places=0),
+                    _num(x["limit"], places=0),
+                    ("never" if x["modelled"] else "—") if ttl is None else num(ttl, 1 / 60, 1),
+                    _num(x["end_current"]),
+                    _num(x["end_ampere_turns"], places=0),
                 )
             )
         say(t)
@@ -183,11 +254,11 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
         for x in he["cables"]:
             c.add_row(
                 *_cells(
-                x["id"],
-                _num(x["table_ampacity"], places=0),
-                _num(x["computed_ampacity"], places=0),
-                _num(x["peak_temperature"], places=0),
-                _num(x["class_temperature"], places=0),
+                    x["id"],
+                    _num(x["table_ampacity"], places=0),
+                    _num(x["computed_ampacity"], places=0),
+                    _num(x["peak_temperature"], places=0),
+                    _num(x["class_temperature"], places=0),
                 )
             )
         say(c)
@@ -207,16 +278,16 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
     for x in fd["stages"]:
         t.add_row(
             *_cells(
-            x["id"],
-            x["corner"],
-            _num(x["coil_current"]),
-            _num(x["ampere_turns"], places=0),
-            _num(x["gap_flux_density"], places=2),
-            _num(x["flux"], 1e3, 2),
-            _num(x["iron_flux_density"], places=2),
-            _num(x["knee"], places=2),
-            _num(x["apparent_inductance"], 1e3),
-            _num(x["incremental_inductance"], 1e3),
+                x["id"],
+                x["corner"],
+                _num(x["coil_current"]),
+                _num(x["ampere_turns"], places=0),
+                _num(x["gap_flux_density"], places=2),
+                _num(x["flux"], 1e3, 2),
+                _num(x["iron_flux_density"], places=2),
+                _num(x["knee"], places=2),
+                _num(x["apparent_inductance"], 1e3),
+                _num(x["incremental_inductance"], 1e3),
             )
         )
     say(t)
@@ -255,8 +326,8 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
         say(
             f"  AC comparison, coil {x['coil']}: {_g(x['voltage'])} V at {_g(x['frequency'])} Hz drives "
             f"{num(x['current_ac'], places=2)} A (|Z| {num(x['impedance'])} Ω, "
-            f"{num(x['ampere_turns_ac'], places=0)} A-turns) against {num(x['current_dc'])} A on DC "
-            f"({num(x['ampere_turns_dc'], places=0)} A-turns)"
+            f"{turns(x['ampere_turns_ac'])}) against {num(x['current_dc'])} A on DC "
+            f"({turns(x['ampere_turns_dc'])})"
         )
     say()
 
@@ -285,7 +356,7 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
                     subject,
                     qv(tight["value"]),
                     qv(tight["limit"]),
-                    margin(tight["margin"]),
+                    margin_text(tight),
                 )
             )
             continue
@@ -296,7 +367,7 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
                 x["subject"],
                 qv(x["value"]),
                 qv(x["limit"]),
-                margin(x["margin"]),
+                margin_text(x),
             )
         )
         if details or st != "pass":
@@ -342,11 +413,4 @@ def render(doc: dict[str, Any], console: Any, details: bool = False) -> None:
         caut.append(("\n" if i else "") + c["hazard"].upper() + ": ", style="bold")
         caut.append(c["text"])
     say(Panel(caut, title=Text("Cautions"), border_style="yellow"))
-    style = _STYLE.get(summ["result"], "")
-    say(
-        Text(
-            f"RESULT: {summ['result'].upper()} — {summ['fail']} fail, {summ['warn']} warn, {summ['pass']} pass, "
-            f"{summ['not_checked']} not checked",
-            style=style,
-        )
-    )
+    say(Text(_result_line(summ), style=_STYLE.get(summ["result"], "")))

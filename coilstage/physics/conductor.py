@@ -60,7 +60,20 @@ def awg_diameter(n: int) -> float:
 
     .. math:: d_n = 0.127\,\mathrm{mm} \times 92^{(36 - n)/39}
 
-    ``n`` is the gauge number; 1/0, 2/0, 3/0, 4/0 are n = 0, −1, −2, −3.
+    Parameters
+    ----------
+    n : int
+        Gauge number; 1/0, 2/0, 3/0, 4/0 are n = 0, −1, −2, −3. [-]
+
+    Returns
+    -------
+    float
+        Diameter of the solid conductor. [m]
+
+    Notes
+    -----
+    The defining formula of the gauge, exact for any n; the standard sizes run from 4/0 (n = −3) to
+    40 AWG. A stranded conductor of the same gauge has about the same metal area, not this diameter.
 
     References
     ----------
@@ -76,20 +89,68 @@ def awg_diameter(n: int) -> float:
 
 
 def awg_area(n: int) -> float:
-    """Cross-section of AWG size ``n`` [m²], π d²/4 with ``d`` from :func:`awg_diameter` (ASTM B258)."""
+    r"""Cross-section of AWG size ``n`` [m²], the area of the gauge's solid round conductor.
+
+    .. math:: A_n = \frac{π d_n^2}{4}
+
+    Parameters
+    ----------
+    n : int
+        Gauge number, as :func:`awg_diameter`. [-]
+
+    Returns
+    -------
+    float
+        Metal cross-section. [m²]
+
+    Notes
+    -----
+    Valid for every gauge :func:`awg_diameter` accepts; the nominal area of a stranded conductor of
+    that gauge (ASTM B8 / B174 strand it to the same area).
+
+    Examples
+    --------
+    >>> round(awg_area(4) * 1e6, 2)
+    21.15
+
+    References
+    ----------
+    .. [1] ASTM B258-02 (defining formula of the diameter; area of a circle).
+    """
     d = awg_diameter(n)
     return math.pi * d * d / 4.0
 
 
 def resistance_per_length(rho: float, area: float) -> float:
-    """Resistance per unit length of a uniform conductor, ρ/A [Ω/m] (Ohm's law of resistivity).
+    r"""Resistance per unit length of a uniform conductor [Ω/m].
+
+    .. math:: R' = \frac{ρ}{A}
 
     Parameters
     ----------
     rho : float
-        Resistivity. [Ω·m]
+        Resistivity at the conductor's temperature. [Ω·m]
     area : float
         Conducting cross-section. [m²]
+
+    Returns
+    -------
+    float
+        Resistance per metre. [Ω/m]
+
+    Notes
+    -----
+    Valid for direct current (no skin effect) in a conductor of uniform section; a stranded
+    conductor's lay adds a few per cent (a stranding factor, applied by the caller).
+
+    Examples
+    --------
+    >>> round(resistance_per_length(1 / 58 * 1e-6, 2.5e-6) * 1e3, 3)
+    6.897
+
+    References
+    ----------
+    .. [1] IEC 60028:1925 (resistivity of annealed copper, the ρ usually passed).
     """
     return rho / area
 
@@ -114,6 +175,16 @@ def ampacity_ambient_factor(t_rating: float, t_ambient: float, t_reference: floa
     t_reference : float
         Ambient temperature of the table, 30 °C for 33 CFR 183.425 Table 5. [°C]
 
+    Returns
+    -------
+    float
+        Factor on the table's ampacity, 0 to 1. [-]
+
+    Notes
+    -----
+    Valid while the conductor's heat leaves in proportion to its rise over ambient (convection and
+    radiation near the rating temperature); below the table's reference no credit is given.
+
     Examples
     --------
     >>> round(ampacity_ambient_factor(105.0, 50.0), 3)
@@ -130,11 +201,46 @@ def ampacity_ambient_factor(t_rating: float, t_ambient: float, t_reference: floa
 
 
 def interpolate_loglog(x: float, x0: float, y0: float, x1: float, y1: float) -> float:
-    """Interpolate ``y`` at ``x`` on the straight line through (x0, y0), (x1, y1) in log-log axes.
+    r"""Interpolate ``y`` at ``x`` on the straight line through (x0, y0), (x1, y1) in log-log axes.
+
+    .. math:: y = y_0 \left(\frac{x}{x_0}\right)^{s}, \quad s = \frac{\ln(y_1/y_0)}{\ln(x_1/x_0)}
 
     Used for the ampacity of metric sizes between two AWG rows: ampacity grows as a power of the
     cross-section (about A^0.6 for a wire cooled from its surface), so a straight line in log-log
     axes follows the table closely, where a linear interpolation would bow.
+
+    Parameters
+    ----------
+    x : float
+        Where to interpolate (a cross-section, say). [unit of x0, > 0]
+    x0 : float
+        First table point's abscissa. [unit of x, > 0]
+    y0 : float
+        First table point's value. [unit of y, > 0]
+    x1 : float
+        Second table point's abscissa. [unit of x, > 0]
+    y1 : float
+        Second table point's value. [unit of y0, > 0]
+
+    Returns
+    -------
+    float
+        Interpolated value. [unit of y0]
+
+    Notes
+    -----
+    Valid for positive values; between the points it is an interpolation, outside them an
+    extrapolation of the same power law. Coincident abscissae return ``y0``.
+
+    Examples
+    --------
+    >>> round(interpolate_loglog(4.0, 1.0, 10.0, 16.0, 40.0), 6)
+    20.0
+
+    References
+    ----------
+    .. [1] Power-law interpolation (a straight line in log-log axes); the A^0.6 growth follows from
+       the heat balance of a surface-cooled wire (I²R' = h·πD·Δθ with R' ∝ 1/A).
     """
     if x0 == x1:
         return y0

@@ -93,3 +93,75 @@ def test_short_circuit_limit_boundary_pins_by_material():
 def test_unknown_insulation_material_is_a_drawing_error():
     with pytest.raises(DrawingError, match="insulation_material"):
         verdicts(_w1("C", "16 mm^2", "cotton"))
+
+
+# ---------------------------------------------------------------- conductor ahead of the first fuse
+
+_TWO_SEGMENTS = """
+[[harness]]
+id = "W-A"
+kind = "cable"
+from = "B+"
+to = "P1"
+size = "95 mm^2"
+length = "{a} m"
+insulation = "C"
+zone = "chassis_rail"
+
+[[harness]]
+id = "ISO"
+kind = "joint"
+from = "P1"
+to = "P1B"
+resistance = "0.1 mohm"
+
+[[harness]]
+id = "W-B"
+kind = "cable"
+from = "P1B"
+to = "P2"
+size = "95 mm^2"
+length = "{b} m"
+insulation = "C"
+zone = "chassis_rail"
+"""
+
+
+def _two_segments(a: float, b: float) -> str:
+    return set_key(COACH_TEXT, "F-MAIN", "from", '"P2"') + _TWO_SEGMENTS.format(a=a, b=b)
+
+
+def test_two_unfused_segments_are_measured_together():
+    # Before: two 150 mm segments with an isolator between each passed against ABYC E-11's 7 in
+    # (178 mm). Along the path from the battery terminal the second ends 0.30 m out: WARN.
+    _, vs = verdicts(_two_segments(0.15, 0.15))
+    assert one(vs, "cable.ahead_of_fuse", "W-A").status is Status.PASS
+    v = one(vs, "cable.ahead_of_fuse", "W-B")
+    assert v.value == pytest.approx(0.30)
+    assert v.status is Status.WARN
+    assert "W-A → ISO → W-B" in v.note
+    # Boundary (hand-worked): 0.089 + 0.089 = 0.178 m is within 7 in; 0.090 + 0.089 = 0.179 m is not.
+    _, vs = verdicts(_two_segments(0.089, 0.089))
+    assert one(vs, "cable.ahead_of_fuse", "W-B").status is Status.PASS
+    _, vs = verdicts(_two_segments(0.090, 0.089))
+    assert one(vs, "cable.ahead_of_fuse", "W-B").status is Status.WARN
+
+
+def test_alternator_cable_exempt_only_under_abyc_conditions():
+    # ABYC E-11: an alternator conductor is exempt only when under 40 in (1.02 m), sheathed throughout and
+    # connected to a source other than the battery. The coach's 3.5 m unsheathed ALT -> B+ cable was
+    # "exempt"; it is now an unfused battery run: WARN against 178 mm.
+    _, vs = verdicts(COACH_TEXT)
+    v = one(vs, "cable.ahead_of_fuse", "W-ALT")
+    assert v.status is Status.WARN
+    assert (v.value, v.limit) == (3.5, 0.178)
+    assert "not exempt" in v.note
+    # A 0.9 m sheathed alternator cable landing on the starter post (a source other than the battery),
+    # which the starter cable W-ST joins to the battery: W-ALT is exempt; W-ST is judged as a battery run.
+    t = set_key(set_key(COACH_TEXT, "W-ALT", "to", '"STPOST"'), "W-ALT", "length", '"0.9 m"')
+    t = set_key(t, "W-ALT", "sheathed", "true")
+    t += '\n[[harness]]\nid = "W-ST"\nkind = "cable"\nfrom = "B+"\nto = "STPOST"\nsize = "95 mm^2"\n'
+    t += 'length = "0.15 m"\ninsulation = "C"\nzone = "engine_bay"\n'
+    _, vs = verdicts(t)
+    v = one(vs, "cable.ahead_of_fuse", "W-ALT")
+    assert v.status is Status.PASS and "exempt" in v.note

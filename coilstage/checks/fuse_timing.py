@@ -9,6 +9,7 @@ from coilstage import tables
 from coilstage.analysis.insulation import short_circuit_limit
 from coilstage.analysis.ratings import fuse_gates
 from coilstage.analysis.run import Analysis
+from coilstage.analysis.unfused import unfused_runs
 from coilstage.checks.base import (
     Rule,
     Status,
@@ -154,53 +155,60 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
 
 def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
     d = a.drawing
-    unfused = set(a.unfused)
     pos = d.supply.battery.node
     alt_node = d.supply.alternator.node if d.supply.alternator else None
+    runs = unfused_runs(d, list(a.unfused), pos)
+    cables = {c.id: c for c in d.of_kind(Cable)}
     out = []
-    for c in d.of_kind(Cable):
-        if c.id not in unfused:
+    for cid in a.unfused:
+        c = cables.get(cid)
+        if c is None:
             continue
-        if alt_node is not None and alt_node != pos and alt_node in (c.a, c.b):
+        on_alt = alt_node is not None and alt_node != pos and alt_node in (c.a, c.b)
+        if on_alt and c.length < ABYC_DISTANCES[1] and c.sheathed and pos not in (c.a, c.b):
             out.append(
                 Verdict(
                     AHEAD.id,
                     c.id,
                     Status.PASS,
                     c.length,
-                    None,
+                    ABYC_DISTANCES[1],
                     "m",
-                    None,
+                    ceiling(c.length, ABYC_DISTANCES[1]),
                     AHEAD.clause,
-                    "alternator output cable: exempt (a regulated alternator limits its own current, ABYC E-11); "
-                    "the battery can still feed a fault in it: route it protected",
+                    "alternator output cable shorter than 40 in, sheathed throughout and not connected to the "
+                    "battery: exempt (ABYC E-11, self-limiting alternator); route it protected",
                     "",
                 )
             )
             continue
-        at_battery = pos in (c.a, c.b)
+        run = runs.get(c.id)
+        length, sheathed, on_battery = (
+            (run.length, run.sheathed, run.on_battery) if run else (c.length, c.sheathed, pos in (c.a, c.b))
+        )
         limit = (
-            ABYC_DISTANCES[2] if (c.sheathed and at_battery) else ABYC_DISTANCES[1] if c.sheathed else ABYC_DISTANCES[0]
+            ABYC_DISTANCES[2] if (sheathed and on_battery) else ABYC_DISTANCES[1] if sheathed else ABYC_DISTANCES[0]
         )
         what = (
             "sheathed, on the battery terminal"
-            if c.sheathed and at_battery
-            else "sheathed"
-            if c.sheathed
-            else "not sheathed"
+            if sheathed and on_battery
+            else "sheathed throughout"
+            if sheathed
+            else "not sheathed throughout"
         )
-        out.append(
-            at_most(
-                AHEAD,
-                c.id,
-                c.length,
-                limit,
-                "m",
-                f"{c.length:g} m of cable ahead of any fuse ({what}); no fuse protects it",
-                "",
-                over=Status.WARN,
+        where = " → ".join(run.path) if run and len(run.path) > 1 else c.id
+        note = f"{length:.3g} m of unfused conductor from the battery terminal along {where} ({what})"
+        if on_alt:
+            note += (
+                "; alternator cable not exempt: ABYC E-11 exempts it only when shorter than 40 in (1.02 m), "
+                "sheathed throughout and not connected to the battery"
             )
-        )
+        if length > limit:
+            note += (
+                "; an unfused battery run must be as short as possible and protected against chafe and impact "
+                "(ADR 9.2.2.2-9.2.2.3 where ADR applies; TMC RP 111C)"
+            )
+        out.append(at_most(AHEAD, c.id, length, limit, "m", note, "", over=Status.WARN))
     return out
 
 
@@ -260,8 +268,9 @@ SHORT = Rule(
 )
 AHEAD = Rule(
     "cable.ahead_of_fuse",
-    "Cable ahead of the first fuse no longer than the ABYC E-11 distances (7 in / 40 in / 72 in)",
-    "ABYC E-11 (7 in; 40 in sheathed; 72 in sheathed on the battery terminal); alternator cables exempt",
+    "Conductor ahead of the first fuse, measured along the path from the source, within the ABYC E-11 distances",
+    "ABYC E-11 (7 in; 40 in sheathed; 72 in sheathed on the battery terminal; alternator conductors exempt only "
+    "when under 40 in, sheathed and not connected to the battery); ADR 9.2.2.3 unfused battery circuits",
     _ahead_of_fuse,
     (),
 )

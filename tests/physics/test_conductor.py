@@ -6,9 +6,8 @@ import math
 
 import pytest
 
+from coilstage.analysis.materials import metal
 from coilstage.physics.conductor import (
-    ALPHA20_COPPER,
-    RHO20_COPPER,
     ampacity_ambient_factor,
     awg_area,
     awg_diameter,
@@ -16,6 +15,8 @@ from coilstage.physics.conductor import (
     resistance_at_temperature,
     resistance_per_length,
 )
+
+ALPHA20 = metal("copper").alpha20  # IEC 60028, from the data copy
 
 
 @pytest.mark.parametrize(
@@ -43,8 +44,10 @@ def test_awg_resistance_crc_handbook():
 
 
 def test_copper_resistivity_iec60028():
-    # Source: IEC 60028, annealed copper 1/58 ohm mm^2/m = 0.017241 ohm mm^2/m.
-    assert RHO20_COPPER * 1e6 == pytest.approx(0.017241, rel=1e-4)
+    # Source: IEC 60028, annealed copper 1/58 ohm mm^2/m = 0.017241 ohm mm^2/m, alpha20 = 0.00393 /K;
+    # the one copy of the constants is coilstage/data/materials.toml, read through analysis.materials.
+    assert metal("copper").rho20 * 1e6 == pytest.approx(0.017241, rel=1e-4)
+    assert metal("copper").alpha20 == 0.00393
 
 
 @pytest.mark.parametrize(
@@ -54,14 +57,14 @@ def test_copper_resistivity_iec60028():
     [(-40, 0.7642), (-30, 0.8035), (0, 0.9214), (80, 1.2358), (105, 1.3340), (150, 1.5109), (180, 1.6288)],
 )
 def test_copper_r_of_t(t, ratio):
-    r = resistance_at_temperature(1.0, 20.0, t, ALPHA20_COPPER)
+    r = resistance_at_temperature(1.0, 20.0, t, ALPHA20)
     assert r == pytest.approx(ratio, abs=1e-4)
     assert r == pytest.approx((234.5 + t) / (234.5 + 20.0), abs=2e-4)  # IEC 60949 beta = 234.5 K
 
 
 def test_r_of_t_is_invertible_between_any_two_temperatures():
-    r_at_80 = resistance_at_temperature(0.62, 20.0, 80.0, ALPHA20_COPPER)
-    assert resistance_at_temperature(r_at_80, 80.0, 20.0, ALPHA20_COPPER) == pytest.approx(0.62, rel=1e-12)
+    r_at_80 = resistance_at_temperature(0.62, 20.0, 80.0, ALPHA20)
+    assert resistance_at_temperature(r_at_80, 80.0, 20.0, ALPHA20) == pytest.approx(0.62, rel=1e-12)
 
 
 def test_resistance_method_worked_example():
@@ -70,7 +73,7 @@ def test_resistance_method_worked_example():
     k = 234.5
     theta2 = 1.30 * (k + 20.0) - k
     assert theta2 == pytest.approx(96.35, abs=1e-9)
-    assert resistance_at_temperature(1.0, 20.0, theta2, ALPHA20_COPPER) == pytest.approx(1.30, abs=2e-4)
+    assert resistance_at_temperature(1.0, 20.0, theta2, ALPHA20) == pytest.approx(1.30, abs=2e-4)
 
 
 @pytest.mark.parametrize(

@@ -141,6 +141,11 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
         "--brief", action="store_true", help="only the result and the action list (no evidence tables or plots)"
     )
     c.add_argument(
+        "--suggest",
+        action="store_true",
+        help="add to each failure or warning what would pass (a checked part size or rating; takes seconds)",
+    )
+    c.add_argument(
         "--summary", action="store_true", help="fleet mode: check many drawings and print one summary line each"
     )
     c.add_argument(
@@ -209,6 +214,8 @@ def _check(args: argparse.Namespace) -> int:
     from coilstage.report import document
 
     doc = document.build(analysis, verdicts)
+    if args.suggest:
+        doc = _with_suggestions(doc, verdicts, drawing_path)
 
     from coilstage.report import parts, record
 
@@ -236,6 +243,24 @@ def _check(args: argparse.Namespace) -> int:
             f"{summ['not_checked']} not checked" + (f"; report written to {args.output}" if args.output else "")
         )
     return EXIT_FAIL if summ["fail"] else EXIT_OK
+
+
+def _with_suggestions(doc: dict[str, Any], verdicts: Any, drawing_path: Path) -> dict[str, Any]:
+    """The document with each verdict's ``suggestion``: the text of a checked part that would clear it
+    (:func:`coilstage.sizing.suggestions`), or None. Sizing that cannot run is said on stderr."""
+    from coilstage import sizing
+
+    try:
+        found = sizing.suggestions(drawing_path.read_text(encoding="utf-8-sig"), str(drawing_path), drawing_path.parent)
+    except sizing.SizingError as exc:
+        _err(f"coilstage: --suggest: no suggestions ({exc})")
+        return doc
+    by = sizing.suggestions_by_verdict(verdicts, found)
+    rows = []
+    for v in doc["verdicts"]:
+        s = by.get((v["rule"], v["subject"]))
+        rows.append({**v, "suggestion": s["text"] if s else None})
+    return {**doc, "verdicts": rows}
 
 
 # ---------------------------------------------------------------------------------------------------- waveforms

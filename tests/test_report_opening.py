@@ -129,3 +129,15 @@ def test_brief_through_the_command(drawing, tmp_path):
     assert main(["check", str(drawing), "--brief", "-o", str(out)]) == 0
     body = out.read_text()
     assert body.startswith("RESULT:") and "COLD corner" not in body
+
+
+def test_suggest_fills_the_action_list_and_keeps_the_schema(tmp_path):
+    jsonschema = pytest.importorskip("jsonschema")
+    out = tmp_path / "r.json"
+    assert main(["check", str(FLAWED), "--suggest", "-f", "json", "-o", str(out)]) == 1
+    doc = json.loads(out.read_text())
+    jsonschema.validate(doc, json.loads((ROOT / "docs" / "report-schema.json").read_text()))
+    items = [v for g in doc["actions"]["failures"] for v in g["items"]]
+    with_text = [v for v in items if v["suggestion"]]
+    assert with_text and all(isinstance(v["suggestion"], str) for v in with_text)
+    assert all("suggestion" not in v for v in doc["verdicts"])

@@ -31,6 +31,8 @@ def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dic
     for k, v in doc.items():
         if k not in out and k != "schema_version":
             out[k] = v
+    # a suggestion belongs to the action list; the verdicts keep their documented shape
+    out["verdicts"] = [{k: x for k, x in v.items() if k != "suggestion"} for v in doc["verdicts"]]
     if parts is not None:
         out["parts"] = parts
     text = json.dumps(safe.guard(out, for_json=True), indent=2, ensure_ascii=False, allow_nan=False)

@@ -24,6 +24,7 @@ from coilstage.analysis.linear import case_networks
 from coilstage.analysis.ratings import Ratings, ratings
 from coilstage.analysis.switching import SwitchingResult, analyse_switching
 from coilstage.analysis.topology import protected_cables, switched_stages, unfused_feed_cables
+from coilstage.analysis.worst import WorstCases, worst_cases
 from coilstage.drawing.schema import Drawing
 
 
@@ -48,6 +49,7 @@ class Analysis:
     field: FieldResult
     descent: DutyResult | None  # the drawing's duty profile
     continuous: DutyResult | None  # continuous full retardation
+    worst: WorstCases | None = None  # each rule's worst case (largest / smallest fault, lowest bus, largest current)
 
 
 def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:
@@ -84,4 +86,5 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         analyse_field(d, corners, nets["cold"]),
         descent,
         continuous,
+        worst_cases(d, cases, protected, duty),
     )

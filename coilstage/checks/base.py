@@ -8,6 +8,7 @@ for a floor; temperatures on the kelvin scale.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -22,6 +23,18 @@ class Status(StrEnum):
 
 
 @dataclass(frozen=True)
+class WorstOf:
+    """How a verdict decided at its worst case compares with the nominal case: the nominal status,
+    value and margin, the name of the worst-case conditions, and the inputs that decided them."""
+
+    nominal_status: Status
+    nominal_value: float | None
+    nominal_margin: float | None
+    conditions: str
+    deciding: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
 class Verdict:
     rule: str
     subject: str
@@ -33,6 +46,7 @@ class Verdict:
     clause: str
     note: str
     corner: str = ""
+    worst: WorstOf | None = None  # set where the verdict is decided at its own worst case
 
     def __post_init__(self) -> None:
         if self.status is Status.NOT_CHECKED and not self.note:
@@ -117,3 +131,33 @@ def at_least(
 
 def not_checked(rule: Rule, subject: str, reason: str, unit: str = "", corner: str = "") -> Verdict:
     return Verdict(rule.id, subject, Status.NOT_CHECKED, None, None, unit, None, rule.clause, reason, corner)
+
+
+_RANK = {Status.PASS: 0, Status.NOT_CHECKED: 1, Status.WARN: 2, Status.FAIL: 3}
+
+
+def decided_at_worst(worst: Verdict, nominal: Verdict, conditions: str, deciding: tuple[str, ...] = ()) -> Verdict:
+    """The verdict at the worst case, carrying the nominal status, value and margin beside it.
+
+    The status and margin are the worst case's; where the nominal case is the harsher of the two (a
+    bounding envelope can be), the nominal verdict is kept and its note gives the other. A
+    nominal pass that does not pass at its worst case says that first in its note."""
+    if _RANK[nominal.status] > _RANK[worst.status] or (
+        nominal.status is worst.status
+        and nominal.margin is not None
+        and worst.margin is not None
+        and nominal.margin < worst.margin
+    ):
+        tag = WorstOf(nominal.status, nominal.value, nominal.margin, nominal.corner or "nominal", ())
+        here = nominal.corner or "nominal"
+        note = f"{nominal.note} (the {here} case is the worse here; at the {conditions}: {worst.note})"
+        return dataclasses.replace(nominal, note=note, worst=tag)
+    tag = WorstOf(nominal.status, nominal.value, nominal.margin, nominal.corner or "nominal", deciding)
+    note = worst.note
+    if nominal.status is not worst.status:
+        note = f"{nominal.status.value} nominally, {worst.status.value.upper()} at the {conditions}: {note}"
+    elif nominal.margin is not None and worst.margin is not None:
+        note = f"margin {nominal.margin:.0%} nominally, {worst.margin:.0%} at the {conditions}: {note}"
+    if deciding:
+        note += "; decided by " + "; ".join(deciding)
+    return dataclasses.replace(worst, note=note, corner=conditions, worst=tag)

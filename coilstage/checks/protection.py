@@ -11,6 +11,7 @@ from coilstage.checks.base import (
     at_least,
     at_most,
     ceiling,
+    decided_at_worst,
     not_checked,
 )
 from coilstage.drawing.schema import Cable, Fuse, Relay
@@ -20,21 +21,28 @@ def _fuse_continuous(a: Analysis) -> list[Verdict]:
     out = []
     frac = float(tables.fuse_rules()["continuous_fraction"])
     for f in a.drawing.of_kind(Fuse):
-        i = a.duty[f.id]
         rer = tables.fuse_rerating(f.zone_temperature)
         carry = f.rating * rer
         limit = frac * carry
-        status = Status.PASS if i <= limit else Status.WARN if i <= carry else Status.FAIL
-        note = (
-            f"{f.rating:g} A {f.part} type {f.fuse_type} x {rer:.3f} rerating at {f.zone_temperature:g} °C "
-            f"({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to 100 %; current with "
-            f"{a.duty_state[f.id]} on"
-        )
-        out.append(
-            Verdict(
-                FUSE_CONTINUOUS.id, f.id, status, i, limit, "A", ceiling(i, limit), FUSE_CONTINUOUS.clause, note, "cold"
+
+        def verdict(i: float, corner: str, f=f, rer=rer, carry=carry, limit=limit) -> Verdict:
+            status = Status.PASS if i <= limit else Status.WARN if i <= carry else Status.FAIL
+            note = (
+                f"{i:.1f} A against {f.rating:g} A {f.part} type {f.fuse_type} x {rer:.3f} rerating at "
+                f"{f.zone_temperature:g} °C ({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to "
+                f"100 %; current with {a.duty_state[f.id]} on"
             )
-        )
+            return Verdict(
+                FUSE_CONTINUOUS.id, f.id, status, i, limit, "A", ceiling(i, limit), FUSE_CONTINUOUS.clause, note, corner
+            )
+
+        nominal = verdict(a.duty[f.id], "cold")
+        if a.worst is None:
+            out.append(nominal)
+            continue
+        worst = verdict(a.worst.largest_current[f.id], "largest current")
+        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+        out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
 
 
@@ -125,21 +133,35 @@ def _fuse_voltage(a: Analysis) -> list[Verdict]:
 
 def _fuse_breaking(a: Analysis) -> list[Verdict]:
     out = []
+    lf = a.worst.largest_fault if a.worst is not None else None
     for f in a.drawing.of_kind(Fuse):
         i = a.fault_current[f.id]
-        out.append(
-            at_most(
-                FUSE_BREAKING,
-                f.id,
-                i,
-                f.breaking_capacity,
-                "A",
-                f"bolted short from the load terminal ({f.b}) to chassis ({a.drawing.supply.chassis_node}) "
-                "at the cold corner, battery "
-                f"and alternator feeding; breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})",
-                "cold",
-            )
+        nominal = at_most(
+            FUSE_BREAKING,
+            f.id,
+            i,
+            f.breaking_capacity,
+            "A",
+            f"bolted short from the load terminal ({f.b}) to chassis ({a.drawing.supply.chassis_node}) "
+            "at the cold corner, battery "
+            f"and alternator feeding; breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})",
+            "cold",
         )
+        if lf is None:
+            out.append(nominal)
+            continue
+        iw = lf.at_fuse[f.id]
+        worst = at_most(
+            FUSE_BREAKING,
+            f.id,
+            iw,
+            f.breaking_capacity,
+            "A",
+            f"bolted short from the load terminal ({f.b}) to chassis at the largest fault current {iw:.0f} A; "
+            f"breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})",
+            lf.name,
+        )
+        out.append(decided_at_worst(worst, nominal, lf.name, tuple(f"{k} {v}" for k, v in lf.words)))
     return out
 
 

@@ -9,6 +9,7 @@ from coilstage.checks.base import (
     Verdict,
     at_least,
     at_most,
+    decided_at_worst,
     not_checked,
 )
 
@@ -35,18 +36,31 @@ def _alternator(a: Analysis) -> list[Verdict]:
 def _bus_minimum(a: Analysis) -> list[Verdict]:
     hot = a.corners["hot"]
     s = a.drawing.supply
-    return [
-        at_least(
-            BUS_MINIMUM,
-            "bus",
-            hot.bus_voltage,
-            s.v_min,
-            "V",
-            f"bus at the battery terminals in the hot corner (battery {hot.battery_current:.1f} A, alternator "
-            f"{hot.alternator_current:.1f} A {hot.alternator_mode}) against the {s.limits_source} minimum",
-            "hot",
-        )
-    ]
+    nominal = at_least(
+        BUS_MINIMUM,
+        "bus",
+        hot.bus_voltage,
+        s.v_min,
+        "V",
+        f"bus at the battery terminals in the hot corner (battery {hot.battery_current:.1f} A, alternator "
+        f"{hot.alternator_current:.1f} A {hot.alternator_mode}) against the {s.limits_source} minimum",
+        "hot",
+    )
+    if a.worst is None:
+        return [nominal]
+    low = a.worst.lowest_bus
+    sol = low.solution
+    worst = at_least(
+        BUS_MINIMUM,
+        "bus",
+        low.bus_voltage,
+        s.v_min,
+        "V",
+        f"bus at the battery terminals at the lowest bus {low.bus_voltage:.2f} V (battery {sol.battery_current:.1f} A, "
+        f"alternator {sol.alternator_current:.1f} A {sol.alternator_mode}) against the {s.limits_source} minimum",
+        low.name,
+    )
+    return [decided_at_worst(worst, nominal, low.name, tuple(f"{k} {v}" for k, v in low.words))]
 
 
 ALTERNATOR = Rule(

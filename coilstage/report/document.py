@@ -310,6 +310,15 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
                 "clause": v.clause,
                 "note": v.note,
                 "corner": v.corner,
+                "nominal": None
+                if v.worst is None
+                else {
+                    "status": v.worst.nominal_status.value,
+                    "value": q(v.worst.nominal_value, v.unit),
+                    "margin": v.worst.nominal_margin,
+                },
+                "worst_conditions": None if v.worst is None else v.corner,
+                "deciding": [] if v.worst is None else list(v.worst.deciding),
             }
             for v in verdicts
         ],

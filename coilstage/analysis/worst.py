@@ -1,0 +1,235 @@
+"""Each rule at its own worst case: the largest and the smallest fault, the lowest bus and the largest
+continuous current, built from the drawing and the shipped tolerance defaults
+(``coilstage/data/tolerance_defaults.toml``, every row with its source and status).
+
+* largest fault (breaking capacity): battery EMF of a surface-charged battery (2.2 V per cell), its
+  resistance at the low end (0.9 × stated: new, full, warm), the alternator a current source at its
+  rated output plus its cold excess, cables at the lowest ambient, the rest of the vehicle's loads
+  disconnected (they would take current away from the fault), a bolted fault.
+* smallest fault (disconnection, far-end clearing): battery EMF at the lowest state of charge
+  (open-circuit voltage line), its resistance raised for that charge, the lowest ambient and age, the
+  alternator off (a parked vehicle chafes too), cables at their zone temperature, the rest of the
+  loads connected, and the fault's own resistance.
+* lowest bus (sag, pick-up, braking): the hot corner's temperatures with the battery as in the
+  smallest fault and the alternator at its idle output less its hot derating.
+* largest current (continuous duty): the cold corner with every coil at the low end of its resistance
+  tolerance and the bus held at the regulator's highest end (tolerance plus temperature compensation
+  with the regulator at the lowest ambient).
+
+Stated in the words of each view, so a verdict decided on it can say what decided it.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+
+from coilstage import tables
+from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_resistance
+from coilstage.analysis.conditions import Conditions
+from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
+from coilstage.physics.battery import internal_resistance, open_circuit_voltage
+from coilstage.physics.supply_limits import regulated_bus_range
+
+
+@dataclass(frozen=True)
+class FaultView:
+    """Prospective fault currents under one set of worst-case conditions [A]."""
+
+    name: str
+    words: tuple[tuple[str, str], ...]
+    at_fuse: dict[str, float]  # fuse id -> current at its load terminal [A]
+    far_end: dict[str, float]  # protected cable id -> current of a fault at its far end [A]
+    battery: float  # at the battery terminals [A]
+    battery_emf: float  # [V]
+    battery_resistance: float  # [Ω]
+    fault_resistance: float  # [Ω]
+
+
+@dataclass(frozen=True)
+class BusView:
+    """The network at the lowest bus."""
+
+    name: str
+    words: tuple[tuple[str, str], ...]
+    solution: Solution
+    bus_voltage: float  # at the battery terminals [V]
+
+
+@dataclass(frozen=True)
+class WorstCases:
+    largest_fault: FaultView
+    smallest_fault: FaultView
+    lowest_bus: BusView
+    largest_current: dict[str, float]  # element id -> current [A]
+    largest_current_words: tuple[tuple[str, str], ...]
+    bus_high: float  # the regulator's highest end [V]
+
+
+def defaults() -> dict[str, dict]:
+    """The shipped tolerance defaults by key."""
+    return {r["key"]: r for r in tables.shipped("tolerance_defaults.toml")["table"]["rows"]}
+
+
+def _cells(d: Drawing) -> int:
+    return 12 if d.supply.system_voltage == 24 else 6
+
+
+def _with_battery(d: Drawing, r: float, base_load: float | None = None) -> Drawing:
+    s = d.supply
+    supply = dataclasses.replace(s, battery=dataclasses.replace(s.battery, internal_resistance=r))
+    if base_load is not None:
+        supply = dataclasses.replace(supply, base_load=base_load)
+    return dataclasses.replace(d, supply=supply)
+
+
+def _faults(circuit: Circuit, temps, src: SourceState, protected: dict[str, list[str]], r_fault: float):
+    d = circuit.drawing
+    by_id = circuit.index
+    far = {cid: by_id[cid].b for ids in protected.values() for cid in ids if cid in by_id}
+    places = [d.supply.battery.node, *(f.b for f in d.of_kind(Fuse)), *far.values()]
+    bolted = circuit.fault_currents(temps, src, places)
+    if r_fault > 0:  # Thévenin: I = U_oc / (U_oc / I_bolted + R_f)
+        pre = circuit.solve(temps, src)
+        ref = pre.v[d.supply.chassis_node]
+        u = {n: pre.v[n] - ref for n in bolted}
+        bolted = {n: (u[n] / (u[n] / i + r_fault) if i > 0 and u[n] > 0 else 0.0) for n, i in bolted.items()}
+    return (
+        {f.id: bolted[f.b] for f in d.of_kind(Fuse)},
+        {cid: bolted[n] for cid, n in far.items()},
+        bolted[d.supply.battery.node],
+    )
+
+
+def worst_cases(
+    d: Drawing, cases: dict[str, Conditions], protected: dict[str, list[str]], duty: dict[str, float]
+) -> WorstCases:
+    """The worst-case views of a drawing (see the module docstring); ``duty`` is the nominal largest
+    current of each element [A], scaled here by the ratio of its all-stages-on current at the worst
+    and at the nominal cold case."""
+    tol = defaults()
+    s = d.supply
+    alt = s.alternator
+    cells = _cells(d)
+    t_min = d.environment.ambient_min
+    rb = s.battery.internal_resistance
+    cold_t = cases["cold"].temperatures
+
+    # ---- largest fault
+    emf_max = cells * tol["supply.battery.surface_charge_per_cell"]["high"]
+    rb_min = rb * tol["supply.battery.resistance_min_factor"]["low"]
+    excess = tol["supply.alternator.cold_excess"]["high"]
+    alt_max = alt.limit_rated * (1 + excess) if alt else None
+    dmax = _with_battery(d, rb_min, base_load=0.0)
+    cmax = Circuit(dmax)
+    src = SourceState(emf_max, alt.setpoint if alt else None, alt_max, alt_fixed=True)
+    at, far, bat = _faults(cmax, cold_t, src, protected, 0.0)
+    largest = FaultView(
+        "largest fault",
+        (
+            ("battery", f"EMF {emf_max:.1f} V (2.2 V per cell, just off charge); {rb_min * 1e3:.2f} mΩ (0.9 × stated)"),
+            ("alternator", "absent" if alt is None else f"current source {alt_max:.0f} A (rated + {excess:.0%} cold)"),
+            ("cables", f"{t_min:g} °C (lowest ambient)"),
+            ("other loads", "disconnected"),
+            ("fault", "bolted"),
+        ),
+        at,
+        far,
+        bat,
+        emf_max,
+        rb_min,
+        0.0,
+    )
+
+    # ---- smallest fault
+    soc = tol["supply.battery.state_of_charge"]["low"]
+    age = tol["supply.battery.age_factor"]["high"]
+    emf_min = open_circuit_voltage(soc, cells=cells)
+    rb_max = internal_resistance(
+        rb,
+        soc,
+        t_min,
+        t_reference=25.0,
+        temperature_coefficient=tol["supply.battery.resistance_temperature_coefficient"]["nominal"],
+        empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
+        age_factor=age,
+    )
+    r_fault = tol["tolerances.fault_resistance"]["high"]
+    dmin = _with_battery(d, rb_max)
+    cmin = Circuit(dmin)
+    zone_t = dict(cold_t)
+    zone_t.update({c.id: c.zone_temperature for c in d.of_kind(Cable)})
+    src_min = SourceState(emf_min, None, None, alt_fixed=True)
+    at, far, bat = _faults(cmin, zone_t, src_min, protected, r_fault)
+    battery_words = (
+        f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); {rb_max * 1e3:.1f} mΩ (stated "
+        f"{rb * 1e3:.1f} mΩ at 25 °C, full, raised for {soc:.0%} charge, {t_min:g} °C and age × {age:g})"
+    )
+    smallest = FaultView(
+        "smallest fault",
+        (
+            ("battery", battery_words),
+            ("alternator", "off (engine stopped)"),
+            ("cables", "at their zone temperatures"),
+            ("other loads", "connected"),
+            ("fault", f"{r_fault * 1e3:g} mΩ of its own (chafe or loose contact; from memory)"),
+        ),
+        at,
+        far,
+        bat,
+        emf_min,
+        rb_max,
+        r_fault,
+    )
+
+    # ---- lowest bus
+    hot = cases["hot"]
+    derate = tol["supply.alternator.hot_derating"]["high"]
+    if alt is not None:
+        hot_limit = hot.sources.alt_limit
+        limit = hot_limit * (1 - derate) if hot_limit is not None else None
+        src_low = SourceState(emf_min, alt.setpoint, limit)
+        alt_words = (
+            "off" if limit is None else f"set-point {alt.setpoint:.2f} V, output {limit:.0f} A (hot: −{derate:.0%})"
+        )
+    else:
+        src_low = SourceState(emf_min, None, None)
+        alt_words = "absent"
+    sol = cmin.solve(hot.temperatures, src_low)
+    lowest = BusView(
+        "lowest bus",
+        (("battery", battery_words), ("alternator", alt_words), ("coils and cables", "as the hot corner")),
+        sol,
+        sol.v[s.battery.node],
+    )
+
+    # ---- largest continuous current
+    r_tol = tol["coils.*.resistance_tolerance"]["low"]
+    g = tol["supply.alternator.compensation_24v" if cells == 12 else "supply.alternator.compensation_12v"]["nominal"]
+    cold = cases["cold"]
+    if alt is not None:
+        hi = regulated_bus_range(alt.setpoint, alt.tolerance, g, t_min, max(t_min, 25.0)).high
+        bus_high = max(hi, cold.sources.hold_bus or 0.0)
+        reg_words = (
+            f"held at {bus_high:.2f} V: set-point {alt.setpoint:.2f} V + {alt.tolerance:.2f} V tolerance + "
+            f"{abs(g) * 1e3:g} mV/K compensation at {t_min:g} °C (from 25 °C)"
+        )
+    else:
+        bus_high = cold.sources.hold_bus or cold.sources.battery_emf
+        reg_words = f"held at {bus_high:.2f} V"
+    src_hi = dataclasses.replace(cold.sources, hold_bus=bus_high, battery_emf=bus_high)
+    if src_hi.alt_setpoint is not None:
+        src_hi = dataclasses.replace(src_hi, alt_setpoint=bus_high)
+    overrides = {e.id: element_resistance(e, cold_t.get(e.id, 20.0)) * (1 + r_tol) for e in d.of_kind(Stage)}
+    circuit = Circuit(d)
+    nominal = circuit.solve(cold_t, cold.sources)
+    worst = circuit.solve(cold_t, src_hi, overrides=overrides)
+    largest_current = {
+        k: i * (abs(worst.current[k]) / abs(nominal.current[k]) if abs(nominal.current[k]) > 1e-12 else 1.0)
+        for k, i in duty.items()
+    }
+    words = (
+        ("coils", f"{t_min:g} °C, resistance {r_tol:+.0%} (tolerance; solenoid maker's FAQ)"),
+        ("bus", reg_words),
+    )
+    return WorstCases(largest, smallest, lowest, largest_current, words, bus_high)

@@ -1,0 +1,97 @@
+"""Each rule at its own worst case (issue 10): the worst-case views against hand calculations, and the
+verdicts decided on them carrying their nominal figures."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from coilstage.analysis.run import analyse
+from coilstage.checks import run_checks
+from coilstage.checks.base import Status, Verdict, decided_at_worst
+from coilstage.drawing.load import load_drawing
+
+COACH = "configs/coach-24v-4stage.toml"
+
+
+@pytest.fixture(scope="module")
+def coach():
+    a = analyse(load_drawing(COACH), switching=False, heating=False)
+    return a, {(v.rule, v.subject): v for v in run_checks(a)}
+
+
+def test_smallest_fault_battery_by_hand(coach):
+    a, _ = coach
+    sf = a.worst.smallest_fault
+    # Published OCV table (realexposer.com): 50 % -> 12.24 V per block, 24.48 V per pair.
+    assert sf.battery_emf == pytest.approx(24.48)
+    # Hand-worked from the shipped defaults: 9 mOhm x exp(ln(1.5)/48 x (25 + 30)) x (1 + 0.4 x 0.5) x 1.5.
+    assert sf.battery_resistance == pytest.approx(0.009 * math.exp(0.008447 * 55) * 1.2 * 1.5, rel=1e-4)
+    # The far-end fault of the main feed falls far below the largest: issue 10's first case.
+    assert sf.far_end["W-MAIN"] < 0.5 * a.far_end_fault["W-MAIN"]
+
+
+def test_smallest_fault_with_its_own_resistance_is_bounded(coach):
+    # Hand bound: no fault current can exceed the battery EMF over the battery's and the fault's own
+    # resistance in series (alternator off); the default fault resistance is 5 mOhm (from memory).
+    a, _ = coach
+    sf = a.worst.smallest_fault
+    assert sf.fault_resistance == pytest.approx(0.005)
+    assert 0 < sf.far_end["W-MAIN"] < sf.battery_emf / (sf.battery_resistance + sf.fault_resistance)
+
+
+def test_largest_fault_drops_the_other_loads(coach):
+    # Issue 10 point 5.4: the largest fault with the rest of the vehicle disconnected; surface-charged
+    # battery 12 x 2.2 = 26.4 V (battery retailer's note), 0.9 x 9 mOhm (IEC 61660-1, from memory).
+    a, _ = coach
+    lf = a.worst.largest_fault
+    assert lf.battery_emf == pytest.approx(26.4)
+    assert lf.battery_resistance == pytest.approx(0.0081)
+    assert lf.at_fuse["F1"] > a.fault_current["F1"]
+
+
+def test_breaking_capacity_decided_at_the_largest_fault(coach):
+    a, v = coach
+    f1 = v[("fuse.breaking_capacity", "F1")]
+    assert f1.margin == pytest.approx((3000 - a.worst.largest_fault.at_fuse["F1"]) / 3000)
+    assert f1.worst.nominal_margin == pytest.approx((3000 - a.fault_current["F1"]) / 3000)
+    assert f1.margin < f1.worst.nominal_margin
+    assert f1.corner == "largest fault"
+
+
+def test_continuous_duty_with_coil_tolerance_and_cold_regulator(coach):
+    # Issue 10 case 5: coil R -5 % and the regulator's compensation at -30 degC take the main fuse's
+    # margin from 13 % towards 5 %. Hand estimate of the current ratio: (29.6 V / 28.5 V) / 0.95 = 1.093
+    # less the shared feed's drop.
+    a, v = coach
+    fm = v[("fuse.continuous", "F-MAIN")]
+    assert a.worst.bus_high == pytest.approx(28.2 + 0.3 + 0.020 * 55)
+    ratio = fm.value / fm.worst.nominal_value
+    assert 1.08 < ratio < (29.6 / 28.5) / 0.95 + 1e-9
+    assert fm.worst.nominal_margin == pytest.approx(0.133, abs=0.002)
+    assert fm.margin < 0.06
+
+
+def test_lowest_bus_is_the_battery_behind_its_highest_resistance(coach):
+    a, v = coach
+    low = a.worst.lowest_bus
+    # KCL at the battery: bus = EMF - I_battery R_battery (hand form of the battery's Thévenin source).
+    sf = a.worst.smallest_fault
+    assert low.bus_voltage == pytest.approx(sf.battery_emf - low.solution.battery_current * sf.battery_resistance)
+    assert low.bus_voltage < a.corners["hot"].bus_voltage
+    bus = v[("supply.bus_minimum", "bus")]
+    assert bus.value == pytest.approx(low.bus_voltage)
+    assert bus.worst.nominal_value == pytest.approx(a.corners["hot"].bus_voltage)
+
+
+def test_decided_at_worst_says_a_nominal_pass_that_fails():
+    nom = Verdict("x.y", "s", Status.PASS, 1.0, 2.0, "A", 0.5, "c", "nominal note", "cold")
+    bad = Verdict("x.y", "s", Status.FAIL, 3.0, 2.0, "A", -0.5, "c", "worst note", "w")
+    out = decided_at_worst(bad, nom, "largest fault", ("battery 8 mΩ",))
+    assert out.status is Status.FAIL and out.margin == -0.5
+    assert out.note.startswith("pass nominally, FAIL at the largest fault")
+    assert out.worst.nominal_status is Status.PASS and out.worst.nominal_margin == 0.5
+    # The nominal case harsher than the worst-case definition: the nominal verdict is kept.
+    kept = decided_at_worst(nom, bad, "largest fault")
+    assert kept.status is Status.FAIL and "is the worse here" in kept.note

@@ -560,6 +560,8 @@ def expand_parts(
             if merged is not None:
                 new = merged
                 records.append(rec)
+            else:  # the reference's problem is said once; the element's own keys are still read
+                new = own
         sup = new.get("suppression")
         if isinstance(sup, dict) and "part" in sup:
             own = {k: v for k, v in sup.items() if k != "part"}
@@ -568,6 +570,8 @@ def expand_parts(
             if merged is not None:
                 new["suppression"] = merged
                 records.append(rec)
+            else:
+                new["suppression"] = own
         out_harness.append(new)
     out = dict(raw)
     out["harness"] = out_harness

@@ -19,7 +19,8 @@ Speed comes from three arguments, each checked where it is used:
 
 The drawing may write ``"auto"`` for a cable's ``size``, a fuse's ``rating``, a relay's contact rating
 or a stage's ``suppression``, and ``fixed = true`` on a harness element that sizing must not change;
-:func:`prepare` turns such a text into one the loader reads.
+the loader reads ``fixed`` (``Drawing.fixed``) and refuses ``"auto"`` with a pointer to ``coilstage size``;
+:func:`prepare` turns such a text into one the loader reads, every "auto" replaced by a starting value.
 """
 
 from __future__ import annotations
@@ -115,38 +116,15 @@ class Prepared:
     """A drawing's text made readable by the loader, with what the user asked of sizing."""
 
     text: str  # the text as given
-    loadable: str  # with "auto" replaced by a starting value and the fixed key removed
+    loadable: str  # with "auto" replaced by a starting value
     fixed: set[str] = field(default_factory=set)  # element ids to keep
     auto: dict[tuple[int, str], str] = field(default_factory=dict)  # (harness index, key) -> start value
     ids: dict[int, str] = field(default_factory=dict)  # harness index -> id
 
 
-#: How ``size`` keeps a part's ``fixed = true`` in a drawing it writes while the loader does not read
-#: the key: as this comment, which :func:`prepare` reads back.
-_FIXED_COMMENT = re.compile(r"#[ \t]*fixed[ \t]*=[ \t]*true \(kept by coilstage size\)")
-
-
-def _harness_block(text: str, i: int) -> str:
-    parts = re.split(r"^[ \t]*\[\[harness\]\][^\n]*\n", text, flags=re.MULTILINE)
-    if i + 1 >= len(parts):
-        return ""
-    return re.split(r"^[ \t]*\[", parts[i + 1], maxsplit=1, flags=re.MULTILINE)[0]
-
-
-def _loader_rejects_fixed(text: str) -> bool:
-    """Whether the loader refuses the ``fixed`` key in this text (until it reads it)."""
-    from coilstage.drawing.load import parse_drawing
-    from coilstage.errors import DrawingError
-
-    try:
-        parse_drawing(text)
-    except DrawingError as exc:
-        return any(p.where.endswith(f".{FIXED_KEY}") for p in exc.problems)
-    return False
-
-
 def prepare(text: str) -> Prepared:
-    """Replace every ``"auto"`` by a starting value the loader accepts, and drop ``fixed = true``.
+    """Replace every ``"auto"`` by a starting value the loader accepts, and note the parts marked
+    ``fixed = true`` (the loader reads that key too, and keeps it on ``Drawing.fixed``).
 
     Starting values: a cable at the smallest size of its table, a fuse at the lowest rating of its
     type, a relay at the lowest of the relay series, a stage without suppression. Sizing then
@@ -167,10 +145,6 @@ def prepare(text: str) -> Prepared:
         eid = str(e.get("id", f"#{i}"))
         out.ids[i] = eid
         if e.get(FIXED_KEY) is True:
-            out.fixed.add(eid)
-        if FIXED_KEY in e:
-            doc.delete("harness", i, FIXED_KEY)
-        elif _FIXED_COMMENT.search(_harness_block(text, i)):
             out.fixed.add(eid)
         kind = e.get("kind")
         for key, value in list(e.items()):
@@ -1932,12 +1906,6 @@ def _write(text: str, prepared: Prepared, edits: dict) -> str:
             doc.delete("harness", i, key)
         else:
             doc.set("harness", i, key, format_value(start))
-    if prepared.fixed and _loader_rejects_fixed(doc.text):
-        # keep the mark as a comment the loader skips and `size` reads back
-        for i, eid in prepared.ids.items():
-            if eid in prepared.fixed and doc.get("harness", i, FIXED_KEY) is not None:
-                doc.delete("harness", i, FIXED_KEY)
-                doc.set("harness", i, "id", doc.get("harness", i, "id") + "  # fixed = true (kept by coilstage size)")
     return doc.text
 
 

@@ -160,3 +160,126 @@ def test_every_default_the_loader_applies_is_a_sourced_row():
     for key, row in rows.items():
         assert row["source"] and row["status"] in ("published", "common practice", "from memory"), key
         defaults.default(key)  # parses
+
+
+# ------------------------------------------------------------------ parts, fixed, "auto", defaults
+
+
+def _coach_with_parts() -> str:
+    """The coach with F1 from the invented workshop library (its rating written over), K1 by name
+    alone and S1's suppressor from the library; the [tables] parts entry names the library."""
+    import tomllib
+
+    from coilstage.wirelist import toml_dumps
+
+    raw = tomllib.loads(COACH.read_text(encoding="utf-8"))
+    el = {e["id"]: e for e in raw["harness"]}
+    for k in ("type", "rating", "voltage_rating", "breaking_capacity", "melting_i2t", "resistance"):
+        del el["F1"][k]
+    el["F1"]["part"] = "parts/workshop-parts.toml#F-100-B"
+    el["F1"]["rating"] = "80 A"
+    for k in ("rating_24v", "rating_12v", "rated_ambient", "derating", "voltage_rating", "resistance"):
+        del el["K1"][k]
+    el["K1"]["part"] = "K-150-24"
+    el["K1"]["coil"] = {"feed_resistance": "1.5 ohm", "rise": "25 K"}
+    el["S1"]["suppression"] = {"part": "DZ-24-150"}
+    raw.setdefault("tables", {})["parts"] = "parts/workshop-parts.toml"
+    return toml_dumps(raw)
+
+
+def test_a_library_part_overridden_in_a_drawing_gives_the_typed_verdicts():
+    """The loader expands part references itself (no "part" key reaches the section parsers): the
+    drawing with library parts (F1 at its own 80 A) gives the same elements and the same verdicts as
+    the coach with the same values typed in and F1 typed at 80 A. The invented library's F-100-B,
+    K-150-24 and DZ-24-150 carry the coach's own F1, K1 and S1 values."""
+    import tomllib
+
+    from coilstage import check
+    from coilstage.wirelist import toml_dumps
+
+    got = parse_drawing(_coach_with_parts(), "parts.toml", COACH.parent)
+    raw = tomllib.loads(COACH.read_text(encoding="utf-8"))
+    next(e for e in raw["harness"] if e["id"] == "F1")["rating"] = "80 A"
+    want = parse_drawing(toml_dumps(raw), "typed.toml", COACH.parent)
+
+    def strip(d):
+        return [type(e)(**{**e.__dict__, "where": ""}) for e in d.elements]
+
+    assert strip(got) == strip(want)
+    assert next(e for e in got.elements if e.id == "F1").rating == 80.0
+    verdicts = [(v.rule, v.subject, v.status, v.value) for v in check(got)[1]]
+    assert verdicts == [(v.rule, v.subject, v.status, v.value) for v in check(want)[1]]
+    by = {p.where: p for p in got.provenance}
+    assert by["harness[5] (F1)"].overridden == ("rating",)
+    assert "resistance" in by["harness[5] (F1)"].from_library
+    assert "harness[8] (S1).suppression" in by
+    assert want.provenance == ()
+
+
+def test_parts_dirs_given_to_the_run(tmp_path):
+    """A library given with parts_dirs (the --parts option) resolves a bare name; without it the
+    name is a problem at the reference, said once (no "no such key: part" beside it)."""
+    text = _coach_with_parts().replace('parts = "parts/workshop-parts.toml"', "")
+    d = parse_drawing(text, "x", COACH.parent, parts_dirs=(COACH.parent / "parts",))
+    assert any(p.ref.endswith("#K-150-24") for p in d.provenance)
+    msgs = problems(text)
+    assert any(m.startswith("harness[6] (K1).part") and "no parts library was given" in m for m in msgs)
+    assert not any("no such key" in m for m in msgs)
+
+
+def test_fixed_is_read_and_recorded():
+    text = drawing_text().replace('id = "FM"', 'id = "FM"\nfixed = true')
+    d = parse_drawing(text, "x")
+    assert d.fixed == frozenset({"FM"})
+    assert parse_drawing(drawing_text(), "x").fixed == frozenset()
+    msg = one(drawing_text().replace('id = "FM"', 'id = "FM"\nfixed = "yes"'), "harness[0] (FM).fixed")
+    assert "true or false" in msg
+
+
+@pytest.mark.parametrize(
+    "old, new, where, what",
+    [
+        ('rating = "300 A"', 'rating = "auto"', "harness[0] (FM).rating", "a fuse rating"),
+    ],
+)
+def test_auto_says_what_to_run(old, new, where, what):
+    text = drawing_text().replace(old, new)
+    got = [m for m in problems(text) if m.startswith(where)]
+    assert got == [f'{where}: found "auto"; expected {what} (run coilstage size DRAWING -o NEW.toml to choose one)']
+
+
+def test_auto_on_every_sizable_key():
+    """Cable size, fuse rating, relay rating and stage suppression: each "auto" answered once."""
+    text = COACH.read_text(encoding="utf-8")
+    import re
+
+    text = re.sub(r'size = "[^"]+"', 'size = "auto"', text, count=1)
+    text = re.sub(r'rating_24v = "[^"]+"', 'rating_24v = "auto"', text, count=1)
+    text = re.sub(r"suppression = \{[^}]*\}", 'suppression = "auto"', text, count=1)
+    msgs = [m for m in problems(text) if '"auto"' in m]
+    assert {m.split(": ")[0].rsplit(".", 1)[1] for m in msgs} == {"size", "rating_24v", "suppression"}
+    assert all("run coilstage size DRAWING -o NEW.toml" in m for m in msgs)
+    assert len(msgs) == 3
+
+
+def test_defaults_applied_per_element():
+    """The keys the drawing left out and the loader filled, per element id: rows of
+    drawing_defaults.toml (fuse and relay resistance, relay rated ambient) and the parsers' own
+    defaults (a cable's role); a key the drawing writes is never listed."""
+    text = drawing_text()
+    d = parse_drawing(text, "x")
+    assert set(d.defaults_applied) == {e.id for e in d.elements}
+    assert "resistance" not in d.defaults_applied["FM"] and "rated_ambient" not in d.defaults_applied["K0"]
+    assert "role" in d.defaults_applied["WM"]
+    left_out = text.replace('resistance = "0.2 mohm"\n', "", 1).replace('rated_ambient = "85 degC"\n', "", 1)
+    d2 = parse_drawing(left_out, "x")
+    assert "resistance" in d2.defaults_applied["FM"]
+    assert "rated_ambient" in d2.defaults_applied["K0"]
+    assert "rated_ambient" not in d2.defaults_applied["K1"]  # K1 still writes its own
+
+
+def test_unknown_kind_lists_the_kinds():
+    msg = one(drawing_text().replace('kind = "fuse"', 'kind = "fusee"', 1), "harness[0].kind")
+    for k in ("busbar", "cable", "fuse", "ground", "joint", "relay", "stage"):
+        assert f'"{k}"' in msg
+    assert 'did you mean "fuse"' in msg

@@ -9,16 +9,19 @@ from __future__ import annotations
 
 import re
 import tomllib
+from dataclasses import replace
 from pathlib import Path
 
 from coilstage import tables
 from coilstage.errors import DrawingError, Problem
+from coilstage.parts_library import expand_parts
 
 from .coils import read_coils, read_retarder
 from .corners import read_corners, read_limits
+from .defaults import rows as default_rows
 from .environment import read_environment
 from .harness import Link, read_harness
-from .reader import Reader
+from .reader import MAX_NAME, Reader
 from .schema import Drawing, DrawingInfo, Duty, Limits
 from .structure import check_structure
 from .supply import read_supply
@@ -27,7 +30,7 @@ from .switching import read_duty, read_switching
 #: key path -> the keys allowed there
 KEYS = {
     "drawing": {"author", "format", "note", "revision", "title", "vehicle"},
-    "tables": {"conductors"},
+    "tables": {"conductors", "parts"},
 }
 TOP_KEYS = {
     "drawing",
@@ -45,8 +48,12 @@ TOP_KEYS = {
 }
 
 
-def load_drawing(path: str | Path) -> Drawing:
-    """Read and check the drawing at ``path``; raise DrawingError listing every problem."""
+def load_drawing(path: str | Path, parts_dirs: tuple[str | Path, ...] = ()) -> Drawing:
+    """Read and check the drawing at ``path``; raise DrawingError listing every problem.
+
+    ``parts_dirs``: parts libraries (files or folders) given to the run (``--parts DIR``), beside
+    the drawing's own ``[tables] parts``.
+    """
     p = Path(path)
     try:
         text = p.read_bytes().decode("utf-8-sig")  # a byte-order mark is accepted and dropped
@@ -54,13 +61,15 @@ def load_drawing(path: str | Path) -> Drawing:
         raise DrawingError(str(p), [Problem(str(p), "", f"a readable drawing file ({exc.strerror})")]) from None
     except UnicodeDecodeError:
         raise DrawingError(str(p), [Problem(str(p), "", "a UTF-8 text file")]) from None
-    return parse_drawing(text, str(p), p.parent)
+    return parse_drawing(text, str(p), p.parent, parts_dirs)
 
 
 _TOML_LINE = re.compile(r"\(at line (\d+), column (\d+)\)")
 
 
-def parse_drawing(text: str, source: str = "<drawing>", base_dir: Path | None = None) -> Drawing:
+def parse_drawing(
+    text: str, source: str = "<drawing>", base_dir: Path | None = None, parts_dirs: tuple[str | Path, ...] = ()
+) -> Drawing:
     """Parse drawing text (TOML); see :func:`load_drawing`."""
     text = text.removeprefix("\ufeff")
     try:
@@ -76,10 +85,17 @@ def parse_drawing(text: str, source: str = "<drawing>", base_dir: Path | None = 
     deep = _too_deep(raw)
     if deep is not None:
         raise DrawingError(source, [Problem(deep, "", f"arrays or tables nested at most {MAX_DEPTH} deep")])
+    raw, provenance, part_problems = expand_parts(raw, r.base_dir, tuple(Path(p) for p in parts_dirs))
+    r.problems.extend(part_problems)
+    raw, fixed, autos = _sizing_keys(r, raw)
     drawing = _build(r, raw)
+    if autos:  # the section parsers' own word on "auto" gives way to the one that says what to do
+        r.problems = [p for p in r.problems if p.where not in autos or p.expected == autos[p.where]]
     if r.problems or drawing is None:
         raise DrawingError(source, r.problems)
-    return drawing
+    return replace(
+        drawing, provenance=tuple(provenance), fixed=frozenset(fixed), defaults_applied=_defaults_applied(r, raw)
+    )
 
 
 # ---------------------------------------------------------------- sections
@@ -180,3 +196,113 @@ def _sizes(r: Reader, raw: dict, limits: Limits, links: list[Link], duty: Duty |
                 f"{total:g} s of duty",
                 f'a duty of at most {limits.max_duty:g} s (raise the limit with [limits] max_duty = "{total:g} s")',
             )
+
+
+# ---------------------------------------------------------------- keys for sizing and the parts list
+
+#: The key that keeps a harness element as it is when ``coilstage size`` runs.
+FIXED_KEY = "fixed"
+#: The word that lets ``coilstage size`` choose a part.
+AUTO = "auto"
+#: element kind -> key -> what "auto" stands for there (the words of the problem)
+AUTO_KEYS = {
+    "cable": {"size": "a conductor size"},
+    "ground": {"size": "a conductor size"},
+    "fuse": {"rating": "a fuse rating"},
+    "relay": {"rating_12v": "a contact rating", "rating_24v": "a contact rating"},
+    "stage": {"suppression": "a suppression table"},
+}
+
+
+def _element_where(i: int, e: dict) -> str:
+    """The key path of harness element ``i`` as the section parsers write it."""
+    eid = e.get("id")
+    if isinstance(eid, str) and eid.strip() and len(eid) <= MAX_NAME:
+        return f"harness[{i}] ({eid})"
+    return f"harness[{i}]"
+
+
+def _sizing_keys(r: Reader, raw: dict) -> tuple[dict, set[str], dict[str, str]]:
+    """Take ``fixed`` off every harness element (recording the fixed ids), and answer every
+    ``"auto"`` with what to run. Returns the data for the section parsers, the fixed ids, and
+    key path -> the expected text of each "auto" problem. ``raw`` is not modified."""
+    harness = raw.get("harness")
+    if not isinstance(harness, list):
+        return raw, set(), {}
+    fixed: set[str] = set()
+    autos: dict[str, str] = {}
+    out: list = []
+    for i, e in enumerate(harness):
+        if not isinstance(e, dict):
+            out.append(e)
+            continue
+        where = _element_where(i, e)
+        if FIXED_KEY in e:
+            value = e[FIXED_KEY]
+            if not isinstance(value, bool):
+                r.problem(f"{where}.{FIXED_KEY}", value, "true or false (true: coilstage size keeps this part)")
+            elif value and isinstance(e.get("id"), str):
+                fixed.add(e["id"])
+            e = {k: v for k, v in e.items() if k != FIXED_KEY}
+        for key, what in AUTO_KEYS.get(e.get("kind"), {}).items():  # type: ignore[arg-type]
+            if e.get(key) == AUTO:
+                path = f"{where}.{key}"
+                expected = f"{what} (run coilstage size DRAWING -o NEW.toml to choose one)"
+                r.problem(path, AUTO, expected)
+                autos[path] = expected
+        out.append(e)
+    return {**raw, "harness": out}, fixed, autos
+
+
+#: element kind -> (key of drawing_defaults.toml, the element's key it fills, when it applies)
+_TABLE_DEFAULTS = {
+    "fuse": [("fuse.resistance", "resistance", lambda e: True)],
+    "relay": [
+        ("relay.resistance", "resistance", lambda e: True),
+        ("relay.rated_ambient", "rated_ambient", lambda e: True),
+        ("relay.coil.rise", "coil.rise", lambda e: isinstance(e.get("coil"), dict)),
+    ],
+    "stage": [
+        (
+            "suppression.forward_voltage",
+            "suppression.forward_voltage",
+            lambda e: (
+                isinstance(e.get("suppression"), dict)
+                and e["suppression"].get("kind") in ("diode", "diode_zener", "diode_resistor")
+            ),
+        )
+    ],
+    "cable": [("cable.wall", "wall", lambda e: "outer_diameter" not in e)],
+    "ground": [("cable.wall", "wall", lambda e: "outer_diameter" not in e and "resistance" not in e)],
+}
+
+
+def _has(e: dict, dotted: str) -> bool:
+    head, _, rest = dotted.partition(".")
+    if not rest:
+        return head in e
+    return isinstance(e.get(head), dict) and _has(e[head], rest)
+
+
+def _defaults_applied(r: Reader, raw: dict) -> dict[str, frozenset[str]]:
+    """element id -> the keys the loader filled with a default value (the reader's record of keys
+    left out that took a default, and the shipped defaults of drawing_defaults.toml the element
+    did not write)."""
+    out: dict[str, set[str]] = {}
+    prefixes: dict[str, str] = {}
+    shipped = default_rows()
+    for i, e in enumerate(raw.get("harness") or []):
+        if not isinstance(e, dict) or not isinstance(e.get("id"), str):
+            continue
+        eid = e["id"]
+        prefixes[_element_where(i, e) + "."] = eid
+        keys = out.setdefault(eid, set())
+        for table_key, key, applies in _TABLE_DEFAULTS.get(e.get("kind"), []):  # type: ignore[arg-type]
+            if table_key in shipped and applies(e) and not _has(e, key):
+                keys.add(key)
+    for path in r.defaulted:
+        for prefix, eid in prefixes.items():
+            if path.startswith(prefix):
+                out[eid].add(path[len(prefix) :])
+                break
+    return {eid: frozenset(keys) for eid, keys in out.items()}

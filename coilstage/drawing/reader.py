@@ -45,6 +45,8 @@ class Reader:
         self.base_dir = base_dir
         self.problems: list[Problem] = []
         self.assumptions: list[str] = []
+        #: key paths (``harness[3] (F1).count``) the drawing left out and a default value filled
+        self.defaulted: list[str] = []
 
     # -- generic helpers
     def problem(self, where: str, found: Any, expected: str) -> None:
@@ -76,6 +78,8 @@ class Reader:
             if default is MISSING:
                 self.problem(path, MISSING, f"a value ({expected or 'required'})")
                 return None
+            if default is not None:
+                self.defaulted.append(path)
             return default
         try:
             return parse(raw[key])

@@ -95,3 +95,14 @@ def test_decided_at_worst_says_a_nominal_pass_that_fails():
     # The nominal case harsher than the worst-case definition: the nominal verdict is kept.
     kept = decided_at_worst(nom, bad, "largest fault")
     assert kept.status is Status.FAIL and "is the worse here" in kept.note
+
+
+def test_time_to_limit_quotes_its_own_run():
+    # Issue 10 point 5.2: the time and the temperature beside it come from one run (the continuous
+    # profile), not the time from the profile and the temperature from the hot corner (alternator idle).
+    a = analyse(load_drawing("configs/flawed-retrofit-24v.toml"), switching=False)
+    v = {x.subject: x for x in run_checks(a) if x.rule == "winding.time_to_limit"}
+    k = a.continuous.stage_ids.index("S1")
+    end = float(a.continuous.stage_temperature[-1, k])
+    assert f"same run: {end:.0f} °C" in v["S1"].note
+    assert abs(end - a.corners["hot"].temperatures["S1"]) > 5  # the two differ: 182 against 190 °C

@@ -283,3 +283,11 @@ def test_unknown_kind_lists_the_kinds():
     for k in ("busbar", "cable", "fuse", "ground", "joint", "relay", "stage"):
         assert f'"{k}"' in msg
     assert 'did you mean "fuse"' in msg
+
+
+@pytest.mark.parametrize("bad", ["{ a = 1 }", '["fuse"]', "3"])
+def test_a_kind_that_is_not_text_lists_the_kinds(bad):
+    """A table, a list or a number as an element's kind: a problem naming the kinds, no crash in the
+    loader's own passes (parts, fixed, "auto", defaults)."""
+    msg = one(drawing_text().replace('kind = "fuse"', f"kind = {bad}", 1), "harness[0].kind")
+    assert 'expected one of "busbar", "cable", "fuse", "ground", "joint", "relay", "stage"' in msg

@@ -244,7 +244,8 @@ def _sizing_keys(r: Reader, raw: dict) -> tuple[dict, set[str], dict[str, str]]:
             elif value and isinstance(e.get("id"), str):
                 fixed.add(e["id"])
             e = {k: v for k, v in e.items() if k != FIXED_KEY}
-        for key, what in AUTO_KEYS.get(e.get("kind"), {}).items():  # type: ignore[arg-type]
+        kind = e.get("kind")
+        for key, what in (AUTO_KEYS.get(kind, {}) if isinstance(kind, str) else {}).items():
             if e.get(key) == AUTO:
                 path = f"{where}.{key}"
                 expected = f"{what} (run coilstage size DRAWING -o NEW.toml to choose one)"
@@ -297,7 +298,8 @@ def _defaults_applied(r: Reader, raw: dict) -> dict[str, frozenset[str]]:
         eid = e["id"]
         prefixes[_element_where(i, e) + "."] = eid
         keys = out.setdefault(eid, set())
-        for table_key, key, applies in _TABLE_DEFAULTS.get(e.get("kind"), []):  # type: ignore[arg-type]
+        kind = e.get("kind")
+        for table_key, key, applies in _TABLE_DEFAULTS.get(kind, []) if isinstance(kind, str) else []:
             if table_key in shipped and applies(e) and not _has(e, key):
                 keys.add(key)
     for path in r.defaulted:

@@ -6,7 +6,9 @@ resolved every table look-up and recorded every default it applied in ``Drawing.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
+from typing import Any
 
 
 @dataclass(frozen=True)
@@ -329,6 +331,13 @@ class Drawing:
     ac_comparison: ACComparison | None = None
     assumptions: tuple[str, ...] = field(default_factory=tuple)
     info: DrawingInfo = DrawingInfo()
+    #: where values came from a parts library (parts_library.Provenance), one per element or suppression table
+    provenance: tuple[Any, ...] = field(default_factory=tuple)
+    #: ids of the harness elements marked ``fixed = true`` (sizing keeps them as they are)
+    fixed: frozenset[str] = frozenset()
+    #: element id -> the keys (relative to the element, e.g. "resistance", "coil.rise") the loader filled
+    #: with a default because the drawing left them out
+    defaults_applied: Mapping[str, frozenset[str]] = field(default_factory=dict)
 
     def of_kind(self, cls: type) -> list:
         return [e for e in self.elements if isinstance(e, cls)]

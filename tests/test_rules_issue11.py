@@ -165,3 +165,21 @@ def test_alternator_cable_exempt_only_under_abyc_conditions():
     _, vs = verdicts(t)
     v = one(vs, "cable.ahead_of_fuse", "W-ALT")
     assert v.status is Status.PASS and "exempt" in v.note
+
+
+# ---------------------------------------------------------------- release without suppression
+
+
+def test_release_without_suppression_is_an_arc_not_zero_ms():
+    # Before: coach S1 without suppression passed stage.release_time at "0 ms" against 300 ms. The current
+    # is broken by an arc at the contact: FAIL where a release limit is given, with the reason.
+    _, vs = verdicts(del_key(COACH_TEXT, "S1", "suppression"))
+    v = one(vs, "stage.release_time", "S1")
+    assert v.status is Status.FAIL and v.value is None
+    assert "arc" in v.note
+    # Passing case: the coach's diode + 24 V zener: 53.5 A falls to 5 % in about 60 ms (closed form
+    # t = tau ln((I0 + U/R)/(x I0 + U/R))), within 300 ms.
+    _, vs = verdicts(COACH_TEXT)
+    v = one(vs, "stage.release_time", "S1")
+    assert v.status is Status.PASS
+    assert v.value == pytest.approx(60.2, abs=0.5)

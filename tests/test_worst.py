@@ -106,3 +106,38 @@ def test_time_to_limit_quotes_its_own_run():
     end = float(a.continuous.stage_temperature[-1, k])
     assert f"same run: {end:.0f} °C" in v["S1"].note
     assert abs(end - a.corners["hot"].temperatures["S1"]) > 5  # the two differ: 182 against 190 °C
+
+
+def test_hot_steady_state_with_unmodelled_neighbours_closes():
+    # Issue 10 point 5.1: S3 and S4 on a coil without a thermal model (stated hot 150 °C); S1's steady
+    # state must be solved with them at 150 °C, the state the hot corner then runs. Independent check:
+    # at the hot corner's own solution, S1's winding temperature equals zone + P·Rth with P = I²R at
+    # that temperature (the steady heat balance, physics.thermal), to 0.01 K.
+    import dataclasses
+
+    from coilstage.analysis.quasistatic import stage_thermal_resistance
+    from coilstage.drawing.schema import Stage
+
+    d0 = load_drawing(COACH)
+    rc = d0.coils["RC4"]
+    plain = dataclasses.replace(
+        rc,
+        name="RC4P",
+        thermal_resistance=None,
+        thermal_resistance_moving=None,
+        heat_capacity=None,
+        hot_temperature=150.0,
+        hot_temperature_source="stated",
+    )
+    els = tuple(
+        dataclasses.replace(e, coil=plain) if isinstance(e, Stage) and e.id in ("S3", "S4") else e for e in d0.elements
+    )
+    d = dataclasses.replace(d0, coils=dict(d0.coils, RC4P=plain), elements=els)
+    a = analyse(d, switching=False, heating=False)
+    hot = a.corners["hot"]
+    s1 = next(s for s in hot.stages if s.id == "S1")
+    stage = next(e for e in d.stages if e.id == "S1")
+    p = s1.current**2 * hot.solution.resistance["S1"]
+    assert hot.temperatures["S1"] == pytest.approx(
+        stage.coil.zone_temperature + p * stage_thermal_resistance(stage, True), abs=0.01
+    )

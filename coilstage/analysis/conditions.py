@@ -83,7 +83,11 @@ def hot_winding_temperatures(d: Drawing) -> dict[str, float]:
         limit = hot_alternator_limit(d)
         net = QuasiStatic(d, d.corners.hot_battery_emf, alt.setpoint if alt else None)
         t_cab = np.array([c.zone_temperature for c in net.cables])
-        t_st = np.array([s.coil.zone_temperature for s in net.stages])
+        # a neighbour without a thermal model stands at the hot temperature the hot corner then runs it at,
+        # so the heat balance of the modelled windings closes in the same state (issue 10 point 5.1)
+        t_st = np.array(
+            [s.coil.zone_temperature if s.coil.has_thermal_model else s.coil.hot_temperature for s in net.stages]
+        )
         on = np.ones(len(net.stages), dtype=bool)
         mask = np.array([s.coil.has_thermal_model for s in net.stages])
         rth = np.where(mask, np.nan_to_num([stage_thermal_resistance(s, True) for s in net.stages]), 1.0)

@@ -122,7 +122,12 @@ def test_distance_ahead_of_fuse_sheathed_40_in_abyc(length, status):
 def _unsuppressed_dc5(inductance_mh: float) -> str:
     text = drawing_text(stages=1, extra="[switching]\ncycles = 50\n")
     text = text.replace('inductance = "50 mH"', f'inductance = "{inductance_mh:.6f} mH"', 1)
-    return re.sub(r'(id = "K0"\nkind = "relay"\n)', r'\1categories = ["DC-5"]\n', text, count=1)
+    return re.sub(
+        r'(id = "K0"\nkind = "relay"\n)',
+        r'\1categories = [{ category = "DC-5", current = "300 A", voltage = "60 V" }]\n',
+        text,
+        count=1,
+    )
 
 
 def test_dc5_time_constant_iec60947_4_1():

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 from coilstage import tables
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
@@ -100,7 +102,24 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
             if ib is not None:
                 note += f" (the stated {ib[0]:g} A at {ib[1] * 1e3:g} ms does not cover it)"
         elif any(order.index(c) >= order.index(need) for c in rated if c in order):
-            status, note = Status.PASS, f"unsuppressed, L/R {tau * 1e3:.1f} ms needs {need}; the relay is rated for it"
+            covering = [c for c in rated if c in order and order.index(c) >= order.index(need)]
+            status, note, fig = _category_rating(a, relay, covering, need, tau, i_break)
+            if fig is not None:
+                out.append(
+                    Verdict(
+                        RELAY_BREAKING.id,
+                        relay.id,
+                        status,
+                        fig[0],
+                        fig[1],
+                        fig[2],
+                        ceiling(fig[0], fig[1]),
+                        RELAY_BREAKING.clause,
+                        note,
+                        "cold",
+                    )
+                )
+                continue
         else:
             status, note = (
                 Status.WARN,
@@ -124,6 +143,76 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
             )
         )
     return out
+
+
+def _test_tau(category: str, u_e: float, i_e: float, frequent: bool) -> float:
+    """L/R of a category's type test for a contact rated ``i_e`` [A] at ``u_e`` [V] [s]: the
+    durability test's where the contact switches more often than the make/break test (IEC 60947-4-1),
+    DC-13's T0.95 = 6·P ms (P = U_e·I_e, capped at 300 ms) over ln 20 (IEC 60947-5-1)."""
+    rows = [r for r in tables.shipped("utilization_tests_iec60947.toml")["table"]["rows"] if r["category"] == category]
+    if not rows:
+        return _tau_limit(category, u_e * i_e)
+    pick = [r for r in rows if r["test"] in (("durability", "normal") if frequent else ("make_break", "normal"))]
+    row = (pick or rows)[0]
+    if "t95_per_watt" in row:
+        return min(row["t95_per_watt"] * u_e * i_e, row["t95_cap"]) / math.log(20.0)
+    return float(row["tau"])
+
+
+def _category_rating(a: Analysis, relay: Relay, covering: list[str], need: str, tau: float, i_break: float):
+    """Status, note and (value, limit, unit) of an unsuppressed break against the relay's rated categories:
+    a category covers the load only within its rated current I_e at its voltage U_e (IEC 60947-4-1 / -5-1),
+    and, for a contact switched more often than the make/break test's operations, within the durability
+    test's time constant."""
+    u_max = a.drawing.corners.limit_bus
+    cycles = a.drawing.switching.cycles
+    frequent = cycles > int(tables.shipped("utilization_tests_iec60947.toml")["table"]["frequent_switching_above"])
+    ratings = [x for x in relay.category_ratings if x[0] in covering]
+    if not ratings:
+        return (
+            Status.WARN,
+            f"unsuppressed, L/R {tau * 1e3:.1f} ms at {i_break:.1f} A needs {need}; the relay names "
+            f"{', '.join(covering)} without its rated current and voltage, and a category covers a load only "
+            "within its I_e at U_e (IEC 60947-4-1 / -5-1): give them, e.g. "
+            '{ category = "DC-13", current = "2.5 A", voltage = "24 V" }',
+            None,
+        )
+    worst = None
+    for cat, i_e, u_e in ratings:
+        t_lim = _test_tau(cat, u_e, i_e, frequent)
+        test = "durability" if frequent and cat in ("DC-1", "DC-3", "DC-5") else "type"
+        fails = []
+        if i_break > i_e:
+            fails.append(
+                (f"the break current {i_break:.1f} A exceeds the {cat} rated current {i_e:g} A", i_break, i_e, "A")
+            )
+        if u_max > u_e:
+            fails.append((f"the highest bus {u_max:g} V exceeds the {cat} rated voltage {u_e:g} V", u_max, u_e, "V"))
+        if tau > t_lim:
+            fails.append(
+                (
+                    f"L/R {tau * 1e3:.1f} ms exceeds the {cat} {test} test's {t_lim * 1e3:.1f} ms"
+                    + (f" ({cycles:,} switchings: the durability test applies)" if test == "durability" else ""),
+                    tau * 1e3,
+                    t_lim * 1e3,
+                    "ms",
+                )
+            )
+        if not fails:
+            return (
+                Status.PASS,
+                f"unsuppressed, L/R {tau * 1e3:.1f} ms at {i_break:.1f} A: within the relay's {cat} rating "
+                f"{i_e:g} A at {u_e:g} V (test L/R {t_lim * 1e3:.1f} ms)",
+                (i_break, i_e, "A"),
+            )
+        worst = worst or fails[0]
+    why, v, lim, unit = worst
+    return (
+        Status.FAIL,
+        f"unsuppressed, {why}: IEC 60947 rates a category only with its I_e at U_e and the test's L/R; "
+        "fit suppression at the coil or a contact rated for this break",
+        (v, lim, unit),
+    )
 
 
 def _tau_limit(category: str, power: float) -> float:

@@ -59,12 +59,33 @@ def read_relay(r, e, where, env, common, system) -> Relay | None:
         r.assume(f"{where}.resistance not given: the contact is taken as 0 ohm")
     cats: tuple[str, ...] = ()
     known = [row["category"] for row in tables.utilization_categories()]
+    cat_ratings: list[tuple[str, float, float]] = []
     if "categories" in e:
         c = e["categories"]
-        if not isinstance(c, list) or not all(isinstance(x, str) and x in known for x in c):
-            r.problem(f"{where}.categories", c, "a list of rated categories from " + ", ".join(known))
+        want = (
+            "a list of rated categories from "
+            + ", ".join(known)
+            + ', each a name or { category = "DC-13", current = "2.5 A", voltage = "24 V" }'
+        )
+        names = []
+        if not isinstance(c, list):
+            r.problem(f"{where}.categories", c, want)
         else:
-            cats = tuple(c)
+            for i, x in enumerate(c):
+                wi = f"{where}.categories[{i}]"
+                if isinstance(x, str) and x in known:
+                    names.append(x)
+                elif (
+                    isinstance(x, dict) and x.get("category") in known and set(x) <= {"category", "current", "voltage"}
+                ):
+                    ie = r.quantity(x, "current", wi, "current", positive=True)
+                    ue = r.quantity(x, "voltage", wi, "voltage", positive=True)
+                    names.append(x["category"])
+                    if ie is not None and ue is not None:
+                        cat_ratings.append((x["category"], ie, ue))
+                else:
+                    r.problem(wi, x, want)
+            cats = tuple(names)
     ib = r.value(e, "inductive_break", where, lambda t: parse_pair(t, "current", "time"), default=None)
     if ib is not None and not (ib[0] > 0 and ib[1] > 0):
         r.problem(
@@ -90,6 +111,7 @@ def read_relay(r, e, where, env, common, system) -> Relay | None:
         categories=cats,
         inductive_break=ib,
         coil=coil,
+        category_ratings=tuple(cat_ratings),
     )
 
 

@@ -217,9 +217,9 @@ class Cable(Element):
     conductor_diameter: float | None = None  # [m], for the heat balance
     outer_diameter: float | None = None  # [m]
     diameter_source: str = ""
-
-
     insulation_material: str = ""  # key of insulation_materials.toml; "" = the ISO 6722 class's default
+
+
 @dataclass(frozen=True)
 class Fuse(Element):
     fuse_type: str
@@ -252,6 +252,7 @@ class Relay(Element):
     categories: tuple[str, ...] = ()  # rated DC utilization categories (IEC 60947)
     inductive_break: tuple[float, float] | None = None  # rated break current [A] at a time constant [s]
     coil: RelayCoil | None = None
+    category_ratings: tuple[tuple[str, float, float], ...] = ()  # (category, I_e [A], U_e [V]) as rated
 
 
 @dataclass(frozen=True)

@@ -141,3 +141,29 @@ def test_hot_steady_state_with_unmodelled_neighbours_closes():
     assert hot.temperatures["S1"] == pytest.approx(
         stage.coil.zone_temperature + p * stage_thermal_resistance(stage, True), abs=0.01
     )
+
+
+def test_tolerance_defaults_listed_once_under_assumptions(coach):
+    """Every tolerance default the worst cases take is a listed assumption with its value, source and
+    status, once. Reference: the shipped rows of coilstage/data/tolerance_defaults.toml, read here with
+    tomllib (independent of the loader), and the 24 V coach's 12 cells."""
+    import tomllib
+    from pathlib import Path
+
+    from coilstage.report.document import build
+
+    a, verdicts = coach
+    rows = {
+        r["key"]: r for r in tomllib.loads(Path("coilstage/data/tolerance_defaults.toml").read_text())["table"]["rows"]
+    }
+    doc = build(a, list(verdicts.values()))
+    lines = [x for x in doc["assumptions"] if x.startswith("worst-case default ")]
+    assert len(lines) == len(set(lines)) == 11
+    by_key = {x.split(" ")[2]: x for x in lines}
+    assert "supply.alternator.compensation_12v" not in by_key  # a 24 V drawing takes the 24 V gradient
+    for key, line in by_key.items():
+        assert rows[key]["source"] in line and rows[key]["status"] in line
+    assert "= 50 % (low end of 50 % to 100 %)" in by_key["supply.battery.state_of_charge"]
+    assert "= 5 mΩ (high end of 0 mΩ to 5 mΩ)" in by_key["tolerances.fault_resistance"]
+    assert "= -5 % (low end of -5 % to +5 %)" in by_key["coils.*.resistance_tolerance"]
+    assert "= -20 mV/K" in by_key["supply.alternator.compensation_24v"]

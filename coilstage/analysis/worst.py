@@ -64,6 +64,53 @@ class WorstCases:
     largest_current: dict[str, float]  # element id -> current [A]
     largest_current_words: tuple[tuple[str, str], ...]
     bus_high: float  # the regulator's highest end [V]
+    assumptions: tuple[str, ...] = ()  # each tolerance default used, with its value, source and status
+
+
+# The shipped defaults the worst cases take, with the end each one uses (``None``: the nominal value).
+_USED: tuple[tuple[str, str], ...] = (
+    ("supply.battery.surface_charge_per_cell", "high"),
+    ("supply.battery.resistance_min_factor", "low"),
+    ("supply.alternator.cold_excess", "high"),
+    ("supply.battery.state_of_charge", "low"),
+    ("supply.battery.resistance_temperature_coefficient", "nominal"),
+    ("supply.battery.resistance_empty_factor", "high"),
+    ("supply.battery.age_factor", "high"),
+    ("tolerances.fault_resistance", "high"),
+    ("supply.alternator.hot_derating", "high"),
+    ("coils.*.resistance_tolerance", "low"),
+)
+
+
+def _fmt(row: dict, end: str) -> str:
+    """A default's value in the words of its unit (fractions as percent, factors as ×, ohms in mΩ)."""
+    v, unit, key = float(row[end]), row["unit"], row["key"]
+    if unit == "1" and key.endswith("_factor"):
+        return f"× {v:g}"
+    if unit == "1":
+        return f"{v * 100:+g} %" if key.endswith("_tolerance") else f"{v * 100:g} %"
+    if unit == "ohm":
+        return f"{v * 1e3:g} mΩ"
+    if unit == "V/K":
+        return f"{v * 1e3:g} mV/K"
+    return f"{v:g} {unit}"
+
+
+def used_defaults(tol: dict[str, dict], cells: int, alternator: bool = True) -> tuple[str, ...]:
+    """One line per tolerance default the worst cases use: key, what it is, the value taken (and which
+    end of its range), its source and its status."""
+    g = "supply.alternator.compensation_24v" if cells == 12 else "supply.alternator.compensation_12v"
+    out = []
+    for key, end in (*_USED, (g, "nominal")):
+        if not alternator and key.startswith("supply.alternator."):
+            continue
+        row = tol[key]
+        which = "" if end == "nominal" else f" ({end} end of {_fmt(row, 'low')} to {_fmt(row, 'high')})"
+        out.append(
+            f"worst-case default {key} = {_fmt(row, end)}{which}: {row['quantity']}; "
+            f"source: {row['source']}; status: {row['status']}"
+        )
+    return tuple(out)
 
 
 def defaults() -> dict[str, dict]:
@@ -232,4 +279,6 @@ def worst_cases(
         ("coils", f"{t_min:g} °C, resistance {r_tol:+.0%} (tolerance; solenoid maker's FAQ)"),
         ("bus", reg_words),
     )
-    return WorstCases(largest, smallest, lowest, largest_current, words, bus_high)
+    return WorstCases(
+        largest, smallest, lowest, largest_current, words, bus_high, used_defaults(tol, cells, alt is not None)
+    )

@@ -326,6 +326,6 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
         "heating": heating(a),
         "field": field(a),
         "summary": summary(verdicts),
-        "assumptions": list(d.assumptions),
+        "assumptions": list(dict.fromkeys((*d.assumptions, *(a.worst.assumptions if a.worst is not None else ())))),
         "cautions": cautions(a),
     }

@@ -420,6 +420,7 @@ class Provenance:
     overridden: tuple[str, ...]  # keys the library has and the drawing wrote over
     source: str
     status: str
+    series: tuple[str, ...] = ()  # the ratings the part's family comes in (for sizing to choose from)
 
     def text(self) -> str:
         """One line for the report's assumptions."""
@@ -512,7 +513,8 @@ def resolve(
         if element_kind is None:
             own = {"kind": DEFAULT_ELEMENT[part.kind], **own}
     merged, from_lib, over = _merge(fields, own)
-    return merged, Provenance(where, part.ref, tuple(from_lib), tuple(over), part.source, part.status), []
+    record = Provenance(where, part.ref, tuple(from_lib), tuple(over), part.source, part.status, tuple(part.series))
+    return merged, record, []
 
 
 def expand_parts(

@@ -186,10 +186,11 @@ Edits = tuple[tuple[tuple[int, str], str | None], ...]  # ((harness index, key),
 class Bench:
     """Candidates of one drawing, each its text with a few keys changed, read and judged (cached)."""
 
-    def __init__(self, text: str, source: str = "<drawing>", base_dir: Path | None = None):
+    def __init__(self, text: str, source: str = "<drawing>", base_dir: Path | None = None, parts_dirs: tuple = ()):
         self.text = text
         self.source = source
         self.base_dir = base_dir
+        self.parts_dirs = tuple(parts_dirs)  # parts libraries given to the run (--parts)
         self._drawings: dict[Edits, Any] = {}
         self._fast: dict[Edits, dict] = {}
         self._full: dict[Edits, tuple] = {}
@@ -210,16 +211,48 @@ class Bench:
 
     def drawing(self, edits: dict):
         """The Drawing of a candidate, or None where the loader refuses it."""
-        from coilstage.drawing.load import parse_drawing
+        from coilstage.drawing.load import parse_data, parse_drawing
         from coilstage.errors import DrawingError
 
         k = self.key(edits)
         if k not in self._drawings:
+            data = self._data(edits)
             try:
-                self._drawings[k] = parse_drawing(self.render(edits), self.source, self.base_dir)
+                if data is None:
+                    self._drawings[k] = parse_drawing(self.render(edits), self.source, self.base_dir, self.parts_dirs)
+                else:
+                    self._drawings[k] = parse_data(data, self.source, self.base_dir, self.parts_dirs)
             except DrawingError:
                 self._drawings[k] = None
         return self._drawings[k]
+
+    def _data(self, edits: dict) -> dict | None:
+        """The candidate as TOML data: the drawing's data read once, each edited key set to its value
+        text read as TOML (what :meth:`render` writes, without writing and re-reading the whole
+        text); None where the drawing's harness is not a plain list of tables."""
+        if not hasattr(self, "_raw"):
+            try:
+                raw = tomllib.loads(self.text)
+            except (tomllib.TOMLDecodeError, RecursionError):
+                raw = None
+            ok = raw is not None and isinstance(raw.get("harness"), list)
+            self._raw = raw if ok and all(isinstance(e, dict) for e in raw["harness"]) else None
+        if self._raw is None:
+            return None
+        harness = list(self._raw["harness"])
+        for (i, key), value in edits.items():
+            if not 0 <= i < len(harness):
+                return None
+            e = dict(harness[i])
+            if value is None:
+                e.pop(key, None)
+            else:
+                try:
+                    e[key] = tomllib.loads(f"x = {value}")["x"]
+                except tomllib.TOMLDecodeError:
+                    return None
+            harness[i] = e
+        return {**self._raw, "harness": harness}
 
     def screen(self, edits: dict, switching: bool = True, rules: tuple[str, ...] = ()) -> dict | None:
         """Verdicts by (rule, subject) of the screening analysis (no duty simulation; with
@@ -364,6 +397,21 @@ def _position(values: list[float], x: float) -> float:
     return len(values) - 0.5
 
 
+def _library_series(d, where: str) -> list[float]:
+    """The ratings [A] a fuse's library part comes in (its ``series`` in the parts library), where the
+    drawing took the fuse from a library that gives one; sizing then chooses among the maker's own
+    ratings instead of the type's standard series. Empty where there is none."""
+    from coilstage.units import parse_quantity
+
+    for rec in getattr(d, "provenance", ()):
+        if rec.where == where and getattr(rec, "series", ()):
+            try:
+                return sorted(parse_quantity(x, "current") for x in rec.series)
+            except Exception:  # a library checked on reading; a bad row is no series
+                return []
+    return []
+
+
 def parts_of(d, prepared: Prepared | None = None, text: str | None = None) -> list[Part]:
     """The parts of a drawing that sizing can change, each with its series."""
     from coilstage import tables
@@ -406,9 +454,11 @@ def parts_of(d, prepared: Prepared | None = None, text: str | None = None) -> li
             )
         elif isinstance(e, Fuse):
             row = tables.fuse_types().get(e.fuse_type, {})
-            ser = list(e.series) or [
-                v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)
-            ]
+            ser = (
+                _library_series(d, e.where)
+                or list(e.series)
+                or [v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)]
+            )
             out.append(
                 Part(
                     e.id,
@@ -1284,11 +1334,27 @@ def _suggest_suppressor(bench: Bench, part: Part, base: dict) -> Suggestion | No
 
 
 def suggestions(
-    drawing_text: str, source: str = "<drawing>", base_dir: Path | None = None, only_failing: bool = True
+    drawing_text: str,
+    source: str = "<drawing>",
+    base_dir: Path | None = None,
+    only_failing: bool = True,
+    checked: tuple | None = None,
+    parts_dirs: tuple = (),
 ) -> list[Suggestion]:
-    """A checked suggestion for every part that takes part in a failing or warning verdict."""
+    """A checked suggestion for every part that takes part in a failing or warning verdict.
+
+    ``checked``: ``(drawing, analysis, verdicts)`` of the check already made of this very text (as
+    ``coilstage.check`` returns them), so that the drawing is not read and checked a second time;
+    used only where the text has no "auto" (then the text sizing judges is the text checked).
+    ``parts_dirs``: the parts libraries given to the run (``--parts``).
+    """
     prepared = prepare(drawing_text)
-    bench = Bench(prepared.loadable, source, base_dir)
+    bench = Bench(prepared.loadable, source, base_dir, parts_dirs)
+    if checked is not None and not prepared.auto and prepared.loadable == drawing_text:
+        drawing, analysis, verdicts = checked
+        k = bench.key({})
+        bench._drawings[k] = drawing
+        bench._full[k] = (analysis, _by_key(verdicts), verdicts)
     return _suggestions(bench, prepared, only_failing)
 
 
@@ -1675,7 +1741,7 @@ def _joint_suppressors(bench: Bench, parts: list[Part], edits: dict) -> dict:
 
 
 def size_drawing(
-    text: str, source: str = "<drawing>", base_dir: Path | None = None, max_rounds: int = 12
+    text: str, source: str = "<drawing>", base_dir: Path | None = None, max_rounds: int = 12, parts_dirs: tuple = ()
 ) -> SizeResult:
     """A coordinated design: every changeable part raised (or, for a fuse, moved into its window)
     until no part's verdicts improve any more — a fixed point over the standard series.
@@ -1688,7 +1754,7 @@ def size_drawing(
     lowest rating of its window, and a round without a change ends the search.
     """
     prepared = prepare(text)
-    bench = Bench(prepared.loadable, source, base_dir)
+    bench = Bench(prepared.loadable, source, base_dir, parts_dirs)
     d0 = bench.drawing({})
     if d0 is None:
         raise SizingError("the drawing does not load; run `coilstage check` for its problems")

@@ -341,3 +341,30 @@ def test_cable_size_awg_hand_worked():
     s = _by_part(sizing.suggestions(text))["W0"]
     assert s.suggested == "5 AWG" and s.smaller == "6 AWG"
     assert [f.rule for f in s.smaller_fails] == ["cable.ampacity"]
+
+
+def test_a_library_fuse_is_chosen_from_its_makers_series():
+    """A fuse taken from a parts library with a ``series`` is sized over that series (the invented
+    workshop library's F-100-B: 40, 60, 80, 100, 125 A), not over its type's standard ratings; a fuse
+    typed in keeps its type's series."""
+    from coilstage.drawing.load import load_drawing
+    from tests.test_load import _coach_with_parts
+
+    text = _coach_with_parts()
+    d = parse_drawing(text, "parts.toml", COACH.parent)
+    f1 = next(p for p in sizing.parts_of(d, None, text) if p.id == "F1")
+    assert f1.labels == ("40 A", "60 A", "80 A", "100 A", "125 A")
+    typed = next(p for p in sizing.parts_of(load_drawing(COACH), None, COACH.read_text()) if p.id == "F1")
+    assert typed.labels != f1.labels
+
+
+def test_suggestions_given_the_check_already_made_are_the_same():
+    """Handing suggestions() the check already made of the text (checked=) saves reading and checking
+    it again and changes no suggestion."""
+    text = FLAWED.read_text(encoding="utf-8")
+    d = coilstage.load_drawing(FLAWED)
+    a, v = coilstage.check(d)
+    plain = sizing.suggestions(text, str(FLAWED), FLAWED.parent)
+    given = sizing.suggestions(text, str(FLAWED), FLAWED.parent, checked=(d, a, v))
+    assert [s.to_dict() for s in given] == [s.to_dict() for s in plain]
+    assert plain

@@ -81,6 +81,15 @@ def parse_drawing(
         m = _TOML_LINE.search(msg)
         where = f"line {m.group(1)}, column {m.group(2)}" if m else "TOML"
         raise DrawingError(source, [Problem(where, "", f"valid TOML ({_TOML_LINE.sub('', msg).strip()})")]) from None
+    return parse_data(raw, source, base_dir, parts_dirs)
+
+
+def parse_data(
+    raw: dict, source: str = "<drawing>", base_dir: Path | None = None, parts_dirs: tuple[str | Path, ...] = ()
+) -> Drawing:
+    """Check drawing data already read from TOML (a dict as :func:`tomllib.loads` returns it; not
+    modified) into a Drawing; see :func:`load_drawing`. Sizing uses it to judge candidates without
+    writing and re-reading their text."""
     r = Reader(source, base_dir or Path("."))
     deep = _too_deep(raw)
     if deep is not None:

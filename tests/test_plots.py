@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from coilstage import check, load_drawing
-from coilstage.analysis.corners import analyse
+from coilstage.analysis.run import analyse
 from coilstage.errors import AnalysisError
 from coilstage.report import descent, field_plot, svgplot, waveforms
 

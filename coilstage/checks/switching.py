@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 from coilstage import tables
+from coilstage.analysis.load_dump import stage_dumps
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -295,6 +296,74 @@ def _suppressors(a: Analysis) -> list[Verdict]:
     return out
 
 
+def _dump_verdict(sid: str, sup, dm, over: Status) -> Verdict | None:
+    what = f"ISO 16750-2 Test {dm.test}"
+    subject = f"{sid} load dump"
+    if dm.energy is None:
+        if sup.reverse_voltage is None:
+            return not_checked(LOAD_DUMP, subject, f"no reverse_voltage (needs >= {dm.bus_peak:g} V, {what})", "V")
+        return at_least(
+            LOAD_DUMP,
+            subject,
+            sup.reverse_voltage,
+            dm.bus_peak,
+            "V",
+            f"the {sup.kind} blocks the bus while the stage is on; the load-dump peak is {dm.bus_peak:g} V "
+            f"({what}, open-circuit peak)",
+            "limit",
+            under=over,
+        )
+    if sup.energy_rating is None:
+        return not_checked(LOAD_DUMP, subject, f"no energy_rating (it takes {dm.energy:.1f} J, {what})", "J")
+    return at_most(
+        LOAD_DUMP,
+        subject,
+        dm.energy,
+        sup.energy_rating,
+        "J",
+        f"the {sup.kind} clamps at {sup.u0:g} V across the bus and takes {dm.energy:.1f} J per pulse "
+        f"({what}; worst pairing {dm.pairing}; peak {dm.peak_current:.1f} A)",
+        "limit",
+        over=over,
+    )
+
+
+def _load_dump(a: Analysis) -> list[Verdict]:
+    """Test A where central suppression is absent; Test B where it is present; where the drawing does not
+    say, Test A first (the severer): a suppressor that passes it passes; one that fails it but passes
+    Test B cannot be judged without knowing (not checked, with both figures); one that fails both fails."""
+    central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
+    out = []
+    a_dumps = stage_dumps(a.drawing, "none")
+    b_dumps = stage_dumps(a.drawing, "central")
+    sups = {s.id: s.suppression for s in a.drawing.stages}
+    for sid in a_dumps:
+        sup = sups[sid]
+        if central != "not known":
+            v = _dump_verdict(sid, sup, (b_dumps if central == "central" else a_dumps)[sid], Status.FAIL)
+            out.append(v)
+            continue
+        va = _dump_verdict(sid, sup, a_dumps[sid], Status.FAIL)
+        if va.status is not Status.FAIL:
+            out.append(va)
+            continue
+        vb = _dump_verdict(sid, sup, b_dumps[sid], Status.FAIL)
+        if vb.status is Status.FAIL:
+            out.append(vb)
+            continue
+        out.append(
+            not_checked(
+                LOAD_DUMP,
+                va.subject,
+                f"central load-dump suppression not stated: against Test A (unclamped) {va.value:g} {va.unit} "
+                f"against {va.limit:g} {va.unit} fails; against Test B (clamped) it passes; state whether the "
+                "alternator has central suppression",
+                va.unit,
+            )
+        )
+    return out
+
+
 def _release(a: Analysis) -> list[Verdict]:
     if a.switching is None:
         return [not_checked(RELEASE, "stages", "switching was not analysed")]
@@ -400,4 +469,15 @@ PICKUP = Rule(
     _pickup,
     ("conductor.resistance_at_temperature",),
 )
+LOAD_DUMP = Rule(
+    "suppressor.load_dump",
+    "Suppressor withstands the load dump that applies: blocks its peak, or absorbs its energy",
+    "ISO 16750-2 4.6.4 Test A (no central suppression: 151-202 V / 79-101 V, R_i, t_d ranges; both pairings) or "
+    "Test B (clamped at 58 V / 35 V); ideal clamp, exponential decay, load left out",
+    _load_dump,
+    ("load_dump.worst_clamp_energy", "load_dump.clamp_energy"),
+)
+#: LOAD_DUMP is evaluated by tests but not yet in the report: the coach's 200 V and the truck's 100 V diodes
+#: sit 2 V / 1 V below Test A's peak with central suppression not stated, so the demos need their parts
+#: (or a central-suppression statement) changed first; then add it here after SUPPRESSOR.
 RULES = [RELAY_BREAKING, SUPPRESSOR, RELEASE, PICKUP]

@@ -443,7 +443,8 @@ def _pickup(a: Analysis) -> list[Verdict]:
 RELAY_BREAKING = Rule(
     "relay.inductive_break",
     "Relay contact can break its stage: DC category by L/R, or contact voltage when suppressed",
-    "IEC 60947-4-1 DC-1/DC-3/DC-5 time constants; IEC 60947-5-1 DC-13 (300 ms cap)",
+    "IEC 60947-4-1 DC-1/DC-3/DC-5 and IEC 60947-5-1 DC-13 (6 x P ms, 300 ms cap): a category covers a break only "
+    "within its rated current I_e at U_e and its test L/R (durability L/R above 50 switchings)",
     _relay_breaking,
     ("transient.LinearRL", "transient.clamp_decay"),
 )

@@ -96,7 +96,7 @@ _SYSTEMS = {
         '{ voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "16.8 V", '
         'feed_resistance = "1.5 ohm", rise = "25 K" }',
         '{ kind = "diode_zener", zener_voltage = "24 V", forward_voltage = "0.9 V", peak_current = "150 A", '
-        'reverse_voltage = "200 V", energy_rating = "120 J" }',
+        'reverse_voltage = "400 V", energy_rating = "120 J" }',
         "a diode and a 24 V zener across the coils: the contact breaks into the clamp, the field decays fast",
     ),
     12: _System(
@@ -131,7 +131,7 @@ _SYSTEMS = {
         "32 V",
         '{ voltage = "12 V", resistance = "30 ohm @ 20 degC", operate_voltage = "8.4 V", feed_resistance = "0.8 ohm", '
         'rise = "20 K" }',
-        '{ kind = "diode", forward_voltage = "0.9 V", peak_current = "200 A", reverse_voltage = "100 V", '
+        '{ kind = "diode", forward_voltage = "0.9 V", peak_current = "200 A", reverse_voltage = "200 V", '
         'energy_rating = "20 J" }',
         "a freewheel diode across the coils: no arc at the contact, but the field decays slowly",
     ),

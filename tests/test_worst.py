@@ -167,3 +167,21 @@ def test_tolerance_defaults_listed_once_under_assumptions(coach):
     assert "= 5 mΩ (high end of 0 mΩ to 5 mΩ)" in by_key["tolerances.fault_resistance"]
     assert "= -5 % (low end of -5 % to +5 %)" in by_key["coils.*.resistance_tolerance"]
     assert "= -20 mV/K" in by_key["supply.alternator.compensation_24v"]
+
+
+@pytest.mark.parametrize(("rule", "subject"), [("cable.ampacity", "W1"), ("relay.contact_rating", "K1")])
+def test_ampacity_and_contact_duty_at_the_largest_current(coach, rule, subject):
+    """Cable ampacity and relay contact duty are decided at the largest continuous current (issue 10):
+    coil R -5 % and the bus at the regulator's highest end, 28.2 + 0.3 + 0.020 V/K x 55 K = 29.6 V
+    against the cold corner's 28.5 V. Hand estimate of the current ratio on the stage branch (Ohm's
+    law, the coil dominating the branch): at most (29.6 / 28.5) / 0.95 = 1.093, less the shared feed's
+    drop. The limit is the nominal verdict's own (the rating does not depend on the current)."""
+    a, v = coach
+    x = v[(rule, subject)]
+    assert x.corner == "largest current" and x.worst is not None
+    assert x.value == pytest.approx(a.worst.largest_current[subject])
+    assert x.worst.nominal_value == pytest.approx(a.duty[subject])
+    assert 1.08 < x.value / x.worst.nominal_value < (29.6 / 28.5) / 0.95 + 1e-9
+    assert x.margin == pytest.approx((x.limit - x.value) / x.limit)
+    assert x.margin < x.worst.nominal_margin
+    assert "decided by coils" in x.note

@@ -10,6 +10,7 @@ from coilstage.checks.base import (
     at_most,
     ceiling,
     ceiling_temperature,
+    decided_at_worst,
     not_checked,
 )
 from coilstage.drawing.schema import Cable
@@ -18,40 +19,45 @@ from coilstage.drawing.schema import Cable
 def _ampacity(a: Analysis) -> list[Verdict]:
     out = []
     for c in a.drawing.of_kind(Cable):
-        i = a.duty[c.id]
-        rating = a.ratings.cables[c.id]
-        amp = rating.ampacity
-        if isinstance(amp, str):
-            out.append(not_checked(AMPACITY, c.id, amp, "A", "cold"))
+        nominal = _ampacity_at(a, c, a.duty[c.id], "cold")
+        if a.worst is None or nominal.status is Status.NOT_CHECKED:
+            out.append(nominal)
             continue
-        if amp.value <= 0:
-            out.append(
-                Verdict(
-                    AMPACITY.id,
-                    c.id,
-                    Status.FAIL,
-                    i,
-                    0.0,
-                    "A",
-                    None,
-                    AMPACITY.clause,
-                    f"zone {c.zone} at {c.zone_temperature:g} °C leaves no ampacity for a "
-                    f"{amp.column} °C insulation rating",
-                    "cold",
-                )
-            )
-            continue
-        comp = rating.heat_balance
-        table_value = amp.base * amp.ambient_factor * amp.bundle_factor
-        note = (
-            f"{c.size_label} ({amp.method}): table {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
-            f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded) = "
-            f"{table_value:.0f} A; heat balance (still air, class {c.insulation_class} at {c.class_max:g} °C) "
-            + ("not available (no outside diameter)" if comp is None else f"{comp:.0f} A")
-            + f"; current with {a.duty_state[c.id]} on"
-        )
-        out.append(at_most(AMPACITY, c.id, i, amp.value, "A", note, "cold"))
+        worst = _ampacity_at(a, c, a.worst.largest_current[c.id], "largest current")
+        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+        out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
+
+
+def _ampacity_at(a: Analysis, c: Cable, i: float, corner: str) -> Verdict:
+    """The cable's current ``i`` [A] against its ampacity in its zone and bundle."""
+    rating = a.ratings.cables[c.id]
+    amp = rating.ampacity
+    if isinstance(amp, str):
+        return not_checked(AMPACITY, c.id, amp, "A", corner)
+    if amp.value <= 0:
+        return Verdict(
+            AMPACITY.id,
+            c.id,
+            Status.FAIL,
+            i,
+            0.0,
+            "A",
+            None,
+            AMPACITY.clause,
+            f"zone {c.zone} at {c.zone_temperature:g} °C leaves no ampacity for a {amp.column} °C insulation rating",
+            corner,
+        )
+    comp = rating.heat_balance
+    table_value = amp.base * amp.ambient_factor * amp.bundle_factor
+    note = (
+        f"{c.size_label} ({amp.method}): table {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
+        f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded) = "
+        f"{table_value:.0f} A; heat balance (still air, class {c.insulation_class} at {c.class_max:g} °C) "
+        + ("not available (no outside diameter)" if comp is None else f"{comp:.0f} A")
+        + f"; current {i:.1f} A with {a.duty_state[c.id]} on"
+    )
+    return at_most(AMPACITY, c.id, i, amp.value, "A", note, corner)
 
 
 def _temperature_class(a: Analysis) -> list[Verdict]:

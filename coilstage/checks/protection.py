@@ -194,41 +194,42 @@ def relay_temperature_factor(r: Relay) -> tuple[float | None, str]:
 
 def _relay_contact(a: Analysis) -> list[Verdict]:
     out = []
-    system = a.drawing.supply.system_voltage
     for r in a.drawing.of_kind(Relay):
-        i = a.duty[r.id]
-        rating, rnote = relay_rating(r, system)
-        if rating is None:
-            out.append(
-                Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, rnote, "cold")
-            )
+        nominal = _relay_contact_at(a, r, a.duty[r.id], "cold")
+        if a.worst is None or nominal.limit is None:
+            out.append(nominal)
             continue
-        k, tnote = relay_temperature_factor(r)
-        if k is None:
-            out.append(
-                Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, "cold")
-            )
-            continue
-        limit = rating * k
-        status = Status.PASS if i <= 0.9 * limit else Status.WARN if i <= limit else Status.FAIL
-        if status is Status.PASS and r.derated is None and r.zone_temperature > r.rated_ambient:
-            status = Status.WARN
-        out.append(
-            Verdict(
-                RELAY_CONTACT.id,
-                r.id,
-                status,
-                i,
-                limit,
-                "A",
-                ceiling(i, limit),
-                RELAY_CONTACT.clause,
-                f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice); "
-                f"current with {a.duty_state[r.id]} on",
-                "cold",
-            )
-        )
+        worst = _relay_contact_at(a, r, a.worst.largest_current[r.id], "largest current")
+        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+        out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
+
+
+def _relay_contact_at(a: Analysis, r: Relay, i: float, corner: str) -> Verdict:
+    """The relay's contact current ``i`` [A] against its rating at its zone temperature."""
+    rating, rnote = relay_rating(r, a.drawing.supply.system_voltage)
+    if rating is None:
+        return Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, rnote, corner)
+    k, tnote = relay_temperature_factor(r)
+    if k is None:
+        return Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, corner)
+    limit = rating * k
+    status = Status.PASS if i <= 0.9 * limit else Status.WARN if i <= limit else Status.FAIL
+    if status is Status.PASS and r.derated is None and r.zone_temperature > r.rated_ambient:
+        status = Status.WARN
+    return Verdict(
+        RELAY_CONTACT.id,
+        r.id,
+        status,
+        i,
+        limit,
+        "A",
+        ceiling(i, limit),
+        RELAY_CONTACT.clause,
+        f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice); "
+        f"current {i:.1f} A with {a.duty_state[r.id]} on",
+        corner,
+    )
 
 
 def _relay_voltage(a: Analysis) -> list[Verdict]:

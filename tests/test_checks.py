@@ -6,10 +6,10 @@ import pytest
 
 from coilstage import check
 from coilstage.analysis.circuit import element_resistance
+from coilstage.analysis.materials import metal
 from coilstage.checks import Status
 from coilstage.checks.base import Verdict
 from coilstage.drawing.load import load_drawing, parse_drawing
-from coilstage.physics.conductor import ALPHA20_COPPER
 
 from .conftest import FLAWED, drawing_text
 
@@ -24,7 +24,7 @@ def test_single_stage_series_circuit_by_hand():
     # r20 from the ISO 6722-1 table (from memory): 35 mm^2 0.527, 10 mm^2 1.82 mOhm/m.
     d = parse_drawing(drawing_text(stages=1), "x")
     a, _ = check(d)
-    k = 1 + ALPHA20_COPPER * (-30 - 20)
+    k = 1 + metal("copper").alpha20 * (-30 - 20)
     r_total = (
         0.2e-3  # main fuse
         + 0.527e-3 * 3 * k  # main feed

@@ -10,8 +10,12 @@ import math
 import pytest
 
 from coilstage import tables
-from coilstage.physics.fault import BETA_ALUMINIUM, BETA_COPPER, k_factor
+from coilstage.analysis.materials import metal
+from coilstage.physics.fault import k_factor
 from coilstage.physics.transient import LN20
+
+#: IEC 60949 reciprocal temperature coefficients, from the one data copy (coilstage/data/materials.toml)
+BETA_CU, BETA_AL = metal("copper").beta, metal("aluminium").beta
 
 NEW = [
     "insulation_materials.toml",
@@ -41,15 +45,15 @@ def test_short_circuit_temperatures_reproduce_published_k(material):
     # k = K sqrt(ln((beta + theta_f)/(beta + theta_i))) with K = 226 (Cu) and 148 (Al) must give the
     # printed integers back to within their rounding (0.6: half a unit plus the rounding of K).
     r = _materials()[material]
-    assert k_factor(226.0, BETA_COPPER, r["continuous"], r["short_circuit"]) == pytest.approx(r["k_cu"], abs=0.6)
-    assert k_factor(148.0, BETA_ALUMINIUM, r["continuous"], r["short_circuit"]) == pytest.approx(r["k_al"], abs=0.6)
+    assert k_factor(226.0, BETA_CU, r["continuous"], r["short_circuit"]) == pytest.approx(r["k_cu"], abs=0.6)
+    assert k_factor(148.0, BETA_AL, r["continuous"], r["short_circuit"]) == pytest.approx(r["k_al"], abs=0.6)
 
 
 def test_large_pvc_conductors():
     # IEC 60364-4-43 Table 43A: PVC above 300 mm^2: k = 103 (70 degC) and 86 (90 degC), copper.
     m = _materials()
-    assert k_factor(226.0, BETA_COPPER, 70, m["pvc"]["short_circuit_large"]) == pytest.approx(103, abs=0.6)
-    assert k_factor(226.0, BETA_COPPER, 90, m["pvc-90"]["short_circuit_large"]) == pytest.approx(86, abs=0.6)
+    assert k_factor(226.0, BETA_CU, 70, m["pvc"]["short_circuit_large"]) == pytest.approx(103, abs=0.6)
+    assert k_factor(226.0, BETA_CU, 90, m["pvc-90"]["short_circuit_large"]) == pytest.approx(86, abs=0.6)
 
 
 def test_class_defaults_are_sound():

@@ -7,7 +7,8 @@ import itertools
 import pytest
 
 from coilstage import tables
-from coilstage.physics.conductor import RHO20_COPPER, awg_area
+from coilstage.analysis.materials import metal
+from coilstage.physics.conductor import awg_area
 
 
 def test_every_shipped_table_has_a_header_and_row_status():
@@ -87,7 +88,7 @@ def test_iso6722_rows_lie_in_a_plausible_band():
     # a flagged outlier (1.14). A typo would leave this band.
     t = tables.conductor_table("iso6722-1")
     for size, row in t.rows.items():
-        ratio = row.r20_per_m / (RHO20_COPPER / (size * 1e-6))
+        ratio = row.r20_per_m / (metal("copper").rho20 / (size * 1e-6))
         assert 1.02 <= ratio <= 1.15, size
         assert "from memory" in row.status
 

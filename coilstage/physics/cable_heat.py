@@ -99,30 +99,3 @@ def computed_ampacity(
     I = √(q'_shed / R'(θc))."""
     q = heat_shed(t_conductor, conductor_d, outer_d, k_insulation, emissivity, t_air)
     return math.sqrt(q / (r20_per_m * (1 + alpha20 * (t_conductor - 20.0))))
-
-
-def conductor_temperature_steady(
-    current: float,
-    r20_per_m: float,
-    alpha20: float,
-    conductor_d: float,
-    outer_d: float,
-    k_insulation: float,
-    emissivity: float,
-    t_air: float,
-) -> float:
-    """Conductor temperature [°C] a steady ``current`` [A] settles at in still air at ``t_air``."""
-    if current <= 0:
-        return t_air
-
-    def f(tc: float) -> float:
-        return current**2 * r20_per_m * (1 + alpha20 * (tc - 20.0)) - heat_shed(
-            tc, conductor_d, outer_d, k_insulation, emissivity, t_air
-        )
-
-    hi = t_air + 10.0
-    while f(hi) > 0:
-        hi = t_air + 2 * (hi - t_air)
-        if hi > 2000:
-            return math.inf
-    return bracketed_root(f, t_air, hi, xtol=1e-7)

@@ -1,18 +1,12 @@
 r"""Conductors: resistance against temperature, wire-gauge geometry, ampacity corrections.
 
-All functions take and return floats (or numpy arrays) in SI units, temperatures in °C.
+All functions take and return floats (or numpy arrays) in SI units, temperatures in °C. The metals'
+constants are data: coilstage/data/materials.toml (read by :mod:`coilstage.analysis.materials`).
 """
 
 from __future__ import annotations
 
 import math
-
-#: Resistivity of annealed copper at 20 °C [Ω·m], IEC 60028 (1/58 Ω·mm²/m).
-RHO20_COPPER = 1.0 / 58.0 * 1e-6
-#: Temperature coefficient of annealed copper at 20 °C [K⁻¹], IEC 60028.
-ALPHA20_COPPER = 0.00393
-#: Temperature coefficient of conductor aluminium at 20 °C [K⁻¹].
-ALPHA20_ALUMINIUM = 0.00403
 
 
 def resistance_at_temperature(r_ref: float, t_ref: float, t: float, alpha20: float) -> float:

@@ -12,14 +12,6 @@ from __future__ import annotations
 import math
 import sys
 
-#: Volumetric heat capacity of copper at 20 °C [J/(K·m³)], IEC 60949 (3.45e-3 J/(K·mm³)).
-QC_COPPER = 3.45e6
-#: Reciprocal temperature coefficient of copper [K] (IEC 60949: β = 234.5).
-BETA_COPPER = 234.5
-#: Aluminium: Qc = 2.5e-3 J/(K·mm³), β = 228 (IEC 60949).
-QC_ALUMINIUM = 2.5e6
-BETA_ALUMINIUM = 228.0
-
 #: Largest argument of math.exp that stays finite (ln of the largest double, 709.78).
 _EXP_MAX = math.log(sys.float_info.max)
 
@@ -151,39 +143,3 @@ def adiabatic_final_temperature(i2t: float, area: float, k_material: float, beta
     if x > _EXP_MAX:
         return math.inf
     return (theta_i + beta) * math.exp(x) - beta
-
-
-def adiabatic_heating_rate(j: float, rho: float, qc: float) -> float:
-    r"""Temperature rise rate of a conductor with no heat lost [K/s].
-
-    .. math:: \frac{dθ}{dt} = \frac{J^2 ρ}{γ c}
-
-    Parameters
-    ----------
-    j : float
-        Current density. [A/m²]
-    rho : float
-        Resistivity at the conductor's temperature. [Ω·m]
-    qc : float
-        Volumetric heat capacity γc. [J/(K·m³)]
-
-    Returns
-    -------
-    float
-        dθ/dt. [K/s]
-
-    Notes
-    -----
-    Valid while no heat leaves the conductor (short times: a fault, a pulse); the energy balance of a
-    unit volume (docs/references.md#adiabatic-heating-rate).
-
-    References
-    ----------
-    IEC 60949:1988, clause 3 (the same balance integrated gives the adiabatic equation).
-
-    Examples
-    --------
-    >>> round(adiabatic_heating_rate(5e6, 1.7241e-8, 8960 * 385), 4)
-    0.1249
-    """
-    return j * j * rho / qc

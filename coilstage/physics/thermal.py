@@ -59,17 +59,6 @@ def conductor_temperature(
     return theta_inf + (theta_start - theta_inf) * math.exp(k1 * t)
 
 
-def conductor_steady_temperature(
-    current: float, r20_per_m: float, alpha20: float, g_loss: float, theta_zone: float
-) -> float:
-    """Final temperature of :func:`conductor_temperature` [°C] (``inf`` beyond runaway)."""
-    i2r = current * current * r20_per_m
-    den = g_loss - i2r * alpha20
-    if den <= 0:
-        return math.inf
-    return (i2r * (1 - 20.0 * alpha20) + g_loss * theta_zone) / den
-
-
 def winding_steady_temperature(
     voltage: float, r_ref: float, t_ref: float, alpha20: float, r_th: float, t_surroundings: float
 ) -> float:

@@ -31,32 +31,9 @@ import numpy as np
 LN20 = math.log(20.0)
 
 
-def rl_step_current(t, v: float, r: float, inductance: float):
-    """Current of a single RL branch switched onto a constant voltage at t = 0 [A].
-
-    .. math:: i(t) = \\frac{V}{R}\\left(1 - e^{-tR/L}\\right)
-
-    Parameters: t [s] (float or array), v [V], r [Ω], inductance [H].
-    """
-    return v / r * (1.0 - np.exp(-np.asarray(t) * r / inductance))
-
-
 def t95(tau: float) -> float:
     """Time to 95 % of the final current of a first-order rise [s]: τ·ln 20 (= 2.996 τ)."""
     return tau * LN20
-
-
-def rl_switch_on_i2t(i_final: float, tau: float, t: float) -> float:
-    r"""Joule integral ∫i² dt of an RL switch-on over [0, t] [A²·s].
-
-    .. math:: I^2 t = I_∞^2\left[t - 2τ(1 - e^{-t/τ}) + \frac{τ}{2}(1 - e^{-2t/τ})\right]
-
-    Source: integration of i = I∞(1 − e^{−t/τ}) (first-order RL circuit, e.g. Hayt, Kemmerly & Durbin,
-    *Engineering Circuit Analysis*, ch. 8); the same expression is tabulated in fuse makers' pulse-shape
-    guides (docs/references.md#rl-switch-on).
-    """
-    e1 = math.exp(-t / tau)
-    return i_final**2 * (t - 2 * tau * (1 - e1) + tau / 2 * (1 - e1 * e1))
 
 
 @dataclass(frozen=True)
@@ -198,23 +175,3 @@ class ExactSolution:
     def slowest(self) -> float:
         """The slowest time constant of the network [s]."""
         return float(-1.0 / self.lam.max())
-
-    def time_to_fraction(self, k: int, fraction: float = 0.95, start: float = 0.0) -> float:
-        """First time [s] at which current ``k`` reaches ``fraction`` of the way from its value at
-        ``start`` to its final value (the exact solution continued as long as needed)."""
-        from coilstage.physics.numeric import bracketed_root
-
-        x0 = self.at(start)[0, k]
-        target = x0 + fraction * (self.i_inf[k] - x0)
-        sign = 1.0 if self.i_inf[k] >= x0 else -1.0
-
-        def f(t):
-            return sign * (self.at(t)[0, k] - target)
-
-        hi = start + 1e-6
-        limit = start + 100 * self.slowest
-        while f(hi) < 0 and hi < limit:
-            hi = start + (hi - start) * 2
-        if f(hi) < 0:
-            return math.inf
-        return float(bracketed_root(lambda t: float(f(t)), start, hi, xtol=1e-13))

@@ -147,6 +147,19 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
                 f"({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} adiabatically from "
                 f"{theta_i:g} °C to {theta_f:.0f} °C (IEC 60949) against {limit:g} °C for {whose} ({lim.status})"
             )
+            if not math.isfinite(theta_f):
+                # I²t/(K S)² beyond what the adiabatic law can carry: the conductor would pass its melting
+                # point long before the fuse clears, so there is no finite figure to compare.
+                note = (
+                    f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the "
+                    f"latest ({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} far beyond any "
+                    f"temperature it can reach (it melts first; IEC 60949 adiabatic equation) against {limit:g} °C "
+                    f"for {whose}: a larger cable or a smaller fuse"
+                )
+                out.append(
+                    Verdict(SHORT.id, subject, Status.FAIL, None, limit, "degC", None, SHORT.clause, note, "cold")
+                )
+                continue
             if t > 5:
                 note += "; beyond the 5 s adiabatic range, so the real conductor ends cooler"
             out.append(at_most(SHORT, subject, theta_f, limit, "degC", note, "cold"))

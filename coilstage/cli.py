@@ -335,13 +335,10 @@ def _descent(args: argparse.Namespace) -> int:
             return EXIT_BAD_INPUT
         duty = continuous_duty(drawing)
         if args.profile != "continuous":
-            from coilstage.units import parse_quantity
+            from coilstage.drawing.switching import shipped_steps
 
             row = tables.duty_profiles()[args.profile]
-            steps = tuple(
-                dataclasses.replace(duty.steps[0], duration=parse_quantity(dur, "time"), engine=eng, moving=mov)
-                for dur, _stg, eng, mov in row["steps"]
-            )
+            steps = shipped_steps(args.profile, [s.id for s in drawing.stages], drawing.switching)
             duty = dataclasses.replace(duty, name=args.profile, description=row["description"], steps=steps)
         total = sum(st.duration for st in duty.steps)
         if total > drawing.limits.max_duty:

@@ -96,6 +96,18 @@ def _step_stages(spec: Any, stage_ids: list[str], switching: Switching | None) -
     )
 
 
+def shipped_steps(name: str, stage_ids: list[str], switching: Switching | None) -> tuple[DutyStep, ...]:
+    """The steps of the shipped duty profile ``name`` (coilstage/data/duty_profiles.toml) for a drawing
+    with these stages and switching positions: the one expansion of a shipped profile, used by the
+    loader and by the ``descent --profile`` command. Raises ValueError where a step's stage column
+    names no stage or position of the drawing."""
+    row = tables.duty_profiles()[name]
+    return tuple(
+        DutyStep(parse_quantity(dur, "time"), _step_stages(stg, stage_ids, switching), eng, mov, f"step {k + 1}")
+        for k, (dur, stg, eng, mov) in enumerate(row["steps"])
+    )
+
+
 def read_duty(r: Reader, raw: dict, stage_ids: list[str], switching: Switching | None) -> Duty | None:
     """The duty profile: the drawing's own steps, or a shipped profile (default: endurance)."""
     du = r.table(raw, "duty", "duty", required=False) or {}
@@ -146,12 +158,7 @@ def read_duty(r: Reader, raw: dict, stage_ids: list[str], switching: Switching |
             return None
         row = profiles[name]
         desc = f"{row['description']} ({row['status']})"
-        for k, (dur, stg, eng, mov) in enumerate(row["steps"]):
-            steps.append(
-                DutyStep(
-                    parse_quantity(dur, "time"), _step_stages(stg, stage_ids, switching), eng, mov, f"step {k + 1}"
-                )
-            )
+        steps.extend(shipped_steps(name, stage_ids, switching))
     if soc is None or min_soc is None:
         return None
     if not 0 <= min_soc < soc <= 1:

@@ -108,3 +108,26 @@ def test_show_units():
     assert parts.show(225 * 3600.0, "A*h") == "225 A·h"
     assert parts.show(float("inf"), "s") == "none"
     assert parts.show(None, "A") == "—"
+
+
+def test_values_from_a_parts_library_are_marked_with_the_part():
+    """The coach with F1, K1 and S1's suppressor taken from the invented workshop library
+    (configs/parts/workshop-parts.toml) and F1's rating written over: the parts list marks the
+    library's values as such, names the part, and keeps the drawing's own rating as drawn."""
+    import tomllib
+
+    from coilstage.drawing.load import parse_drawing
+
+    from .test_load import _coach_with_parts
+
+    text = _coach_with_parts()
+    d = parse_drawing(text, "parts.toml", COACH.parent)
+    got = {p["id"]: p for p in parts.build(d, tomllib.loads(text))["parts"]}
+    f1 = {r["key"]: r for r in got["F1"]["values"]}
+    assert f1["breaking_capacity"]["origin"] == "library"
+    assert "workshop-parts.toml#" in f1["breaking_capacity"]["note"]
+    assert f1["rating"]["origin"] == "drawing"
+    s1 = {r["key"]: r for r in got["S1"]["values"]}
+    assert s1["suppression.reverse_voltage"]["origin"] == "library"
+    assert s1["suppression"]["origin"] == "library"
+    assert all(r["origin"] != "library" for r in got["F2"]["values"])

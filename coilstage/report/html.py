@@ -590,6 +590,8 @@ def _cell(r: dict, notes: dict[str, int]) -> str:
         shown = f'<span class="origin-default">{shown}</span>'
     elif r["origin"] == "absent":
         shown = '<span class="origin-absent">not given</span>'
+    elif r["origin"] == "library":
+        shown = f'<span class="origin-library">{shown} (library)</span>'
     if r["note"]:
         k = notes.setdefault(r["note"], len(notes) + 1)
         shown += f"<sup>{k}</sup>"

@@ -381,6 +381,27 @@ def _element_rows(e) -> list[dict]:
     return []
 
 
+def _mark_library(rows: list[dict], where: str, provenance: Any) -> None:
+    """Rows whose value came from a parts library (``part = "file.toml#NAME"``): origin ``library``
+    and the part, its source and status as the row's note. A suppression part's keys are relative
+    to the stage's ``suppression`` table."""
+    for rec in provenance:
+        if rec.where == where:
+            prefix = ""
+        elif rec.where == f"{where}.suppression":
+            prefix = "suppression."
+        else:
+            continue
+        keys = {prefix + k for k in rec.from_library}
+        if prefix:
+            keys |= {"suppression"} if "suppression.kind" in keys else set()
+        for r in rows:
+            full = r.get("lookup") or r["key"]
+            if r["key"] in keys or full in keys or full.split(".", 1)[0] in keys:
+                r["origin"] = "library"
+                r["note"] = f"from parts library {rec.ref} ({rec.status}; source: {rec.source})"
+
+
 def _finish(part: dict, how: set[str]) -> dict:
     for r in part["values"]:
         r["value"] = _finite(r["value"])
@@ -461,10 +482,12 @@ def build(drawing: Any, raw: dict | None = None) -> dict[str, Any]:
         parts.append(
             {"section": "coils", "id": name, "kind": "coil type", "from": "", "to": "", "where": where, "values": rows}
         )
+    provenance = getattr(drawing, "provenance", ()) or ()
     for e in drawing.elements:
         rows = _element_rows(e)
         recorded = getattr(e, "defaults", None)
         how.add(_resolve(rows, _harness_keys(raw, e.where), _assumed(drawing, e.where), recorded))
+        _mark_library(rows, e.where, provenance)
         parts.append(
             {"section": "harness", "id": e.id, "kind": e.kind, "from": e.a, "to": e.b, "where": e.where, "values": rows}
         )
@@ -481,4 +504,5 @@ ORIGIN_WORDS = {
     "table": "from table",
     "absent": "not given",
     "derived": "derived",
+    "library": "from library",
 }

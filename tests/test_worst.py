@@ -185,3 +185,21 @@ def test_ampacity_and_contact_duty_at_the_largest_current(coach, rule, subject):
     assert x.margin == pytest.approx((x.limit - x.value) / x.limit)
     assert x.margin < x.worst.nominal_margin
     assert "decided by coils" in x.note
+
+
+def test_voltage_drop_at_the_largest_current(coach):
+    """circuit.voltage_drop is decided at the largest continuous current (issue 10): the drop is the
+    current times the path's resistance (Ohm's law), so with the same (cold) cables it grows with the
+    currents, at most by (29.6 V / 28.5 V) / 0.95 = 1.093 (hand estimate, as for the fuses), and by more
+    than the bus ratio 29.6 / 28.5 = 1.039 alone. The nominal figure is the worse of the cold and hot
+    corners, as before."""
+    a, v = coach
+    for s in a.drawing.stages:
+        x = v[("circuit.voltage_drop", s.id)]
+        cold = next(t for t in a.corners["cold"].stages if t.id == s.id)
+        assert x.corner == "largest current"
+        assert x.worst.nominal_value == pytest.approx(cold.drop_fraction * 100)
+        assert 29.6 / 28.5 < x.value / x.worst.nominal_value < (29.6 / 28.5) / 0.95 + 1e-9
+        sol = a.worst.largest_current_solution
+        u_bus = sol.v[a.drawing.supply.battery.node] - sol.v[a.drawing.supply.negative_node]
+        assert x.value == pytest.approx((u_bus - (sol.v[s.a] - sol.v[s.b])) / 24 * 100)

@@ -44,6 +44,11 @@ class CornerResult:
     base_load: float
 
 
+def stage_results(d: Drawing, sol: Solution, temps: dict[str, float]) -> list[StageResult]:
+    """Each stage's figures in the solution ``sol`` with winding temperatures ``temps`` [°C]."""
+    return _stage_results(d, sol, temps)
+
+
 def _stage_results(d: Drawing, sol: Solution, temps: dict[str, float]) -> list[StageResult]:
     out = []
     v_bus = sol.v[d.supply.battery.node] - sol.v[d.supply.negative_node]

@@ -65,6 +65,7 @@ class WorstCases:
     largest_current_words: tuple[tuple[str, str], ...]
     bus_high: float  # the regulator's highest end [V]
     assumptions: tuple[str, ...] = ()  # each tolerance default used, with its value, source and status
+    largest_current_solution: Solution | None = None  # the network at the largest continuous current
 
 
 # The shipped defaults the worst cases take, with the end each one uses (``None``: the nominal value).
@@ -280,5 +281,12 @@ def worst_cases(
         ("bus", reg_words),
     )
     return WorstCases(
-        largest, smallest, lowest, largest_current, words, bus_high, used_defaults(tol, cells, alt is not None)
+        largest,
+        smallest,
+        lowest,
+        largest_current,
+        words,
+        bus_high,
+        used_defaults(tol, cells, alt is not None),
+        worst,
     )

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from coilstage.analysis.corners import stage_results
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -85,34 +86,44 @@ def _temperature_class(a: Analysis) -> list[Verdict]:
 
 def _voltage_drop(a: Analysis) -> list[Verdict]:
     out = []
-    lim = a.drawing.limits
-    nominal = a.drawing.supply.system_voltage
-    for sid in [s.id for s in a.drawing.stages]:
-        worst = max(
+    d = a.drawing
+    lim = d.limits
+    nominal = d.supply.system_voltage
+    big = a.worst.largest_current_solution if a.worst is not None else None
+    at_big = {s.id: s for s in stage_results(d, big, a.corners["cold"].temperatures)} if big is not None else {}
+
+    def verdict(sid: str, f: float, drop: float, corner: str, how: str) -> Verdict:
+        status = Status.PASS if f <= lim.drop_pass else Status.WARN if f <= lim.drop_warn else Status.FAIL
+        note = (
+            f"{drop:.3f} V of {nominal} V nominal from the battery terminals to the stage, {how}; "
+            f"pass <= {lim.drop_pass:.0%}, warn <= {lim.drop_warn:.0%}"
+        )
+        return Verdict(
+            VOLTAGE_DROP.id,
+            sid,
+            status,
+            f * 100,
+            lim.drop_pass * 100,
+            "%",
+            ceiling(f, lim.drop_pass),
+            VOLTAGE_DROP.clause,
+            note,
+            corner,
+        )
+
+    for sid in [s.id for s in d.stages]:
+        corner, s = max(
             ((name, next(s for s in a.corners[name].stages if s.id == sid)) for name in ("cold", "hot")),
             key=lambda t: t[1].drop_fraction,
         )
-        corner, s = worst
-        f = s.drop_fraction
-        status = Status.PASS if f <= lim.drop_pass else Status.WARN if f <= lim.drop_warn else Status.FAIL
-        note = (
-            f"{s.drop:.3f} V of {nominal} V nominal from the battery terminals to the stage, {corner} corner "
-            f"(worse of cold and hot); pass <= {lim.drop_pass:.0%}, warn <= {lim.drop_warn:.0%}"
-        )
-        out.append(
-            Verdict(
-                VOLTAGE_DROP.id,
-                sid,
-                status,
-                f * 100,
-                lim.drop_pass * 100,
-                "%",
-                ceiling(f, lim.drop_pass),
-                VOLTAGE_DROP.clause,
-                note,
-                corner,
-            )
-        )
+        nom = verdict(sid, s.drop_fraction, s.drop, corner, f"{corner} corner (worse of cold and hot)")
+        if sid not in at_big:
+            out.append(nom)
+            continue
+        w = at_big[sid]
+        worst = verdict(sid, w.drop_fraction, w.drop, "largest current", "at the largest continuous current")
+        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+        out.append(decided_at_worst(worst, nom, "largest current", deciding))
     return out
 
 

@@ -95,17 +95,42 @@ class DutyResult:
     cable_ids: list[str] = field(default_factory=list)
     cable_models: dict[str, str] = field(default_factory=dict)  # cable id -> how it sheds heat
     modelled_stages: list[str] = field(default_factory=list)
+    # (start [s], end [s], y' = f(t, y)) of each step of the profile: the crossing is found on these
+    segments: list[tuple[float, float, object]] = field(default_factory=list, repr=False)
 
-    def time_to(self, k: int, limit: float) -> float:
-        """First time stage ``k``'s winding reaches ``limit`` [s] (inf: never within the duty)."""
+    def state(self, j: int) -> np.ndarray:
+        """The integrator's state at recorded point ``j``: cable and winding temperatures, charge."""
+        return np.concatenate([self.cable_temperature[j], self.stage_temperature[j], [self.charge_drawn[j]]])
+
+    def time_to(self, k: int, limit: float, tol: float = 1e-3) -> float:
+        """First time stage ``k``'s winding reaches ``limit`` [s] (inf: never within the duty).
+
+        The crossing lies within one accepted step of the integrator; it is found on the solution
+        itself, not on a straight line between recorded points: the step is integrated again from its
+        start to a trial end (Dormand–Prince, rtol 1e-10), and the trial end is bracketed by bisection
+        until the bracket is narrower than ``tol`` [s]."""
         y = self.stage_temperature[:, k]
         hit = np.nonzero(y >= limit)[0]
         if len(hit) == 0:
             return math.inf
-        j = hit[0]
+        j = int(hit[0])
         if j == 0 or y[j] == y[j - 1]:
             return float(self.t[j])
-        return float(np.interp(limit, y[j - 1 : j + 1], self.t[j - 1 : j + 1]))
+        a, b = float(self.t[j - 1]), float(self.t[j])
+        seg = next((f for t0, t1, f in self.segments if t0 <= a and b <= t1), None)
+        if seg is None:  # no model kept: the recorded points are all there is
+            return float(np.interp(limit, y[j - 1 : j + 1], self.t[j - 1 : j + 1]))
+        y0 = self.state(j - 1)
+        col = len(self.cable_ids) + k
+        t_lo, t_hi = a, b
+        while t_hi - t_lo > tol:
+            mid = 0.5 * (t_lo + t_hi)
+            _ts, ys = integrate_dopri(seg, a, mid, y0, rtol=1e-10, atol=1e-8, source="time to the limit")
+            if ys[-1][col] >= limit:
+                t_hi = mid
+            else:
+                t_lo = mid
+        return 0.5 * (t_lo + t_hi)
 
 
 def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 1e-6) -> DutyResult:
@@ -148,15 +173,17 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
         return rhs
 
     y = np.concatenate([cab_zone, st_zone, [0.0]])
-    ts_all, ys_all, on_all, lim_all = [], [], [], []
+    ts_all, ys_all, on_all, lim_all, segments = [], [], [], [], []
     t0 = 0.0
     total = duty.duration
     for step in duty.steps:
         on = np.array([s.id in step.stages for s in net.stages], dtype=bool)
         limit = (alt.limit_idle if step.engine == "idle" else alt.limit_rated) if alt else None
         rth = np.array([stage_thermal_resistance(s, step.moving) for s in net.stages])
+        f = rhs_factory(on, limit, rth)
+        segments.append((t0, t0 + step.duration, f))
         ts, ys = integrate_dopri(
-            rhs_factory(on, limit, rth),
+            f,
             t0,
             t0 + step.duration,
             y,
@@ -206,6 +233,7 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
         [c.id for c in net.cables],
         {cid: (m.source if m else "no heat model: no ampacity in its zone") for cid, m in models.items()},
         [s.id for s in net.stages if s.coil.has_thermal_model],
+        segments,
     )
 
 

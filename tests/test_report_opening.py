@@ -96,13 +96,15 @@ def test_piped_report_keeps_every_rule_id():
         assert rid in r.stdout
 
 
-def test_record_block_at_the_top_of_text_and_markdown(flawed_doc):
+def test_record_block_after_the_action_list_in_text_and_markdown(flawed_doc):
     rec = record.build(load_drawing(FLAWED), argv=["coilstage", "check", str(FLAWED)])
     digest = hashlib.sha256(FLAWED.read_bytes()).hexdigest()
     out = _text(flawed_doc, 80, record=rec)
-    assert "".join(digest) in "".join(out.split()) and out.index("SHA-256") < out.index("What to do")
+    # 13.4: the result, then the action list, then the record; the evidence after them
+    assert "".join(digest) in "".join(out.split())
+    assert out.index("What to do") < out.index("SHA-256") < out.index("Evidence")
     md = markdown.render(flawed_doc, record=rec)
-    assert md.index("**Result: FAIL**") < md.index("## Record") < md.index("## What to do") < md.index("# Evidence")
+    assert md.index("**Result: FAIL**") < md.index("## What to do") < md.index("## Record") < md.index("# Evidence")
     assert digest in md
     brief = markdown.render(flawed_doc, record=rec, brief=True)
     assert "## Verdicts" not in brief and "## What to do" in brief and "## Cautions" in brief

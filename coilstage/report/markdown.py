@@ -42,16 +42,12 @@ _ACTION_HEADS = {
 
 
 def _opening(doc: dict[str, Any], record: dict[str, Any] | None) -> list[str]:
-    """The drawing's metadata, the record block and the action list."""
+    """The drawing's metadata, the action list and the record block."""
     out: list[str] = []
     meta = (record or {}).get("drawing") or {}
     given = [(k, meta[k]) for k in ("revision", "author", "vehicle") if meta.get(k)]
     if given:
         out += [" · ".join(f"{k}: {_esc(v)}" for k, v in given), ""]
-    if record is not None:
-        out += ["## Record", "", "| | |", "|---|---|"]
-        out += [f"| {_esc(label)} | {_esc(value)} |" for label, value in record_mod.lines(record)]
-        out.append("")
     acts = actions_mod.build(doc)
     out += ["## What to do", ""]
     for name in ("failures", "warnings", "missing"):
@@ -70,11 +66,16 @@ def _opening(doc: dict[str, Any], record: dict[str, Any] | None) -> list[str]:
                 )
         if n:
             out.append("")
+    # the record after the action list: a fitter reads what to do first, an inspector files both
+    if record is not None:
+        out += ["## Record", "", "| | |", "|---|---|"]
+        out += [f"| {_esc(label)} | {_esc(value)} |" for label, value in record_mod.lines(record)]
+        out.append("")
     return out
 
 
 def render(doc: dict[str, Any], *, brief: bool = False, record: dict[str, Any] | None = None) -> str:
-    """The report as Markdown text: the result, the record and the action list, then (unless
+    """The report as Markdown text: the result, the action list and the record, then (unless
     ``brief``) the evidence."""
     doc = safe.guard(doc)
     record = safe.guard(record) if record is not None else None

@@ -93,13 +93,6 @@ def render(
         f"({s['limits_source']})"
     )
     say(Panel(head, title=Text(f"coilstage {doc['tool']['version']}")))
-    if record is not None:
-        rt = Table(title=Text("Record"), box=box.SIMPLE_HEAD, title_justify="left", show_header=False)
-        rt.add_column("what", style="dim")
-        rt.add_column("value")
-        for label, value in record_mod.lines(record):
-            rt.add_row(Text(label), Text(str(value)))
-        say(rt)
 
     acts = actions_mod.build(doc)
     say(Text("What to do", style="bold"))
@@ -120,6 +113,14 @@ def render(
                 if v.get("suggestion"):
                     say(f"      what would pass: {v['suggestion']}")
     say()
+    # the record after the action list: a fitter reads what to do first, an inspector files both
+    if record is not None:
+        rt = Table(title=Text("Record"), box=box.SIMPLE_HEAD, title_justify="left", show_header=False)
+        rt.add_column("what", style="dim")
+        rt.add_column("value")
+        for label, value in record_mod.lines(record):
+            rt.add_row(Text(label), Text(str(value)))
+        say(rt)
     if brief:
         caut = Text()
         for i, c in enumerate(doc["cautions"]):

@@ -138,7 +138,7 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
     )
     c.add_argument("--details", "-d", action="store_true", help="text report: show the reasoning of every verdict")
     c.add_argument(
-        "--brief", action="store_true", help="only the result and the action list (no evidence tables or plots)"
+        "--brief", action="store_true", help="text, Markdown, HTML: only the result, the action list and the cautions (JSON always holds everything)"
     )
     c.add_argument(
         "--suggest",

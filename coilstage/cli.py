@@ -138,7 +138,9 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
     )
     c.add_argument("--details", "-d", action="store_true", help="text report: show the reasoning of every verdict")
     c.add_argument(
-        "--brief", action="store_true", help="text, Markdown, HTML: only the result, the action list and the cautions (JSON always holds everything)"
+        "--brief",
+        action="store_true",
+        help="text, Markdown, HTML: only the result, the action list and the cautions (JSON always holds everything)",
     )
     c.add_argument(
         "--suggest",

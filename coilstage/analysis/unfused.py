@@ -57,7 +57,5 @@ def unfused_runs(d: Drawing, unfused: list[str], source: str) -> dict[str, Unfus
             d0 = sum(cables[x].length for x in p0 if x in cables)
         length, path = d0 + c.length, (*p0, cid)
         on_path = [cables[i] for i in path if i in cables]
-        out[cid] = UnfusedRun(
-            cid, length, path, all(x.sheathed for x in on_path), bool(path) and path[0] in cables
-        )
+        out[cid] = UnfusedRun(cid, length, path, all(x.sheathed for x in on_path), bool(path) and path[0] in cables)
     return out

@@ -199,9 +199,7 @@ def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
         length, sheathed, on_battery = (
             (run.length, run.sheathed, run.on_battery) if run else (c.length, c.sheathed, pos in (c.a, c.b))
         )
-        limit = (
-            ABYC_DISTANCES[2] if (sheathed and on_battery) else ABYC_DISTANCES[1] if sheathed else ABYC_DISTANCES[0]
-        )
+        limit = ABYC_DISTANCES[2] if (sheathed and on_battery) else ABYC_DISTANCES[1] if sheathed else ABYC_DISTANCES[0]
         what = (
             "sheathed, on the battery terminal"
             if sheathed and on_battery

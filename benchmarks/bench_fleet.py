@@ -30,9 +30,9 @@ def variant(k: int) -> str:
     """The four-stage starter with a base load and branch lengths of its own (invented)."""
     text = starter_text(24, 4).replace('base_load = "40 A"', f'base_load = "{30 + k % 20} A"', 1)
     for s, base in ((1, 2.0), (2, 2.3), (3, 2.6), (4, 2.9)):
-        old = f'to = "S{s}+"\nsize = "16 mm^2"\nlength = "{base:.1f} m"'
+        old = f'to = "S{s}+"\nsize = "20 mm^2"\nlength = "{base:.1f} m"'
         assert old in text, old
-        text = text.replace(old, f'to = "S{s}+"\nsize = "16 mm^2"\nlength = "{base + 0.01 * (k % 50):.2f} m"')
+        text = text.replace(old, f'to = "S{s}+"\nsize = "20 mm^2"\nlength = "{base + 0.01 * (k % 50):.2f} m"')
     return text
 
 

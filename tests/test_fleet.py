@@ -22,6 +22,10 @@ def variant(k: int, stages: int = 4, system: int = 24) -> str:
     return starter_text(system, stages).replace('base_load = "40 A"', f'base_load = "{30 + k % 20} A"', 1)
 
 
+#: the 24 V starter's branch cable, as coilstage init writes it
+BRANCH = 'size = "20 mm^2"'
+
+
 def _batch(folder, n_good=4, bad=True, failing=True):
     folder.mkdir(parents=True, exist_ok=True)
     paths = []
@@ -31,11 +35,13 @@ def _batch(folder, n_good=4, bad=True, failing=True):
         paths.append(p)
     if failing:  # 1.5 mm² branches cannot carry a stage's current
         p = folder / "failing.toml"
-        p.write_text(variant(0, 2).replace('size = "16 mm^2"', 'size = "1.5 mm^2"'), encoding="utf-8")
+        text = variant(0, 2)
+        assert BRANCH in text
+        p.write_text(text.replace(BRANCH, 'size = "1.5 mm^2"'), encoding="utf-8")
         paths.append(p)
     if bad:  # a size no table lists: bad input
         p = folder / "bad.toml"
-        p.write_text(variant(0, 2).replace('size = "16 mm^2"', 'size = "7 mm^2"', 1), encoding="utf-8")
+        p.write_text(variant(0, 2).replace(BRANCH, 'size = "7 mm^2"', 1), encoding="utf-8")
         paths.append(p)
     (folder / "harness.base.toml").write_text("# a wire-list base, not a drawing\n", encoding="utf-8")
     return paths

@@ -24,11 +24,12 @@ __version__ = "0.1.0"
 __all__ = ["__version__", "check", "load_drawing"]
 
 
-def load_drawing(path):
-    """Read a drawing file; see :func:`coilstage.drawing.load.load_drawing`."""
+def load_drawing(path, parts_dirs=()):
+    """Read a drawing file (with parts libraries ``parts_dirs`` beside those it names itself); see
+    :func:`coilstage.drawing.load.load_drawing`."""
     from coilstage.drawing.load import load_drawing as _load
 
-    return _load(path)
+    return _load(path, parts_dirs=tuple(parts_dirs))
 
 
 def check(drawing):

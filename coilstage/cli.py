@@ -97,12 +97,13 @@ def _protected(drawing_path: Path) -> list[Path]:
     return out
 
 
-def _load(drawing_path: Path, analyse: dict | None = None) -> tuple[Any, Any]:
-    """The drawing and, with ``analyse`` keywords, its analysis. DrawingError, DataError and
-    AnalysisError propagate to :func:`main`, which reports them (exit 2)."""
+def _load(drawing_path: Path, analyse: dict | None = None, parts: list[str] | None = None) -> tuple[Any, Any]:
+    """The drawing (with the parts libraries of ``--parts``) and, with ``analyse`` keywords, its
+    analysis. DrawingError, DataError and AnalysisError propagate to :func:`main`, which reports them
+    (exit 2)."""
     from coilstage import load_drawing
 
-    drawing = load_drawing(drawing_path)
+    drawing = load_drawing(drawing_path, parts_dirs=tuple(parts or ()))
     if analyse is None:
         return drawing, None
     from coilstage.analysis.run import analyse as run_analysis
@@ -137,6 +138,12 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
         "for each drawing's report and the summary",
     )
     c.add_argument("--details", "-d", action="store_true", help="text report: show the reasoning of every verdict")
+    c.add_argument(
+        "--parts",
+        action="append",
+        metavar="DIR",
+        help='a parts library (a TOML file or a folder of them) for part = "NAME" references; may be repeated',
+    )
     c.add_argument(
         "--brief",
         action="store_true",
@@ -209,7 +216,7 @@ def _check(args: argparse.Namespace) -> int:
         outputs.check_target(args.output, [drawing_path])
     elif sys.stdout is None:
         raise outputs.OutputError("standard output", "it is closed; write the report to a file with -o FILE")
-    drawing, analysis = _load(drawing_path, {})
+    drawing, analysis = _load(drawing_path, {}, args.parts)
     from coilstage.checks import run_checks
 
     verdicts = run_checks(analysis)

@@ -155,3 +155,18 @@ def test_rules_name_their_physics(capsys):
     for r in with_laws:
         for law in rule_laws(r.laws):
             assert law.name in out
+
+
+def test_parts_option_gives_the_run_a_library(tmp_path):
+    """--parts DIR resolves bare part names in a drawing that names no library itself (issue 14.2);
+    without it the same drawing is bad input (exit 2) with the reference named."""
+    from .test_load import _coach_with_parts
+
+    drawing = tmp_path / "coach-parts.toml"
+    drawing.write_text(_coach_with_parts().replace('parts = "parts/workshop-parts.toml"', ""), encoding="utf-8")
+    out = tmp_path / "r.json"
+    assert main(["check", str(drawing), "-f", "json", "-o", str(out)]) == 2
+    assert not out.exists()
+    assert main(["check", str(drawing), "--parts", str(CONFIGS / "parts"), "-f", "json", "-o", str(out)]) == 0
+    parts = {p["id"]: p for p in json.loads(out.read_text())["parts"]["parts"]}
+    assert any(r["origin"] == "library" for r in parts["K1"]["values"])

@@ -264,7 +264,7 @@ def _finite_json(text: str) -> Any:
     return json.loads(text, parse_constant=refuse)
 
 
-def run_contract(text: str, label: str = "", budget: float | None = None) -> int:
+def check_contract(text: str, label: str = "", budget: float | None = None) -> int:
     """Run ``coilstage check`` on drawing ``text`` and assert the contract; the exit code."""
     from coilstage import load_drawing
     from coilstage.errors import CoilstageError
@@ -360,7 +360,7 @@ def test_finding(finding: str, demo: str, edits: list):
         for k in path[:-1]:
             node = node[k]
         node[path[-1]] = value
-    assert run_contract(to_toml(doc), f"{finding} ({demo})", budget=3.0) == 2  # refused as bad input
+    assert check_contract(to_toml(doc), f"{finding} ({demo})", budget=3.0) == 2  # refused as bad input
 
 
 def test_toml_writer_round_trips_the_demos():
@@ -372,7 +372,7 @@ def test_toml_writer_round_trips_the_demos():
 
 def test_the_unmutated_demos_hold_the_contract():
     for name, doc in DEMOS.items():
-        assert run_contract(to_toml(doc), name) in (0, 1)
+        assert check_contract(to_toml(doc), name) in (0, 1)
 
 
 @pytest.mark.parametrize("demo", list(DEMOS))
@@ -388,10 +388,10 @@ def test_fuzz_mutated_demo(demo: str, data: st.DataObject):
         return
     survey = os.environ.get("COILSTAGE_FUZZ_SURVEY")
     if not survey:
-        run_contract(to_toml(doc), label)
+        check_contract(to_toml(doc), label)
         return
     try:  # a survey collects every violation instead of stopping at the first
-        run_contract(to_toml(doc), label)
+        check_contract(to_toml(doc), label)
     except (AssertionError, pytest.fail.Exception) as exc:
         with open(survey, "a", encoding="utf-8") as fh:
             fh.write(str(exc).replace("\n", " | ")[:600] + "\n")

@@ -149,3 +149,42 @@ zone = "chassis"
 @pytest.fixture
 def coach_path() -> Path:
     return COACH
+
+
+def problems(text: str) -> list[str]:
+    """Every problem the loader reports for a drawing ``text`` that must be refused, one line each."""
+    from coilstage.drawing.load import parse_drawing
+    from coilstage.errors import DrawingError
+
+    with pytest.raises(DrawingError) as exc:
+        parse_drawing(text, "test.toml")
+    return [str(p) for p in exc.value.problems]
+
+
+def one(text: str, where: str) -> str:
+    """The first problem reported at the key path ``where`` (the test fails if there is none)."""
+    found = [p for p in problems(text) if p.startswith(where)]
+    assert found, f"no problem at {where}: {problems(text)}"
+    return found[0]
+
+
+def coach_with_parts() -> str:
+    """The coach with F1 from the invented workshop library (its rating written over), K1 by name
+    alone and S1's suppressor from the library; the [tables] parts entry names the library."""
+    import tomllib
+
+    from coilstage.wirelist import toml_dumps
+
+    raw = tomllib.loads(COACH.read_text(encoding="utf-8"))
+    el = {e["id"]: e for e in raw["harness"]}
+    for k in ("type", "rating", "voltage_rating", "breaking_capacity", "melting_i2t", "resistance"):
+        del el["F1"][k]
+    el["F1"]["part"] = "parts/workshop-parts.toml#F-100-B"
+    el["F1"]["rating"] = "80 A"
+    for k in ("rating_24v", "rating_12v", "rated_ambient", "derating", "voltage_rating", "resistance"):
+        del el["K1"][k]
+    el["K1"]["part"] = "K-150-24"
+    el["K1"]["coil"] = {"feed_resistance": "1.5 ohm", "rise": "25 K"}
+    el["S1"]["suppression"] = {"part": "DZ-24-150"}
+    raw.setdefault("tables", {})["parts"] = "parts/workshop-parts.toml"
+    return toml_dumps(raw)

@@ -160,10 +160,10 @@ def test_rules_name_their_physics(capsys):
 def test_parts_option_gives_the_run_a_library(tmp_path):
     """--parts DIR resolves bare part names in a drawing that names no library itself (issue 14.2);
     without it the same drawing is bad input (exit 2) with the reference named."""
-    from .test_load import _coach_with_parts
+    from .conftest import coach_with_parts
 
     drawing = tmp_path / "coach-parts.toml"
-    drawing.write_text(_coach_with_parts().replace('parts = "parts/workshop-parts.toml"', ""), encoding="utf-8")
+    drawing.write_text(coach_with_parts().replace('parts = "parts/workshop-parts.toml"', ""), encoding="utf-8")
     out = tmp_path / "r.json"
     assert main(["check", str(drawing), "-f", "json", "-o", str(out)]) == 2
     assert not out.exists()

@@ -21,20 +21,7 @@ from coilstage.drawing.load import load_drawing, parse_drawing
 from coilstage.errors import DataError, DrawingError
 from coilstage.units import QuantityError, parse_dimensionless, parse_quantity, parse_temperature
 
-from .conftest import TRUCK, drawing_text
-
-
-def problems(text: str) -> list[str]:
-    with pytest.raises(DrawingError) as exc:
-        parse_drawing(text, "test.toml")
-    return [str(p) for p in exc.value.problems]
-
-
-def one(text: str, where: str) -> str:
-    found = [p for p in problems(text) if p.startswith(where)]
-    assert found, f"no problem at {where}: {problems(text)}"
-    return found[0]
-
+from .conftest import TRUCK, drawing_text, one, problems
 
 BASE = drawing_text()
 

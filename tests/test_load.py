@@ -7,19 +7,7 @@ import pytest
 from coilstage.drawing.load import load_drawing, parse_drawing
 from coilstage.errors import DrawingError
 
-from .conftest import COACH, TRUCK, drawing_text
-
-
-def problems(text: str) -> list[str]:
-    with pytest.raises(DrawingError) as exc:
-        parse_drawing(text, "test.toml")
-    return [str(p) for p in exc.value.problems]
-
-
-def one(text: str, where: str) -> str:
-    found = [p for p in problems(text) if p.startswith(where)]
-    assert found, f"no problem at {where}"
-    return found[0]
+from .conftest import COACH, TRUCK, coach_with_parts, drawing_text, one, problems
 
 
 def test_good_drawings_load():
@@ -165,28 +153,6 @@ def test_every_default_the_loader_applies_is_a_sourced_row():
 # ------------------------------------------------------------------ parts, fixed, "auto", defaults
 
 
-def _coach_with_parts() -> str:
-    """The coach with F1 from the invented workshop library (its rating written over), K1 by name
-    alone and S1's suppressor from the library; the [tables] parts entry names the library."""
-    import tomllib
-
-    from coilstage.wirelist import toml_dumps
-
-    raw = tomllib.loads(COACH.read_text(encoding="utf-8"))
-    el = {e["id"]: e for e in raw["harness"]}
-    for k in ("type", "rating", "voltage_rating", "breaking_capacity", "melting_i2t", "resistance"):
-        del el["F1"][k]
-    el["F1"]["part"] = "parts/workshop-parts.toml#F-100-B"
-    el["F1"]["rating"] = "80 A"
-    for k in ("rating_24v", "rating_12v", "rated_ambient", "derating", "voltage_rating", "resistance"):
-        del el["K1"][k]
-    el["K1"]["part"] = "K-150-24"
-    el["K1"]["coil"] = {"feed_resistance": "1.5 ohm", "rise": "25 K"}
-    el["S1"]["suppression"] = {"part": "DZ-24-150"}
-    raw.setdefault("tables", {})["parts"] = "parts/workshop-parts.toml"
-    return toml_dumps(raw)
-
-
 def test_a_library_part_overridden_in_a_drawing_gives_the_typed_verdicts():
     """The loader expands part references itself (no "part" key reaches the section parsers): the
     drawing with library parts (F1 at its own 80 A) gives the same elements and the same verdicts as
@@ -197,7 +163,7 @@ def test_a_library_part_overridden_in_a_drawing_gives_the_typed_verdicts():
     from coilstage import check
     from coilstage.wirelist import toml_dumps
 
-    got = parse_drawing(_coach_with_parts(), "parts.toml", COACH.parent)
+    got = parse_drawing(coach_with_parts(), "parts.toml", COACH.parent)
     raw = tomllib.loads(COACH.read_text(encoding="utf-8"))
     next(e for e in raw["harness"] if e["id"] == "F1")["rating"] = "80 A"
     want = parse_drawing(toml_dumps(raw), "typed.toml", COACH.parent)
@@ -219,7 +185,7 @@ def test_a_library_part_overridden_in_a_drawing_gives_the_typed_verdicts():
 def test_parts_dirs_given_to_the_run(tmp_path):
     """A library given with parts_dirs (the --parts option) resolves a bare name; without it the
     name is a problem at the reference, said once (no "no such key: part" beside it)."""
-    text = _coach_with_parts().replace('parts = "parts/workshop-parts.toml"', "")
+    text = coach_with_parts().replace('parts = "parts/workshop-parts.toml"', "")
     d = parse_drawing(text, "x", COACH.parent, parts_dirs=(COACH.parent / "parts",))
     assert any(p.ref.endswith("#K-150-24") for p in d.provenance)
     msgs = problems(text)

@@ -118,9 +118,9 @@ def test_values_from_a_parts_library_are_marked_with_the_part():
 
     from coilstage.drawing.load import parse_drawing
 
-    from .test_load import _coach_with_parts
+    from .conftest import coach_with_parts
 
-    text = _coach_with_parts()
+    text = coach_with_parts()
     d = parse_drawing(text, "parts.toml", COACH.parent)
     got = {p["id"]: p for p in parts.build(d, tomllib.loads(text))["parts"]}
     f1 = {r["key"]: r for r in got["F1"]["values"]}

@@ -368,9 +368,9 @@ def test_a_library_fuse_is_chosen_from_its_makers_series():
     workshop library's F-100-B: 40, 60, 80, 100, 125 A), not over its type's standard ratings; a fuse
     typed in keeps its type's series."""
     from coilstage.drawing.load import load_drawing
-    from tests.test_load import _coach_with_parts
+    from tests.conftest import coach_with_parts
 
-    text = _coach_with_parts()
+    text = coach_with_parts()
     d = parse_drawing(text, "parts.toml", COACH.parent)
     f1 = next(p for p in sizing.parts_of(d, None, text) if p.id == "F1")
     assert f1.labels == ("40 A", "60 A", "80 A", "100 A", "125 A")

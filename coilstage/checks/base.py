@@ -23,6 +23,19 @@ class Status(StrEnum):
 
 
 @dataclass(frozen=True)
+class Sensitivity:
+    """How much one declared parameter moves a verdict's margin: ``parameter`` (its tolerance key, e.g.
+    ``coils.*.resistance_tolerance``), ``words`` (what it is, for a reader), ``change`` (the move over
+    which the effect is stated, in the parameter's unit: its tolerance end towards the worst case) and
+    ``margin_change`` (the margin's change over that move, as a fraction: -0.05 is 5 points less)."""
+
+    parameter: str
+    words: str
+    change: float
+    margin_change: float
+
+
+@dataclass(frozen=True)
 class WorstOf:
     """How a verdict decided at its worst case compares with the nominal case: the nominal status,
     value and margin, the name of the worst-case conditions, and the inputs that decided them."""
@@ -32,6 +45,7 @@ class WorstOf:
     nominal_margin: float | None
     conditions: str
     deciding: tuple[str, ...] = ()
+    sensitivities: tuple[Sensitivity, ...] = ()  # largest effect first
 
 
 @dataclass(frozen=True)

@@ -17,6 +17,10 @@ class Battery:
     internal_resistance: float  # [Ω]
     node: str
     capacity: float | None = None  # [C] (A·h × 3600)
+    chemistry: str = "flooded"  # flooded | agm | gel (open-circuit voltage line and resistance rise)
+    cranking_current: float | None = None  # rated cold-cranking current [A] (bounds the resistance)
+    short_circuit_current: float | None = None  # maker's rated short-circuit current [A]
+    peukert: float | None = None  # Peukert exponent for usable charge; None: the shipped default
 
 
 @dataclass(frozen=True)
@@ -42,6 +46,8 @@ class Supply:
     base_load_node: str
     negative_node: str
     chassis_node: str  # where a short to the vehicle body lands
+    #: central load-dump suppression at the alternator: "yes", "no" or "not known" (ISO 16750-2 Test B / A)
+    load_dump_suppression: str = "not known"
 
 
 @dataclass(frozen=True)
@@ -49,6 +55,11 @@ class Environment:
     ambient_min: float  # [°C]
     ambient_max: float  # [°C]
     zones: dict[str, float]  # zone name -> highest temperature [°C]
+    #: the retarder's surroundings heated by its rotors over a retardation: the coils' zone rises by
+    #: up to ``rotor_zone_rise`` [K] with time constant ``rotor_zone_time_constant`` [s] while any stage
+    #: is on, and falls back with the same constant; None: the shipped default (analysis/duty)
+    rotor_zone_rise: float | None = None
+    rotor_zone_time_constant: float | None = None
 
 
 @dataclass(frozen=True)
@@ -142,6 +153,12 @@ class RelayCoil:
     operate_voltage: float  # must-operate voltage at t_ref [V]
     feed_resistance: float  # control wiring and switch between the bus and the coil [Ω]
     rise: float  # coil temperature above its zone in service [K]
+    #: the coil circuit: its own suppression ("none" | "diode" | "diode_zener" | "resistor" | "varistor";
+    #: a plain diode slows the armature's opening several times), its feed fuse rating [A] and its
+    #: wire's conducting area [m²] (None: not stated)
+    suppression: str = "none"
+    fuse_rating: float | None = None
+    wire_area: float | None = None
 
 
 @dataclass(frozen=True)
@@ -263,6 +280,41 @@ class Resistor(Element):
 
 
 @dataclass(frozen=True)
+class Joint(Element):
+    """A lug, stud, splice, connector or fuse holder: a resistance with a current rating.
+
+    ``joint_kind``: lug | stud | splice | connector | fuse_holder. ``rating`` is the continuous current
+    at ``rated_ambient`` [°C]; ``derated`` (fraction, at temperature [°C]) where the maker gives one; for a
+    lug, ``conductor_range`` is the smallest and largest conductor area it takes [m²] and ``cable`` the
+    cable it terminates."""
+
+    joint_kind: str
+    resistance: float  # [Ω]
+    rating: float | None  # [A]
+    rated_ambient: float  # [°C]
+    derated: tuple[float, float] | None
+    zone: str
+    zone_temperature: float  # [°C]
+    part: str = ""
+    conductor_range: tuple[float, float] | None = None  # [m²]
+    cable: str | None = None  # id of the cable a lug terminates
+
+
+@dataclass(frozen=True)
+class ToleranceSpec:
+    """A tolerance or operating range the drawing states for one key of the tolerance defaults
+    (``coilstage/data/tolerance_defaults.toml``), or for one element (``cables.W3.length_tolerance``).
+
+    ``low``/``high`` in the default row's unit (relative tolerances as fractions); ``where`` is the
+    drawing key it came from."""
+
+    low: float
+    high: float
+    distribution: str = "uniform"  # uniform | normal (ends are ±3 sigma)
+    where: str = ""
+
+
+@dataclass(frozen=True)
 class Stage(Element):
     coil: CoilType
     count: int
@@ -339,6 +391,9 @@ class Drawing:
     #: element id -> the keys (relative to the element, e.g. "resistance", "coil.rise") the loader filled
     #: with a default because the drawing left them out
     defaults_applied: Mapping[str, frozenset[str]] = field(default_factory=dict)
+    #: tolerances and ranges the drawing states (``[tolerances]`` and per-element keys), by default-row key
+    #: or per-element key; what it leaves out comes from the shipped defaults (analysis/tolerances)
+    tolerances: Mapping[str, ToleranceSpec] = field(default_factory=dict)
 
     def of_kind(self, cls: type) -> list:
         return [e for e in self.elements if isinstance(e, cls)]

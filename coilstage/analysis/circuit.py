@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from coilstage.drawing.schema import Cable, Drawing, Element, Fuse, Relay, Resistor, Stage
+from coilstage.drawing.schema import Cable, Drawing, Element, Fuse, Joint, Relay, Resistor, Stage
 from coilstage.physics.conductor import resistance_at_temperature
 from coilstage.physics.network import (
     Branches,
@@ -46,6 +46,11 @@ class Solution:
     fault_current: float | None = None  # current in an added short, where one was asked for [A]
 
 
+#: Elements whose resistance does not depend on temperature in the model: fuses, relay contacts, joints
+#: and lugs, measured grounds and busbars.
+FIXED_RESISTANCE = (Fuse, Relay, Resistor, Joint)
+
+
 def element_resistance(e: Element, temperature: float) -> float:
     """Resistance of one harness element at its temperature [Ω] (cables and coils follow R(T);
     fuses, relay contacts, joints and measured grounds are fixed)."""
@@ -54,7 +59,7 @@ def element_resistance(e: Element, temperature: float) -> float:
     if isinstance(e, Stage):
         c = e.coil
         return resistance_at_temperature(c.r_ref, c.t_ref, temperature, c.alpha20) * e.r_factor
-    if isinstance(e, (Fuse, Relay, Resistor)):
+    if isinstance(e, FIXED_RESISTANCE):
         return e.resistance
     raise TypeError(f"no resistance model for {type(e).__name__}")
 

@@ -8,67 +8,53 @@ import math
 
 import numpy as np
 
-from coilstage.analysis.circuit import Circuit
-from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Resistor, Stage
-from coilstage.physics.network import SPARSE_THRESHOLD, Factorized, charging_source_state
+from coilstage.analysis.circuit import FIXED_RESISTANCE, Circuit
+from coilstage.drawing.schema import Cable, Drawing, Stage
+from coilstage.physics.network import Branches, Factorized, charging_source_state, mna_matrix
 
 
 class QuasiStatic:
     """The drawing's network for fast repeated DC solves at changing cable and coil temperatures.
 
-    The fixed part of the MNA matrix is assembled once; each solve adds the temperature-dependent
-    conductances of cables and energised stages, and solves a dense system.
+    The fixed part of the network (fuses, relay contacts, joints, measured grounds, the battery's
+    Norton equivalent, the base load) is stamped once by :func:`coilstage.physics.network.mna_matrix`,
+    the one MNA assembly of the package; each solve stamps the temperature-dependent conductances of the
+    cables and energised stages with the same function and solves (dense below SPARSE_THRESHOLD
+    unknowns, sparse LU above).
     """
 
     def __init__(self, d: Drawing, battery_emf: float, alt_setpoint: float | None):
         self.d = d
         c = Circuit(d)
-        self.nodes = c.nodes
-        n = len(c.nodes) - 1
+        self.nodes = nd = c.nodes
+        self.n_nodes = len(nd)
         self.stages = d.stages
         self.cables = d.of_kind(Cable)
         self.stage_ix = {s.id: k for k, s in enumerate(self.stages)}
-        zero = [e for e in d.elements if isinstance(e, (Fuse, Relay, Resistor)) and e.resistance == 0]
-        self.m = len(zero)
-        self.size = n + self.m
-        a0 = np.zeros((self.size, self.size))
-        rhs0 = np.zeros(self.size)
-
-        def stamp(mat, i, j, g):
-            for (p, q), s in (((i, i), g), ((j, j), g), ((i, j), -g), ((j, i), -g)):
-                if p > 0 and q > 0:
-                    mat[p - 1, q - 1] += s
-
-        nd = c.nodes
-        self.fixed_current: list[tuple[str, int, int, float]] = []
-        for e in d.elements:
-            if isinstance(e, (Fuse, Relay, Resistor)) and e.resistance > 0:
-                stamp(a0, nd[e.a], nd[e.b], 1.0 / e.resistance)
-                self.fixed_current.append((e.id, nd[e.a], nd[e.b], 1.0 / e.resistance))
-        self.zero_ids = [e.id for e in zero]
-        for k, e in enumerate(zero):
-            row = n + k
-            for node, sgn in ((nd[e.a], 1.0), (nd[e.b], -1.0)):
-                if node > 0:
-                    a0[node - 1, row] += sgn
-                    a0[row, node - 1] -= sgn
+        fixed = [e for e in d.elements if isinstance(e, FIXED_RESISTANCE)]
+        zero = [e for e in fixed if e.resistance == 0]
         s = d.supply
         self.bat = nd[s.battery.node]
         self.rb = s.battery.internal_resistance
         self.emf = battery_emf
-        stamp(a0, 0, self.bat, 1.0 / self.rb)
-        rhs0[self.bat - 1] += battery_emf / self.rb
-        if s.base_load > 0 and nd[s.base_load_node] > 0:
-            rhs0[nd[s.base_load_node] - 1] -= s.base_load
-        self.a0, self.rhs0 = a0, rhs0
-        self.r0, self.c0 = np.nonzero(a0)  # the fixed part as triplets, for the sparse path
-        self.v0 = a0[self.r0, self.c0]
+        res = [(nd[e.a], nd[e.b], e.resistance) for e in fixed if e.resistance > 0]
+        self.fixed_current = [(e.id, nd[e.a], nd[e.b], 1.0 / e.resistance) for e in fixed if e.resistance > 0]
+        res.append((0, self.bat, self.rb))
+        cur = [(0, self.bat, battery_emf / self.rb)]
+        if s.base_load > 0:
+            cur.append((nd[s.base_load_node], 0, s.base_load))
+        self._vs = Branches.of([(nd[e.a], nd[e.b], 0.0) for e in zero])
+        self.zero_ids = [e.id for e in zero]
+        self.m = len(zero)
+        self.r0, self.c0, self.v0, self.rhs0, n = mna_matrix(self.n_nodes, Branches.of(res), self._vs, Branches.of(cur))
+        self.size = n + self.m
         self.alt = s.alternator
         self.alt_node = nd[s.alternator.node] if s.alternator else 0
         self.alt_set = alt_setpoint
         # variable elements: cables then stages
-        self.var_a = np.array([nd[e.a] for e in [*self.cables, *self.stages]], dtype=int)
-        self.var_b = np.array([nd[e.b] for e in [*self.cables, *self.stages]], dtype=int)
+        self.var_a = np.array([nd[e.a] for e in [*self.cables, *self.stages]], dtype=np.int64)
+        self.var_b = np.array([nd[e.b] for e in [*self.cables, *self.stages]], dtype=np.int64)
+        self._none = Branches.of([])
         self.cable_r20 = np.array([e.r20_per_m * e.length for e in self.cables])
         self.cable_alpha = np.array([e.alpha20 for e in self.cables])
         st_r20 = []
@@ -77,14 +63,6 @@ class QuasiStatic:
             st_r20.append(co.r_ref / (1 + co.alpha20 * (co.t_ref - 20.0)) * e.r_factor)
         self.stage_r20 = np.array(st_r20)
         self.stage_alpha = np.array([e.coil.alpha20 for e in self.stages])
-        # flat scatter indices for the 4 stamps of each variable conductance
-        ia, ib = self.var_a - 1, self.var_b - 1
-        rows = np.concatenate([ia, ib, ia, ib])
-        cols = np.concatenate([ia, ib, ib, ia])
-        self.sign = np.concatenate([np.ones(len(ia)), np.ones(len(ia)), -np.ones(len(ia)), -np.ones(len(ia))])
-        self.keep = (rows >= 0) & (cols >= 0)
-        self.flat = (rows * self.size + cols)[self.keep]
-        self.which = np.tile(np.arange(len(ia)), 4)[self.keep]
         self.mode = "regulating"
 
     def resistances(self, t_cables: np.ndarray, t_stages: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -93,24 +71,16 @@ class QuasiStatic:
         return rc, rs
 
     def _solver(self, g: np.ndarray, extra: float):
-        """A solve function for the matrix at variable conductances ``g`` [S], plus ``extra`` [S] at
-        the alternator node: dense below SPARSE_THRESHOLD unknowns, sparse LU above."""
-        node = self.alt_node - 1
-        if self.size <= SPARSE_THRESHOLD:
-            a = self.a0 + np.bincount(
-                self.flat, weights=(self.sign[self.keep] * g[self.which]), minlength=self.size * self.size
-            ).reshape(self.size, self.size)
-            if extra:
-                a[node, node] += extra
-            return lambda r: np.linalg.solve(a, r)
-        rows = [self.r0, self.flat // self.size]
-        cols = [self.c0, self.flat % self.size]
-        vals = [self.v0, self.sign[self.keep] * g[self.which]]
+        """A solve function for the matrix at variable conductances ``g`` [S] (cables then stages; 0 for
+        an element that is off), plus ``extra`` [S] from the alternator node to the reference."""
+        on = g > 0
+        ga, gb, gv = self.var_a[on], self.var_b[on], 1.0 / g[on]
         if extra:
-            rows.append(np.array([node]))
-            cols.append(np.array([node]))
-            vals.append(np.array([extra]))
-        return Factorized(np.concatenate(rows), np.concatenate(cols), np.concatenate(vals), self.size).solve
+            ga, gb, gv = np.append(ga, self.alt_node), np.append(gb, 0), np.append(gv, 1.0 / extra)
+        r, c, v, _rhs, _n = mna_matrix(self.n_nodes, Branches(ga, gb, gv), self._none, self._none)
+        return Factorized(
+            np.concatenate([self.r0, r]), np.concatenate([self.c0, c]), np.concatenate([self.v0, v]), self.size
+        ).solve
 
     def solve(self, t_cables: np.ndarray, t_stages: np.ndarray, on: np.ndarray, alt_limit: float | None):
         """(cable currents, stage currents, battery current, alternator current, node vector).

@@ -94,9 +94,8 @@ class Factorized:
                 raise np.linalg.LinAlgError("singular network") from None
             self._dense = None
         else:
-            a = np.zeros((size, size))
-            np.add.at(a, (rows, cols), vals)
-            self._dense = a
+            flat = np.asarray(rows, dtype=np.int64) * size + np.asarray(cols, dtype=np.int64)
+            self._dense = np.bincount(flat, weights=vals, minlength=size * size).reshape(size, size)
 
     def solve(self, b: np.ndarray) -> np.ndarray:
         if self._dense is not None:

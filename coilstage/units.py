@@ -103,7 +103,7 @@ FAST_UNITS: dict[str, tuple[float, str]] = {
     "rad/s": (1.0, "angular_speed"),
     "Hz": (1.0, "frequency"),
 }
-_FAST_TEMPERATURE = {"degC": (1.0, 0.0), "°C": (1.0, 0.0), "K": (1.0, -273.15), "degF": (5 / 9, -32.0 * 5 / 9)}
+FAST_TEMPERATURES = {"degC": (1.0, 0.0), "°C": (1.0, 0.0), "K": (1.0, -273.15), "degF": (5 / 9, -32.0 * 5 / 9)}
 _FAST_RE = re.compile(r"^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*(\S+)\s*$", re.ASCII)
 
 # ---------------------------------------------------------------- the number gate
@@ -181,7 +181,7 @@ def _screen(text: str, noun: str, example: str) -> None:
         raise QuantityError(f"{shape} (at most {MAX_TEXT} characters)")
     if any(unicodedata.category(ch) == "Nd" and not ch.isascii() for ch in text):
         raise QuantityError(f"{shape} (digits 0-9 only)")
-    t = _normalise(text)
+    t = normalise_unit_text(text)
     m = _NUMBER.match(t)
     if m is None:
         raise QuantityError(f"{shape} (it must start with the number)")
@@ -215,7 +215,7 @@ def registry() -> Any:
 _LEADING_ZEROS = re.compile(r"^([+-]?)0+(?=[0-9])")
 
 
-def _normalise(text: str) -> str:
+def normalise_unit_text(text: str) -> str:
     out = _LEADING_ZEROS.sub(r"\1", text.strip())  # "01 V": pint's tokenizer would read 0, not 1
     for old, new in _TRADE_SPELLINGS:
         out = out.replace(old, new)
@@ -230,7 +230,7 @@ def _parse(text: Any, expected: str, example: str) -> Any:
     _screen(text, expected, example)
     ureg = registry()
     try:
-        q = ureg.Quantity(_normalise(text))
+        q = ureg.Quantity(normalise_unit_text(text))
     except Exception as exc:  # pint raises several kinds for unreadable text
         raise QuantityError(f'{expected} such as "{example}" ({type(exc).__name__}: {exc})') from None
     if not isinstance(q.magnitude, (int, float)) or not math.isfinite(float(q.magnitude)):
@@ -284,9 +284,9 @@ def parse_temperature(text: Any, use_fast: bool = True) -> float:
     85.0
     """
     fast = _fast(text, use_fast)
-    if fast is not None and fast[1] in _FAST_TEMPERATURE:
+    if fast is not None and fast[1] in FAST_TEMPERATURES:
         _screen(text, "a temperature", "85 degC")
-        scale, offset = _FAST_TEMPERATURE[fast[1]]
+        scale, offset = FAST_TEMPERATURES[fast[1]]
         return gate(fast[0] * scale + offset, "temperature")
     q = _parse(text, "a temperature", "85 degC")
     if q.dimensionality != registry().Quantity(1, "K").dimensionality:

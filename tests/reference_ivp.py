@@ -20,7 +20,7 @@ def stage_voltages(circuit, temps, src, on: tuple[str, ...], i: np.ndarray) -> t
     d = circuit.drawing
     s = d.supply
     nd = circuit.nodes
-    rows, vs, _own, cur, _r, alt_on, fixed = circuit._network(temps, src, None, exclude={x.id for x in d.stages})
+    rows, vs, _own, cur, _r, alt_on, fixed = circuit.network_rows(temps, src, None, exclude={x.id for x in d.stages})
     cur = list(cur)
     for sid, ik in zip(on, i, strict=True):
         e = circuit.index[sid]

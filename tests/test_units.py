@@ -100,14 +100,14 @@ def test_dimensionless():
 
 def test_fast_units_agree_with_pint():
     # The fast path must give exactly what pint gives for every unit it reads without pint.
-    from coilstage.units import _FAST_TEMPERATURE, DIMENSIONS, FAST_UNITS, _normalise, registry
+    from coilstage.units import DIMENSIONS, FAST_TEMPERATURES, FAST_UNITS, normalise_unit_text, registry
 
     ureg = registry()
     for unit, (factor, dim) in FAST_UNITS.items():
-        q = ureg.Quantity(2.5, _normalise(unit).replace("^", "**"))
+        q = ureg.Quantity(2.5, normalise_unit_text(unit).replace("^", "**"))
         assert q.to(DIMENSIONS[dim][0]).magnitude == pytest.approx(2.5 * factor, rel=1e-12), unit
         assert parse_quantity(f"2.5 {unit}", dim) == pytest.approx(2.5 * factor, rel=1e-12)
-    for unit in _FAST_TEMPERATURE:
+    for unit in FAST_TEMPERATURES:
         reference = (
             ureg.Quantity(85, "degC" if unit == "°C" else unit).to("degC").magnitude
         )  # pint reads "°C" as degreeC

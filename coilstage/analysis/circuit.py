@@ -81,7 +81,7 @@ class Circuit:
             self.nodes.setdefault(n, len(self.nodes))
         self.index = {e.id: e for e in drawing.elements}
 
-    def _network(
+    def network_rows(
         self,
         temperatures: dict[str, float],
         sources: SourceState,
@@ -148,7 +148,7 @@ class Circuit:
         d = self.drawing
         s = d.supply
         nd = self.nodes
-        res_rows, vs_rows, vs_owner, is_rows, resistance, alt_on, fixed = self._network(
+        res_rows, vs_rows, vs_owner, is_rows, resistance, alt_on, fixed = self.network_rows(
             temperatures, sources, overrides
         )
         if short_at is not None:
@@ -197,7 +197,7 @@ class Circuit:
         The network must be linear: ``sources.alt_fixed`` (or no alternator) and no held bus."""
         if sources.hold_bus is not None:
             raise ValueError("a fault cannot be solved with the bus held")
-        res_rows, vs_rows, _owner, is_rows, _r, alt_on, fixed = self._network(temperatures, sources, None)
+        res_rows, vs_rows, _owner, is_rows, _r, alt_on, fixed = self.network_rows(temperatures, sources, None)
         if alt_on and not fixed:
             raise ValueError("fault currents need the alternator as a fixed current source (alt_fixed=True)")
         nd = self.nodes

@@ -79,7 +79,9 @@ class CaseNetwork:
         s = d.supply
         nd = circuit.nodes
         all_stages = set(self.stage_ids)
-        res_rows, vs_rows, vs_owner, is_rows, _r, alt_on, fixed = circuit._network(temps, src, None, exclude=all_stages)
+        res_rows, vs_rows, vs_owner, is_rows, _r, alt_on, fixed = circuit.network_rows(
+            temps, src, None, exclude=all_stages
+        )
         if self.piecewise:
             a = s.alternator
             node = nd[a.node]

@@ -422,7 +422,7 @@ class FuseGates:
     Between points both gates are interpolated in log-log axes (linearly in time where a gate falls
     to zero). Below the first point the fuse does not open. Beyond the last point the gates follow a
     constant I²t, t = t_last·(m_last/m)²: at high currents a fuse element heats adiabatically and
-    its I²t is roughly constant (shared protection notes §1.5); the last point (about 6 × rating,
+    its I²t is roughly constant (docs/references.md#fuse-adiabatic-i2t); the last point (about 6 × rating,
     up to a second) lies beyond that region, where heat lost to the terminals makes its I²t larger,
     so the extension overstates the clearing time: the safe side for the cable checks.
     """

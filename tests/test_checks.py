@@ -149,7 +149,7 @@ def test_not_checked_needs_a_reason():
 def test_hot_corner_current_ratio_follows_resistance_and_bus():
     # Stage current scales as U/R(T): cold at -30 degC on a held 28.3 V bus, hot at 150 degC on a
     # sagging bus. The ratio of winding resistances is R(150)/R(-30) = 1.5109/0.8035 = 1.880 (IEC 60028
-    # alpha; ratio from the shared physics notes, derived).
+    # alpha; docs/references.md#copper-resistance-temperature, derived).
     a, _ = check(parse_drawing(drawing_text(stages=1), "x"))
     cold, hot = a.corners["cold"].stages[0], a.corners["hot"].stages[0]
     assert hot.resistance / cold.resistance == pytest.approx(1.880, abs=1e-3)

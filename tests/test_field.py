@@ -40,12 +40,12 @@ def test_iron_free_gap_follows_amperes_law():
     for ni in (100.0, 1000.0, 5000.0):
         # iron of mu_r 1e9 over 0.2 m still adds 0.2/1e9 to the 2 mm of gap: 1e-7 of the MMF
         assert m.gap_flux_density(ni) == pytest.approx(MU0 * ni / 2e-3, rel=3e-7)
-    # check value (shared physics notes §8 #13, derived): 1.2 T across a 1 mm gap needs 954.9 A-turns
+    # check value (docs/references.md#magnetic-circuit, derived): 1.2 T across a 1 mm gap needs 954.9 A-turns
     assert 1.2 * 1e-3 / MU0 == pytest.approx(954.9, abs=0.1)
 
 
 def test_linear_circuit_inductance_is_n_squared_over_reluctance():
-    # Check values (shared physics notes §2.4 / §8 #14, derived from L = N²/R): N = 100, two 1 mm gaps,
+    # Check values (docs/references.md#magnetic-circuit, derived from L = N²/R): N = 100, two 1 mm gaps,
     # A = 40 cm², iron neglected: R = 3.979e5 A/Wb, L = 25.13 mH; with mu_r 1000 over 0.2 m, 22.8 mH
     # (22.85 mH before rounding: R = 3.979e5 + 3.979e4 A/Wb).
     ideal = MagneticCircuit(100, 40e-4, 2, 1e-3, 0.2, 40e-4, linear_curve(1e9))
@@ -66,8 +66,8 @@ def test_shipped_curves_reproduce_their_points():
     for h, b in row["points"]:
         assert c.h_of_b(b) == pytest.approx(h, rel=1e-12, abs=1e-12)
         assert c.b_of_h(h) == pytest.approx(b, rel=1e-12, abs=1e-12)
-    # aisi-1008: Modelica's mu_rApprox with the AISI_1008 record; check values of the shared notes
-    # (derived from the library's formula): mu_r 2082.4 / 649.6 and H 382.1 / 1837.5 A/m at 1.0 / 1.5 T.
+    # aisi-1008: Modelica's mu_rApprox with the AISI_1008 record; check values in
+    # docs/references.md#magnetic-circuit (derived from the library's formula): mu_r 2082.4 / 649.6 and H 382.1 / 1837.5 A/m at 1.0 / 1.5 T.
     assert modelica_mu_r(1.0, 200, 1.17, 8100, 2.59, 10) == pytest.approx(2082.4, abs=0.1)
     assert modelica_mu_r(1.5, 200, 1.17, 8100, 2.59, 10) == pytest.approx(649.6, abs=0.1)
     a = tables.bh_curve("aisi-1008")
@@ -76,7 +76,7 @@ def test_shipped_curves_reproduce_their_points():
 
 
 def test_saturating_circuit_worked_example_and_brute_force():
-    # Check values (shared physics notes §2.3, derived on the 1010 table): l_fe 0.2 m, two 1 mm gaps,
+    # Check values (docs/references.md#magnetic-circuit, derived on the 1010 table): l_fe 0.2 m, two 1 mm gaps,
     # A = 40 cm²: B = 0.568 / 1.114 / 1.504 / 1.700 / 1.858 / 1.917 T at 1000 ... 8000 A-turns.
     m = MagneticCircuit(100, 40e-4, 2, 1e-3, 0.2, 40e-4, tables.bh_curve("steel-1010"))
     for ni, b in ((1000, 0.568), (2000, 1.114), (3000, 1.504), (4000, 1.700), (6000, 1.858), (8000, 1.917)):
@@ -110,7 +110,7 @@ def test_more_turns_give_a_stronger_field_at_the_same_current():
 
 
 def test_ac_current_against_the_impedance_formula():
-    # Check values (shared physics notes §6 / §8 #12, derived): L = 0.1 H, R = 0.6 ohm, 50 Hz, 28 V:
+    # Check values (docs/references.md#ac-impedance, derived): L = 0.1 H, R = 0.6 ohm, 50 Hz, 28 V:
     # |Z| = 31.42 ohm, I = 0.891 A (46.67 A on DC, 52 times less).
     i, z = ac_current(28.0, 0.6, 0.1, 50.0)
     assert z == pytest.approx(math.sqrt(0.6**2 + (2 * math.pi * 50 * 0.1) ** 2), rel=1e-12)
@@ -119,7 +119,7 @@ def test_ac_current_against_the_impedance_formula():
 
 
 def test_kloss_torque_shape():
-    # Check values (shared physics notes §8 #19, the Modelica EddyCurrentTorque form): T_max 100 N m,
+    # Check values (docs/references.md#eddy-current-torque-shape, the Modelica EddyCurrentTorque form): T_max 100 N m,
     # omega_cr 10 rad/s: 80 / 100 / 80 N m at 5 / 10 / 20 rad/s.
     assert [round(kloss_torque(w, 100.0, 10.0), 6) for w in (5, 10, 20)] == [80.0, 100.0, 80.0]
     assert kloss_torque(0.0, 100.0, 10.0) == 0.0

@@ -67,7 +67,8 @@ def test_shipped_curves_reproduce_their_points():
         assert c.h_of_b(b) == pytest.approx(h, rel=1e-12, abs=1e-12)
         assert c.b_of_h(h) == pytest.approx(b, rel=1e-12, abs=1e-12)
     # aisi-1008: Modelica's mu_rApprox with the AISI_1008 record; check values in
-    # docs/references.md#magnetic-circuit (derived from the library's formula): mu_r 2082.4 / 649.6 and H 382.1 / 1837.5 A/m at 1.0 / 1.5 T.
+    # docs/references.md#magnetic-circuit (derived from the library's formula): mu_r 2082.4 / 649.6 and
+    # H 382.1 / 1837.5 A/m at 1.0 / 1.5 T.
     assert modelica_mu_r(1.0, 200, 1.17, 8100, 2.59, 10) == pytest.approx(2082.4, abs=0.1)
     assert modelica_mu_r(1.5, 200, 1.17, 8100, 2.59, 10) == pytest.approx(649.6, abs=0.1)
     a = tables.bh_curve("aisi-1008")

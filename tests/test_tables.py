@@ -95,7 +95,8 @@ def test_iso6722_rows_lie_in_a_plausible_band():
 
 def test_awg_formula_table():
     t = tables.conductor_table("awg_astm_b258")
-    # 4 AWG at IACS 1/58: 0.8152 mOhm/m solid (docs/references.md#awg-formula, derived), times the 1.03 stranding factor.
+    # 4 AWG at IACS 1/58: 0.8152 mOhm/m solid (docs/references.md#awg-formula, derived), times the 1.03
+    # stranding factor.
     assert t.rows[4.0].r20_per_m == pytest.approx(0.8152e-3 * 1.03, rel=1e-3)
     assert "4/0 AWG" in t.sizes() and "30 AWG" in t.sizes()
 

@@ -23,21 +23,20 @@ import coilstage.physics
 
 PHYSICS = pathlib.Path(coilstage.physics.__file__).parent
 
-CONFORMING = ["coilstage.physics.conductor", "coilstage.physics.fault"]
-#: Not yet in the template (module: owner).
+CONFORMING = ["coilstage.physics.battery", "coilstage.physics.conductor", "coilstage.physics.fault"]
+#: Not yet in the template (module: what is missing).
 PENDING = {
-    "coilstage.physics.network": "helper H9 (issue 9)",
-    "coilstage.physics.numeric": "helper H9 (issue 9)",
-    "coilstage.physics.thermal": "helper H9 (issue 9)",
-    "coilstage.physics.transient": "helper H9 (issue 9)",
-    "coilstage.physics.magnetic": "helper H9 (issue 9)",
-    "coilstage.physics.cable_heat": "helper H9 (issue 9)",
-    "coilstage.physics.battery": "helper W",
-    "coilstage.physics.supply_limits": "helper W",
-    "coilstage.physics.sensitivity": "helper W",
-    "coilstage.physics.load_dump": "helper R",
-    "coilstage.physics.fuse_cyclic": "helper R",
-    "coilstage.physics.joints": "helper R",
+    "coilstage.physics.network": "not yet converted",
+    "coilstage.physics.numeric": "not yet converted",
+    "coilstage.physics.thermal": "not yet converted",
+    "coilstage.physics.transient": "not yet converted",
+    "coilstage.physics.magnetic": "not yet converted",
+    "coilstage.physics.cable_heat": "not yet converted",
+    "coilstage.physics.supply_limits": "not yet converted",
+    "coilstage.physics.sensitivity": "not yet converted",
+    "coilstage.physics.load_dump": "not yet converted",
+    "coilstage.physics.fuse_cyclic": "not yet converted",
+    "coilstage.physics.joints": "not yet converted",
 }
 
 SECTIONS = ("Parameters", "Returns", "Notes", "Examples", "References")

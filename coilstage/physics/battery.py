@@ -108,10 +108,20 @@ def ocv_per_cell_from_specific_gravity(specific_gravity: float | np.ndarray) -> 
     specific_gravity : float or array
         Specific gravity of the electrolyte at about 25 °C, 1.10 … 1.30. [–]
 
+    Returns
+    -------
+    float or array
+        Rest voltage of one cell. [V]
+
     Notes
     -----
     A trade rule of thumb (from memory, no single source); it reproduces the published OCV–SOC table
     of :func:`open_circuit_voltage` within 0.02 V per cell (SG 1.265 → 2.105 V against 2.108 V).
+
+    References
+    ----------
+    .. [1] OCV and specific gravity against state of charge, realexposer.com/2009/11/what-does-terminal-
+       voltage-tell.html (stored public page): the table the rule is checked against.
 
     Examples
     --------
@@ -139,7 +149,7 @@ def resistance_bound_from_cranking_current(
         Rated cold-cranking current of one 12 V block under ``standard``. [A]
     standard : str
         ``"SAE J537"`` (7.2 V after 30 s), ``"EN 50342-1"`` (7.5 V after 10 s), ``"DIN 43539-2"``
-        (9.0 V after 30 s) or ``"IEC 60095-1"`` (8.4 V after 60 s); see :data:`CRANKING_TESTS`.
+        (9.0 V after 30 s) or ``"IEC 60095-1"`` (8.4 V after 60 s); see :data:`CRANKING_TESTS`. [–]
     u0 : float
         Open-circuit voltage of the charged block at the start of the test. [V]
     blocks : int
@@ -187,11 +197,21 @@ def resistance_from_short_circuit_current(ocv: float, i_short_circuit: float) ->
     i_short_circuit : float
         The maker's short-circuit current. [A]
 
+    Returns
+    -------
+    float
+        Internal resistance. [Ω]
+
     Notes
     -----
     The low end of the resistance range (a new, full, warm battery): the end the breaking-capacity
     check needs. The same parameterisation (Ri = OCVmax/Isc) is used by the battery model of the
     Modelica Standard Library's electrical examples.
+
+    References
+    ----------
+    .. [1] IEC 60896-11, Stationary lead-acid batteries, Part 11: vented types, the short-circuit
+       current and d.c. internal resistance determination (Isc = U0/Ri; clause from memory).
 
     Examples
     --------
@@ -248,6 +268,12 @@ def internal_resistance(
     battery at rest or in steady discharge. Below −18 °C the exponential is an extrapolation (it
     gives ×1.59 at −30 °C against 25 °C; ×1.8–2.0 is quoted from memory). Right after charging the
     resistance is higher than the line says; the minimum is found near mid charge in some data.
+
+    References
+    ----------
+    .. [1] D. Linden, T. B. Reddy (eds.), *Handbook of Batteries*, 3rd ed., McGraw-Hill, 2002, ch. 23
+       (lead-acid SLI batteries: resistance rising at low temperature and low charge; from memory).
+       The default coefficients are the figures named under Parameters.
 
     Examples
     --------
@@ -331,7 +357,7 @@ def peukert_usable_charge(
         Peukert exponent k ≥ 1. [–]
     cap_at_rated : bool
         Hold the usable charge at C_H for currents below I_H: the law would promise more charge than
-        the battery holds (default, the safe side).
+        the battery holds (default, the safe side). [–]
 
     Returns
     -------
@@ -379,12 +405,22 @@ def capacity_temperature_factor(
         λ [K⁻¹]: 0.006 for discharges of 3 h and longer, 0.01 for about 1 h (IEC 60896-11, from
         memory).
     t_reference : float
-        [°C]
+        Temperature the rated capacity is stated at. [°C]
+
+    Returns
+    -------
+    float or array
+        Capacity factor. [–]
 
     Notes
     -----
     Held at zero below the temperature where the line reaches it. λ = 0.01 gives 0.57 at −18 °C,
     close to "half the nominal capacity at 0 °F" quoted by battery distributors.
+
+    References
+    ----------
+    .. [1] IEC 60896-11, Stationary lead-acid batteries, Part 11: vented types (capacity correction
+       with temperature; the coefficients from memory).
 
     Examples
     --------

@@ -23,7 +23,12 @@ import coilstage.physics
 
 PHYSICS = pathlib.Path(coilstage.physics.__file__).parent
 
-CONFORMING = ["coilstage.physics.battery", "coilstage.physics.conductor", "coilstage.physics.fault"]
+CONFORMING = [
+    "coilstage.physics.battery",
+    "coilstage.physics.conductor",
+    "coilstage.physics.fault",
+    "coilstage.physics.supply_limits",
+]
 #: Not yet in the template (module: what is missing).
 PENDING = {
     "coilstage.physics.network": "not yet converted",
@@ -32,7 +37,6 @@ PENDING = {
     "coilstage.physics.transient": "not yet converted",
     "coilstage.physics.magnetic": "not yet converted",
     "coilstage.physics.cable_heat": "not yet converted",
-    "coilstage.physics.supply_limits": "not yet converted",
     "coilstage.physics.sensitivity": "not yet converted",
     "coilstage.physics.load_dump": "not yet converted",
     "coilstage.physics.fuse_cyclic": "not yet converted",

@@ -47,10 +47,13 @@ def alternator_output_factor(
         marine alternator (hot 16 / 41 / 48 A against cold 24 / 50 A). [–]
     rated_temperature : float
         The rating's ambient, 23 °C (ISO 8854:2012). [°C]
-    cold_temperature, cold_excess : float, optional
+    cold_temperature : float, optional
+        Temperature at which a cold alternator gives ``cold_excess`` more than its rating (None: no
+        cold end). [°C]
+    cold_excess : float
         A cold alternator briefly gives more than its rating (+10–20 %, from memory). Default: no
         excess (the rating is the cold end, the safe side for a sag check; take the excess for the
-        largest fault current).
+        largest fault current). [–]
 
     Returns
     -------
@@ -107,7 +110,23 @@ def regulator_setpoint(
         specification; about −10 to −16 mV/K in service specifications of 12 V regulators; double
         for 24 V (derived). [V/K]
     t_reference : float
-        [°C]
+        Temperature the set-point is stated at. [°C]
+
+    Returns
+    -------
+    float or array
+        Regulated voltage. [V]
+
+    Notes
+    -----
+    Linear compensation, as regulators implement it over their working range; a regulator's own
+    upper and lower limits (where its maker gives them) bound it (see :func:`regulated_bus_range`).
+
+    References
+    ----------
+    .. [1] ISO 8854:2012, Road vehicles — Alternators with regulators — Test methods and general
+       requirements (regulated voltage against temperature; the gradients named above are makers'
+       and service figures).
 
     Examples
     --------
@@ -153,20 +172,37 @@ def regulated_bus_range(
 
     Parameters
     ----------
-    setpoint, tolerance : float
-        Set-point at ``t_reference`` and its ± tolerance (±2 % on one maker's specification). [V]
-    gradient, gradient_tolerance : float
-        Temperature compensation and its ± tolerance. [V/K]
-    t_min, t_max : float
-        Regulator temperature range. [°C]
+    setpoint : float
+        Set-point at ``t_reference``. [V]
+    tolerance : float
+        Its ± tolerance (±2 % on one maker's specification). [V]
+    gradient : float
+        Temperature compensation. [V/K]
+    t_min : float
+        Lowest regulator temperature. [°C]
+    t_max : float
+        Highest regulator temperature. [°C]
     t_reference : float
-        [°C]
+        Temperature the set-point is stated at. [°C]
+    gradient_tolerance : float
+        ± tolerance of the gradient. [V/K]
     ceiling : float, optional
         The regulator's own upper limit, if its maker gives one. [V]
 
     Returns
     -------
     RegulatedRange
+        ``low`` and ``high`` [V] with the temperatures [°C] and gradients [V/K] that make them.
+
+    Notes
+    -----
+    Steady regulation only: the failed-regulator overvoltage (ISO 16750-2 4.3.1) and load dump are
+    separate cases.
+
+    References
+    ----------
+    .. [1] ISO 8854:2012 (regulated voltage and its temperature dependence, as for
+       :func:`regulator_setpoint`).
 
     Examples
     --------
@@ -215,8 +251,10 @@ def bus_voltage(
     ----------
     demand : float or array
         Current the loads draw from the bus. [A]
-    battery_emf, battery_resistance : float
-        [V], [Ω]
+    battery_emf : float
+        Battery EMF (open-circuit voltage). [V]
+    battery_resistance : float
+        Battery internal resistance. [Ω]
     alternator_limit : float
         Output the alternator can give at its speed and temperature (0: not charging). [A]
     regulated : float
@@ -234,6 +272,12 @@ def bus_voltage(
     A constant-current demand is the conservative form for a sag check (resistive coils draw less
     as the bus falls). The network solve in the analysis replaces this for a drawing; this closed
     form is its check value.
+
+    References
+    ----------
+    .. [1] Superposition of two Norton sources (any circuit text, e.g. Hughes, *Electrical and
+       Electronic Technology*, network theorems chapter; from memory); the alternator as a regulated source with a current limit as in
+       ISO 8854:2012.
 
     Examples
     --------
@@ -260,10 +304,36 @@ def bus_voltage(
 
 
 def largest_bus(regulated_high: float, alternator_present: bool, battery_emf_max: float) -> float:
-    """Highest bus in service [V]: the highest regulated voltage where an alternator charges, else the
-    battery's highest EMF (a surface-charged battery, 2.2 V per cell, a derived figure). A failed
-    regulator (long-term overvoltage, ISO 16750-2 4.3.1) is a separate case, not this one.
+    r"""Highest bus in service [V].
 
+    .. math:: U_{max} = \max(U_{reg,high}, E_{max})\ \text{with an alternator},\qquad U_{max} = E_{max}\ \text{without}
+
+    Parameters
+    ----------
+    regulated_high : float
+        The regulator's highest voltage (:func:`regulated_bus_range`). [V]
+    alternator_present : bool
+        Whether an alternator charges the bus. [–]
+    battery_emf_max : float
+        The battery's highest EMF: a surface-charged battery, 2.2 V per cell (a derived figure). [V]
+
+    Returns
+    -------
+    float
+        Highest bus voltage in service. [V]
+
+    Notes
+    -----
+    A failed regulator (long-term overvoltage, ISO 16750-2 4.3.1) and load dump are separate cases,
+    not this one.
+
+    References
+    ----------
+    .. [1] ISO 16750-2:2010, Road vehicles — Environmental conditions and testing for electrical and
+       electronic equipment — Part 2: Electrical loads (supply voltage ranges).
+
+    Examples
+    --------
     >>> largest_bus(29.7, True, 26.4), largest_bus(29.7, False, 26.4)
     (29.7, 26.4)
     """

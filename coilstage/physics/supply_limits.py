@@ -276,8 +276,8 @@ def bus_voltage(
     References
     ----------
     .. [1] Superposition of two Norton sources (any circuit text, e.g. Hughes, *Electrical and
-       Electronic Technology*, network theorems chapter; from memory); the alternator as a regulated source with a current limit as in
-       ISO 8854:2012.
+       Electronic Technology*, network theorems chapter; from memory); the alternator as a regulated
+       source with a current limit as in ISO 8854:2012.
 
     Examples
     --------

@@ -27,14 +27,14 @@ CONFORMING = [
     "coilstage.physics.battery",
     "coilstage.physics.conductor",
     "coilstage.physics.fault",
+    "coilstage.physics.numeric",
     "coilstage.physics.supply_limits",
+    "coilstage.physics.transient",
 ]
 #: Not yet in the template (module: what is missing).
 PENDING = {
     "coilstage.physics.network": "not yet converted",
-    "coilstage.physics.numeric": "not yet converted",
     "coilstage.physics.thermal": "not yet converted",
-    "coilstage.physics.transient": "not yet converted",
     "coilstage.physics.magnetic": "not yet converted",
     "coilstage.physics.cable_heat": "not yet converted",
     "coilstage.physics.sensitivity": "not yet converted",

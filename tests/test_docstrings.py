@@ -27,6 +27,7 @@ CONFORMING = [
     "coilstage.physics.battery",
     "coilstage.physics.conductor",
     "coilstage.physics.fault",
+    "coilstage.physics.magnetic",
     "coilstage.physics.numeric",
     "coilstage.physics.supply_limits",
     "coilstage.physics.transient",
@@ -35,7 +36,6 @@ CONFORMING = [
 PENDING = {
     "coilstage.physics.network": "not yet converted",
     "coilstage.physics.thermal": "not yet converted",
-    "coilstage.physics.magnetic": "not yet converted",
     "coilstage.physics.cable_heat": "not yet converted",
     "coilstage.physics.sensitivity": "not yet converted",
     "coilstage.physics.load_dump": "not yet converted",

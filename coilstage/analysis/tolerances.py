@@ -1,0 +1,137 @@
+"""The tolerances and operating ranges a drawing is analysed with: the shipped defaults
+(``coilstage/data/tolerance_defaults.toml``, every row with its source and status) with what the
+drawing states laid over them (``Drawing.tolerances``: its ``[tolerances]`` table, the per-element
+keys and the battery's stated Peukert exponent).
+
+A row is a dict: ``key``, ``quantity``, ``nominal``, ``low``, ``high``, ``unit``, ``distribution``,
+``source`` and ``status`` (the shape of the table's rows). A row the drawing states has
+``source = "drawing: <key path>"`` and ``status = "stated in the drawing"``; its nominal is the shipped
+nominal held within the drawing's ends.
+
+Keys: the table's own (``coils.*.resistance_tolerance``, ``tolerances.cable_length``, ...) and
+per-element keys (``coils.<coil type>.resistance_tolerance``, ``coils.<coil type>.inductance_tolerance``,
+``cables.<cable id>.length_tolerance``). :func:`lookup` returns the per-element row where the drawing
+gives one, else the generic row.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from coilstage import tables
+from coilstage.drawing.schema import Drawing, ToleranceSpec
+
+#: The table file the defaults come from.
+TABLE = "tolerance_defaults.toml"
+
+#: generic key -> (prefix, suffix) of its per-element form ``prefix + element id + suffix``
+PER_ELEMENT: dict[str, tuple[str, str]] = {
+    "coils.*.resistance_tolerance": ("coils.", ".resistance_tolerance"),
+    "coils.*.inductance_tolerance": ("coils.", ".inductance_tolerance"),
+    "tolerances.cable_length": ("cables.", ".length_tolerance"),
+}
+
+#: Keys with no shipped row: without the drawing's range the analysis derives the range itself
+#: (the battery's from its stated internal resistance and the ``supply.battery.*_factor`` rows).
+DRAWING_ONLY: dict[str, dict[str, Any]] = {
+    "supply.battery.internal_resistance": {
+        "quantity": "battery internal resistance in service: lowest (new, full, warm) to highest (cold, "
+        "discharged, aged)",
+        "unit": "ohm",
+    },
+}
+
+#: battery chemistry -> the row of its Peukert exponent (flooded: the generic row)
+PEUKERT_ROWS = {
+    "agm": "supply.battery.peukert_exponent_agm",
+    "gel": "supply.battery.peukert_exponent_gel",
+}
+PEUKERT = "supply.battery.peukert_exponent"
+
+DRAWING_STATUS = "stated in the drawing"
+
+
+def shipped() -> dict[str, dict[str, Any]]:
+    """The shipped tolerance defaults by key (fresh copies: a caller may change them)."""
+    return {r["key"]: dict(r) for r in tables.shipped(TABLE)["table"]["rows"]}
+
+
+def generic_key(key: str) -> str:
+    """The table key a per-element key stands for (``cables.W3.length_tolerance`` ->
+    ``tolerances.cable_length``); any other key is returned as it is.
+
+    >>> generic_key("coils.RC4.resistance_tolerance")
+    'coils.*.resistance_tolerance'
+    >>> generic_key("supply.battery.state_of_charge")
+    'supply.battery.state_of_charge'
+    """
+    for generic, (prefix, suffix) in PER_ELEMENT.items():
+        if key.startswith(prefix) and key.endswith(suffix) and len(key) > len(prefix) + len(suffix):
+            return generic
+    return key
+
+
+def element_key(key: str, element_id: str) -> str:
+    """The per-element form of a generic key (``element_key("tolerances.cable_length", "W3") ==
+    "cables.W3.length_tolerance"``); a key with no per-element form is returned as it is."""
+    generic = generic_key(key)
+    if generic not in PER_ELEMENT:
+        return key
+    prefix, suffix = PER_ELEMENT[generic]
+    return f"{prefix}{element_id}{suffix}"
+
+
+def _drawing_row(base: dict[str, Any], key: str, spec: ToleranceSpec) -> dict[str, Any]:
+    lo, hi = float(spec.low), float(spec.high)
+    nominal = base.get("nominal")
+    nominal = (lo + hi) / 2 if nominal is None else min(max(float(nominal), lo), hi)
+    return {
+        **base,
+        "key": key,
+        "nominal": nominal,
+        "low": lo,
+        "high": hi,
+        "distribution": spec.distribution,
+        "source": f"drawing: {spec.where or key}",
+        "status": DRAWING_STATUS,
+    }
+
+
+def effective(d: Drawing) -> dict[str, dict[str, Any]]:
+    """Every tolerance row the analysis of ``d`` takes, by key: the shipped rows, the Peukert row of
+    the battery's chemistry, and each row the drawing states (``d.tolerances``) over them.
+
+    A per-element row keeps the generic row's quantity and unit under its own key; the generic row
+    stays for the elements the drawing gives nothing for.
+    """
+    rows = shipped()
+    chem = PEUKERT_ROWS.get(d.supply.battery.chemistry)
+    if chem is not None and chem in rows:
+        rows[PEUKERT] = {**rows[chem], "key": PEUKERT}
+    for key, spec in d.tolerances.items():
+        base = rows.get(key) or rows.get(generic_key(key))
+        if base is None:
+            extra = DRAWING_ONLY.get(key)
+            if extra is None:
+                raise KeyError(f"no tolerance row for {key!r}")
+            base = {"quantity": extra["quantity"], "unit": extra["unit"], "nominal": None}
+        rows[key] = _drawing_row(base, key, spec)
+    return rows
+
+
+def lookup(tol: dict[str, dict[str, Any]], key: str, element_id: str | None = None) -> dict[str, Any]:
+    """The row of ``key`` for one element: the per-element row where ``tol`` has one (``element_id``
+    a coil type's name or a cable's id), else the generic row. ``key`` may be the generic key or
+    the per-element one. Raises KeyError when neither exists.
+
+    >>> tol = {"tolerances.cable_length": {"high": 0.1}, "cables.W3.length_tolerance": {"high": 0.05}}
+    >>> lookup(tol, "tolerances.cable_length", "W3")["high"], lookup(tol, "tolerances.cable_length", "W1")["high"]
+    (0.05, 0.1)
+    """
+    if element_id is not None:
+        own = element_key(key, element_id)
+        if own in tol:
+            return tol[own]
+    if key in tol:
+        return tol[key]
+    return tol[generic_key(key)]

@@ -128,3 +128,199 @@ def test_drawing_only_row_and_chemistry_row(coach):
 def test_effective_refuses_a_key_it_cannot_place(coach):
     with pytest.raises(KeyError):
         tolerances.effective(_with(coach, **{"no.such.row": ToleranceSpec(0.0, 1.0)}))
+
+
+# ---------------------------------------------------------------- the loader: [tolerances] and per-element keys
+
+from coilstage.drawing.load import parse_drawing  # noqa: E402
+
+from .conftest import drawing_text, one, problems  # noqa: E402
+
+
+def _load(tolerances: str = "", text: str | None = None):
+    return parse_drawing((text or drawing_text()) + "\n[tolerances]\n" + tolerances, "t.toml")
+
+
+def _ends(d, key):
+    s = d.tolerances[key]
+    return pytest.approx(s.low), pytest.approx(s.high), s.distribution, s.where
+
+
+def test_a_drawing_without_tolerances_states_only_its_alternator_tolerance():
+    # drawing_text's alternator: 28.0 V set-point, tolerance 0.3 V -> the set-point row ±0.3/28.0 = ±1.0714 %
+    d = parse_drawing(drawing_text(), "t.toml")
+    assert set(d.tolerances) == {"supply.alternator.tolerance"}
+    s = d.tolerances["supply.alternator.tolerance"]
+    assert (s.low, s.high) == pytest.approx((-0.3 / 28.0, 0.3 / 28.0))
+    assert s.where == "supply.alternator.tolerance" and s.distribution == "uniform"
+    # the coach, likewise: 0.3 V on 28.2 V, and effective() is the table but for that row
+    coach = load_drawing(COACH)
+    assert set(coach.tolerances) == {"supply.alternator.tolerance"}
+    tol = tolerances.effective(coach)
+    assert {k: v for k, v in tol.items() if k != "supply.alternator.tolerance"} == {
+        k: v for k, v in SHIPPED.items() if k != "supply.alternator.tolerance"
+    }
+    assert tol["supply.alternator.tolerance"]["high"] == pytest.approx(0.3 / 28.2)
+
+
+def test_coil_tolerances_symmetric_and_as_a_table():
+    d = _load('coil_resistance = "5 %"\ncoil_inductance = { low = "-7 %", high = "+3 %", distribution = "normal" }\n')
+    assert _ends(d, "coils.*.resistance_tolerance") == (-0.05, 0.05, "uniform", "tolerances.coil_resistance")
+    assert _ends(d, "coils.*.inductance_tolerance") == (-0.07, 0.03, "normal", "tolerances.coil_inductance")
+
+
+def test_distribution_applies_to_the_drawing_rows():
+    d = _load('distribution = "normal"\ncoil_resistance = "5 %"\nfault_resistance = "10 mohm"\n')
+    assert d.tolerances["coils.*.resistance_tolerance"].distribution == "normal"
+    assert d.tolerances["tolerances.fault_resistance"].distribution == "normal"
+
+
+def test_cable_length_relative_is_the_generic_row():
+    d = _load('cable_length = { low = "0 %", high = "10 %" }\n')
+    assert _ends(d, "tolerances.cable_length") == (0.0, 0.10, "uniform", "tolerances.cable_length")
+    assert not any(k.startswith("cables.") for k in d.tolerances)
+
+
+def test_cable_length_absolute_becomes_a_row_per_cable():
+    # ±0.3 m: WM and WR are 3 m (±10 %), each branch W<k> 2 m (±15 %), each return W<k>R 1 m (±30 %)
+    d = _load('cable_length = "0.3 m"\n')
+    assert "tolerances.cable_length" not in d.tolerances
+    assert _ends(d, "cables.WM.length_tolerance")[:2] == (-0.10, 0.10)
+    assert _ends(d, "cables.WR.length_tolerance")[:2] == (-0.10, 0.10)
+    assert _ends(d, "cables.W0.length_tolerance")[:2] == (-0.15, 0.15)
+    assert _ends(d, "cables.W1R.length_tolerance") == (-0.30, 0.30, "uniform", "tolerances.cable_length")
+
+
+def test_a_cables_own_length_tolerance_wins():
+    text = drawing_text().replace('length = "2.0 m"', 'length = "2.0 m"\nlength_tolerance = "0.5 m"', 1)
+    d = _load('cable_length = "10 %"\n', text)
+    # W0 is 2 m: ±0.5 m is ±25 %
+    assert _ends(d, "cables.W0.length_tolerance") == (-0.25, 0.25, "uniform", "harness[4] (W0).length_tolerance")
+    tol = tolerances.effective(d)
+    assert tolerances.lookup(tol, "tolerances.cable_length", "W0")["high"] == pytest.approx(0.25)
+    assert tolerances.lookup(tol, "tolerances.cable_length", "W1")["high"] == pytest.approx(0.10)
+
+
+def test_per_coil_type_tolerances():
+    text = drawing_text().replace(
+        "[coils.C0]\n", '[coils.C0]\nresistance_tolerance = "3 %"\ninductance_tolerance = ["-10 %", "5 %"]\n'
+    )
+    d = parse_drawing(text, "t.toml")
+    assert _ends(d, "coils.C0.resistance_tolerance") == (-0.03, 0.03, "uniform", "coils.C0.resistance_tolerance")
+    assert _ends(d, "coils.C0.inductance_tolerance")[:2] == (-0.10, 0.05)
+    tol = tolerances.effective(d)
+    assert tolerances.lookup(tol, "coils.*.resistance_tolerance", "C0")["low"] == pytest.approx(-0.03)
+    assert tolerances.lookup(tol, "coils.*.resistance_tolerance", "C1")["low"] == -0.05  # shipped
+
+
+def test_regulator_setpoint_in_volts_is_a_share_of_the_set_point_and_sets_the_cold_corner():
+    text = drawing_text().replace('tolerance = "0.3 V"\n', "")
+    d = _load('regulator_setpoint = "0.28 V"\n', text)
+    # 0.28 V of 28.0 V = ±1 %; the cold corner takes set-point + 0.28 V = 28.28 V
+    assert _ends(d, "supply.alternator.tolerance")[:2] == (-0.01, 0.01)
+    assert d.supply.alternator.tolerance == pytest.approx(0.28)
+    assert d.corners.cold_bus == pytest.approx(28.28)
+    assert not any(a.startswith("supply.alternator.tolerance not given") for a in d.assumptions)
+    d = _load('regulator_setpoint = "1.5 %"\n', text)
+    assert _ends(d, "supply.alternator.tolerance")[:2] == (-0.015, 0.015)
+    assert d.supply.alternator.tolerance == pytest.approx(0.42)  # 1.5 % of 28.0 V
+
+
+def test_regulator_setpoint_beside_the_alternators_own_tolerance():
+    # 0.3 V stated twice: fine; a different high end: a problem naming both
+    d = _load('regulator_setpoint = "0.3 V"\n')
+    assert d.supply.alternator.tolerance == pytest.approx(0.3)
+    msg = one(drawing_text() + '\n[tolerances]\nregulator_setpoint = "0.2 V"\n', "tolerances.regulator_setpoint")
+    assert "supply.alternator.tolerance (0.3 V)" in msg
+
+
+def test_regulator_compensation_takes_the_systems_row():
+    d = _load('regulator_compensation = "-30 mV/K"\n')
+    assert _ends(d, "supply.alternator.compensation_24v")[:2] == (-0.030, -0.030)
+    d12 = _load('regulator_compensation = ["-16 mV/K", "-10 mV/K"]\n', drawing_text(system=12))
+    assert _ends(d12, "supply.alternator.compensation_12v")[:2] == (-0.016, -0.010)
+
+
+def test_fault_battery_and_alternator_rows():
+    d = _load(
+        'fault_resistance = "10 mohm"\nbattery_state_of_charge = ["40 %", "100 %"]\n'
+        'battery_resistance = ["4 mohm", "9 mohm"]\nalternator_hot_derating = "25 %"\n'
+    )
+    assert _ends(d, "tolerances.fault_resistance")[:2] == (0.0, 0.010)  # the bolted fault stays the low end
+    assert _ends(d, "supply.battery.state_of_charge")[:2] == (0.40, 1.0)
+    assert _ends(d, "supply.battery.internal_resistance")[:2] == (0.004, 0.009)
+    assert _ends(d, "supply.alternator.hot_derating")[:2] == (0.25, 0.25)
+    tol = tolerances.effective(d)
+    assert tol["supply.battery.internal_resistance"]["unit"] == "ohm"
+    assert tol["supply.battery.state_of_charge"]["nominal"] == 0.90  # shipped nominal, within 40-100 %
+
+
+@pytest.mark.parametrize(
+    ("line", "where", "words"),
+    [
+        ('coil_resistance = "-5 %"', "tolerances.coil_resistance", "zero or more"),
+        ('coil_resistance = "5 V"', "tolerances.coil_resistance", "ratio"),
+        ('coil_resistance = { low = "3 %", high = "-3 %" }', "tolerances.coil_resistance", "no higher than"),
+        ('coil_resistance = { low = "-150 %", high = "3 %" }', "tolerances.coil_resistance", "above -100 %"),
+        ('coil_resistance = { low = "-5 %" }', "tolerances.coil_resistance", "both low and high"),
+        ('coil_resistance = { low = "-5 %", hi = "5 %" }', "tolerances.coil_resistance.hi", 'did you mean "high"'),
+        (
+            'coil_inductance = { low = "-5 %", high = "5 %", distribution = "gauss" }',
+            "tolerances.coil_inductance.distribution",
+            '"uniform" or "normal"',
+        ),
+        ('cable_length = "3 A"', "tolerances.cable_length", '"0.3 m"'),
+        ('cable_length = "1.5 m"', "tolerances.cable_length", "above -1 m, the length of W0R"),
+        ('regulator_setpoint = "5 V"', "tolerances.regulator_setpoint", "within ±10 % of the 28 V set-point"),
+        ('regulator_compensation = "-30 mV"', "tolerances.regulator_compensation", "per kelvin"),
+        ('regulator_compensation = "+30 mV/K"', "tolerances.regulator_compensation", "to 0 mV/K"),
+        ('fault_resistance = "-1 mohm"', "tolerances.fault_resistance", "zero or more"),
+        ('fault_resistance = "nan mohm"', "tolerances.fault_resistance", "resistance"),
+        ('battery_state_of_charge = ["0 %", "100 %"]', "tolerances.battery_state_of_charge", "above 0 %"),
+        ('battery_state_of_charge = ["40 %", "120 %"]', "tolerances.battery_state_of_charge", "at most 100 %"),
+        ('battery_state_of_charge = ["40 %"]', "tolerances.battery_state_of_charge", "two values"),
+        ('battery_resistance = ["9 mohm", "4 mohm"]', "tolerances.battery_resistance", "no higher than"),
+        ('battery_resistance = ["0 mohm", "4 mohm"]', "tolerances.battery_resistance", "greater than zero"),
+        ('battery_resistance = ["4 mohm", 9]', "tolerances.battery_resistance[1]", "unit"),
+        ('alternator_hot_derating = "100 %"', "tolerances.alternator_hot_derating", "below 100 %"),
+        ('distribution = "flat"', "tolerances.distribution", '"normal", "uniform"'),
+        ('coil_resistence = "5 %"', "tolerances.coil_resistence", 'did you mean "coil_resistance"'),
+    ],
+)
+def test_bad_tolerance_values_name_the_key_and_what_was_expected(line, where, words):
+    msg = one(drawing_text() + "\n[tolerances]\n" + line + "\n", where)
+    assert words in msg, msg
+
+
+def test_every_bad_tolerance_is_reported_at_once():
+    text = (
+        drawing_text()
+        .replace("[coils.C0]\n", '[coils.C0]\nresistance_tolerance = "x"\n')
+        .replace('length = "2.0 m"', 'length = "2.0 m"\nlength_tolerance = "-1 m"', 1)
+    )
+    text += (
+        '\n[tolerances]\ncoil_resistance = "-5 %"\nfault_resistance = "1 V"\n'
+        'battery_state_of_charge = ["90 %", "40 %"]\n'
+    )
+    got = problems(text)
+    for where in (
+        "coils.C0.resistance_tolerance",
+        "harness[4] (W0).length_tolerance",
+        "tolerances.coil_resistance",
+        "tolerances.fault_resistance",
+        "tolerances.battery_state_of_charge",
+    ):
+        assert any(p.startswith(where) for p in got), (where, got)
+
+
+def test_alternator_keys_without_an_alternator():
+    text = drawing_text()
+    head, _, rest = text.partition("[supply.alternator]")
+    text = head + rest[rest.index("[environment]") :]
+    msg = one(text + '\n[tolerances]\nalternator_hot_derating = "25 %"\n', "tolerances.alternator_hot_derating")
+    assert "[supply.alternator]" in msg
+
+
+def test_length_tolerance_only_on_a_cable():
+    text = drawing_text().replace('rating = "300 A"', 'rating = "300 A"\nlength_tolerance = "5 %"')
+    assert "no such key" in one(text, "harness[0] (FM).length_tolerance")

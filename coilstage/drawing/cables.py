@@ -29,6 +29,7 @@ CABLE_KEYS = {
     "sheathed",
     "outer_diameter",
     "wall",
+    "length_tolerance",  # read with the drawing's other tolerances (drawing/tolerances.py)
 }
 
 

@@ -39,7 +39,7 @@ def default(key: str) -> Any:
     value = rows()[key]["value"]
     if key in _DIMENSION:
         return parse_quantity(value, _DIMENSION[key])
-    if key == "relay.rated_ambient":
+    if key in ("relay.rated_ambient", "joint.rated_ambient"):
         return parse_temperature(value)
     return value
 

@@ -13,7 +13,7 @@ from .schema import (
 
 #: key path -> the keys allowed there
 KEYS = {
-    "environment": {"ambient_max", "ambient_min", "zones"},
+    "environment": {"ambient_max", "ambient_min", "rotor_zone_rise", "rotor_zone_time_constant", "zones"},
 }
 
 
@@ -36,10 +36,15 @@ def read_environment(r: Reader, raw: dict) -> Environment | None:
                     f"environment.zones.{name}", value, f"a highest temperature of at least ambient_max ({hi:g} °C)"
                 )
             zones[name] = t
+    # the retarder's surroundings heated by its rotors (None: the shipped default, rotor_zone_defaults.toml)
+    rise = r.difference(e, "rotor_zone_rise", "environment", default=None)
+    tau = r.quantity(e, "rotor_zone_time_constant", "environment", "time", default=None, positive=True)
     if lo is None or hi is None:
         return None
+    if (rise is None and "rotor_zone_rise" in e) or (tau is None and "rotor_zone_time_constant" in e):
+        return None
     zones.setdefault("ambient", hi)
-    return Environment(lo, hi, zones)
+    return Environment(lo, hi, zones, rotor_zone_rise=rise, rotor_zone_time_constant=tau)
 
 
 def read_zone(r: Reader, e: dict, where: str, env: Environment | None) -> tuple[str | None, float | None]:

@@ -6,6 +6,7 @@ from dataclasses import dataclass
 
 from .cables import CABLE_KEYS, read_cable_fields
 from .fuses import read_fuse
+from .joints import check_joint_cables, read_joint
 from .reader import MISSING, suggest
 from .relays import read_relay
 from .schema import (
@@ -20,7 +21,17 @@ _COMMON = {"id", "kind", "from", "to", "note"}
 ELEMENT_KEYS = {
     "cable": _COMMON | CABLE_KEYS | {"role"},
     "ground": _COMMON | CABLE_KEYS | {"resistance"},
-    "joint": _COMMON | {"resistance"},
+    "joint": _COMMON
+    | {
+        "cable",
+        "conductor_range",
+        "derating",
+        "joint",
+        "rated_ambient",
+        "rating",
+        "resistance",
+        "zone",
+    },
     "busbar": _COMMON | {"resistance"},
     "fuse": _COMMON
     | {
@@ -103,7 +114,9 @@ def read_harness(r, raw, env, coils, default_mm2, supply, links: list[Link]) -> 
             )
             if f is not None and role is not None:
                 el = Cable(**common, **f, role=role)
-        elif kind in ("ground", "joint", "busbar"):
+        elif kind == "joint":
+            el = read_joint(r, e, where, env, common)
+        elif kind in ("ground", "busbar"):
             res = r.quantity(e, "resistance", where, "resistance", nonnegative=True)
             if res is not None:
                 el = Resistor(**common, resistance=res)
@@ -131,6 +144,7 @@ def read_harness(r, raw, env, coils, default_mm2, supply, links: list[Link]) -> 
                 el = Stage(**common, coil=coil, count=count, connection=conn, suppression=sup)
         if el is not None and None not in (eid, a, b):
             out.append(el)
+    check_joint_cables(r, out)
     if not any(isinstance(e, Stage) for e in out) and not r.problems:
         r.problem("harness", MISSING, 'at least one element of kind = "stage"')
     return out

@@ -22,10 +22,11 @@ from .defaults import rows as default_rows
 from .environment import read_environment
 from .harness import Link, read_harness
 from .reader import MAX_NAME, Reader
-from .schema import Drawing, DrawingInfo, Duty, Limits
+from .schema import Drawing, DrawingInfo, Duty, Joint, Limits
 from .structure import check_structure
 from .supply import read_supply
 from .switching import read_duty, read_switching
+from .tolerances import read_tolerances
 
 #: key path -> the keys allowed there
 KEYS = {
@@ -45,6 +46,7 @@ TOP_KEYS = {
     "duty",
     "retarder",
     "ac_comparison",
+    "tolerances",
 }
 
 
@@ -102,8 +104,16 @@ def parse_data(
         r.problems = [p for p in r.problems if p.where not in autos or p.expected == autos[p.where]]
     if r.problems or drawing is None:
         raise DrawingError(source, r.problems)
+    refs = {p.where: p.ref for p in provenance}
+    elements = tuple(
+        replace(e, part=refs[e.where]) if isinstance(e, Joint) and e.where in refs else e for e in drawing.elements
+    )
     return replace(
-        drawing, provenance=tuple(provenance), fixed=frozenset(fixed), defaults_applied=_defaults_applied(r, raw)
+        drawing,
+        elements=elements,
+        provenance=tuple(provenance),
+        fixed=frozenset(fixed),
+        defaults_applied=_defaults_applied(r, raw),
     )
 
 
@@ -131,6 +141,11 @@ def _build(r: Reader, raw: dict) -> Drawing | None:
     coils = read_coils(r, raw, env)
     links: list[Link] = []
     elements = read_harness(r, raw, env, coils, default_mm2, supply, links)
+    tolerance_rows, alt_tolerance = read_tolerances(r, raw, supply, coils, elements, env)
+    if alt_tolerance is not None and supply is not None and supply.alternator is not None:
+        # [tolerances] regulator_setpoint in place of [supply.alternator] tolerance: the cold corner takes it too
+        supply = replace(supply, alternator=replace(supply.alternator, tolerance=alt_tolerance))
+        r.assumptions = [a for a in r.assumptions if not a.startswith("supply.alternator.tolerance not given")]
     corners = read_corners(r, raw, supply, env)
     limits = read_limits(r, raw)
     stage_ids = [x.id for x in links if x.kind == "stage"]
@@ -159,6 +174,7 @@ def _build(r: Reader, raw: dict) -> Drawing | None:
         ac_comparison=ac,
         assumptions=tuple(r.assumptions),
         info=info,
+        tolerances=tolerance_rows,
     )
 
 

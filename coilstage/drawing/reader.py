@@ -103,6 +103,15 @@ class Reader:
                 return None
         return v
 
+    def difference(self, raw, key, where, default=MISSING, nonnegative=True):
+        """A temperature difference [K]; a temperature on a scale with an offset ("40 degC") is
+        refused, since "40 degC" as a difference would read as 313.15 K."""
+        value = raw.get(key)
+        if isinstance(value, str) and any(u in value for u in ("degC", "°C", "degF", "°F", "celsius", "fahrenheit")):
+            self.problem(f"{where}.{key}", value, 'a temperature difference in kelvin, e.g. "40 K" (not a temperature)')
+            return None
+        return self.quantity(raw, key, where, "temperature_difference", default=default, nonnegative=nonnegative)
+
     def temperature(self, raw, key, where, default=MISSING):
         return self.value(raw, key, where, parse_temperature, default=default)
 

@@ -7,6 +7,7 @@ from typing import Any
 from coilstage import tables
 from coilstage.units import (
     QuantityError,
+    parse_cable_size,
     parse_dimensionless,
     parse_pair,
     parse_resistance_at,
@@ -23,8 +24,19 @@ from .schema import (
 
 #: key path -> the keys allowed there
 KEYS = {
-    "relay_coil": {"feed_resistance", "operate_voltage", "resistance", "rise", "voltage"},
+    "relay_coil": {
+        "feed_resistance",
+        "fuse",
+        "operate_voltage",
+        "resistance",
+        "rise",
+        "suppression",
+        "voltage",
+        "wire_size",
+    },
 }
+#: what sits across a relay's own coil
+COIL_SUPPRESSION = ("none", "diode", "diode_zener", "resistor", "varistor")
 
 
 def read_relay(r, e, where, env, common, system) -> Relay | None:
@@ -133,12 +145,42 @@ def _relay_coil(r: Reader, e: dict, where: str):
     if rise is None and "rise" not in c:
         rise = default("relay.coil.rise")
         r.assume(f"{cw}.rise not given: the relay coil is taken at its zone temperature (no self-heating)")
+    sup = r.text(c, "suppression", cw, default=None, choices=list(COIL_SUPPRESSION))
+    fuse = r.quantity(c, "fuse", cw, "current", default=None, positive=True)
+    area = _wire_area(r, c, cw) if "wire_size" in c else None
     if rt is not None and not rt[0] > 0:
         r.problem(f"{cw}.resistance", c["resistance"], "a resistance greater than zero")
         return False
     if None in (v, rt, op, feed, rise):
         return False
-    return RelayCoil(v, rt[0], rt[1], op, feed, rise)
+    if any(k in c and x is None for k, x in (("suppression", sup), ("fuse", fuse), ("wire_size", area))):
+        return False
+    return RelayCoil(
+        v,
+        rt[0],
+        rt[1],
+        op,
+        feed,
+        rise,
+        suppression=sup or default("relay.coil.suppression"),
+        fuse_rating=fuse,
+        wire_area=area,
+    )
+
+
+def _wire_area(r: Reader, c: dict, cw: str) -> float | None:
+    """The conducting area [m²] of the coil circuit's wire: a size of the default conductor table of
+    its system (ISO 6722-1 for mm², ASTM B258 for AWG)."""
+    size = r.value(c, "wire_size", cw, parse_cable_size, expected="a conductor size")
+    if size is None:
+        return None
+    name = tables.DEFAULT_MM2_TABLE if size.system == "mm2" else tables.DEFAULT_AWG_TABLE
+    table = tables.conductor_table(name)
+    row = table.rows.get(float(size.nominal))
+    if row is None:
+        r.problem(f"{cw}.wire_size", c["wire_size"], f"a size listed in {table.title}: {', '.join(table.sizes())}")
+        return None
+    return row.area
 
 
 def _fraction_at(text: Any) -> tuple[float, float]:

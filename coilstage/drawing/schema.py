@@ -280,21 +280,24 @@ class Resistor(Element):
 
 
 @dataclass(frozen=True)
-class Joint(Element):
-    """A lug, stud, splice, connector or fuse holder: a resistance with a current rating.
+class Joint(Resistor):
+    """A ``kind = "joint"`` element: a lug, stud, splice, connector or fuse holder, a resistance with a
+    current rating. It is a :class:`Resistor` (the network stamps its ``resistance`` like any fixed
+    resistance, and every list of joints and busbars shows it).
 
-    ``joint_kind``: lug | stud | splice | connector | fuse_holder. ``rating`` is the continuous current
-    at ``rated_ambient`` [°C]; ``derated`` (fraction, at temperature [°C]) where the maker gives one; for a
-    lug, ``conductor_range`` is the smallest and largest conductor area it takes [m²] and ``cable`` the
-    cable it terminates."""
+    ``joint_kind``: lug | stud | splice | connector | fuse_holder, or "" where the drawing does not say.
+    ``rating`` is the continuous current at ``rated_ambient`` [°C]; ``derated`` (fraction, at
+    temperature [°C]) where the maker gives one; ``zone``/``zone_temperature`` its surroundings (the
+    highest ambient where the drawing names no zone); ``part`` the parts-library reference it came from
+    ("file.toml#NAME", "" where typed in); for a lug, ``conductor_range`` is the smallest and
+    largest conductor area it takes [m²] and ``cable`` the id of the cable it terminates."""
 
-    joint_kind: str
-    resistance: float  # [Ω]
-    rating: float | None  # [A]
-    rated_ambient: float  # [°C]
-    derated: tuple[float, float] | None
-    zone: str
-    zone_temperature: float  # [°C]
+    joint_kind: str = ""
+    rating: float | None = None  # [A]
+    rated_ambient: float = 23.0  # [°C]
+    derated: tuple[float, float] | None = None
+    zone: str = "ambient"
+    zone_temperature: float = 40.0  # [°C]
     part: str = ""
     conductor_range: tuple[float, float] | None = None  # [m²]
     cable: str | None = None  # id of the cable a lug terminates
@@ -305,8 +308,9 @@ class ToleranceSpec:
     """A tolerance or operating range the drawing states for one key of the tolerance defaults
     (``coilstage/data/tolerance_defaults.toml``), or for one element (``cables.W3.length_tolerance``).
 
-    ``low``/``high`` in the default row's unit (relative tolerances as fractions); ``where`` is the
-    drawing key it came from."""
+    ``low``/``high`` in the default row's unit (relative tolerances as fractions: an absolute cable
+    length tolerance is stored per cable as a fraction of its length, a set-point tolerance in volts
+    as a fraction of the set-point); ``where`` is the drawing key it came from."""
 
     low: float
     high: float

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from coilstage import tables
+from coilstage.units import gate
 
 from .defaults import default
 from .reader import MISSING, Reader
@@ -22,13 +23,40 @@ KEYS = {
         "chassis",
         "code",
         "limits",
+        "load_dump_suppression",
         "negative",
         "system",
     },
     "supply.limits": {"max", "min"},
-    "supply.battery": {"capacity", "emf", "internal_resistance", "node"},
+    "supply.battery": {
+        "capacity",
+        "chemistry",
+        "cold_cranking_current",
+        "emf",
+        "internal_resistance",
+        "node",
+        "peukert",
+        "short_circuit_current",
+    },
     "supply.alternator": {"limit_idle", "limit_rated", "node", "setpoint", "source_resistance", "tolerance"},
 }
+
+
+#: battery chemistries (the open-circuit voltage line and the Peukert exponent follow it)
+CHEMISTRIES = ("flooded", "agm", "gel")
+#: central load-dump suppression at the alternator (ISO 16750-2 Test B applies with it, Test A without)
+LOAD_DUMP_SUPPRESSION = ("yes", "no", "not known")
+#: Peukert exponents read: 1 is an ideal battery; published lead-acid ranges end at 1.6.
+PEUKERT_RANGE = (1.0, 2.0)
+
+
+def _peukert(value) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise ValueError("a Peukert exponent as a plain number, e.g. 1.25")
+    lo, hi = PEUKERT_RANGE
+    if not lo <= float(value) <= hi:
+        raise ValueError(f"a Peukert exponent from {lo:g} to {hi:g}, e.g. 1.25")
+    return gate(float(value), "ratio")
 
 
 def read_supply(r: Reader, raw: dict) -> Supply | None:
@@ -51,8 +79,31 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
         rint = r.quantity(b, "internal_resistance", "supply.battery", "resistance", positive=True)
         node = r.text(b, "node", "supply.battery", default=default("supply.battery.node"))
         cap = r.quantity(b, "capacity", "supply.battery", "charge", default=None, positive=True)
-        if None not in (emf, rint, node):
-            battery = Battery(emf, rint, node, cap)
+        chem = r.text(b, "chemistry", "supply.battery", default=None, choices=list(CHEMISTRIES))
+        cca = r.quantity(b, "cold_cranking_current", "supply.battery", "current", default=None, positive=True)
+        isc = r.quantity(b, "short_circuit_current", "supply.battery", "current", default=None, positive=True)
+        peukert = r.value(b, "peukert", "supply.battery", _peukert, default=None)
+        bad = any(
+            k in b
+            for k, v in (
+                ("chemistry", chem),
+                ("cold_cranking_current", cca),
+                ("short_circuit_current", isc),
+                ("peukert", peukert),
+            )
+            if v is None
+        )
+        if None not in (emf, rint, node) and not bad:
+            battery = Battery(
+                emf,
+                rint,
+                node,
+                cap,
+                chemistry=chem or default("supply.battery.chemistry"),
+                cranking_current=cca,
+                short_circuit_current=isc,
+                peukert=peukert,
+            )
 
     alternator = None
     a = r.table(s, "alternator", "supply.alternator", required=False)
@@ -75,6 +126,8 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
             alternator = Alternator(setpoint, tol, rs, idle, rated, node)
     elif "alternator" not in s:
         r.assume("no alternator in the drawing: the battery alone feeds the bus")
+
+    suppression = r.text(s, "load_dump_suppression", "supply", default=None, choices=list(LOAD_DUMP_SUPPRESSION))
 
     base = r.quantity(s, "base_load", "supply", "current", default=None, nonnegative=True)
     if base is None and "base_load" not in s:
@@ -108,7 +161,9 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
             limits_source = "supply.limits in the drawing"
     if v_min is None and "code" not in s and lim is None:
         r.problem("supply", MISSING, 'an ISO 16750-2 supply code (code = "F") or [supply.limits] min and max')
-    if None in (system, battery, base, base_node, negative, v_min, v_max):
+    if None in (system, battery, base, base_node, negative, v_min, v_max) or (
+        suppression is None and "load_dump_suppression" in s
+    ):
         return None
     if battery.node == negative:
         r.problem("supply.battery.node", battery.node, "a node other than the negative node")
@@ -125,4 +180,5 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
         base_node,
         negative,
         chassis or negative,
+        load_dump_suppression=suppression or default("supply.load_dump_suppression"),
     )

@@ -1,0 +1,660 @@
+"""The declared parameters of a drawing, and a vectorised model of the steady-state rules' margins.
+
+:func:`parameters` lists every quantity a drawing's tolerances and operating ranges let vary (coil
+resistance per coil type, cable length for the whole harness and per cable where the drawing states
+one, regulator set-point, temperature compensation and temperature, the alternator's hot derating and
+cold excess, the battery's state of charge, ageing, low-end resistance and surface charge, the
+ambient, the fault's own resistance), each with its nominal value, its ends and its distribution,
+from :func:`coilstage.analysis.tolerances.effective` (the shipped defaults with the drawing's own rows
+laid over them).
+
+:func:`evaluate` takes N parameter vectors (rows of X, columns in the order of :func:`parameters`) and
+returns, for each steady-state rule and subject, the margin and status of every sample, with the same
+limits and thresholds as the rules in ``coilstage.checks``. It is pure in X, so a sweep can feed it
+in chunks. Each sample is one consistent state of the vehicle, solved in three networks:
+
+* **duty** (``fuse.continuous``, ``cable.ampacity``, ``relay.contact_rating``,
+  ``circuit.voltage_drop``): coils and cables at the ambient, the bus held at the regulator's
+  voltage (set-point with its tolerance, compensated to the regulator's temperature), the
+  alternator a fixed current source of its rated output plus its cold excess; each element's
+  largest current with all stages on or any one stage alone (as ``analysis.corners.cold_duty``);
+  the voltage drop with all stages on.
+* **low bus** (``supply.bus_minimum``): the battery's EMF on its open-circuit voltage line at the
+  sample's state of charge, its resistance raised for charge, ambient and age
+  (``physics.battery``), the alternator regulating at the compensated set-point with its hot-corner
+  output less its hot derating (regulating, current-limited or off, decided per sample as
+  ``physics.network.solve_with_limited_source`` does), cables at their zone temperatures and
+  windings at the hot corner's temperatures (the nominal drawing's: held, not re-solved per sample).
+* **largest fault** (``fuse.breaking_capacity``): a surface-charged battery at its low-end
+  resistance, the alternator a current source of its rated output plus its cold excess, coils and
+  cables at the ambient, the other loads disconnected, a bolted short from each fuse's load
+  terminal to chassis (Thévenin: U_oc / Z_kk, as ``physics.network.short_circuit_currents``).
+
+Every network is assembled by stamping the element conductances of all samples at once
+(``A[N] = G[N, R] · S[R, n²]`` with S the modified-nodal stamps of [1]_) and solved by one batched
+``numpy.linalg.solve``; there is no Python loop over samples. Element resistances come from
+:func:`coilstage.analysis.circuit.element_resistance` (vectorised over temperature and scaled by the
+sample's tolerance: R is proportional to a coil's reference resistance and a cable's length).
+
+References
+----------
+.. [1] C.-W. Ho, A. E. Ruehli, P. A. Brennan, "The modified nodal approach to network analysis",
+   IEEE Trans. Circuits and Systems 22(6):504–509, 1975.
+"""
+
+from __future__ import annotations
+
+import weakref
+from dataclasses import dataclass
+
+import numpy as np
+
+from coilstage import tables
+from coilstage.analysis.circuit import Circuit, element_resistance
+from coilstage.analysis.conditions import hot_alternator_limit, hot_temperatures
+from coilstage.analysis.ratings import cable_rating
+from coilstage.analysis.tolerances import effective, element_key, lookup
+from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
+from coilstage.physics.battery import internal_resistance, open_circuit_voltage
+from coilstage.physics.supply_limits import regulator_setpoint
+
+#: status codes of :class:`Evaluated`
+PASS, WARN, FAIL = 0, 1, 2
+
+#: the rules :func:`evaluate` models
+RULES = (
+    "fuse.continuous",
+    "cable.ampacity",
+    "relay.contact_rating",
+    "circuit.voltage_drop",
+    "supply.bus_minimum",
+    "fuse.breaking_capacity",
+)
+
+#: relay contacts warn above this share of their rating (as ``checks.protection``: common practice)
+RELAY_WARN_SHARE = 0.9
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """One declared parameter: its tolerance ``key`` (``coils.RC4.resistance_tolerance``,
+    ``tolerances.cable_length``, ...), ``words`` for a reader, the ``nominal`` value and the ends
+    ``low`` and ``high`` (in ``unit``; relative tolerances as fractions: -0.05 is -5 %), the sweep's
+    ``distribution`` (``uniform``, or ``normal`` with the ends at ±3 σ), the ``elements`` it applies
+    to (element ids; empty for a supply or environment quantity), and the row's ``source`` and
+    ``status``."""
+
+    key: str
+    words: str
+    nominal: float
+    low: float
+    high: float
+    unit: str
+    distribution: str
+    elements: tuple[str, ...] = ()
+    source: str = ""
+    status: str = ""
+
+    def change_words(self, change: float) -> str:
+        """A move of this parameter in words: ``-5 %`` for a relative one, ``+20 K`` for a temperature,
+        ``-3 mV/K``, ``+0.5 mΩ``, ``× 1.5`` reached for a factor."""
+        if self.unit == "1" and self.key.endswith("_factor"):
+            return f"× {self.nominal + change:.3g}"
+        if self.unit == "1":
+            return f"{change * 100:+.3g} %"
+        if self.unit == "degC":
+            return f"{change:+.3g} K"
+        if self.unit == "V/K":
+            return f"{change * 1e3:+.3g} mV/K"
+        if self.unit == "ohm":
+            return f"{change * 1e3:+.3g} mΩ"
+        return f"{change:+.3g} {self.unit}"
+
+
+@dataclass(frozen=True)
+class Evaluated:
+    """One rule and subject over N samples: ``margin`` (as the rule's: headroom over its limit, a
+    fraction, positive on the safe side), ``status`` (0 pass, 1 warn, 2 fail), ``value`` (the figure
+    the rule compares, in ``unit``) and the ``limit`` it is compared with."""
+
+    margin: np.ndarray
+    status: np.ndarray
+    value: np.ndarray
+    limit: float
+    unit: str
+
+
+def _cells(d: Drawing) -> int:
+    return 12 if d.supply.system_voltage == 24 else 6
+
+
+def _row_param(row: dict, key: str, words: str, elements: tuple[str, ...] = ()) -> Parameter:
+    return Parameter(
+        key,
+        words,
+        float(row["nominal"]),
+        float(row["low"]),
+        float(row["high"]),
+        str(row["unit"]),
+        str(row.get("distribution", "uniform")),
+        elements,
+        str(row.get("source", "")),
+        str(row.get("status", "")),
+    )
+
+
+def _stated(d: Drawing, key: str) -> bool:
+    return key in d.tolerances
+
+
+def parameters(d: Drawing) -> list[Parameter]:
+    """The declared parameters of a drawing, in the column order :func:`evaluate` takes.
+
+    A parameter whose ends coincide (no tolerance) is left out. Without an alternator its five
+    parameters are left out. The set-point tolerance is the drawing's ``supply.alternator.tolerance``
+    [V] as a fraction of its set-point unless the drawing's tolerances state the key; the regulator
+    runs from the lowest ambient to the alternator cable's zone temperature; the ambient from the
+    environment's lowest to its highest (nominal 25 °C held within them)."""
+    tol = effective(d)
+    out: list[Parameter] = []
+    by_type: dict[str, list[str]] = {}
+    for s in d.of_kind(Stage):
+        by_type.setdefault(s.coil.name, []).append(s.id)
+    for name, ids in by_type.items():
+        row = lookup(tol, "coils.*.resistance_tolerance", name)
+        out.append(
+            _row_param(
+                row,
+                element_key("coils.*.resistance_tolerance", name),
+                f"coil resistance ({name})",
+                tuple(ids),
+            )
+        )
+    cables = d.of_kind(Cable)
+    own = [c for c in cables if element_key("tolerances.cable_length", c.id) in tol]
+    rest = tuple(c.id for c in cables if c not in own)
+    if rest:
+        out.append(_row_param(tol["tolerances.cable_length"], "tolerances.cable_length", "cable length", rest))
+    for c in own:
+        key = element_key("tolerances.cable_length", c.id)
+        out.append(_row_param(tol[key], key, f"length of {c.id}", (c.id,)))
+    alt = d.supply.alternator
+    if alt is not None:
+        key = "supply.alternator.tolerance"
+        row = dict(tol[key])
+        if not _stated(d, key):
+            rel = alt.tolerance / alt.setpoint if alt.setpoint > 0 else 0.0
+            row.update(
+                nominal=0.0,
+                low=-rel,
+                high=rel,
+                source="drawing: supply.alternator.tolerance",
+                status="stated in the drawing",
+            )
+        out.append(_row_param(row, key, "regulator set-point"))
+        g = "supply.alternator.compensation_24v" if _cells(d) == 12 else "supply.alternator.compensation_12v"
+        out.append(_row_param(tol[g], g, "regulator compensation"))
+        key = "supply.alternator.regulator_temperature"
+        row = dict(tol[key])
+        if not _stated(d, key):
+            feed = [c for c in cables if alt.node in (c.a, c.b)]
+            lo = d.environment.ambient_min
+            hi = max([c.zone_temperature for c in feed] or [d.environment.ambient_max])
+            row.update(nominal=min(max(25.0, lo), hi), low=lo, high=max(hi, lo))
+        out.append(_row_param(row, key, "regulator temperature"))
+        out.append(
+            _row_param(
+                tol["supply.alternator.hot_derating"], "supply.alternator.hot_derating", "alternator hot derating"
+            )
+        )
+        out.append(
+            _row_param(tol["supply.alternator.cold_excess"], "supply.alternator.cold_excess", "alternator cold excess")
+        )
+    for key, words in (
+        ("supply.battery.state_of_charge", "battery state of charge"),
+        ("supply.battery.age_factor", "battery ageing"),
+        ("supply.battery.resistance_min_factor", "battery resistance, low end"),
+        ("supply.battery.surface_charge_per_cell", "battery surface charge"),
+    ):
+        out.append(_row_param(tol[key], key, words))
+    env = d.environment
+    out.append(
+        Parameter(
+            "environment.ambient",
+            "ambient",
+            min(max(25.0, env.ambient_min), env.ambient_max),
+            env.ambient_min,
+            env.ambient_max,
+            "degC",
+            "uniform",
+            (),
+            "drawing: environment.ambient_min, ambient_max",
+            "stated in the drawing",
+        )
+    )
+    out.append(_row_param(tol["tolerances.fault_resistance"], "tolerances.fault_resistance", "fault resistance"))
+    return [p for p in out if p.high > p.low]
+
+
+def nominal(params: list[Parameter]) -> np.ndarray:
+    """The nominal parameter vector (P,)."""
+    return np.array([p.nominal for p in params])
+
+
+# ---------------------------------------------------------------------------------------- the model
+
+
+class _Net:
+    """The drawing's network with a fixed structure (resistor rows, 0 V parts, sources), assembled
+    and solved for many samples at once."""
+
+    def __init__(self, d: Drawing):
+        c = Circuit(d)
+        self.d = d
+        self.nd = nd = c.nodes
+        self.n = len(nd) - 1  # node unknowns (node 0 is the reference, the battery negative)
+        self.elements = d.elements
+        nominal_r = [element_resistance(e, 20.0) for e in d.elements]
+        self.res_el = [k for k, r in enumerate(nominal_r) if r > 0]
+        self.zero_el = [k for k, r in enumerate(nominal_r) if r <= 0]
+        s = d.supply
+        self.bat = nd[s.battery.node]
+        self.chassis = nd[s.chassis_node]
+        self.base_node = nd[s.base_load_node]
+        self.alt_node = nd[s.alternator.node] if s.alternator is not None else 0
+        self.ea = np.array([nd[e.a] for e in d.elements], dtype=np.int64)
+        self.eb = np.array([nd[e.b] for e in d.elements], dtype=np.int64)
+
+    def size(self, held: bool) -> int:
+        return self.n + len(self.zero_el) + (1 if held else 0)
+
+    def stamps(self, rows: list[tuple[int, int]], size: int) -> np.ndarray:
+        """(R, size²) conductance stamps of resistor rows (a, b)."""
+        out = np.zeros((len(rows), size, size))
+        for r, (a, b) in enumerate(rows):
+            for i, j, v in ((a, a, 1.0), (b, b, 1.0), (a, b, -1.0), (b, a, -1.0)):
+                if i > 0 and j > 0:
+                    out[r, i - 1, j - 1] += v
+        return out.reshape(len(rows), size * size)
+
+    def vsource_block(self, held: bool, size: int) -> np.ndarray:
+        """The constant part of A: the rows and columns of the 0 V parts (and of the held bus)."""
+        m = np.zeros((size, size))
+        rows = [(self.ea[k], self.eb[k]) for k in self.zero_el]
+        if held:
+            rows.append((0, self.bat))
+        for q, (a, b) in enumerate(rows):
+            k = self.n + q
+            if a > 0:
+                m[a - 1, k] += 1.0
+                m[k, a - 1] -= 1.0
+            if b > 0:
+                m[b - 1, k] -= 1.0
+                m[k, b - 1] += 1.0
+        return m
+
+    def inject(self, rhs: np.ndarray, node: int, current: np.ndarray) -> None:
+        """A current ``current`` (per sample) driven into ``node`` from the reference."""
+        if node > 0:
+            rhs[..., node - 1] += current
+
+    def solve(self, g_rows: np.ndarray, stamps: np.ndarray, const: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+        """x of ``A x = rhs`` for every sample: A = g_rows · stamps + const; ``rhs`` (..., size) or
+        (..., size, k)."""
+        size = const.shape[0]
+        lead = g_rows.shape[:-1]
+        flat = np.ascontiguousarray(g_rows).reshape(-1, g_rows.shape[-1])
+        a = (flat @ stamps).reshape((*lead, size, size))
+        a += const
+        if rhs.ndim == a.ndim - 1:
+            return np.linalg.solve(a, rhs[..., None])[..., 0]
+        return np.linalg.solve(a, rhs)
+
+    def element_currents(self, x: np.ndarray, g_el: np.ndarray) -> np.ndarray:
+        """Current of every element from a to b (..., E), from the solution and the element
+        conductances (..., E) (0 V parts: their source current)."""
+        v = np.concatenate([np.zeros((*x.shape[:-1], 1)), x[..., : self.n]], axis=-1)
+        out = (v[..., self.ea] - v[..., self.eb]) * g_el
+        for q, k in enumerate(self.zero_el):
+            out[..., k] = x[..., self.n + q]
+        return out
+
+
+@dataclass(frozen=True)
+class _Limits:
+    fuse_limit: dict[str, float]  # continuous: frac × rating × rerating [A]
+    fuse_frac: float
+    cable_limit: dict[str, float]  # ampacity [A]
+    relay_limit: dict[str, tuple[float, bool]]  # limit [A], warn-only (no derating above rated ambient)
+    drop_pass: float
+    drop_warn: float
+    v_min: float
+    breaking: dict[str, float]
+
+
+def _relay_limit(r: Relay, system: int) -> tuple[float, bool] | None:
+    """The relay's contact limit [A] in its zone, and whether a pass is held to a warn (a zone above
+    the rated ambient with no derating given); None where the rule fails whatever the current (no
+    rating for the system, zone above the highest ambient). Mirrors checks.protection.relay_rating
+    and relay_temperature_factor (tests compare the two verdict by verdict)."""
+    rating = r.rating_24v if system == 24 else (r.rating_12v if r.rating_12v is not None else r.rating_24v)
+    if rating is None:
+        return None
+    t = r.zone_temperature
+    if r.max_ambient is not None and t > r.max_ambient:
+        return None
+    if t <= r.rated_ambient or r.derated is None:
+        k = 1.0
+    else:
+        f, td = r.derated
+        k = 1.0 + (f - 1.0) * (t - r.rated_ambient) / (td - r.rated_ambient) if td != r.rated_ambient else f
+        k = max(k, 0.0)
+    return rating * k, r.derated is None and t > r.rated_ambient
+
+
+def _limits(d: Drawing) -> _Limits:
+    frac = float(tables.fuse_rules()["continuous_fraction"])
+    fuses = d.of_kind(Fuse)
+    cab = {}
+    for c in d.of_kind(Cable):
+        amp = cable_rating(c).ampacity
+        if not isinstance(amp, str) and amp.value > 0:
+            cab[c.id] = float(amp.value)
+    rel = {}
+    for r in d.of_kind(Relay):
+        lim = _relay_limit(r, d.supply.system_voltage)
+        if lim is not None and lim[0] > 0:
+            rel[r.id] = lim
+    return _Limits(
+        {f.id: frac * f.rating * tables.fuse_rerating(f.zone_temperature) for f in fuses},
+        frac,
+        cab,
+        rel,
+        d.limits.drop_pass,
+        d.limits.drop_warn,
+        d.supply.v_min,
+        {f.id: float(f.breaking_capacity) for f in fuses if f.breaking_capacity > 0},
+    )
+
+
+class Model:
+    """The vectorised model of one drawing (built once per drawing; :func:`model` caches it)."""
+
+    def __init__(self, d: Drawing):
+        self.d = d
+        self.params = parameters(d)
+        self.index = {p.key: k for k, p in enumerate(self.params)}
+        self.net = _Net(d)
+        self.el_ix = {e.id: j for j, e in enumerate(d.elements)}
+        self.limits = _limits(d)
+        self.tol = effective(d)
+        self.stages = [k for k, e in enumerate(d.elements) if isinstance(e, Stage)]
+        self.hot_t = hot_temperatures(d)
+        self.hot_limit = hot_alternator_limit(d)
+        net = self.net
+        # resistor rows of the three networks: the elements, then the battery's resistance (Norton
+        # networks) and the alternator's source resistance (the regulating low-bus network)
+        el_rows = [(int(net.ea[k]), int(net.eb[k])) for k in net.res_el]
+        self.st_duty = net.stamps(el_rows, net.size(True))
+        self.c_duty = net.vsource_block(True, net.size(True))
+        norton = [*el_rows, (0, net.bat)]
+        self.st_fault = net.stamps(norton, net.size(False))
+        self.st_low = net.stamps([*norton, (0, net.alt_node)], net.size(False))
+        self.c_open = net.vsource_block(False, net.size(False))
+
+    # ---- the sample's inputs
+    def column(self, x: np.ndarray, key: str, default: float) -> np.ndarray:
+        k = self.index.get(key)
+        return x[:, k] if k is not None else np.full(x.shape[0], default)
+
+    def fixed(self, key: str, end: str = "nominal") -> float:
+        return float(self.tol[key][end])
+
+    def resistances(self, x: np.ndarray, temps: dict[str, float] | np.ndarray) -> np.ndarray:
+        """(N, E) element resistances [Ω]: at ``temps`` (element id -> °C, or (N,) one temperature for
+        every cable and stage) with each coil's and cable's tolerance applied."""
+        d = self.d
+        n = x.shape[0]
+        out = np.empty((n, len(d.elements)))
+        scale = np.ones((n, len(d.elements)))
+        for k, pp in enumerate(self.params):
+            for eid in pp.elements:
+                scale[:, self.el_ix[eid]] = 1.0 + x[:, k]
+        for j, e in enumerate(d.elements):
+            if isinstance(e, (Cable, Stage)):
+                t = temps if isinstance(temps, np.ndarray) else temps.get(e.id, 20.0)
+                out[:, j] = element_resistance(e, t)
+            else:
+                out[:, j] = element_resistance(e, 20.0)
+        return out * scale
+
+    def regulated(self, x: np.ndarray) -> np.ndarray:
+        """(N,) the regulator's voltage [V]: set-point with its tolerance, compensated to its temperature."""
+        alt = self.d.supply.alternator
+        g_key = "supply.alternator.compensation_24v" if _cells(self.d) == 12 else "supply.alternator.compensation_12v"
+        u_set = alt.setpoint * (1.0 + self.column(x, "supply.alternator.tolerance", 0.0))
+        g = self.column(x, g_key, self.fixed(g_key))
+        t = self.column(
+            x, "supply.alternator.regulator_temperature", self.fixed("supply.alternator.regulator_temperature")
+        )
+        return regulator_setpoint(t, u_set, g, self.fixed("supply.alternator.compensation_reference"))
+
+    def ambient(self, x: np.ndarray) -> np.ndarray:
+        env = self.d.environment
+        return self.column(x, "environment.ambient", min(max(25.0, env.ambient_min), env.ambient_max))
+
+    # ---- the three networks
+    def duty(self, x: np.ndarray):
+        """(element currents (N, Q, E) over the stage states, the bus (N,), element resistances (N, E)).
+        State 0 has every stage on; state k ≥ 1 stage k alone (only where there are two or more)."""
+        net = self.net
+        n = x.shape[0]
+        r = self.resistances(x, self.ambient(x))
+        g = 1.0 / r
+        s_count = len(self.stages)
+        states = [np.ones(s_count, dtype=bool)]
+        if s_count > 1:
+            states += [np.arange(s_count) == k for k in range(s_count)]
+        on = np.ones((len(states), len(self.d.elements)))
+        for q, st in enumerate(states):
+            on[q, self.stages] = st
+        g_el = g[:, None, :] * on[None, :, :]  # (N, Q, E)
+        size = net.size(True)
+        rhs = np.zeros((n, size))
+        alt = self.d.supply.alternator
+        if alt is not None:
+            bus = self.regulated(x)
+            net.inject(
+                rhs, net.alt_node, alt.limit_rated * (1.0 + self.column(x, "supply.alternator.cold_excess", 0.0))
+            )
+        else:
+            bus = np.full(n, self.d.corners.cold_bus)
+        base = self.d.supply.base_load
+        if base > 0:
+            net.inject(rhs, net.base_node, np.full(n, -base))
+        rhs[:, size - 1] = bus
+        rhs = np.broadcast_to(rhs[:, None, :], (n, len(states), size))
+        xs = net.solve(g_el[..., net.res_el], self.st_duty, self.c_duty, rhs)
+        return net.element_currents(xs, g_el), xs, bus
+
+    def battery_low(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(EMF, resistance) of the battery for the low bus (N,) each."""
+        soc = self.column(x, "supply.battery.state_of_charge", self.fixed("supply.battery.state_of_charge"))
+        age = self.column(x, "supply.battery.age_factor", self.fixed("supply.battery.age_factor"))
+        emf = open_circuit_voltage(soc, cells=_cells(self.d))
+        rb = internal_resistance(
+            self.d.supply.battery.internal_resistance,
+            soc,
+            self.ambient(x),
+            t_reference=25.0,
+            temperature_coefficient=self.fixed("supply.battery.resistance_temperature_coefficient"),
+            empty_factor=self.fixed("supply.battery.resistance_empty_factor", "high"),
+            age_factor=1.0,
+        )
+        return np.asarray(emf, dtype=float) * np.ones(x.shape[0]), rb * age
+
+    def low_bus(self, x: np.ndarray):
+        """(x of the network (N, size), the alternator's mode per sample: 0 regulating, 1
+        current-limited, 2 off, -1 absent)."""
+        net = self.net
+        n = x.shape[0]
+        r = self.resistances(x, self.hot_t)
+        emf, rb = self.battery_low(x)
+        size = net.size(False)
+        rhs = np.zeros((n, size))
+        net.inject(rhs, net.bat, emf / rb)
+        base = self.d.supply.base_load
+        if base > 0:
+            net.inject(rhs, net.base_node, np.full(n, -base))
+        g_el = 1.0 / r[:, net.res_el]
+        alt = self.d.supply.alternator
+        if alt is None or self.hot_limit is None:
+            g = np.concatenate([g_el, 1.0 / rb[:, None], np.zeros((n, 1))], axis=1)
+            return net.solve(g, self.st_low, self.c_open, rhs), np.full(n, -1)
+        limit = self.hot_limit * (1.0 - self.column(x, "supply.alternator.hot_derating", 0.0))
+        u_set = self.regulated(x)
+        r_src = alt.source_resistance
+        # the three states of the source, solved for every sample; each keeps the one consistent with
+        # it (physics.network.charging_source_state, with the same rounding allowance)
+        g_reg = np.concatenate([g_el, 1.0 / rb[:, None], np.full((n, 1), 1.0 / r_src)], axis=1)
+        g_off = np.concatenate([g_el, 1.0 / rb[:, None], np.zeros((n, 1))], axis=1)
+        rhs_reg = rhs.copy()
+        net.inject(rhs_reg, net.alt_node, u_set / r_src)
+        rhs_lim = rhs.copy()
+        net.inject(rhs_lim, net.alt_node, limit)
+        x_reg = net.solve(g_reg, self.st_low, self.c_open, rhs_reg)
+        i_reg = (u_set - x_reg[:, net.alt_node - 1]) / r_src
+        slack = 1e-9 * np.maximum(1.0, limit)
+        mode = np.where(i_reg > limit + slack, 1, np.where(i_reg < -slack, 2, 0))
+        out = x_reg
+        if np.any(mode != 0):
+            g2 = g_off[mode != 0]
+            r2 = np.where((mode[mode != 0] == 1)[:, None], rhs_lim[mode != 0], rhs[mode != 0])
+            out = x_reg.copy()
+            out[mode != 0] = net.solve(g2, self.st_low, self.c_open, r2)
+        return out, mode
+
+    def largest_fault(self, x: np.ndarray) -> dict[str, np.ndarray]:
+        """Fuse id -> (N,) bolted-short current at its load terminal at the largest fault [A]."""
+        net = self.net
+        d = self.d
+        n = x.shape[0]
+        fuses = d.of_kind(Fuse)
+        if not fuses:
+            return {}
+        r = self.resistances(x, self.ambient(x))
+        per_cell = self.column(
+            x, "supply.battery.surface_charge_per_cell", self.fixed("supply.battery.surface_charge_per_cell", "high")
+        )
+        emf = _cells(d) * per_cell
+        rb = d.supply.battery.internal_resistance * self.column(
+            x, "supply.battery.resistance_min_factor", self.fixed("supply.battery.resistance_min_factor", "low")
+        )
+        size = net.size(False)
+        cols = 1 + len(fuses)
+        rhs = np.zeros((n, cols, size))
+        net.inject(rhs[:, 0], net.bat, emf / rb)
+        alt = d.supply.alternator
+        if alt is not None:
+            net.inject(
+                rhs[:, 0], net.alt_node, alt.limit_rated * (1.0 + self.column(x, "supply.alternator.cold_excess", 0.0))
+            )
+        nodes = [net.nd[f.b] for f in fuses]
+        for j, k in enumerate(nodes):
+            net.inject(rhs[:, 1 + j], k, np.ones(n))
+            net.inject(rhs[:, 1 + j], net.chassis, -np.ones(n))
+        g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
+        sol = net.solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
+
+        def at(vec: np.ndarray, node: int) -> np.ndarray:
+            return vec[:, node - 1] if node > 0 else np.zeros(vec.shape[0])
+
+        out = {}
+        for j, (f, k) in enumerate(zip(fuses, nodes, strict=True)):
+            u = at(sol[:, :, 0], k) - at(sol[:, :, 0], net.chassis)
+            z = at(sol[:, :, 1 + j], k) - at(sol[:, :, 1 + j], net.chassis)
+            out[f.id] = np.abs(np.where(z > 0, u / np.where(z > 0, z, 1.0), np.inf))
+        return out
+
+
+_CACHE: dict[int, tuple[weakref.ref, Model]] = {}
+
+
+def model(d: Drawing) -> Model:
+    """The model of a drawing, built once per drawing object."""
+    hit = _CACHE.get(id(d))
+    if hit is not None and hit[0]() is d:
+        return hit[1]
+    m = Model(d)
+    _CACHE[id(d)] = (weakref.ref(d), m)
+    return m
+
+
+def _ceiling(value: np.ndarray, limit: float) -> np.ndarray:
+    return (limit - value) / limit
+
+
+def evaluate(d: Drawing, X: np.ndarray) -> dict[tuple[str, str], Evaluated]:
+    """Margins and statuses of the steady-state rules for N samples of the declared parameters.
+
+    Parameters
+    ----------
+    d : Drawing
+    X : array (N, P)
+        One row per sample, columns in the order of ``parameters(d)``, in each parameter's unit.
+
+    Returns
+    -------
+    dict
+        (rule id, subject) -> :class:`Evaluated` with arrays of N, for the rules in :data:`RULES`;
+        a subject whose verdict does not depend on the parameters (no ampacity left, no contact rating
+        for the system) is left out.
+    """
+    m = model(d)
+    x = np.atleast_2d(np.asarray(X, dtype=float))
+    if x.shape[1] != len(m.params):
+        raise ValueError(f"X has {x.shape[1]} columns; the drawing declares {len(m.params)} parameters")
+    lim = m.limits
+    out: dict[tuple[str, str], Evaluated] = {}
+    el = {e.id: j for j, e in enumerate(d.elements)}
+    cur, xs, _bus = m.duty(x)
+    duty = np.max(np.abs(cur), axis=1)  # (N, E)
+    for f in d.of_kind(Fuse):
+        i = duty[:, el[f.id]]
+        limit = lim.fuse_limit[f.id]
+        st = np.where(i <= limit, PASS, np.where(i <= limit / lim.fuse_frac, WARN, FAIL))
+        out[("fuse.continuous", f.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
+    for c in d.of_kind(Cable):
+        if c.id in lim.cable_limit:
+            i = duty[:, el[c.id]]
+            limit = lim.cable_limit[c.id]
+            out[("cable.ampacity", c.id)] = Evaluated(
+                _ceiling(i, limit), np.where(i <= limit, PASS, FAIL), i, limit, "A"
+            )
+    for r in d.of_kind(Relay):
+        if r.id in lim.relay_limit:
+            i = duty[:, el[r.id]]
+            limit, held = lim.relay_limit[r.id]
+            st = np.where(i <= RELAY_WARN_SHARE * limit, WARN if held else PASS, np.where(i <= limit, WARN, FAIL))
+            out[("relay.contact_rating", r.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
+    net = m.net
+    v0 = np.concatenate([np.zeros((x.shape[0], 1)), xs[:, 0, : net.n]], axis=1)  # all stages on
+    for s in d.of_kind(Stage):
+        j = el[s.id]
+        vt = v0[:, net.ea[j]] - v0[:, net.eb[j]]
+        f = (v0[:, net.bat] - vt) / d.supply.system_voltage
+        st = np.where(f <= lim.drop_pass, PASS, np.where(f <= lim.drop_warn, WARN, FAIL))
+        out[("circuit.voltage_drop", s.id)] = Evaluated(
+            _ceiling(f, lim.drop_pass), st, f * 100, lim.drop_pass * 100, "%"
+        )
+    xl, _mode = m.low_bus(x)
+    vb = xl[:, net.bat - 1] if net.bat > 0 else np.zeros(x.shape[0])
+    if lim.v_min > 0:
+        out[("supply.bus_minimum", "bus")] = Evaluated(
+            (vb - lim.v_min) / lim.v_min, np.where(vb >= lim.v_min, PASS, FAIL), vb, lim.v_min, "V"
+        )
+    for fid, i in m.largest_fault(x).items():
+        if fid in lim.breaking:
+            bc = lim.breaking[fid]
+            out[("fuse.breaking_capacity", fid)] = Evaluated(_ceiling(i, bc), np.where(i <= bc, PASS, FAIL), i, bc, "A")
+    return out

@@ -1,0 +1,287 @@
+"""The declared parameters and the vectorised margins of the steady-state rules, against the scalar
+analysis of the same drawing changed to each sample (dataclasses.replace), and against a network
+assembled here by hand and solved with numpy.linalg.solve (an independent general-purpose library)."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+import pytest
+
+from coilstage.analysis.circuit import Circuit, SourceState
+from coilstage.analysis.conditions import hot_temperatures
+from coilstage.analysis.params import FAIL, PASS, WARN, evaluate, nominal, parameters
+from coilstage.analysis.run import analyse
+from coilstage.checks import RULES
+from coilstage.drawing.load import load_drawing
+from coilstage.drawing.schema import Cable, Stage
+
+COACH = "configs/coach-24v-4stage.toml"
+STATUS = {"pass": PASS, "warn": WARN, "fail": FAIL}
+
+#: Published open-circuit voltage of a 12 V flooded block at 0/25/50/75/100 % charge [V]
+#: (realexposer.com "What does terminal voltage tell", the table of OCV and specific gravity).
+OCV_12V = (11.89, 12.06, 12.24, 12.45, 12.65)
+
+
+@pytest.fixture(scope="module")
+def coach():
+    return load_drawing(COACH)
+
+
+def _samples(ps, n, seed):
+    rng = np.random.default_rng(seed)
+    lo = np.array([p.low for p in ps])
+    hi = np.array([p.high for p in ps])
+    x = lo + (hi - lo) * rng.random((n, len(ps)))
+    x[0] = nominal(ps)
+    x[1] = lo
+    x[2] = hi
+    return x
+
+
+def _at(d, ps, x):
+    """The drawing changed to one sample: each coil's reference resistance and each cable's length
+    scaled by its tolerance (R is proportional to both)."""
+    col = {p.key: v for p, v in zip(ps, x, strict=True)}
+    scale = {}
+    for p, v in zip(ps, x, strict=True):
+        for eid in p.elements:
+            scale[eid] = 1.0 + v
+    els = []
+    for e in d.elements:
+        if isinstance(e, Stage) and e.id in scale:
+            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * scale[e.id]))
+        elif isinstance(e, Cable) and e.id in scale:
+            e = dataclasses.replace(e, length=e.length * scale[e.id])
+        els.append(e)
+    return dataclasses.replace(d, elements=tuple(els)), col
+
+
+def _regulator(d, col):
+    """Regulated voltage by hand: U = U_set (1 + tol) + g (θ − 25 °C) (a linear compensation)."""
+    alt = d.supply.alternator
+    return alt.setpoint * (1 + col["supply.alternator.tolerance"]) + col["supply.alternator.compensation_24v"] * (
+        col["supply.alternator.regulator_temperature"] - 25.0
+    )
+
+
+def test_parameters_of_the_coach(coach):
+    ps = {p.key: p for p in parameters(coach)}
+    coil = ps["coils.RC4.resistance_tolerance"]
+    assert (coil.low, coil.high) == (-0.05, 0.05) and coil.elements == ("S1", "S2", "S3", "S4")
+    assert ps["tolerances.cable_length"].high == 0.10
+    # the drawing's ±0.3 V on 28.2 V as a fraction (stated in the drawing)
+    assert ps["supply.alternator.tolerance"].high == pytest.approx(0.3 / 28.2)
+    reg = ps["supply.alternator.regulator_temperature"]
+    assert (reg.low, reg.high) == (-30.0, 105.0)  # lowest ambient to the alternator cable's zone
+    assert (ps["environment.ambient"].low, ps["environment.ambient"].high) == (-30.0, 40.0)
+
+
+def test_a_drawing_with_its_own_cable_row_gets_its_own_parameter(coach):
+    from coilstage.drawing.schema import ToleranceSpec
+
+    d = dataclasses.replace(coach, tolerances={"cables.W1.length_tolerance": ToleranceSpec(0.0, 0.3)})
+    ps = {p.key: p for p in parameters(d)}
+    assert ps["cables.W1.length_tolerance"].elements == ("W1",)
+    assert "W1" not in ps["tolerances.cable_length"].elements
+
+
+def test_duty_rules_equal_the_scalar_analysis_row_by_row(coach):
+    """Each sample through analyse() on the drawing changed to it: cold corner at the sample's ambient,
+    bus held at the regulator's voltage (by hand), alternator at rated output plus its cold excess."""
+    ps = parameters(coach)
+    xs = _samples(ps, 6, 1)
+    got = evaluate(coach, xs)
+    ids = {"fuse.continuous", "cable.ampacity", "relay.contact_rating"}
+    seen = 0
+    for i, x in enumerate(xs):
+        d, col = _at(coach, ps, x)
+        alt = d.supply.alternator
+        d = dataclasses.replace(
+            d,
+            corners=dataclasses.replace(
+                d.corners, cold_ambient=col["environment.ambient"], cold_bus=_regulator(d, col)
+            ),
+            supply=dataclasses.replace(
+                d.supply,
+                alternator=dataclasses.replace(
+                    alt, limit_rated=alt.limit_rated * (1 + col["supply.alternator.cold_excess"])
+                ),
+            ),
+        )
+        a = dataclasses.replace(analyse(d, switching=False, heating=False), worst=None)
+        for rule in RULES:
+            if rule.id not in ids:
+                continue
+            for v in rule.evaluate(a):
+                if v.margin is None:
+                    continue
+                e = got[(v.rule, v.subject)]
+                assert e.margin[i] == pytest.approx(v.margin, rel=1e-9, abs=1e-12), (v.rule, v.subject, i)
+                assert e.status[i] == STATUS[v.status.value], (v.rule, v.subject, i)
+                seen += 1
+        for s in a.corners["cold"].stages:
+            f = s.drop_fraction
+            e = got[("circuit.voltage_drop", s.id)]
+            assert e.value[i] == pytest.approx(100 * f, rel=1e-9)
+            assert e.margin[i] == pytest.approx((d.limits.drop_pass - f) / d.limits.drop_pass, rel=1e-9, abs=1e-12)
+    assert seen >= 6 * 20
+
+
+def test_lowest_bus_equals_the_scalar_solve(coach):
+    """The bus of the low-bus network against Circuit.solve with the battery worked by hand: EMF on the
+    published OCV line (12 cells), R = R_25 · e^{b (25 − θ)} · [1 + 0.4 (1 − SOC)] · age, the
+    alternator regulating at the compensated set-point with its idle output less the hot derating."""
+    ps = parameters(coach)
+    xs = _samples(ps, 8, 2)
+    got = evaluate(coach, xs)[("supply.bus_minimum", "bus")]
+    temps = hot_temperatures(coach)
+    b = 0.008447  # ln(1.5)/48 K rounded as the shipped row states it (a 50 % rise from +30 to -18 °C)
+    modes = set()
+    for i, x in enumerate(xs):
+        d, col = _at(coach, ps, x)
+        soc = col["supply.battery.state_of_charge"]
+        emf = 2 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
+        r = (
+            d.supply.battery.internal_resistance
+            * math.exp(b * (25.0 - col["environment.ambient"]))
+            * (1 + 0.4 * (1 - soc))
+            * col["supply.battery.age_factor"]
+        )
+        d = dataclasses.replace(
+            d,
+            supply=dataclasses.replace(d.supply, battery=dataclasses.replace(d.supply.battery, internal_resistance=r)),
+        )
+        limit = d.supply.alternator.limit_idle * (1 - col["supply.alternator.hot_derating"])
+        sol = Circuit(d).solve(temps, SourceState(emf, _regulator(d, col), limit))
+        modes.add(sol.alternator_mode)
+        assert got.value[i] == pytest.approx(sol.v[d.supply.battery.node], rel=1e-9)
+        assert got.margin[i] == pytest.approx((got.value[i] - 16.0) / 16.0, rel=1e-12)
+    assert "current-limited" in modes  # the switch of state is exercised
+
+
+def test_a_regulating_and_an_off_alternator_in_one_batch(coach):
+    ps = parameters(coach)
+    k = {p.key: j for j, p in enumerate(ps)}
+    x = np.tile(nominal(ps), (3, 1))
+    x[0, k["supply.alternator.hot_derating"]] = -5.0  # an alternator that can deliver everything: regulating
+    x[1, k["supply.alternator.regulator_temperature"]] = 105.0
+    x[1, k["supply.alternator.compensation_24v"]] = -0.035  # set-point 25.4 V: near the battery
+    x[2, k["supply.alternator.tolerance"]] = -0.2  # set-point 22.6 V below the battery: off
+    got = evaluate(coach, x)[("supply.bus_minimum", "bus")]
+    temps = hot_temperatures(coach)
+    for i in range(3):
+        d, col = _at(coach, ps, x[i])
+        soc = col["supply.battery.state_of_charge"]
+        emf = 2 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
+        r = d.supply.battery.internal_resistance * (1 + 0.4 * (1 - soc))  # ambient 25 °C: no rise
+        d = dataclasses.replace(
+            d,
+            supply=dataclasses.replace(d.supply, battery=dataclasses.replace(d.supply.battery, internal_resistance=r)),
+        )
+        limit = d.supply.alternator.limit_idle * (1 - col["supply.alternator.hot_derating"])
+        sol = Circuit(d).solve(temps, SourceState(emf, _regulator(d, col), limit))
+        assert got.value[i] == pytest.approx(sol.v[d.supply.battery.node], rel=1e-9), sol.alternator_mode
+        if i == 0:
+            assert sol.alternator_mode == "regulating"
+        if i == 2:
+            assert sol.alternator_mode == "off"
+
+
+def test_largest_fault_equals_the_scalar_thevenin_solve(coach):
+    """Breaking capacity: the bolted short at each fuse's load terminal against Circuit.fault_currents
+    with a battery of cells × 2.1…2.2 V behind 0.9…1.0 × its resistance, the alternator a current
+    source of its rated output plus the cold excess, the other loads off, coils and cables at the
+    ambient."""
+    ps = parameters(coach)
+    xs = _samples(ps, 5, 3)
+    got = evaluate(coach, xs)
+    from coilstage.drawing.schema import Fuse
+
+    fuses = coach.of_kind(Fuse)
+    for i, x in enumerate(xs):
+        d, col = _at(coach, ps, x)
+        s = d.supply
+        d = dataclasses.replace(
+            d,
+            supply=dataclasses.replace(
+                s,
+                base_load=0.0,
+                battery=dataclasses.replace(
+                    s.battery,
+                    internal_resistance=s.battery.internal_resistance * col["supply.battery.resistance_min_factor"],
+                ),
+            ),
+        )
+        t = {e.id: col["environment.ambient"] for e in d.elements if isinstance(e, (Cable, Stage))}
+        src = SourceState(
+            12 * col["supply.battery.surface_charge_per_cell"],
+            None,
+            s.alternator.limit_rated * (1 + col["supply.alternator.cold_excess"]),
+            alt_fixed=True,
+        )
+        ref = Circuit(d).fault_currents(t, src, [f.b for f in fuses])
+        for f in fuses:
+            e = got[("fuse.breaking_capacity", f.id)]
+            assert e.value[i] == pytest.approx(ref[f.b], rel=1e-9)
+            assert e.status[i] == (PASS if ref[f.b] <= f.breaking_capacity else FAIL)
+
+
+def test_duty_currents_against_a_network_assembled_by_hand(coach):
+    """All stages on, bus held: nodal equations G v = i written here from the element resistances
+    R(θ) = R_ref (1 + tol)(1 + α (θ − θ_ref))/(1 + α (θ_ref − 20)) … as the scalar solution reports
+    them, solved with numpy.linalg.solve; the held battery node and the reference are eliminated."""
+    ps = parameters(coach)
+    x = _samples(ps, 3, 4)[2]
+    got = evaluate(coach, x[None])
+    d, col = _at(coach, ps, x)
+    t = col["environment.ambient"]
+    bus = _regulator(d, col)
+    alt_i = d.supply.alternator.limit_rated * (1 + col["supply.alternator.cold_excess"])
+    # element resistances by hand: copper R = R20 (1 + α20 (θ − 20)); coil from its reference
+    res = {}
+    for e in d.elements:
+        if isinstance(e, Cable):
+            res[e.id] = e.r20_per_m * e.length * (1 + e.alpha20 * (t - 20))
+        elif isinstance(e, Stage):
+            c = e.coil
+            r20 = c.r_ref / (1 + c.alpha20 * (c.t_ref - 20))
+            res[e.id] = r20 * (1 + c.alpha20 * (t - 20)) * e.r_factor
+        else:
+            res[e.id] = e.resistance
+    assert all(r > 0 for r in res.values())
+    s = d.supply
+    fixed = {s.negative_node: 0.0, s.battery.node: bus}
+    free = sorted({n for e in d.elements for n in (e.a, e.b)} - set(fixed))
+    ix = {n: k for k, n in enumerate(free)}
+    g = np.zeros((len(free), len(free)))
+    rhs = np.zeros(len(free))
+    for e in d.elements:
+        ge = 1 / res[e.id]
+        for p, q in ((e.a, e.b), (e.b, e.a)):
+            if p in ix:
+                g[ix[p], ix[p]] += ge
+                if q in ix:
+                    g[ix[p], ix[q]] -= ge
+                else:
+                    rhs[ix[p]] += ge * fixed[q]
+    if s.alternator.node in ix:
+        rhs[ix[s.alternator.node]] += alt_i
+    v = dict(fixed)
+    v.update(zip(free, np.linalg.solve(g, rhs), strict=True))
+    for e in d.elements:
+        i = (v[e.a] - v[e.b]) / res[e.id]
+        if e.id in ("F-MAIN", "W-MAIN"):  # shared feed: largest with all stages on
+            key = ("fuse.continuous", e.id) if e.id == "F-MAIN" else ("cable.ampacity", e.id)
+            assert got[key].value[0] == pytest.approx(abs(i), rel=1e-9)
+        if isinstance(e, Stage):
+            drop = bus - (v[e.a] - v[e.b])
+            assert got[("circuit.voltage_drop", e.id)].value[0] == pytest.approx(100 * drop / 24, rel=1e-9)
+
+
+def test_evaluate_rejects_a_wrong_column_count(coach):
+    with pytest.raises(ValueError, match="columns"):
+        evaluate(coach, np.zeros((2, 3)))

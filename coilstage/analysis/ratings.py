@@ -7,7 +7,7 @@ Each figure names the model that made it; the checks only compare.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -229,6 +229,8 @@ class Ratings:
     far_end: dict[tuple[str, str], FarEndShort | str]
     fuses: dict[str, FuseSwitching]
     relays: dict[str, RelayPickup | None]
+    #: the far-end shorts at the smallest fault current (longest clearing; see analysis.worst)
+    far_end_worst: dict[tuple[str, str], FarEndShort | str] = field(default_factory=dict)
 
 
 def ratings(
@@ -238,21 +240,27 @@ def ratings(
     duty: dict[str, float],
     sw: SwitchingResult | None,
     hot: CornerResult,
+    far_end_smallest: dict[str, float] | None = None,
 ) -> Ratings:
-    """Every rating figure of a drawing (see the module docstring)."""
+    """Every rating figure of a drawing (see the module docstring); ``far_end_smallest`` (protected
+    cable id -> A) gives the far-end shorts at the smallest fault current as well."""
     cables = {c.id: c for c in d.of_kind(Cable)}
     rate = {cid: cable_rating(c) for cid, c in cables.items()}
     over: dict[tuple[str, str], Overload | str] = {}
     short: dict[tuple[str, str], FarEndShort | str] = {}
+    short_min: dict[tuple[str, str], FarEndShort | str] = {}
     for f in d.of_kind(Fuse):
         for cid in protected.get(f.id, []):
             if cid in cables:
                 over[(f.id, cid)] = overload(f, cables[cid], rate[cid])
                 short[(f.id, cid)] = far_end_short(f, cables[cid], far_end_fault.get(cid, 0.0))
+                if far_end_smallest is not None:
+                    short_min[(f.id, cid)] = far_end_short(f, cables[cid], far_end_smallest.get(cid, 0.0))
     return Ratings(
         rate,
         over,
         short,
         fuse_switching(d.of_kind(Fuse), duty, sw),
         {r.id: relay_pickup(r, hot) for r in d.of_kind(Relay)},
+        short_min,
     )

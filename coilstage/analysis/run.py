@@ -68,6 +68,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
     if heating and d.duty is not None:
         descent = simulate(d)
         continuous = simulate(d, continuous_duty(d))
+    worst = worst_cases(d, cases, protected, duty)
     return Analysis(
         d,
         circuit,
@@ -81,10 +82,10 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         duty_state,
         switched_stages(d),
         unfused_feed_cables(d),
-        ratings(d, protected, far_end, duty, sw, corners["hot"]),
+        ratings(d, protected, far_end, duty, sw, corners["hot"], worst.smallest_fault.far_end),
         sw,
         analyse_field(d, corners, nets["cold"]),
         descent,
         continuous,
-        worst_cases(d, cases, protected, duty),
+        worst,
     )

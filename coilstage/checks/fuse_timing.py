@@ -17,6 +17,7 @@ from coilstage.checks.base import (
     at_most,
     ceiling,
     ceiling_temperature,
+    decided_at_worst,
     not_checked,
 )
 from coilstage.drawing.schema import Cable, Fuse
@@ -95,18 +96,22 @@ def _cable_overload(a: Analysis) -> list[Verdict]:
                     f"at the conventional fusing current {conv:.2f} x {f.rating:g} A = {i:.0f} A the fuse may "
                     f"take {t:.0f} s; the conductor ({c.size_label}, from {c.zone_temperature:g} °C) reaches "
                     f"{'thermal runaway' if shown is None else f'{theta:.0f} °C'} against the class "
-                    f"{c.insulation_class} short-term limit (class + 50 K, from memory)",
-                    "cold",
+                    f"{c.insulation_class} short-term limit (class + 50 K, from memory); already its worst case: "
+                    "the conductor starts at its zone's highest temperature and the fuse is taken at its full "
+                    "rating (its zone's hot rerating would open it sooner)",
+                    "",
                 )
             )
     return out
 
 
 def _short_circuit(a: Analysis) -> list[Verdict]:
+    """Each protected cable's far-end short, decided at the smallest fault current (the longest clearing
+    and, in the fuse's time-lag region, the largest let-through I²t) with the nominal fault beside it."""
     out = []
     cables = {c.id: c for c in a.drawing.of_kind(Cable)}
+    sf = a.worst.smallest_fault if a.worst is not None else None
     for f in a.drawing.of_kind(Fuse):
-        g = fuse_gates(f)
         for cid in a.protected.get(f.id, []):
             c = cables.get(cid)
             if c is None:
@@ -116,54 +121,61 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
             if isinstance(sh, str):
                 out.append(not_checked(SHORT, subject, sh, "degC"))
                 continue
-            i_sc, m, t = sh.current, sh.multiple, sh.clear_time
-            if sh.theta_final is None:
-                out.append(
-                    Verdict(
-                        SHORT.id,
-                        subject,
-                        Status.FAIL,
-                        None,
-                        None,
-                        "degC",
-                        None,
-                        SHORT.clause,
-                        f"a short at the far end ({c.b}) draws only {i_sc:.0f} A = {m:.2f} x rating: the fuse "
-                        "need not open at all within its gates",
-                        "cold",
-                    )
-                )
+            nominal = _short_at(f, c, sh, subject, "cold")
+            sw = a.ratings.far_end_worst.get((f.id, cid))
+            if sf is None or sw is None or isinstance(sw, str):
+                out.append(nominal)
                 continue
-            theta_i, theta_f = sh.theta_initial, sh.theta_final
-            lim = short_circuit_limit(c)
-            limit = lim.limit
-            whose = (
-                f"class {c.insulation_class}'s usual material, {lim.name} (not stated on the cable)"
-                if lim.assumed
-                else lim.name
-            )
-            note = (
-                f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the latest "
-                f"({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} adiabatically from "
-                f"{theta_i:g} °C to {theta_f:.0f} °C (IEC 60949) against {limit:g} °C for {whose} ({lim.status})"
-            )
-            if not math.isfinite(theta_f):
-                # I²t/(K S)² beyond what the adiabatic law can carry: the conductor would pass its melting
-                # point long before the fuse clears, so there is no finite figure to compare.
-                note = (
-                    f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the "
-                    f"latest ({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} far beyond any "
-                    f"temperature it can reach (it melts first; IEC 60949 adiabatic equation) against {limit:g} °C "
-                    f"for {whose}: a larger cable or a smaller fuse"
-                )
-                out.append(
-                    Verdict(SHORT.id, subject, Status.FAIL, None, limit, "degC", None, SHORT.clause, note, "cold")
-                )
-                continue
-            if t > 5:
-                note += "; beyond the 5 s adiabatic range, so the real conductor ends cooler"
-            out.append(at_most(SHORT, subject, theta_f, limit, "degC", note, "cold"))
+            worst = _short_at(f, c, sw, subject, sf.name)
+            out.append(decided_at_worst(worst, nominal, sf.name, tuple(f"{k} {v}" for k, v in sf.words)))
     return out
+
+
+def _short_at(f: Fuse, c: Cable, sh, subject: str, corner: str) -> Verdict:
+    """The far-end short ``sh`` (:class:`coilstage.analysis.ratings.FarEndShort`) of cable ``c``
+    behind fuse ``f`` against the insulation's short-circuit limit."""
+    g = fuse_gates(f)
+    i_sc, m, t = sh.current, sh.multiple, sh.clear_time
+    if sh.theta_final is None:
+        return Verdict(
+            SHORT.id,
+            subject,
+            Status.FAIL,
+            None,
+            None,
+            "degC",
+            None,
+            SHORT.clause,
+            f"a short at the far end ({c.b}) draws only {i_sc:.0f} A = {m:.2f} x rating: the fuse "
+            "need not open at all within its gates",
+            corner,
+        )
+    theta_i, theta_f = sh.theta_initial, sh.theta_final
+    lim = short_circuit_limit(c)
+    limit = lim.limit
+    whose = (
+        f"class {c.insulation_class}'s usual material, {lim.name} (not stated on the cable)"
+        if lim.assumed
+        else lim.name
+    )
+    note = (
+        f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the latest "
+        f"({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} adiabatically from "
+        f"{theta_i:g} °C to {theta_f:.0f} °C (IEC 60949) against {limit:g} °C for {whose} ({lim.status})"
+    )
+    if not math.isfinite(theta_f):
+        # I²t/(K S)² beyond what the adiabatic law can carry: the conductor would pass its melting
+        # point long before the fuse clears, so there is no finite figure to compare.
+        note = (
+            f"short at the far end ({c.b}): {i_sc:.0f} A = {m:.1f} x rating, cleared by {t:.3g} s at the "
+            f"latest ({g.source}); I²t {i_sc * i_sc * t:.3g} A²s heats {c.size_label} far beyond any "
+            f"temperature it can reach (it melts first; IEC 60949 adiabatic equation) against {limit:g} °C "
+            f"for {whose}: a larger cable or a smaller fuse"
+        )
+        return Verdict(SHORT.id, subject, Status.FAIL, None, limit, "degC", None, SHORT.clause, note, corner)
+    if t > 5:
+        note += "; beyond the 5 s adiabatic range, so the real conductor ends cooler"
+    return at_most(SHORT, subject, theta_f, limit, "degC", note, corner)
 
 
 def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
@@ -270,7 +282,8 @@ OVERLOAD = Rule(
 )
 SHORT = Rule(
     "fuse.cable_short_circuit",
-    "A short at the far end of each protected cable is cleared before the insulation's short-circuit limit",
+    "A short at the far end of each protected cable, at the smallest fault current, is cleared before the "
+    "insulation's short-circuit limit",
     "IEC 60949 adiabatic equation (K = 226 for copper); clearing time from the gates; final temperature by "
     "insulation material (IEC 60364-4-43 Table 43A / IEC 60364-5-54 Annex A; vehicle and fluoropolymer rows common "
     "practice), the ISO 6722 class's usual material where none is stated",

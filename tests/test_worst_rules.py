@@ -1,0 +1,125 @@
+"""Rules decided at their own worst case, each against a hand calculation or a brute-force reference
+beside it: the smallest far-end fault and its clearing time, the consistent vehicle state of the duty
+rules, the braking retained at the lowest bus."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from coilstage import tables
+from coilstage.analysis.run import analyse
+from coilstage.checks import run_checks
+from coilstage.drawing.load import load_drawing
+from coilstage.drawing.schema import Fuse
+
+COACH = "configs/coach-24v-4stage.toml"
+TRUCK = "configs/light-truck-12v-2stage.toml"
+ALPHA_CU = 0.00393  # IEC 60028 annealed copper, 1/K at 20 °C
+
+
+def _checked(path: str):
+    a = analyse(load_drawing(path), switching=False, heating=False)
+    return a, {(v.rule, v.subject): v for v in run_checks(a)}
+
+
+@pytest.fixture(scope="module")
+def coach():
+    return _checked(COACH)
+
+
+@pytest.fixture(scope="module")
+def truck():
+    return _checked(TRUCK)
+
+
+def _r_cable(d, cid: str, theta: float) -> float:
+    """R = R'20 · length · (1 + α(θ − 20)) with the drawing's ISO 6722 R'20 (an input, not a result)."""
+    c = next(e for e in d.elements if e.id == cid)
+    return c.r20_per_m * c.length * (1 + ALPHA_CU * (theta - 20.0))
+
+
+def _by_id(d, eid: str):
+    return next(e for e in d.elements if e.id == eid)
+
+
+def _hand_far_end_main(a) -> float:
+    """The coach's (and the truck's) main-feed far-end fault at the smallest fault, by Ohm's law.
+
+    Circuit (alternator off, so W-ALT carries nothing): battery EMF E behind R_b; the base load a
+    constant current I_0 at the battery terminals; B+ → F-MAIN → W-MAIN → DIST. At DIST the fault
+    R_f to CHASSIS, then W-STRAP to B-; in parallel the stage branches (fuse, contact, feed cable,
+    stage, return cable) to GSTUD, then W-RET to B-. Cables at their zone temperature, coils at the
+    lowest ambient (their largest current, which takes most from the fault). With
+    R_L = R_ret + 1/Σ(1/R_k): V_D = (E − R_b I_0)/(1 + (R_b + R_main)(1/(R_f + R_s) + 1/R_L)),
+    I_fault = V_D/(R_f + R_s)."""
+    d = a.drawing
+    sf = a.worst.smallest_fault
+    e, rb, rf = sf.battery_emf, sf.battery_resistance, sf.fault_resistance
+    zone = {c.id: c.zone_temperature for c in d.elements if hasattr(c, "r20_per_m")}
+    r_main = _by_id(d, "F-MAIN").resistance + _r_cable(d, "W-MAIN", zone["W-MAIN"])
+    # the chassis is strapped to the battery negative (coach) or is the negative itself (truck)
+    r_s = _r_cable(d, "W-STRAP", zone["W-STRAP"]) if "W-STRAP" in zone else 0.0
+    assert "W-STRAP" in zone or d.supply.chassis_node == d.supply.negative_node
+    r_ret = _r_cable(d, "W-RET", zone["W-RET"])
+    g = 0.0
+    t_min = d.environment.ambient_min
+    for st in d.stages:
+        k = st.id[1:]
+        coil = st.coil
+        # R(θ) = R_ref (1 + α(θ − 20)) / (1 + α(θ_ref − 20)) (IEC 60028 linear law), times the stage's
+        # coil arrangement (series count, or 1/count in parallel)
+        r_stage = coil.r_ref * (1 + ALPHA_CU * (t_min - 20.0)) / (1 + ALPHA_CU * (coil.t_ref - 20.0)) * st.r_factor
+        r_k = (
+            _by_id(d, f"F{k}").resistance
+            + _by_id(d, f"K{k}").resistance
+            + _r_cable(d, f"W{k}", zone[f"W{k}"])
+            + r_stage
+            + _r_cable(d, f"W{k}R", zone[f"W{k}R"])
+        )
+        g += 1.0 / r_k
+    r_l = r_ret + 1.0 / g
+    v_d = (e - rb * d.supply.base_load) / (1 + (rb + r_main) * (1 / (rf + r_s) + 1 / r_l))
+    return v_d / (rf + r_s)
+
+
+def test_smallest_far_end_fault_of_the_coach_main_feed_by_hand(coach):
+    a, _ = coach
+    hand = _hand_far_end_main(a)
+    # hand calculation (Ohm's law on the circuit in the docstring) against the network's Thévenin figure
+    assert a.worst.smallest_fault.far_end["W-MAIN"] == pytest.approx(hand, rel=1e-3)
+    # the nominal (cold, charged, alternator feeding) fault is about 2.96 kA; the smallest is far below
+    assert a.far_end_fault["W-MAIN"] == pytest.approx(2956, rel=0.01)
+    assert hand < 0.3 * a.far_end_fault["W-MAIN"]
+
+
+def test_smallest_far_end_fault_of_the_truck_main_feed_by_hand(truck):
+    a, _ = truck
+    assert a.worst.smallest_fault.far_end["W-MAIN"] == pytest.approx(_hand_far_end_main(a), rel=1e-3)
+
+
+@pytest.mark.parametrize("which", ["coach", "truck"])
+def test_short_circuit_decided_at_the_smallest_fault(which, request):
+    # The old rule read the largest fault; clearing is slowest at the smallest. The clearing time is
+    # read here from the fuse's own gates (shipped ISO 8820 gates, from memory) at that current.
+    a, v = request.getfixturevalue(which)
+    f = next(x for x in a.drawing.of_kind(Fuse) if x.id == "F-MAIN")
+    i_min = a.worst.smallest_fault.far_end["W-MAIN"]
+    i_nom = a.far_end_fault["W-MAIN"]
+    g = tables.FuseGates(f.gates, f.gates_source)
+    t_min_fault, t_nom = g.t_max(i_min / f.rating), g.t_max(i_nom / f.rating)
+    assert t_min_fault > 10 * t_nom  # an order of magnitude longer at least
+    verdict = v[("fuse.cable_short_circuit", "F-MAIN → W-MAIN")]
+    assert verdict.corner == "smallest fault"
+    sh = a.ratings.far_end_worst[("F-MAIN", "W-MAIN")]
+    assert sh.current == pytest.approx(i_min)
+    assert sh.clear_time == pytest.approx(t_min_fault)
+    # IEC 60949 adiabatic final temperature, by hand: θf = (θi + β) exp(I²t/(K S)²) − β,
+    # K = 226 A·s^½/mm², β = 234.5 K (copper; IEC 60949 rounds K, hence 0.3 %)
+    c = next(x for x in a.drawing.elements if x.id == "W-MAIN")
+    theta_f = (c.class_max + 234.5) * math.exp(i_min**2 * t_min_fault / (226.0 * c.area * 1e6) ** 2) - 234.5
+    assert sh.theta_final == pytest.approx(theta_f, rel=3e-3)
+    assert verdict.value == pytest.approx(sh.theta_final)
+    assert verdict.worst.nominal_value < verdict.value
+    assert "smallest fault" in verdict.note

@@ -123,3 +123,20 @@ def test_short_circuit_decided_at_the_smallest_fault(which, request):
     assert verdict.value == pytest.approx(sh.theta_final)
     assert verdict.worst.nominal_value < verdict.value
     assert "smallest fault" in verdict.note
+
+
+def test_nuisance_opening_decided_at_the_largest_current(coach):
+    # The old rule read the cold corner's peak. At the largest continuous current the peak scales as the
+    # steady current does (linear network at a fixed switching sequence): hand ratio largest/duty.
+    a, v = coach
+    for fid in ("F-MAIN", "F1"):
+        verdict = v[("fuse.no_nuisance_opening", fid)]
+        k = a.worst.largest_current[fid] / a.duty[fid]
+        assert k > 1.0
+        assert verdict.corner == "largest current"
+        assert verdict.value == pytest.approx(a.ratings.fuses[fid].peak_current * k)
+        assert verdict.worst.nominal_value == pytest.approx(a.ratings.fuses[fid].peak_current)
+        f = next(x for x in a.drawing.of_kind(Fuse) if x.id == fid)
+        # limit: first gate point (1.10 x, ISO 8820 gates from memory) x rating x rerating at its zone
+        assert verdict.limit == pytest.approx(1.10 * f.rating * tables.fuse_rerating(f.zone_temperature))
+        assert verdict.margin < verdict.worst.nominal_margin

@@ -190,6 +190,25 @@ def fuse_switching(fuses: list[Fuse], duty: dict[str, float], sw: SwitchingResul
     return {f.id: FuseSwitching(f.id, peak[f.id], worst[f.id]) for f in fuses}
 
 
+def fuse_switching_scaled(
+    sw: dict[str, FuseSwitching], duty: dict[str, float], largest: dict[str, float]
+) -> dict[str, FuseSwitching]:
+    """Each fuse's peak current scaled from the cold corner to the largest continuous current: the
+    network is linear in the bus voltage and the coils' conductance at a fixed switching sequence, so
+    the peak of the switch-on is taken to scale as its steady current does (``largest/duty``); the
+    pulse I²t, as the square of that. A fuse without a nominal current keeps its figures."""
+    out = {}
+    for fid, x in sw.items():
+        k = largest[fid] / duty[fid] if fid in largest and duty.get(fid, 0.0) > 1e-12 else 1.0
+        out[fid] = FuseSwitching(
+            fid,
+            x.peak_current * k,
+            None if x.pulse_i2t is None else x.pulse_i2t * k * k,
+            x.model + f"; scaled × {k:.3f} to the largest continuous current",
+        )
+    return out
+
+
 # ---------------------------------------------------------------- relays
 
 
@@ -231,6 +250,8 @@ class Ratings:
     relays: dict[str, RelayPickup | None]
     #: the far-end shorts at the smallest fault current (longest clearing; see analysis.worst)
     far_end_worst: dict[tuple[str, str], FarEndShort | str] = field(default_factory=dict)
+    #: each fuse's peak current at the largest continuous current (see :func:`fuse_switching_scaled`)
+    fuses_worst: dict[str, FuseSwitching] = field(default_factory=dict)
 
 
 def ratings(
@@ -241,9 +262,11 @@ def ratings(
     sw: SwitchingResult | None,
     hot: CornerResult,
     far_end_smallest: dict[str, float] | None = None,
+    largest_current: dict[str, float] | None = None,
 ) -> Ratings:
     """Every rating figure of a drawing (see the module docstring); ``far_end_smallest`` (protected
-    cable id -> A) gives the far-end shorts at the smallest fault current as well."""
+    cable id -> A) gives the far-end shorts at the smallest fault current as well, ``largest_current``
+    (element id -> A) each fuse's peak current at the largest continuous current."""
     cables = {c.id: c for c in d.of_kind(Cable)}
     rate = {cid: cable_rating(c) for cid, c in cables.items()}
     over: dict[tuple[str, str], Overload | str] = {}
@@ -256,11 +279,13 @@ def ratings(
                 short[(f.id, cid)] = far_end_short(f, cables[cid], far_end_fault.get(cid, 0.0))
                 if far_end_smallest is not None:
                     short_min[(f.id, cid)] = far_end_short(f, cables[cid], far_end_smallest.get(cid, 0.0))
+    fs = fuse_switching(d.of_kind(Fuse), duty, sw)
     return Ratings(
         rate,
         over,
         short,
-        fuse_switching(d.of_kind(Fuse), duty, sw),
+        fs,
         {r.id: relay_pickup(r, hot) for r in d.of_kind(Relay)},
         short_min,
+        fuse_switching_scaled(fs, duty, largest_current) if largest_current is not None else {},
     )

@@ -82,7 +82,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         duty_state,
         switched_stages(d),
         unfused_feed_cables(d),
-        ratings(d, protected, far_end, duty, sw, corners["hot"], worst.smallest_fault.far_end),
+        ratings(d, protected, far_end, duty, sw, corners["hot"], worst.smallest_fault.far_end, worst.largest_current),
         sw,
         analyse_field(d, corners, nets["cold"]),
         descent,

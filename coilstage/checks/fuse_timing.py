@@ -28,6 +28,8 @@ ABYC_DISTANCES = (0.178, 1.02, 1.83)
 
 
 def _nuisance(a: Analysis) -> list[Verdict]:
+    """Each fuse's peak current against its must-not-open gate, decided at the largest continuous
+    current (coils at the low end of their resistance tolerance, bus at the regulator's highest end)."""
     out = []
     for f in a.drawing.of_kind(Fuse):
         g = fuse_gates(f)
@@ -38,32 +40,40 @@ def _nuisance(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        i_max = a.ratings.fuses[f.id].peak_current
-        carry = f.rating * tables.fuse_rerating(f.zone_temperature)
-        m = i_max / carry
-        t_min = g.t_min(m)
-        ok = math.isinf(t_min)
-        first = g.points[0][0]
-        note = (
-            f"highest current {i_max:.1f} A over the switch-on, the sequence and continuous cold duty = {m:.2f} x the "
-            f"{carry:.1f} A rerated rating ({g.source})"
-        )
-        note += "; below the must-not-open gate" if ok else f"; it may open after {t_min:.3g} s"
-        out.append(
-            Verdict(
-                NUISANCE.id,
-                f.id,
-                Status.PASS if ok else Status.FAIL,
-                i_max,
-                first * carry,
-                "A",
-                ceiling(i_max, first * carry),
-                NUISANCE.clause,
-                note,
-                "cold",
-            )
-        )
+        nominal = _nuisance_at(f, g, a.ratings.fuses[f.id].peak_current, "cold", "")
+        w = a.ratings.fuses_worst.get(f.id)
+        if a.worst is None or w is None:
+            out.append(nominal)
+            continue
+        worst = _nuisance_at(f, g, w.peak_current, "largest current", " scaled to the largest continuous current")
+        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+        out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
+
+
+def _nuisance_at(f: Fuse, g, i_max: float, corner: str, how: str) -> Verdict:
+    carry = f.rating * tables.fuse_rerating(f.zone_temperature)
+    m = i_max / carry
+    t_min = g.t_min(m)
+    ok = math.isinf(t_min)
+    first = g.points[0][0]
+    note = (
+        f"highest current {i_max:.1f} A over the switch-on, the sequence and continuous cold duty{how} = {m:.2f} x "
+        f"the {carry:.1f} A rerated rating ({g.source})"
+    )
+    note += "; below the must-not-open gate" if ok else f"; it may open after {t_min:.3g} s"
+    return Verdict(
+        NUISANCE.id,
+        f.id,
+        Status.PASS if ok else Status.FAIL,
+        i_max,
+        first * carry,
+        "A",
+        ceiling(i_max, first * carry),
+        NUISANCE.clause,
+        note,
+        corner,
+    )
 
 
 def _cable_overload(a: Analysis) -> list[Verdict]:

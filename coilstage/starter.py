@@ -60,6 +60,10 @@ class _System:
     relay_coil: str
     suppression: str
     suppression_note: str
+    cca: str = "1000 A"  # cold-cranking current of one 12 V block (invented)
+    isc: str = "3 kA"  # rated short-circuit current (invented)
+    compensation: str = "-20 mV/K"  # the shipped nominal gradient for this system
+    rint_high: str = "15 mohm"  # internal resistance cold and half discharged (invented)
 
 
 _SYSTEMS = {
@@ -123,7 +127,7 @@ _SYSTEMS = {
         "160 A",
         "single-bolt",
         "58 V",
-        "2 kA",
+        "5 kA",
         "60000 A^2*s",
         "rating_12v",
         "150 A",
@@ -134,6 +138,10 @@ _SYSTEMS = {
         '{ kind = "diode", forward_voltage = "0.9 V", peak_current = "200 A", reverse_voltage = "200 V", '
         'energy_rating = "20 J" }',
         "a freewheel diode across the coils: no arc at the contact, but the field decays slowly",
+        cca="800 A",
+        isc="2 kA",
+        compensation="-10 mV/K",
+        rint_high="12 mohm",
     ),
 }
 
@@ -151,6 +159,16 @@ _MAIN = {
 }
 
 
+#: (system, stages) -> battery internal resistance, capacity and a high resistance in service, where a
+#: retarder this large needs a stiffer battery bank than the system's usual one: the smallest fault
+#: current (a half-charged, cold, aged battery) must still clear the main fuse in time
+_BANK = {
+    (24, 5): ("6 mohm", "340 A*h", "10 mohm"),
+    (24, 6): ("6 mohm", "340 A*h", "10 mohm"),
+    (12, 2): ("4 mohm", "245 A*h", "7 mohm"),
+}
+
+
 def starter_text(system: int = 24, stages: int = 4) -> str:
     """The starter drawing's TOML text for a ``system`` [V] bus and ``stages`` coil stages."""
     if system not in _SYSTEMS:
@@ -159,6 +177,8 @@ def starter_text(system: int = 24, stages: int = 4) -> str:
         raise ValueError(f"stages: {STAGES[system].start} to {STAGES[system].stop - 1} for a {system} V system")
     s = _SYSTEMS[system]
     main_type, main_rating, main_size = _MAIN[system][stages]
+    rint, capacity, rint_high = _BANK.get((system, stages), (s.rint, s.capacity, s.rint_high))
+    bank = "; a battery bank sized for this retarder" if (system, stages) in _BANK else ""
     main_length = "4 m" if system == 24 else "2.5 m"  # a 12 V feed must be short: its drop is a share of 12 V
     positions = "\n\n".join(
         f'[[switching.positions]]\nname = "{k}"  # position {k} of the hand control\n'
@@ -193,12 +213,17 @@ code = "{s.code}"  # ISO 16750-2 supply code ({s.code_range}); or give [supply.l
 base_load = "{s.base_load}"  # the rest of the vehicle while braking, a constant current (invented)
 negative = "B-"  # the battery negative node; the reference of the network (optional)
 chassis = "B-"  # where a short to the body lands (optional; default: the negative node)
+# load_dump_suppression = "not known"  # central load-dump suppression at the alternator: yes/no (optional)
 
 [supply.battery]
 emf = "{s.emf}"  # open-circuit voltage used in the hot corner (invented)
-internal_resistance = "{s.rint}"  # the battery's internal resistance (invented)
+internal_resistance = "{rint}"  # the battery's internal resistance (invented{bank})
 node = "B+"  # the battery positive node (optional; default "B+")
-capacity = "{s.capacity}"  # rated capacity, for the charge drawn over the duty (optional; invented)
+capacity = "{capacity}"  # rated capacity, for the charge drawn over the duty (optional; invented)
+# chemistry = "flooded"  # "flooded", "agm" or "gel": its open-circuit voltage line and Peukert exponent (optional)
+# cold_cranking_current = "{s.cca}"  # rated cold-cranking current from the label (optional; invented)
+# short_circuit_current = "{s.isc}"  # the maker's rated short-circuit current (optional; invented)
+# peukert = 1.25  # Peukert exponent for the usable charge (optional; default by chemistry)
 
 [supply.alternator]  # (optional: without it the battery alone feeds the bus)
 setpoint = "{s.setpoint}"  # regulator set-point (invented)
@@ -211,6 +236,8 @@ limit_rated = "{s.rated}"  # output current limit at rated speed (invented)
 [environment]
 ambient_min = "-30 degC"  # lowest surrounding temperature: the cold corner (invented)
 ambient_max = "40 degC"  # highest surrounding temperature (invented)
+# rotor_zone_rise = "40 K"  # the rotors' heating of the coils' zone while retarding (optional; default 40 K)
+# rotor_zone_time_constant = "10 min"  # how fast that rise comes and goes (optional; default 10 min)
 
 [environment.zones]  # named places on the vehicle with their highest temperature (invented)
 chassis_rail = "60 degC"  # along the frame rails, where the battery box and cables run
@@ -229,6 +256,20 @@ conductor_mass = "{s.conductor_mass}"  # copper of one coil: its heat capacity (
 iron_mass = "{s.iron_mass}"  # pole and yoke iron heated with the coil (optional; invented)
 iron_share = "50 %"  # the share of that iron's heat capacity that counts (optional)
 zone = "retarder"  # the coil's surroundings: a zone above
+# resistance_tolerance = "5 %"  # ± on this coil type's resistance (optional; default [tolerances] coil_resistance)
+# inductance_tolerance = "20 %"  # ± on its inductance (optional; default [tolerances] coil_inductance)
+
+[tolerances]  # (optional table) for the worst cases and the sweep; each one left out: the shipped default
+# coil_resistance = "5 %"  # ± on every coil's resistance (default ±5 %)
+# coil_inductance = "20 %"  # ± on every coil's inductance (default ±20 %)
+# cable_length = {{ low = "0 %", high = "10 %" }}  # as routed over as drawn; or "0.3 m" (default 0 to +10 %)
+# regulator_setpoint = "{s.tolerance}"  # ± of the set-point in V or % (the same as [supply.alternator] tolerance)
+# regulator_compensation = "{s.compensation}"  # set-point change per kelvin of the regulator (default {s.compensation})
+# fault_resistance = "5 mohm"  # the fault's own resistance for the smallest fault current (default 5 mohm)
+# battery_state_of_charge = ["50 %", "100 %"]  # the battery's charge in service (default 50 % to 100 %)
+# battery_resistance = ["{rint}", "{rint_high}"]  # in service, lowest to highest (default: derived)
+# alternator_hot_derating = "25 %"  # output lost when the alternator is hot (default 15 % to 35 %)
+# distribution = "uniform"  # how the sweep draws the values above: "uniform" or "normal"
 
 [corners.hot]  # the hot corner (optional table)
 alternator = "idle"  # the alternator at its idle output: "idle", "rated" or "off"
@@ -279,6 +320,17 @@ zone = "chassis_rail"
 """
     ]
     for k in range(1, stages + 1):
+        coil_note = (
+            '# the coil table may add: suppression = "diode" (across the coil: "none", "diode", "diode_zener", '
+            '"resistor", "varistor"), fuse = "5 A" (its feed fuse), wire_size = "1 mm^2" (its wire) (optional)\n'
+            if k == 1
+            else ""
+        )
+        length_note = (
+            '# length_tolerance = "0.2 m"  # this cable\'s own length tolerance, in m or % (optional)\n'
+            if k == 1
+            else ""
+        )
         branch_length = (2.0 + 0.3 * (k - 1)) if system == 24 else (1.0 + 0.2 * (k - 1))
         return_length = (1.2 if system == 24 else 0.8) + 0.2 * (k - 1)
         out.append(
@@ -307,7 +359,7 @@ to = "K{k}.87"  # DIN 72552 terminal 87
 derating = "80 % @ 85 degC"  # share of the rating left at that temperature (invented datasheet)
 voltage_rating = "{s.relay_voltage}"  # highest switching voltage (invented datasheet)
 coil = {s.relay_coil}  # the contactor's coil, for the pick-up check (invented)
-resistance = "0.5 mohm"  # contact resistance (optional; invented)
+{coil_note}resistance = "0.5 mohm"  # contact resistance (optional; invented)
 zone = "retarder_box"
 
 [[harness]]
@@ -317,7 +369,7 @@ from = "K{k}.87"
 to = "S{k}+"
 size = "{s.branch_size}"
 length = "{branch_length:.1f} m"  # (invented)
-insulation = "C"
+{length_note}insulation = "C"
 zone = "chassis_rail"
 
 [[harness]]
@@ -342,10 +394,33 @@ insulation = "C"
 zone = "chassis_rail"
 """
         )
+    out.append(_JOINT_EXAMPLE)
     return _align("".join(out))
 
 
+#: a commented joint: uncommented, it sits between the ground stud and the main return
+_JOINT_EXAMPLE = """
+# ---------------------------------------------------------------- a joint (optional element)
+# A lug, stud, splice, connector or fuse holder as an element of its own. To use it, remove the
+# leading "# " of the lines below and start W-RET at "GSTUD-LUG" instead of "GSTUD".
+# [[harness]]
+# id = "J-RET"
+# kind = "joint"
+# joint = "lug"  # "lug", "stud", "splice", "connector" or "fuse_holder"
+# from = "GSTUD"
+# to = "GSTUD-LUG"
+# resistance = "0.05 mohm"  # (default for a lug: 0.05 mohm, a sound new ring lug on a stud; invented)
+# rating = "250 A"  # continuous current at rated_ambient (invented datasheet)
+# rated_ambient = "30 degC"  # the temperature the rating applies at (default 23 degC)
+# derating = "80 % @ 85 degC"  # share of the rating left at that temperature (invented datasheet)
+# zone = "chassis_rail"  # where it sits
+# conductor_range = ["70 mm^2", "95 mm^2"]  # the conductors the lug takes (invented datasheet)
+# cable = "W-RET"  # the cable the lug terminates
+"""
+
 _COMMENTED = re.compile(r"^(\S.*?\S)\s{2,}(# .*)$")
+#: a key left commented out for the reader to take up: ``# key = value  # comment``
+_COMMENTED_KEY = re.compile(r"^# [A-Za-z_][\w.]* = ")
 #: the column the comments of the starter line up at
 COMMENT_COLUMN = 48
 
@@ -355,7 +430,7 @@ def _align(text: str) -> str:
     out = []
     for line in text.splitlines():
         m = _COMMENTED.match(line)
-        if m and not line.startswith("#"):
+        if m and (not line.startswith("#") or _COMMENTED_KEY.match(line)):
             left, comment = m.groups()
             line = f"{left:<{COMMENT_COLUMN - 1}} {comment}" if len(left) < COMMENT_COLUMN - 1 else f"{left}  {comment}"
         out.append(line)

@@ -244,3 +244,76 @@ def test_every_bad_joint_value_at_once():
     got = problems(_joint('joint = "bolt"\nresistance = "-1 mohm"\nrating = "x"\ncable = "W9"'))
     for key in ("joint", "resistance", "rating"):
         assert any(p.startswith(f"harness[11] (J1).{key}") for p in got), (key, got)
+
+
+# ---------------------------------------------------------------- the starter's commented keys
+
+_STARTER_KEYS = (
+    "load_dump_suppression",
+    "chemistry",
+    "cold_cranking_current",
+    "short_circuit_current",
+    "peukert",
+    "rotor_zone_rise",
+    "rotor_zone_time_constant",
+    "resistance_tolerance",
+    "inductance_tolerance",
+    "coil_resistance",
+    "coil_inductance",
+    "cable_length",
+    "regulator_setpoint",
+    "regulator_compensation",
+    "fault_resistance",
+    "battery_state_of_charge",
+    "battery_resistance",
+    "alternator_hot_derating",
+    "distribution",
+    "length_tolerance",
+)
+
+
+def _uncommented_starter(system: int) -> str:
+    import re
+
+    from coilstage.starter import starter_text
+
+    text = starter_text(system, 2)
+    keys = "|".join(_STARTER_KEYS)
+    text = re.sub(rf"(?m)^# (({keys}) = )", r"\1", text)
+    at = text.index("# ---------------------------------------------------------------- a joint")
+    head, joint = text[:at], text[at:]
+    joint = re.sub(r"(?m)^# (\[\[harness\]\]|[a-z_]+ = )", r"\1", joint)
+    head = re.sub(r'(id = "W-RET"\n[^\n]*\n)from = "GSTUD"', r'\1from = "GSTUD-LUG"', head)
+    return head + joint
+
+
+@pytest.mark.parametrize("system", [24, 12])
+def test_the_starters_commented_keys_load_when_taken_up(system):
+    """Every optional key the starter shows commented out loads as written once its '# ' is removed,
+    and is read: the starter's examples are valid drawing text."""
+    text = _uncommented_starter(system)
+    for key in _STARTER_KEYS:
+        assert f"\n{key} = " in text, key
+    d = _d(text)
+    b = d.supply.battery
+    assert b.chemistry == "flooded" and b.peukert == 1.25 and b.cranking_current > 0 and b.short_circuit_current > 0
+    assert d.supply.load_dump_suppression == "not known"
+    assert d.environment.rotor_zone_rise == 40.0 and d.environment.rotor_zone_time_constant == 600.0
+    comp = "supply.alternator.compensation_24v" if system == 24 else "supply.alternator.compensation_12v"
+    for key in (
+        "coils.RC.resistance_tolerance",
+        "coils.RC.inductance_tolerance",
+        "coils.*.resistance_tolerance",
+        "coils.*.inductance_tolerance",
+        "tolerances.cable_length",
+        "supply.alternator.tolerance",
+        comp,
+        "tolerances.fault_resistance",
+        "supply.battery.state_of_charge",
+        "supply.battery.internal_resistance",
+        "supply.alternator.hot_derating",
+        "cables.W1.length_tolerance",
+    ):
+        assert key in d.tolerances, key
+    j = next(e for e in d.elements if e.id == "J-RET")
+    assert isinstance(j, Joint) and j.joint_kind == "lug" and j.cable == "W-RET" and j.rating == 250.0

@@ -450,7 +450,7 @@ class Model:
         net = self.net
         n = x.shape[0]
         r = self.resistances(x, self.ambient(x))
-        g = 1.0 / r
+        g = np.divide(1.0, r, out=np.zeros_like(r), where=r > 0)  # a 0 Ω part is a 0 V source instead
         s_count = len(self.stages)
         states = [np.ones(s_count, dtype=bool)]
         if s_count > 1:

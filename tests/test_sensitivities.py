@@ -1,0 +1,213 @@
+"""Sensitivities of the steady-state margins and the worst corner of the declared tolerances.
+
+* The central-difference gradients (through params.evaluate) against the exact adjoint derivative of
+  the same network, assembled from the scalar path's rows (Circuit.network_rows and the MNA stamps),
+  with the adjoint solve of physics.sensitivity (Director and Rohrer 1969). Step: 1e-4 of each
+  parameter's range (STEP 1e-3). The margins are linear solves, smooth within a state of the sources,
+  so the truncation error O(h²) is ~1e-8 relative; the round-off of a solve is about cond(A)·ε ≈
+  1.4e5 × 2.2e-16 ≈ 3e-11 of the margin (0.2 mΩ fuses beside ohm coils), over h; 1e-6 relative leaves
+  room for both and still catches a wrong sign, term or scale.
+* The worst corner found by the search from the sensitivity signs against every corner enumerated
+  here with itertools.product, on the coach with only six parameters left with a range.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import itertools
+
+import numpy as np
+import pytest
+
+from coilstage.analysis.circuit import Circuit, SourceState
+from coilstage.analysis.params import evaluate, model, parameters
+from coilstage.analysis.run import analyse
+from coilstage.analysis.sensitivities import analyse_sensitivities, gradients
+from coilstage.checks import run_checks
+from coilstage.drawing.load import load_drawing
+from coilstage.drawing.schema import Cable, Stage, ToleranceSpec
+from coilstage.physics.network import Branches, mna_matrix
+from coilstage.physics.sensitivity import adjoint_sensitivities
+
+COACH = "configs/coach-24v-4stage.toml"
+
+
+@pytest.fixture(scope="module")
+def coach():
+    return load_drawing(COACH)
+
+
+def _duty_network(d):
+    """The duty network at the nominal parameters (ambient 25 °C, regulator at its 25 °C reference:
+    bus held at the set-point), all stages on, as a dense MNA matrix, with the rows of its
+    resistors."""
+    t = {e.id: 25.0 for e in d.elements if isinstance(e, (Cable, Stage))}
+    alt = d.supply.alternator
+    src = SourceState(alt.setpoint, alt.setpoint, alt.limit_rated, hold_bus=alt.setpoint)
+    c = Circuit(d)
+    res, vs, _owner, cur, resistance, _on, _fixed = c.network_rows(t, src, None)
+    n_nodes = len(c.nodes)
+    rr, cc, vv, rhs, n = mna_matrix(n_nodes, Branches.of(res), Branches.of(vs), Branches.of(cur))
+    a = np.zeros((len(rhs), len(rhs)))
+    np.add.at(a, (rr, cc), vv)
+    return c, a, rhs, n, resistance
+
+
+def _stamp(size, i, j, g):
+    m = np.zeros((size, size))
+    for p, q, v in ((i, i, g), (j, j, g), (i, j, -g), (j, i, -g)):
+        if p > 0 and q > 0:
+            m[p - 1, q - 1] += v
+    return m
+
+
+def test_gradients_against_the_exact_adjoint(coach):
+    """F-MAIN continuous margin m = (L − I)/L with I = g_F (v_a − v_b) and the S4 voltage drop margin,
+    against coil resistance and cable length: a relative tolerance p scales R by (1 + p), so
+    ∂g/∂p = −g at p = 0, and ∂A/∂p is the sum of −g stamps of the elements it applies to."""
+    d = coach
+    c, a, rhs, _n, resistance = _duty_network(d)
+    x = np.linalg.solve(a, rhs)
+    size = len(rhs)
+    ps = parameters(d)
+    k = {p.key: j for j, p in enumerate(ps)}
+    d_a = []
+    for key in ("coils.RC4.resistance_tolerance", "tolerances.cable_length"):
+        m = np.zeros((size, size))
+        for eid in ps[k[key]].elements:
+            e = c.index[eid]
+            m += _stamp(size, c.nodes[e.a], c.nodes[e.b], -1.0 / resistance[eid])
+        d_a.append(m)
+    d_a = np.array(d_a)
+    nd = c.nodes
+    # read-out 1: the F-MAIN current (its conductance does not depend on either parameter)
+    f = c.index["F-MAIN"]
+    g_f = 1.0 / resistance["F-MAIN"]
+    c1 = np.zeros(size)
+    c1[nd[f.a] - 1] += g_f
+    c1[nd[f.b] - 1] -= g_f
+    # read-out 2: the drop to S4, V(B+) − (V(S4+) − V(S4−))
+    s4 = c.index["S4"]
+    c2 = np.zeros(size)
+    c2[nd[d.supply.battery.node] - 1] += 1.0
+    c2[nd[s4.a] - 1] -= 1.0
+    c2[nd[s4.b] - 1] += 1.0
+    dy = adjoint_sensitivities(a, x, np.column_stack([c1, c2]), d_a)  # (P=2, K=2)
+    limit = model(d).limits.fuse_limit["F-MAIN"]
+    exact_fuse = -dy[:, 0] / limit
+    exact_drop = -dy[:, 1] / d.supply.system_voltage / d.limits.drop_pass
+    g, m0 = gradients(d)
+    i_fuse = float(c1 @ x)
+    assert m0[("fuse.continuous", "F-MAIN")] == pytest.approx((limit - i_fuse) / limit, rel=1e-9)
+    got_fuse = g[("fuse.continuous", "F-MAIN")][[k["coils.RC4.resistance_tolerance"], k["tolerances.cable_length"]]]
+    got_drop = g[("circuit.voltage_drop", "S4")][[k["coils.RC4.resistance_tolerance"], k["tolerances.cable_length"]]]
+    assert got_fuse == pytest.approx(exact_fuse, rel=1e-6)
+    assert got_drop == pytest.approx(exact_drop, rel=1e-6)
+    # signs as a fitter expects: lower coil resistance, more current, less fuse margin
+    assert exact_fuse[0] > 0 and exact_drop[1] < 0
+
+
+def test_bus_gradient_against_the_battery_by_hand(coach):
+    """With the alternator current-limited, the rest of the network seen from the battery terminals is
+    a Norton equivalent (J, G) (Thévenin/Norton theorem), so V = (E/R + J)/(1/R + G) and
+    ∂V/∂R = −I_bat/(1 + R·G); the battery resistance scales with its age factor, ∂R/∂age = R/age. G is
+    read off two scalar solves with the bus held at two voltages (linear: the difference is exact)."""
+    d = coach
+    ps = parameters(d)
+    k = {p.key: j for j, p in enumerate(ps)}
+    m = model(d)
+    x0 = np.array([p.nominal for p in ps])
+    emf, rb = m.battery_low(x0[None])
+    alt = d.supply.alternator
+    db = dataclasses.replace(
+        d,
+        supply=dataclasses.replace(d.supply, battery=dataclasses.replace(d.supply.battery, internal_resistance=rb[0])),
+    )
+    limit = m.hot_limit * (1 - x0[k["supply.alternator.hot_derating"]])
+    sol = Circuit(db).solve(m.hot_t, SourceState(emf[0], alt.setpoint, limit))
+    assert sol.alternator_mode == "current-limited"
+    held = [
+        Circuit(db).solve(m.hot_t, SourceState(u, alt.setpoint, limit, hold_bus=u)).battery_current
+        for u in (20.0, 24.0)
+    ]
+    g_rest = (held[1] - held[0]) / 4.0
+    assert g_rest > 0
+    dv = -sol.battery_current / (1 + rb[0] * g_rest) * rb[0] / x0[k["supply.battery.age_factor"]]
+    g, _ = gradients(d)
+    assert g[("supply.bus_minimum", "bus")][k["supply.battery.age_factor"]] == pytest.approx(
+        dv / d.supply.v_min, rel=1e-6
+    )
+
+
+def _few(d):
+    """The coach with six parameters left with a range (the others stated without tolerance)."""
+    fixed = (
+        "tolerances.cable_length",
+        "supply.alternator.tolerance",
+        "supply.alternator.compensation_24v",
+        "supply.alternator.regulator_temperature",
+        "supply.alternator.cold_excess",
+        "supply.battery.surface_charge_per_cell",
+        "tolerances.fault_resistance",
+    )
+    tol = {
+        key: ToleranceSpec(0.0 if "cable" in key or "excess" in key or "fault" in key else v, v)
+        for key, v in (
+            (
+                key,
+                {
+                    "supply.alternator.compensation_24v": -0.02,
+                    "supply.alternator.regulator_temperature": 25.0,
+                    "supply.battery.surface_charge_per_cell": 2.2,
+                }.get(key, 0.0),
+            )
+            for key in fixed
+        )
+    }
+    return dataclasses.replace(d, tolerances=tol)
+
+
+def test_worst_corner_against_every_corner(coach):
+    d = _few(coach)
+    ps = parameters(d)
+    assert len(ps) == 6, [p.key for p in ps]
+    lo = np.array([p.low for p in ps])
+    hi = np.array([p.high for p in ps])
+    corners = np.array([np.where(np.array(bits) == 1, hi, lo) for bits in itertools.product((0, 1), repeat=len(ps))])
+    brute = evaluate(d, corners)
+    found = analyse_sensitivities(d, exhaustive=False)
+    assert len(found) > 20
+    for key, vs in found.items():
+        worst = float(np.min(brute[key].margin))
+        assert vs.corner.margin == pytest.approx(worst, rel=1e-9, abs=1e-12), key
+        j = int(np.argmin(brute[key].margin))
+        assert vs.corner.status == brute[key].status[j], key
+    full = analyse_sensitivities(d, exhaustive=True)
+    assert all(full[k].corner.margin == pytest.approx(found[k].corner.margin, abs=1e-12) for k in found)
+
+
+def test_search_finds_the_cold_regulator_through_its_compensation(coach):
+    """At nominal the regulator stands at its 25 °C reference, where the compensation has no effect
+    (∂U/∂g = θ − 25 K = 0); the search still moves it once the regulator is cold, since the worst
+    continuous duty is the coldest regulator with the steepest compensation (U = U_set + g (θ − 25))."""
+    found = analyse_sensitivities(coach, [("fuse.continuous", "F-MAIN")])
+    c = found[("fuse.continuous", "F-MAIN")].corner
+    assert c.values["supply.alternator.regulator_temperature"] == -30.0
+    assert c.values["supply.alternator.compensation_24v"] == pytest.approx(-0.035)
+    assert c.values["coils.RC4.resistance_tolerance"] == -0.05
+    words = [e.parameter.key for e in found[("fuse.continuous", "F-MAIN")].effects]
+    assert "supply.alternator.compensation_24v" in words
+
+
+def test_run_checks_attaches_sensitivities_largest_first(coach):
+    verdicts = run_checks(analyse(coach, switching=False, heating=False))
+    v = next(v for v in verdicts if v.rule == "fuse.continuous" and v.subject == "F-MAIN")
+    s = v.worst.sensitivities
+    assert len(s) >= 3
+    assert [abs(x.margin_change) for x in s] == sorted((abs(x.margin_change) for x in s), reverse=True)
+    coil = next(x for x in s if x.parameter == "coils.RC4.resistance_tolerance")
+    assert coil.change == -0.05 and coil.margin_change < 0
+    assert any(w.startswith("worst corner of the declared tolerances") for w in v.worst.deciding)
+    # a verdict not decided at a worst case carries none
+    plain = next(v for v in verdicts if v.rule == "cable.temperature_class")
+    assert plain.worst is None

@@ -5,15 +5,18 @@ from __future__ import annotations
 import math
 
 from coilstage import tables
-from coilstage.analysis.load_dump import stage_dumps
+from coilstage.analysis.load_dump import applicable_test, contact_dump, stage_dumps
+from coilstage.analysis.relay_coil import arc_at_contact, coil_at, coil_circuit, hot_temperature, opening
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
+    _RANK,
     Rule,
     Status,
     Verdict,
     at_least,
     at_most,
     ceiling,
+    decided_at_worst,
     floor,
     not_checked,
 )
@@ -24,17 +27,120 @@ from coilstage.drawing.schema import Relay, Stage
 PICKUP_MARGIN = 1.10
 
 
-def category_for(tau: float, power: float) -> str | None:
-    """The least demanding DC utilization category whose time constant covers ``tau`` [s] for a load
-    of ``power`` [W], or None when the load lies outside every category."""
+def category_for(tau: float, rated_power: float | None = None) -> str | None:
+    """The least demanding DC utilization category whose time constant covers ``tau`` [s], or None
+    when the load lies outside every category. DC-13's limit rests on the contact's rating
+    ``rated_power`` = U_e·I_e [W] (IEC 60947-5-1), never on the load's power; without a rating its
+    widest envelope (the 300 ms cap) classifies the load."""
     for row in tables.utilization_categories():
-        if tau <= _tau_limit(row["category"], power):
+        if tau <= _tau_limit(row["category"], rated_power):
             return row["category"]
     return None
 
 
+def _highest_bus(a: Analysis) -> tuple[float, str]:
+    """The highest voltage the bus reaches in service [V] and what sets it: the supply code's maximum
+    (ISO 16750-2) or the regulator's highest end (set-point, tolerance and cold compensation), the
+    higher of the two."""
+    d = a.drawing
+    code = max(d.supply.v_max, d.corners.limit_bus)
+    reg = a.worst.bus_high if a.worst is not None else None
+    if reg is not None and reg > code:
+        return reg, f"the regulator's highest end {reg:.2f} V (above the supply maximum {code:g} V)"
+    extra = f"; the regulator's highest end is {reg:.2f} V" if reg is not None else ""
+    return code, f"the supply maximum {code:g} V{extra}"
+
+
 def _stage_map(a: Analysis) -> dict[str, Stage]:
     return {s.id: s for s in a.drawing.stages}
+
+
+def _worst(vs: list[Verdict]) -> Verdict:
+    """The harshest of some verdicts (the smallest margin among equals)."""
+    return max(vs, key=lambda v: (_RANK[v.status], -(v.margin if v.margin is not None else 0.0)))
+
+
+def _contact_voltages(a: Analysis, relay: Relay, ids: list[str]) -> list[Verdict]:
+    """The relay's switching voltage rating against what its opening contact sees: in service, the
+    highest bus plus the stage suppressor's voltage (a diode its forward drop, a zener, TVS or varistor
+    its clamp); during the load dump that applies (ISO 16750-2 Test A without central suppression or
+    where the drawing does not say, Test B with it), the pulse's peak loaded by the stage plus the same
+    suppressor voltage. One function for ``relay.voltage_rating`` and ``relay.inductive_break``, so the
+    two never disagree on one relay."""
+    u_hi, hi_words = _highest_bus(a)
+    rating = relay.voltage_rating
+    stages = _stage_map(a)
+    bare = [s for s in ids if stages[s].suppression.kind == "none"]
+    cold = a.switching.stages["cold"] if a.switching is not None else {}
+    u_sup = max((cold[s].decay.u_suppressor_peak for s in ids if s not in bare and s in cold), default=0.0)
+    kinds = ", ".join(sorted({stages[s].suppression.kind for s in ids if s not in bare})) or "none"
+    central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
+    test, assumed = applicable_test(central)
+    if not ids:
+        what, cv = f"it switches no stage: the contact sees the highest bus, {hi_words}", u_hi
+    elif bare:
+        what = (
+            f"unsuppressed stage(s) {', '.join(bare)}: the contact breaks by an arc (judged by "
+            f"relay.inductive_break) against the highest bus, {hi_words}"
+        )
+        cv = u_hi
+    else:
+        what = f"{hi_words} plus the {kinds} suppressor's {u_sup:.1f} V across the opening contact"
+        cv = u_hi + u_sup
+    out = []
+    if rating is None:
+        out.append(
+            not_checked(RELAY_VOLTAGE, relay.id, f"no voltage_rating given (needs >= {cv:.1f} V: {what})", "V", "limit")
+        )
+    else:
+        out.append(at_least(RELAY_VOLTAGE, relay.id, rating, cv, "V", f"switching voltage rating: {what}", "limit"))
+    if not ids or a.switching is None:
+        return out
+    i_b = sum(cold[s].i_break for s in ids)
+    r_load = a.corners["cold"].bus_voltage / i_b if i_b > 0 else float("inf")
+    dm = contact_dump(a.drawing, ids[0], r_load, 0.0 if bare else u_sup, central)
+    said = (
+        "central load-dump suppression not stated: Test A (unclamped) assumed"
+        if assumed
+        else ("no central load-dump suppression: Test A (unclamped)" if test == "A" else "central suppression: Test B")
+    )
+    dnote = (
+        f"opening during the load dump ({said}, ISO 16750-2 4.6.4): the bus peaks at {dm.bus_peak:.1f} V "
+        f"({dm.pairing}, loaded by the {r_load:.3f} ohm of {', '.join(ids)})"
+        + (" and the contact arcs (no suppressor)" if bare else f", plus the suppressor's {u_sup:.1f} V")
+    )
+    subject = f"{relay.id} load dump"
+    if rating is None:
+        out.append(
+            not_checked(
+                RELAY_VOLTAGE, subject, f"no voltage_rating (needs >= {dm.contact_voltage:.1f} V: {dnote})", "V"
+            )
+        )
+    else:
+        out.append(at_least(RELAY_VOLTAGE, subject, rating, dm.contact_voltage, "V", dnote, f"load dump {test}"))
+    return out
+
+
+def _relay_voltage(a: Analysis) -> list[Verdict]:
+    return [v for r in a.drawing.of_kind(Relay) for v in _contact_voltages(a, r, a.switched.get(r.id, []))]
+
+
+def _slowed_opening(a: Analysis, relay: Relay, i_break: float, stored: float) -> tuple[bool, str]:
+    """Whether the relay's own coil suppression slows its opening, and the arc figures at its contact
+    (duration and energy at the normal and the slowed release) for the break's note."""
+    op = opening(relay)
+    if not op.slowed or op.factor[1] <= 1.5:
+        return False, ""
+    u_hi, _ = _highest_bus(a)
+    normal = arc_at_contact(i_break, u_hi, stored, op.release)
+    slow = arc_at_contact(i_break, u_hi, stored, op.release_slowest)
+    return True, (
+        f"the relay's own coil {op.suppression} slows its opening {op.factor[0]:g}-{op.factor[1]:g} x "
+        f"({op.factor_source}): the contacts part in up to {slow.duration * 1e3:.0f} ms instead of "
+        f"{normal.duration * 1e3:.0f} ms ({op.release_source}), so the arc at the contact lasts that long and takes "
+        f"about {slow.energy:.0f} J instead of {normal.energy:.0f} J (U_bus x I x t + 1/2 L I^2; an estimate, "
+        "common practice); a category or break rating is tested with the maker's normal opening"
+    )
 
 
 def _relay_breaking(a: Analysis) -> list[Verdict]:
@@ -44,48 +150,56 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
     stages = _stage_map(a)
     cold = a.switching.stages["cold"]
     order = [row["category"] for row in tables.utilization_categories()]
-    switched = a.switched
-    r_cold = {st.id: st.resistance for st in a.corners["cold"].stages}
     for relay in a.drawing.of_kind(Relay):
-        ids = switched.get(relay.id, [])
+        ids = a.switched.get(relay.id, [])
         if not ids:
             out.append(not_checked(RELAY_BREAKING, relay.id, "this relay switches no stage", "ms"))
             continue
         i_break = sum(cold[s].i_break for s in ids)
+        stored = sum(cold[s].stored_energy for s in ids)
         bare = [s for s in ids if stages[s].suppression.kind == "none"]
+        slowed, slow_note = _slowed_opening(a, relay, i_break, stored)
         if not bare:
-            cv = max(cold[s].contact_voltage for s in ids)
-            if relay.voltage_rating is None:
-                out.append(
-                    not_checked(
-                        RELAY_BREAKING,
-                        relay.id,
-                        f"suppressed stage(s) {', '.join(ids)}: the contact sees {cv:.1f} V "
-                        "(highest bus + suppressor) but the relay has no voltage_rating",
-                        "V",
-                        "cold",
-                    )
+            vs = _contact_voltages(a, relay, ids)
+            w = _worst(vs)
+            kinds = ", ".join(stages[s].suppression.kind for s in ids)
+            note = (
+                f"suppressed at the coil ({kinds}): the current commutates into the suppressor, a DC-1-like "
+                f"break of {i_break:.1f} A; the opening contact's voltage is relay.voltage_rating's: "
+                + "; ".join(
+                    f"{v.subject}: {v.status.value}"
+                    + ("" if v.value is None else f", rated {v.value:g} V against {v.limit:.1f} V")
+                    for v in vs
                 )
+            )
+            if slowed:
+                note += (
+                    f"; {slow_note.split(': the contacts')[0]}: the contact arcs until the current has moved into "
+                    "the suppressor, a little longer with the slow opening"
+                )
+            if w.status is Status.NOT_CHECKED:
+                out.append(not_checked(RELAY_BREAKING, relay.id, note + f" ({w.note})", "V", w.corner))
                 continue
             out.append(
-                at_most(
-                    RELAY_BREAKING,
+                Verdict(
+                    RELAY_BREAKING.id,
                     relay.id,
-                    cv,
-                    relay.voltage_rating,
+                    w.status,
+                    w.value,
+                    w.limit,
                     "V",
-                    f"suppressed at the coil ({', '.join(stages[s].suppression.kind for s in ids)}): the "
-                    f"current commutates into the suppressor, a DC-1-like break of {i_break:.1f} A; the "
-                    "opening contact sees the highest bus plus the suppressor voltage",
-                    "cold",
+                    w.margin,
+                    RELAY_BREAKING.clause,
+                    note,
+                    w.corner,
                 )
             )
             continue
         tau = max(cold[s].tau for s in bare)
-        power = sum(cold[s].i_break ** 2 * r_cold[s] for s in bare)
-        need = category_for(tau, power)
+        need = category_for(tau)
         rated = set(relay.categories)
         ib = relay.inductive_break
+        fig = None
         if ib is not None and ib[1] >= tau and ib[0] >= i_break:
             status, note = (
                 Status.PASS,
@@ -105,22 +219,6 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
         elif any(order.index(c) >= order.index(need) for c in rated if c in order):
             covering = [c for c in rated if c in order and order.index(c) >= order.index(need)]
             status, note, fig = _category_rating(a, relay, covering, need, tau, i_break)
-            if fig is not None:
-                out.append(
-                    Verdict(
-                        RELAY_BREAKING.id,
-                        relay.id,
-                        status,
-                        fig[0],
-                        fig[1],
-                        fig[2],
-                        ceiling(fig[0], fig[1]),
-                        RELAY_BREAKING.clause,
-                        note,
-                        "cold",
-                    )
-                )
-                continue
         else:
             status, note = (
                 Status.WARN,
@@ -129,15 +227,38 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
                     "drawing gives no such rating"
                 ),
             )
+        if slowed:
+            note += "; " + slow_note
+            if status is Status.PASS:
+                status = Status.WARN
+                note += ": the rating does not cover the slowed break; fit suppression at the stage's coil, or a "
+                note += "diode with a zener on the relay's own coil"
+        if fig is not None:
+            out.append(
+                Verdict(
+                    RELAY_BREAKING.id,
+                    relay.id,
+                    status,
+                    fig[0],
+                    fig[1],
+                    fig[2],
+                    ceiling(fig[0], fig[1]),
+                    RELAY_BREAKING.clause,
+                    note,
+                    "cold",
+                )
+            )
+            continue
+        lim = None if need is None else _tau_limit(need)
         out.append(
             Verdict(
                 RELAY_BREAKING.id,
                 relay.id,
                 status,
                 tau * 1e3,
-                None if need is None else _tau_limit(need, power) * 1e3,
+                None if lim is None else lim * 1e3,
                 "ms",
-                None if need is None else ceiling(tau, _tau_limit(need, power)),
+                None if lim is None else ceiling(tau, lim),
                 RELAY_BREAKING.clause,
                 note,
                 "cold",
@@ -152,7 +273,7 @@ def _test_tau(category: str, u_e: float, i_e: float, frequent: bool) -> float:
     DC-13's T0.95 = 6·P ms (P = U_e·I_e, capped at 300 ms) over ln 20 (IEC 60947-5-1)."""
     rows = [r for r in tables.shipped("utilization_tests_iec60947.toml")["table"]["rows"] if r["category"] == category]
     if not rows:
-        return _tau_limit(category, u_e * i_e)
+        return _tau_limit(category, u_e * i_e)  # P = U_e·I_e of the rating (IEC 60947-5-1)
     pick = [r for r in rows if r["test"] in (("durability", "normal") if frequent else ("make_break", "normal"))]
     row = (pick or rows)[0]
     if "t95_per_watt" in row:
@@ -165,7 +286,7 @@ def _category_rating(a: Analysis, relay: Relay, covering: list[str], need: str, 
     a category covers the load only within its rated current I_e at its voltage U_e (IEC 60947-4-1 / -5-1),
     and, for a contact switched more often than the make/break test's operations, within the durability
     test's time constant."""
-    u_max = a.drawing.corners.limit_bus
+    u_max, _words = _highest_bus(a)
     cycles = a.drawing.switching.cycles
     frequent = cycles > int(tables.shipped("utilization_tests_iec60947.toml")["table"]["frequent_switching_above"])
     ratings = [x for x in relay.category_ratings if x[0] in covering]
@@ -216,12 +337,13 @@ def _category_rating(a: Analysis, relay: Relay, covering: list[str], need: str, 
     )
 
 
-def _tau_limit(category: str, power: float) -> float:
-    """Largest L/R of a category [s]; DC-13's is min(2·P ms, 100 ms) with P in W (T0.95 = 3τ ≤ 6·P ms)."""
+def _tau_limit(category: str, rated_power: float | None = None) -> float:
+    """Largest L/R of a category [s]; DC-13's is min(6 ms/W·U_e·I_e, 300 ms)/ln 20 for a contact rated
+    ``rated_power`` = U_e·I_e [W] (IEC 60947-5-1: T0.95 = 6·P ms, P = U_e·I_e), its cap without one."""
     row = next(r for r in tables.utilization_categories() if r["category"] == category)
     t = row["tau_max"]
-    if "tau_per_watt" in row:
-        t = min(t, row["tau_per_watt"] * power)
+    if "tau_per_rated_watt" in row and rated_power is not None:
+        t = min(t, row["tau_per_rated_watt"] * rated_power)
     return t
 
 
@@ -405,36 +527,124 @@ def _release(a: Analysis) -> list[Verdict]:
     return out
 
 
+def _pickup_at(r: Relay, bus: float, where: str, corner: str) -> Verdict:
+    """The pick-up verdict of ``r`` fed from ``bus`` [V], its coil hot (zone + own rise)."""
+    c = r.coil
+    assert c is not None
+    x = coil_at(r, bus, hot_temperature(r))
+    limit = PICKUP_MARGIN * x.need
+    status = Status.PASS if x.have >= limit else Status.WARN if x.have >= x.need else Status.FAIL
+    return Verdict(
+        PICKUP.id,
+        r.id,
+        status,
+        x.have,
+        limit,
+        "V",
+        floor(x.have, limit),
+        PICKUP.clause,
+        f"coil at {x.temperature:g} °C ({x.resistance:.1f} ohm) needs {x.need:.2f} V to operate "
+        f"({c.operate_voltage:g} V at {c.t_ref:g} °C, same ampere-turns); it gets {x.have:.2f} V from the "
+        f"{bus:.2f} V {where} through {c.feed_resistance:g} ohm; pass at >= 110 % of need",
+        corner,
+    )
+
+
 def _pickup(a: Analysis) -> list[Verdict]:
+    """Pick-up decided at the lowest bus (a half-discharged cold battery, the alternator hot and derated,
+    the coil hot), with the hot corner's figure as nominal."""
     out = []
-    hot = a.corners["hot"]
     for r in a.drawing.of_kind(Relay):
-        c = r.coil
-        if c is None:
+        if r.coil is None:
             out.append(
                 not_checked(
                     PICKUP, r.id, "no coil data for this relay (coil = { voltage, resistance, operate_voltage })", "V"
                 )
             )
             continue
-        pick = a.ratings.relays[r.id]
-        t, need, have = pick.temperature, pick.need, pick.have
-        limit = PICKUP_MARGIN * need
-        status = Status.PASS if have >= limit else Status.WARN if have >= need else Status.FAIL
+        nominal = _pickup_at(r, a.corners["hot"].bus_voltage, "hot-corner bus", "hot")
+        if a.worst is None:
+            out.append(nominal)
+            continue
+        low = a.worst.lowest_bus
+        worst = _pickup_at(r, low.bus_voltage, "lowest bus", "lowest bus")
+        out.append(decided_at_worst(worst, nominal, "lowest bus", tuple(f"{k} {v}" for k, v in low.words)))
+    return out
+
+
+#: A coil's feed fuse should carry the coil's cold current with room: above 75 % of its rating the
+#: fuse ages (the continuous-load rule of fuse.continuous; common practice).
+COIL_FUSE_LOAD = 0.75
+#: The next fuse size up may exceed the wire's ampacity by at most 150 % (ABYC E-11).
+NEXT_SIZE_UP = 1.5
+
+
+def _coil_circuit(a: Analysis) -> list[Verdict]:
+    """A relay's own coil circuit: the coil's cold current against its feed fuse, the fuse against its
+    wire's ampacity."""
+    out = []
+    bus, hi_words = _highest_bus(a)
+    for r in a.drawing.of_kind(Relay):
+        if r.coil is None:
+            continue
+        cc = coil_circuit(a.drawing, r, bus)
+        i = cc.cold.current
+        base = (
+            f"coil at the lowest ambient {cc.cold.temperature:g} °C ({cc.cold.resistance:.1f} ohm) on {hi_words} "
+            f"through {r.coil.feed_resistance:g} ohm draws {i:.3f} A"
+        )
+        if cc.fuse_rating is None:
+            out.append(
+                not_checked(COIL_CIRCUIT, f"{r.id} coil fuse", base + "; no coil fuse_rating in the drawing", "A")
+            )
+        else:
+            lim = COIL_FUSE_LOAD * cc.fuse_rating
+            status = Status.PASS if i <= lim else Status.WARN if i <= cc.fuse_rating else Status.FAIL
+            out.append(
+                Verdict(
+                    COIL_CIRCUIT.id,
+                    f"{r.id} coil fuse",
+                    status,
+                    i,
+                    lim,
+                    "A",
+                    ceiling(i, lim),
+                    COIL_CIRCUIT.clause,
+                    f"{base}; its {cc.fuse_rating:g} A feed fuse carries at most 75 % continuously (common practice); "
+                    "above its rating it opens and the stage drops out",
+                    "cold",
+                )
+            )
+        subject = f"{r.id} coil wire"
+        if cc.wire_area is None or cc.fuse_rating is None:
+            missing = " and ".join(
+                x for x, v in (("wire_area", cc.wire_area), ("fuse_rating", cc.fuse_rating)) if v is None
+            )
+            out.append(not_checked(COIL_CIRCUIT, subject, f"no coil {missing} in the drawing", "A"))
+            continue
+        if isinstance(cc.wire_ampacity, str) or cc.wire_ampacity is None:
+            out.append(
+                not_checked(COIL_CIRCUIT, subject, f"{cc.wire_area * 1e6:g} mm² coil wire: {cc.wire_ampacity}", "A")
+            )
+            continue
+        amp = cc.wire_ampacity.value
+        f = cc.fuse_rating
+        status = Status.PASS if f <= amp else Status.WARN if f <= NEXT_SIZE_UP * amp else Status.FAIL
         out.append(
             Verdict(
-                PICKUP.id,
-                r.id,
+                COIL_CIRCUIT.id,
+                subject,
                 status,
-                have,
-                limit,
-                "V",
-                floor(have, limit),
-                PICKUP.clause,
-                f"coil at {t:g} °C needs {need:.2f} V to operate ({c.operate_voltage:g} V at {c.t_ref:g} °C, "
-                f"same ampere-turns); it gets {have:.2f} V from the {hot.bus_voltage:.2f} V hot-corner bus "
-                f"through {c.feed_resistance:g} Ω; pass at >= 110 % of need",
-                "hot",
+                f,
+                amp,
+                "A",
+                ceiling(f, amp),
+                COIL_CIRCUIT.clause,
+                f"the {f:g} A coil fuse against the {cc.wire_area * 1e6:g} mm² coil wire's {amp:.1f} A ampacity "
+                f"(33 CFR 183.425 table, {cc.wire_class_max:g} °C insulation assumed (ISO 6722 class "
+                f"{cc.wire_class}), {r.zone_temperature:g} °C zone); the next size up is allowed to 150 % (ABYC E-11) "
+                "as a warning",
+                "limit",
             )
         )
     return out
@@ -443,8 +653,10 @@ def _pickup(a: Analysis) -> list[Verdict]:
 RELAY_BREAKING = Rule(
     "relay.inductive_break",
     "Relay contact can break its stage: DC category by L/R, or contact voltage when suppressed",
-    "IEC 60947-4-1 DC-1/DC-3/DC-5 and IEC 60947-5-1 DC-13 (6 x P ms, 300 ms cap): a category covers a break only "
-    "within its rated current I_e at U_e and its test L/R (durability L/R above 50 switchings)",
+    "IEC 60947-4-1 DC-1/DC-3/DC-5 and IEC 60947-5-1 DC-13 (T0.95 = 6 x P ms with P = U_e x I_e of the rating, "
+    "300 ms cap): a category covers a break only within its rated current I_e at U_e and its test L/R "
+    "(durability L/R above 50 switchings); a diode on the relay's own coil slows its opening 5-10 x (relay "
+    "maker's application note) and lengthens the arc",
     _relay_breaking,
     ("transient.LinearRL", "transient.clamp_decay"),
 )
@@ -465,10 +677,28 @@ RELEASE = Rule(
 PICKUP = Rule(
     "relay.coil_pickup",
     "Relay coil gets enough voltage to operate at the lowest bus, hot",
-    "Maker's must-operate voltage scaled by coil R(T) (copper, IEC 60028 alpha); "
-    "110 % margin (transport-agency relay rules)",
+    "Maker's must-operate voltage scaled by coil R(T) (copper, IEC 60028 alpha) at the lowest bus (battery "
+    "half-discharged and cold, alternator hot and derated); 110 % margin (transport-agency relay rules)",
     _pickup,
     ("conductor.resistance_at_temperature",),
+)
+RELAY_VOLTAGE = Rule(
+    "relay.voltage_rating",
+    "Relay switching voltage rating at least what the opening contact sees, in service and in a load dump",
+    "Highest bus (ISO 16750-2 supply maximum or the regulator's highest end) plus the stage suppressor's "
+    "voltage; ISO 16750-2 4.6.4 load dump (Test A without central suppression or not stated, Test B with it) "
+    "loaded by the stage; maker's rated switching voltage",
+    _relay_voltage,
+    ("load_dump.loaded_bus_peak", "load_dump.opening_contact_voltage", "transient.clamp_decay"),
+)
+COIL_CIRCUIT = Rule(
+    "relay.coil_circuit",
+    "Relay coil feed: the coil's cold current within its fuse, the fuse within its wire's ampacity",
+    "Coil current at the lowest ambient and highest bus (copper R(T), IEC 60028); 75 % continuous load on the "
+    "fuse (common practice); fuse not above the wire's ampacity (33 CFR 183.425 table; ABYC E-11 150 % "
+    "next size up as a warning)",
+    _coil_circuit,
+    ("conductor.resistance_at_temperature", "conductor.ampacity_ambient_factor"),
 )
 LOAD_DUMP = Rule(
     "suppressor.load_dump",
@@ -478,4 +708,4 @@ LOAD_DUMP = Rule(
     _load_dump,
     ("load_dump.worst_clamp_energy", "load_dump.clamp_energy"),
 )
-RULES = [RELAY_BREAKING, SUPPRESSOR, LOAD_DUMP, RELEASE, PICKUP]
+RULES = [RELAY_BREAKING, RELAY_VOLTAGE, SUPPRESSOR, LOAD_DUMP, RELEASE, PICKUP, COIL_CIRCUIT]

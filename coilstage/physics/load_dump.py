@@ -172,3 +172,20 @@ def opening_contact_voltage(u_bus: float, u_suppressor: float) -> float:
     Without suppression the sum is unbounded: the contact arcs.
     """
     return u_bus + u_suppressor
+
+
+def loaded_bus_peak(u_s: float, r_i: float, r_load: float, central_clamp: float | None = None) -> float:
+    r"""Peak supply voltage of the load-dump pulse with a resistive load on it [V].
+
+    .. math:: U = U_s\,\frac{R_{load}}{R_{load} + R_i}, \quad \text{then at most } U_s^* \text{ (Test B)}
+
+    The ISO 16750-2 generator is a source behind its internal resistance R_i; a load R_load on the bus
+    (the stage whose contact opens, with its feed: the smallest load the contact can see, so the
+    highest voltage) divides the open-circuit peak ``u_s``. Parameters: u_s [V], r_i [Ω], r_load [Ω],
+    central_clamp U_s* [V] or None (Test A). Valid for the peak (the rise t_r left out).
+
+    >>> round(loaded_bus_peak(151.0, 1.0, 0.53), 2)   # 24 V Test A, lower pairing, a 0.53 Ω stage
+    52.31
+    """
+    u = u_s * r_load / (r_load + r_i)
+    return u if central_clamp is None else min(u, central_clamp)

@@ -317,3 +317,30 @@ def test_the_starters_commented_keys_load_when_taken_up(system):
         assert key in d.tolerances, key
     j = next(e for e in d.elements if e.id == "J-RET")
     assert isinstance(j, Joint) and j.joint_kind == "lug" and j.cable == "W-RET" and j.rating == 250.0
+
+
+def test_a_joint_from_the_parts_library_names_its_part():
+    """The invented workshop library's LUG-M10-95 (0.05 mohm) gives the joint its resistance, and the
+    joint keeps the reference it came from; a rating typed beside it is the drawing's."""
+    from .conftest import CONFIGS
+
+    lib = CONFIGS / "parts" / "workshop-parts.toml"
+    text = _joint(f'joint = "lug"\npart = "{lib.as_posix()}#LUG-M10-95"\nrating = "300 A"\nzone = "chassis"')
+    d = parse_drawing(text, "t.toml", CONFIGS)
+    j = next(e for e in d.elements if e.id == "J1")
+    assert j.resistance == pytest.approx(0.05e-3) and j.rating == 300.0
+    assert j.part.endswith("workshop-parts.toml#LUG-M10-95")
+    assert not any(a.startswith("harness[11] (J1).resistance not given") for a in d.assumptions)
+
+
+def test_an_empty_tolerances_table_changes_nothing():
+    """A drawing with an empty [tolerances] table gives the same drawing and the same verdicts as
+    without it (the starter ships one with its keys commented out)."""
+    from coilstage import check
+
+    text = COACH.read_text(encoding="utf-8")
+    plain = parse_drawing(text, "c.toml", COACH.parent)
+    empty = parse_drawing(text + "\n[tolerances]\n", "c.toml", COACH.parent)
+    assert empty == plain
+    got = [(v.rule, v.subject, v.status, v.value) for v in check(empty)[1]]
+    assert got == [(v.rule, v.subject, v.status, v.value) for v in check(plain)[1]]

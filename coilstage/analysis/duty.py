@@ -7,7 +7,16 @@ Dormand–Prince pair between the steps of the duty. Leaving the switch-on trans
 the heat a little (the current is below its final value for ≈3τ): the safe side.
 
 States: one temperature per stage (its coils are alike and share their current), one per cable
-(its conductor), and the charge drawn from the battery.
+(its conductor), the charge drawn from the battery, the charge it has used weighted for its
+discharge rate (Peukert's law), and the temperature of each stage's surroundings, which the rotors
+heat while any stage is on (the rotor-heated coil zone, a first-order node:
+dTz/dt = (Tz0 + rise·[any stage on] − Tz)/τ).
+
+The whole duty runs under one stated set of conditions (:func:`duty_conditions`): the alternator
+hot (its output less the hot derating), the battery from the duty's starting charge, its EMF and
+resistance following its state of charge and temperature, the coils' surroundings rising with the
+retardation. A state that cannot physically go on is held where it stops: a conductor or winding at
+its metal's melting point, the battery at flat; the times they get there are found on the solution.
 """
 
 from __future__ import annotations
@@ -22,8 +31,21 @@ from coilstage import tables
 from coilstage.analysis.materials import metal
 from coilstage.analysis.quasistatic import QuasiStatic, stage_thermal_resistance
 from coilstage.drawing.schema import Cable, Drawing, Duty, Fuse, Relay
-from coilstage.physics.numeric import integrate_dopri
-from coilstage.physics.thermal import cable_loss_coefficient, winding_heating_rate
+from coilstage.physics.battery import (
+    FLOODED_OCV_LINE,
+    capacity_temperature_factor,
+    internal_resistance,
+    open_circuit_voltage,
+    peukert_usable_charge,
+)
+from coilstage.physics.network import Branches, Factorized, mna_matrix
+from coilstage.physics.numeric import bracketed_root, integrate_dopri
+from coilstage.physics.thermal import (
+    MELTING_POINT,
+    cable_loss_coefficient,
+    rotor_zone_rate,
+    winding_heating_rate,
+)
 
 
 @dataclass(frozen=True)
@@ -75,6 +97,163 @@ def cable_thermal(c: Cable) -> CableThermal | None:
     return CableThermal(c.id, qc * c.area, grid, shed, src)
 
 
+# ---------------------------------------------------------------- conditions of the duty
+
+
+@dataclass(frozen=True)
+class DutyConditions:
+    """The one set of conditions a duty runs under, with the words a report states them in."""
+
+    zone_rise: float  # rise of the coils' surroundings while any stage is on [K]
+    zone_time_constant: float  # [s]
+    alternator_derating: float  # share of the alternator's output lost when hot [–]
+    battery_temperature: float  # [°C]
+    cells: int  # lead-acid cells in series
+    ocv_offset: float  # shift of the flooded OCV line per cell (AGM/gel) [V]
+    peukert: float  # Peukert exponent [–]
+    rated_time: float  # the capacity's rated discharge time [s]
+    capacity: float | None  # usable at the battery temperature, at the rated rate [C]
+    resistance_coefficient: float  # b in R = R25·exp(b(25 − T)) [1/K]
+    empty_factor: float  # R(flat)/R(full) [–]
+    words: tuple[tuple[str, str], ...] = ()
+    assumptions: tuple[str, ...] = ()
+
+
+def _tolerance_rows(d: Drawing) -> dict[str, dict]:
+    """The tolerance rows by key: the drawing's own overlaid on the shipped defaults where that module
+    exists, else the shipped defaults (coilstage/data/tolerance_defaults.toml)."""
+    try:
+        from coilstage.analysis.tolerances import effective  # type: ignore[import-not-found]
+    except ImportError:
+        return {r["key"]: r for r in tables.shipped("tolerance_defaults.toml")["table"]["rows"]}
+    return effective(d)
+
+
+def rotor_zone_defaults() -> dict[str, dict]:
+    """The shipped rotor-zone rows by key (coilstage/data/rotor_zone_defaults.toml)."""
+    return {r["key"]: r for r in tables.shipped("rotor_zone_defaults.toml")["table"]["rows"]}
+
+
+def duty_conditions(d: Drawing) -> DutyConditions:
+    """The conditions every duty of drawing ``d`` runs under, each default named with its source.
+
+    One vehicle state for the whole descent (and for the continuous run the time to the limit is read
+    from): a long retardation on a hot day, so the alternator is hot (its output less the nominal hot
+    derating), the battery is at the highest ambient, the coils' surroundings rise with the rotor heat,
+    and the battery starts at the duty's stated charge."""
+    env = d.environment
+    rows = rotor_zone_defaults()
+    assumptions: list[str] = []
+    rise, tau = env.rotor_zone_rise, env.rotor_zone_time_constant
+    for key, value, unit in (
+        ("environment.rotor_zone_rise", rise, "K"),
+        ("environment.rotor_zone_time_constant", tau, "s"),
+    ):
+        if value is None:
+            row = rows[key]
+            assumptions.append(
+                f"duty default {key} = {float(row['value']):g} {unit}: {row['quantity']}; source: {row['source']}; "
+                f"status: {row['status']}"
+            )
+    rise = float(rows["environment.rotor_zone_rise"]["value"]) if rise is None else rise
+    tau = float(rows["environment.rotor_zone_time_constant"]["value"]) if tau is None else tau
+    tol = _tolerance_rows(d)
+    b = d.supply.battery
+    alt = d.supply.alternator
+    derate = float(tol["supply.alternator.hot_derating"]["nominal"]) if alt else 0.0
+    if alt:
+        r = tol["supply.alternator.hot_derating"]
+        assumptions.append(
+            f"duty: alternator output less {derate:.0%} when hot ({r['quantity']}; source: {r['source']}; "
+            f"status: {r['status']})"
+        )
+    cells = 12 if d.supply.system_voltage == 24 else 6
+    bat_data = tables.shipped("battery_lead_acid.toml")
+    offset = 0.0
+    if b.chemistry in ("agm", "gel"):
+        offset = float(bat_data["agm"]["full_per_cell"]) - FLOODED_OCV_LINE[-1][1]
+    if b.peukert is not None:
+        k, k_words = b.peukert, "stated"
+    elif b.chemistry == "flooded":
+        r = tol["supply.battery.peukert_exponent"]
+        k = float(r["nominal"])
+        k_words = f"default for a flooded battery ({r['source']}; {r['status']})"
+        assumptions.append(f"duty default supply.battery.peukert = {k:g}: {k_words}")
+    else:
+        r = next(x for x in bat_data["peukert_exponents"] if x["type"].lower() == b.chemistry)
+        k = float(r["high"])
+        k_words = f"default for {b.chemistry}: the high end of {r['low']:g}-{r['high']:g} ({r['status']})"
+        assumptions.append(f"duty default supply.battery.peukert = {k:g}: {k_words}")
+    t_bat = env.ambient_max
+    # a warm battery is not credited with more than its rating (the safe side)
+    share = min(
+        1.0, float(capacity_temperature_factor(t_bat, float(bat_data["capacity_temperature"]["coefficient_long"])))
+    )
+    cap = b.capacity * share if b.capacity else None
+    # C20 (20 h to 10.5 V at 25 °C, EN 50342-1); the table's key sits inside its last array row as written
+    rated_h = bat_data.get("rated_time_h", bat_data["peukert_exponents"][-1].get("rated_time_h", 20.0))
+    rated_time = float(rated_h) * 3600.0
+    coef = float(tol["supply.battery.resistance_temperature_coefficient"]["nominal"])
+    empty = float(tol["supply.battery.resistance_empty_factor"]["nominal"])
+    words = [
+        ("coils' surroundings", f"stated zone + {rise:g} K while any stage is on, time constant {tau / 60:g} min"),
+        ("alternator", "absent" if alt is None else f"output less {derate:.0%} (hot)"),
+        (
+            "battery",
+            f"from {d.duty.start_soc:.0%} charge, at {t_bat:g} °C (highest ambient); EMF from its open-circuit "
+            f"line ({b.chemistry}), resistance rising as it empties (×{empty:g} flat); Peukert k = {k:g}"
+            if d.duty is not None
+            else "as stated",
+        ),
+    ]
+    if b.capacity:
+        assumptions.append(
+            f"duty: battery at {t_bat:g} °C (the highest ambient): capacity × {share:g} (IEC 60896-11 line "
+            f"{bat_data['capacity_temperature']['coefficient_long']:g}/K, capped at its rating; "
+            f"{bat_data['capacity_temperature']['status']})"
+        )
+    return DutyConditions(
+        rise, tau, derate, t_bat, cells, offset, k, rated_time, cap, coef, empty, tuple(words), tuple(assumptions)
+    )
+
+
+class _DutyNetwork(QuasiStatic):
+    """The quasi-static network with the battery's EMF and resistance set per solve (they follow its
+    state of charge): the stated resistance stamped by the base class is cancelled by its negative and
+    the present one stamped beside the variable elements."""
+
+    def __init__(self, d: Drawing, battery_emf: float, alt_setpoint: float | None):
+        super().__init__(d, battery_emf, alt_setpoint)
+        self._rb0 = self.rb
+        self._rhs_base = self.rhs0.copy()
+        self._rhs_base[self.bat - 1] -= battery_emf / self.rb
+        self._bat_rows = None
+
+    def set_battery(self, emf: float, resistance: float) -> None:
+        self.emf, self.rb = emf, resistance
+        rhs = self._rhs_base.copy()
+        rhs[self.bat - 1] += emf / resistance
+        self.rhs0 = rhs
+        if resistance == self._rb0:
+            self._bat_rows = None
+        else:
+            z = np.zeros(2, dtype=np.int64)
+            br = Branches(z, np.array([self.bat, self.bat], dtype=np.int64), np.array([-self._rb0, resistance]))
+            r, c, v, _rhs, _n = mna_matrix(self.n_nodes, br, self._none, self._none)
+            self._bat_rows = (r, c, v)
+
+    def _solver(self, g: np.ndarray, extra: float):
+        on = g > 0
+        ga, gb, gv = self.var_a[on], self.var_b[on], 1.0 / g[on]
+        if extra:
+            ga, gb, gv = np.append(ga, self.alt_node), np.append(gb, 0), np.append(gv, 1.0 / extra)
+        r, c, v, _rhs, _n = mna_matrix(self.n_nodes, Branches(ga, gb, gv), self._none, self._none)
+        parts = [(self.r0, self.c0, self.v0), (r, c, v)]
+        if self._bat_rows is not None:
+            parts.append(self._bat_rows)
+        return Factorized(*(np.concatenate(x) for x in zip(*parts, strict=True)), self.size).solve
+
+
 # ---------------------------------------------------------------- duty simulation
 
 
@@ -97,48 +276,102 @@ class DutyResult:
     modelled_stages: list[str] = field(default_factory=list)
     # (start [s], end [s], y' = f(t, y)) of each step of the profile: the crossing is found on these
     segments: list[tuple[float, float, object]] = field(default_factory=list, repr=False)
+    zone_temperature: np.ndarray | None = None  # (nt, n_stages) the coils' surroundings [°C]
+    state_of_charge: np.ndarray | None = None  # (nt,) rate-weighted, held at 0 once flat [–]; None: no capacity
+    battery_emf: np.ndarray | None = None  # [V]
+    battery_resistance: np.ndarray | None = None  # [Ω]
+    conditions: DutyConditions | None = None
+    states: np.ndarray | None = field(default=None, repr=False)  # (nt, n_state) the integrator's states
+    melting_point: dict[str, float] = field(default_factory=dict)  # element id -> its metal's [°C]
+    _crossings: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def assumptions(self) -> tuple[str, ...]:
+        return self.conditions.assumptions if self.conditions else ()
 
     def state(self, j: int) -> np.ndarray:
-        """The integrator's state at recorded point ``j``: cable and winding temperatures, charge."""
+        """The integrator's full state at recorded point ``j``."""
+        if self.states is not None:
+            return self.states[j]
         return np.concatenate([self.cable_temperature[j], self.stage_temperature[j], [self.charge_drawn[j]]])
 
-    def time_to(self, k: int, limit: float, tol: float = 1e-3) -> float:
-        """First time stage ``k``'s winding reaches ``limit`` [s] (inf: never within the duty).
+    def crossing(self, col: int, level: float, rising: bool = True, tol: float = 1e-3) -> float:
+        """First time state ``col`` reaches ``level`` [s] (rising or falling; inf: not within the duty).
 
         The crossing lies within one accepted step of the integrator; it is found on the solution
         itself, not on a straight line between recorded points: the step is integrated again from its
-        start to a trial end (Dormand–Prince, rtol 1e-10), and the trial end is bracketed by bisection
-        until the bracket is narrower than ``tol`` [s]."""
-        y = self.stage_temperature[:, k]
-        hit = np.nonzero(y >= limit)[0]
-        if len(hit) == 0:
+        start to a trial end (Dormand–Prince, rtol 1e-10), and the trial end is found by a bracketed
+        root search (Illinois) to ``tol`` [s]."""
+        key = (col, level, rising)
+        if key in self._crossings:
+            return self._crossings[key]
+        y = (
+            self.states[:, col]
+            if self.states is not None
+            else np.array([self.state(j)[col] for j in range(len(self.t))])
+        )
+        sgn = 1.0 if rising else -1.0
+        hit = np.nonzero(sgn * (y - level) >= 0)[0]
+        out = math.inf
+        if len(hit):
+            j = int(hit[0])
+            out = float(self.t[j])
+            if j > 0 and y[j] != y[j - 1]:
+                a, b = float(self.t[j - 1]), float(self.t[j])
+                seg = next((f for t0, t1, f in self.segments if t0 <= a and b <= t1), None)
+                if seg is None:  # no model kept: the recorded points are all there is
+                    out = float(np.interp(sgn * level, sgn * y[j - 1 : j + 1], self.t[j - 1 : j + 1]))
+                else:
+                    y0 = self.state(j - 1)
+
+                    def g(tt: float) -> float:
+                        if tt <= a:
+                            return float(y0[col] - level)
+                        _ts, ys = integrate_dopri(seg, a, tt, y0, rtol=1e-10, atol=1e-8, source="crossing time")
+                        return float(ys[-1][col] - level)
+
+                    gb = g(b)
+                    out = b if sgn * gb < 0 else bracketed_root(g, a, b, xtol=tol)
+        self._crossings[key] = out
+        return out
+
+    def time_to(self, k: int, limit: float, tol: float = 1e-3) -> float:
+        """First time stage ``k``'s winding reaches ``limit`` [s] (inf: never within the duty)."""
+        return self.crossing(len(self.cable_ids) + k, limit, True, tol)
+
+    def cable_time_to(self, k: int, limit: float, tol: float = 1e-3) -> float:
+        """First time cable ``k``'s conductor reaches ``limit`` [s] (inf: never within the duty)."""
+        return self.crossing(k, limit, True, tol)
+
+    @property
+    def soc_column(self) -> int:
+        return len(self.cable_ids) + len(self.stage_ids) + 1
+
+    def time_to_charge(self, soc: float, tol: float = 1e-3) -> float:
+        """First time the battery's state of charge falls to ``soc`` [s] (inf: not within the duty or no
+        capacity known). The state integrated is the rate-weighted charge used, so the level is the
+        charge used at that state of charge."""
+        if self.state_of_charge is None or self.conditions is None or not self.conditions.capacity:
             return math.inf
-        j = int(hit[0])
-        if j == 0 or y[j] == y[j - 1]:
-            return float(self.t[j])
-        a, b = float(self.t[j - 1]), float(self.t[j])
-        seg = next((f for t0, t1, f in self.segments if t0 <= a and b <= t1), None)
-        if seg is None:  # no model kept: the recorded points are all there is
-            return float(np.interp(limit, y[j - 1 : j + 1], self.t[j - 1 : j + 1]))
-        y0 = self.state(j - 1)
-        col = len(self.cable_ids) + k
-        t_lo, t_hi = a, b
-        while t_hi - t_lo > tol:
-            mid = 0.5 * (t_lo + t_hi)
-            _ts, ys = integrate_dopri(seg, a, mid, y0, rtol=1e-10, atol=1e-8, source="time to the limit")
-            if ys[-1][col] >= limit:
-                t_hi = mid
-            else:
-                t_lo = mid
-        return 0.5 * (t_lo + t_hi)
+        used = (self.duty.start_soc - soc) * self.conditions.capacity
+        return self.crossing(self.soc_column, used, True, tol)
 
 
-def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 1e-6) -> DutyResult:
-    """Run a duty profile from the surroundings' temperatures. ``progress(done, total)`` is called
-    after each step of the profile (seconds of duty simulated, of the total)."""
+def simulate(
+    d: Drawing,
+    duty: Duty | None = None,
+    progress=None,
+    rtol: float = 1e-6,
+    conditions: DutyConditions | None = None,
+) -> DutyResult:
+    """Run a duty profile from the surroundings' temperatures under ``conditions`` (default
+    :func:`duty_conditions` of the drawing). ``progress(done, total)`` is called after each step of
+    the profile (seconds of duty simulated, of the total)."""
     duty = duty or d.duty
+    cond = conditions or duty_conditions(d)
     alt = d.supply.alternator
-    net = QuasiStatic(d, d.corners.hot_battery_emf, alt.setpoint if alt else None)
+    b = d.supply.battery
+    net = _DutyNetwork(d, d.corners.hot_battery_emf, alt.setpoint if alt else None)
     n_s, n_c = len(net.stages), len(net.cables)
     models = {c.id: cable_thermal(c) for c in net.cables}
     cab_c = np.array([models[c.id].c_per_m if models[c.id] else 1.0 for c in net.cables])
@@ -148,10 +381,15 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
     modelled = np.array([s.coil.has_thermal_model for s in net.stages])
     r20c = net.cable_r20 / np.array([c.length for c in net.cables]) if n_c else np.zeros(0)
     has_cab = np.array([models[c.id] is not None for c in net.cables], dtype=bool)
+    cab_melt = np.array([MELTING_POINT[c.material] for c in net.cables])
+    st_melt = np.array([MELTING_POINT[s.coil.metal] for s in net.stages])
     # every cable's shed heat tabulated on the same rise grid: one vectorised interpolation per call
     shed = np.array([models[c.id].shed if models[c.id] else np.zeros(len(RISE_GRID)) for c in net.cables])
     shed = shed.reshape(n_c, len(RISE_GRID))
     rows = np.arange(n_c)
+    cap = cond.capacity
+    start_soc = duty.start_soc
+    i_rated = b.capacity / cond.rated_time if b.capacity else 0.0
 
     def q_shed(tc: np.ndarray) -> np.ndarray:
         rise = np.clip(tc - cab_zone, 0.0, RISE_GRID[-1])
@@ -159,26 +397,61 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
         f = (rise - RISE_GRID[j]) / (RISE_GRID[j + 1] - RISE_GRID[j])
         return shed[rows, j] * (1 - f) + shed[rows, j + 1] * f
 
+    def soc_of(used: float) -> float:
+        return min(1.0, max(0.0, start_soc - used / cap))
+
+    def set_battery(used: float) -> None:
+        if not cap:  # no capacity: the stated EMF and resistance throughout
+            return
+        soc = soc_of(used)
+        emf = open_circuit_voltage(soc, cond.cells, offset_per_cell=cond.ocv_offset)
+        r = internal_resistance(
+            b.internal_resistance,
+            soc,
+            cond.battery_temperature,
+            temperature_coefficient=cond.resistance_coefficient,
+            empty_factor=cond.empty_factor,
+        )
+        net.set_battery(float(emf), float(r))
+
+    def rate_weight(i_bat: float) -> float:
+        """Charge used per charge drawn at this current: C_H / C_I (Peukert), 1 below the rated rate
+        and while charging (charge returned at full efficiency: the optimistic side, stated)."""
+        if not b.capacity or i_bat <= i_rated:
+            return 1.0
+        return b.capacity / float(peukert_usable_charge(i_bat, b.capacity, cond.rated_time, cond.peukert))
+
+    iz = n_c + n_s + 2  # first zone-temperature column
+
     def rhs_factory(on: np.ndarray, limit: float | None, rth: np.ndarray):
+        any_on = bool(np.any(on))
+
         def rhs(_t, y):
-            tc, ts = y[:n_c], y[n_c : n_c + n_s]
+            tc, ts, tz = y[:n_c], y[n_c : n_c + n_s], y[iz:]
+            set_battery(float(y[n_c + n_s + 1]))
             i_c, i_s, i_bat, _ia, _x = net.solve(tc, ts, on, limit)
             _rc, rs = net.resistances(tc, ts)
             p = i_s * i_s * rs
-            dts = np.where(modelled, winding_heating_rate(p, ts, st_zone, np.where(modelled, rth, 1.0), st_cap), 0.0)
+            dts = np.where(modelled, winding_heating_rate(p, ts, tz, np.where(modelled, rth, 1.0), st_cap), 0.0)
             q = i_c * i_c * r20c * (1 + net.cable_alpha * (tc - 20.0))
             dtc = np.where(has_cab, (q - q_shed(tc)) / cab_c, 0.0)
-            return np.concatenate([dtc, dts, [i_bat]])
+            # a conductor cannot heat past its melting point: it is held there (and would open)
+            dtc = np.where(tc >= cab_melt, np.minimum(dtc, 0.0), dtc)
+            dts = np.where(ts >= st_melt, np.minimum(dts, 0.0), dts)
+            dtz = rotor_zone_rate(tz, st_zone, cond.zone_rise, any_on, cond.zone_time_constant)
+            ib = float(i_bat)
+            return np.concatenate([dtc, dts, [ib, ib * rate_weight(ib)], dtz])
 
         return rhs
 
-    y = np.concatenate([cab_zone, st_zone, [0.0]])
+    y = np.concatenate([cab_zone, st_zone, [0.0, 0.0], st_zone])
     ts_all, ys_all, on_all, lim_all, segments = [], [], [], [], []
     t0 = 0.0
     total = duty.duration
+    hot = 1.0 - cond.alternator_derating
     for step in duty.steps:
         on = np.array([s.id in step.stages for s in net.stages], dtype=bool)
-        limit = (alt.limit_idle if step.engine == "idle" else alt.limit_rated) if alt else None
+        limit = hot * (alt.limit_idle if step.engine == "idle" else alt.limit_rated) if alt else None
         rth = np.array([stage_thermal_resistance(s, step.moving) for s in net.stages])
         f = rhs_factory(on, limit, rth)
         segments.append((t0, t0 + step.duration, f))
@@ -209,14 +482,21 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
     bus = np.zeros(len(t))
     ib = np.zeros(len(t))
     ia = np.zeros(len(t))
+    emf = np.zeros(len(t))
+    rb = np.zeros(len(t))
     dev: dict[str, list[float]] = {e.id: [] for e in d.elements if isinstance(e, (Fuse, Relay))}
     for k in range(len(t)):
+        set_battery(float(ymat[k, n_c + n_s + 1]))
         i_c, i_s, i_bat, i_alt, x = net.solve(ymat[k, :n_c], ymat[k, n_c : n_c + n_s], on_all[k], lim_all[k])
         cur_s[k], cur_c[k], ib[k], ia[k] = i_s, i_c, i_bat, i_alt
+        emf[k], rb[k] = net.emf, net.rb
         bus[k] = x[net.bat - 1]
         dc = net.device_currents(x)
         for eid in dev:
             dev[eid].append(dc.get(eid, 0.0))
+    soc = np.clip(start_soc - ymat[:, n_c + n_s + 1] / cap, 0.0, 1.0) if cap else None
+    melt = {c.id: float(MELTING_POINT[c.material]) for c in net.cables}
+    melt.update({s.id: float(MELTING_POINT[s.coil.metal]) for s in net.stages})
     return DutyResult(
         duty,
         t,
@@ -227,13 +507,20 @@ def simulate(d: Drawing, duty: Duty | None = None, progress=None, rtol: float = 
         bus,
         ib,
         ia,
-        ymat[:, -1],
+        ymat[:, n_c + n_s],
         {k: np.array(v) for k, v in dev.items()},
         [s.id for s in net.stages],
         [c.id for c in net.cables],
         {cid: (m.source if m else "no heat model: no ampacity in its zone") for cid, m in models.items()},
         [s.id for s in net.stages if s.coil.has_thermal_model],
         segments,
+        ymat[:, iz:],
+        soc,
+        emf,
+        rb,
+        cond,
+        ymat,
+        melt,
     )
 
 

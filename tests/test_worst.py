@@ -169,9 +169,10 @@ def test_tolerance_defaults_listed_once_under_assumptions(coach):
     assert "= -20 mV/K" in by_key["supply.alternator.compensation_24v"]
 
 
-@pytest.mark.parametrize(("rule", "subject"), [("cable.ampacity", "W1"), ("relay.contact_rating", "K1")])
+@pytest.mark.parametrize(("rule", "subject"), [("relay.contact_rating", "K1")])
 def test_ampacity_and_contact_duty_at_the_largest_current(coach, rule, subject):
-    """Cable ampacity and relay contact duty are decided at the largest continuous current (issue 10):
+    """Relay contact duty is decided at the largest continuous current (cable ampacity now in one
+    vehicle state over the ambient range, tests/test_worst_rules.py):
     coil R -5 % and the bus at the regulator's highest end, 28.2 + 0.3 + 0.020 V/K x 55 K = 29.6 V
     against the cold corner's 28.5 V. Hand estimate of the current ratio on the stage branch (Ohm's
     law, the coil dominating the branch): at most (29.6 / 28.5) / 0.95 = 1.093, less the shared feed's

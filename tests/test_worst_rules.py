@@ -140,3 +140,58 @@ def test_nuisance_opening_decided_at_the_largest_current(coach):
         # limit: first gate point (1.10 x, ISO 8820 gates from memory) x rating x rerating at its zone
         assert verdict.limit == pytest.approx(1.10 * f.rating * tables.fuse_rerating(f.zone_temperature))
         assert verdict.margin < verdict.worst.nominal_margin
+
+
+def _brute_force_ampacity(path: str, cid: str):
+    """Brute-force reference for the consistent-state sweep: for each ambient of the sweep, the drawing
+    itself is changed (dataclasses.replace) so its zones stand at their stated temperature less
+    (ambient_max − ambient), its cold corner is at that ambient with the bus the regulator's highest
+    end there (28.2 + 0.3 V + 20 mV/K below 25 °C for the coach, by hand: set-point, tolerance and the
+    shipped compensation default), its coils at −5 % (shipped tolerance default), and the nominal
+    analysis is run on it. Returns (ambient, margin) of every point."""
+    import dataclasses
+
+    from coilstage.drawing.schema import Cable, Stage
+
+    d = load_drawing(path)
+    alt = d.supply.alternator
+    g = 0.020 if d.supply.system_voltage == 24 else 0.010  # V/K, shipped compensation defaults (magnitude)
+    lo, hi = d.environment.ambient_min, d.environment.ambient_max
+    out = []
+    for t in [lo + (hi - lo) * k / 8 for k in range(9)]:
+        bus = alt.setpoint + alt.tolerance + g * max(25.0 - t, 0.0)
+        els = []
+        for e in d.elements:
+            if isinstance(e, Stage):
+                e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * 0.95))
+            elif isinstance(e, Cable):
+                e = dataclasses.replace(e, zone_temperature=e.zone_temperature - (hi - t))
+            els.append(e)
+        dd = dataclasses.replace(
+            d, elements=tuple(els), corners=dataclasses.replace(d.corners, cold_ambient=t, cold_bus=bus)
+        )
+        a = analyse(dd, switching=False, heating=False)
+        amp = a.ratings.cables[cid].ampacity.value
+        out.append((t, (amp - a.duty[cid]) / amp))
+    return out
+
+
+@pytest.mark.parametrize(("path", "cid"), [(COACH, "W1"), (COACH, "W-MAIN"), (COACH, "W-ALT"), (TRUCK, "W1")])
+def test_ampacity_in_one_vehicle_state_against_brute_force(path, cid, request):
+    # The old rule set the cold coil current against the hottest zone's derating (two states of the
+    # vehicle at once). Now: the worst ambient of the sweep, the same as the brute-force loop's.
+    a, v = request.getfixturevalue("coach" if path == COACH else "truck")
+    ref = _brute_force_ampacity(path, cid)
+    t_ref, m_ref = min(ref, key=lambda x: x[1])
+    verdict = v[("cable.ampacity", cid)]
+    # the alternator cable carries the alternator's fixed output in every state, so its nominal and
+    # worst sweeps tie (either may be kept); its worst ambient is the hottest, the others' the coldest
+    assert verdict.corner == "largest current" or cid == "W-ALT"
+    assert verdict.margin == pytest.approx(m_ref, rel=1e-6, abs=1e-9)
+    assert f"ambient {t_ref:g} °C" in verdict.note
+    assert t_ref == (40.0 if cid == "W-ALT" else a.drawing.environment.ambient_min)
+    sw = a.worst.duty_sweep
+    assert sw.ambients == pytest.approx([t for t, _ in ref])
+    # the old envelope's margin (cold current against the stated zone's ampacity) is not what decides
+    old = (a.ratings.cables[cid].ampacity.value - a.worst.largest_current[cid]) / a.ratings.cables[cid].ampacity.value
+    assert verdict.margin != pytest.approx(old, rel=1e-3) or cid == "W-ALT"

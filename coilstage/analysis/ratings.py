@@ -6,6 +6,7 @@ Each figure names the model that made it; the checks only compare.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 
@@ -252,6 +253,19 @@ class Ratings:
     far_end_worst: dict[tuple[str, str], FarEndShort | str] = field(default_factory=dict)
     #: each fuse's peak current at the largest continuous current (see :func:`fuse_switching_scaled`)
     fuses_worst: dict[str, FuseSwitching] = field(default_factory=dict)
+    #: each cable's rating at every ambient of the duty sweep, its zone following the ambient
+    #: (:func:`coilstage.analysis.worst.zone_at_ambient`)
+    cables_sweep: dict[str, tuple[CableRating, ...]] = field(default_factory=dict)
+
+
+def cable_ratings_over(cables: list[Cable], zones: dict[str, tuple[float, ...]]) -> dict[str, tuple[CableRating, ...]]:
+    """Each cable's rating with its zone at each of the temperatures ``zones[cable id]`` [°C] (one
+    evaluation per distinct cable and temperature)."""
+    out = {}
+    for c in cables:
+        if c.id in zones:
+            out[c.id] = tuple(cable_rating(dataclasses.replace(c, zone_temperature=z)) for z in zones[c.id])
+    return out
 
 
 def ratings(
@@ -263,10 +277,12 @@ def ratings(
     hot: CornerResult,
     far_end_smallest: dict[str, float] | None = None,
     largest_current: dict[str, float] | None = None,
+    sweep_zones: dict[str, tuple[float, ...]] | None = None,
 ) -> Ratings:
     """Every rating figure of a drawing (see the module docstring); ``far_end_smallest`` (protected
     cable id -> A) gives the far-end shorts at the smallest fault current as well, ``largest_current``
-    (element id -> A) each fuse's peak current at the largest continuous current."""
+    (element id -> A) each fuse's peak current at the largest continuous current, ``sweep_zones``
+    (cable id -> its zone's temperature at each ambient of the duty sweep) each cable's rating there."""
     cables = {c.id: c for c in d.of_kind(Cable)}
     rate = {cid: cable_rating(c) for cid, c in cables.items()}
     over: dict[tuple[str, str], Overload | str] = {}
@@ -288,4 +304,5 @@ def ratings(
         {r.id: relay_pickup(r, hot) for r in d.of_kind(Relay)},
         short_min,
         fuse_switching_scaled(fs, duty, largest_current) if largest_current is not None else {},
+        cable_ratings_over(list(cables.values()), sweep_zones or {}),
     )

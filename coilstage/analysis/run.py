@@ -25,7 +25,7 @@ from coilstage.analysis.ratings import Ratings, ratings
 from coilstage.analysis.switching import SwitchingResult, analyse_switching
 from coilstage.analysis.topology import protected_cables, switched_stages, unfused_feed_cables
 from coilstage.analysis.worst import WorstCases, worst_cases
-from coilstage.drawing.schema import Drawing
+from coilstage.drawing.schema import Cable, Drawing
 
 
 @dataclass(frozen=True)
@@ -69,6 +69,12 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         descent = simulate(d)
         continuous = simulate(d, continuous_duty(d))
     worst = worst_cases(d, cases, protected, duty)
+    sw_ = worst.duty_sweep
+    zones = (
+        {c.id: tuple(sw_.zone(c.zone_temperature, j) for j in range(len(sw_.ambients))) for c in d.of_kind(Cable)}
+        if sw_ is not None
+        else None
+    )
     return Analysis(
         d,
         circuit,
@@ -82,7 +88,9 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         duty_state,
         switched_stages(d),
         unfused_feed_cables(d),
-        ratings(d, protected, far_end, duty, sw, corners["hot"], worst.smallest_fault.far_end, worst.largest_current),
+        ratings(
+            d, protected, far_end, duty, sw, corners["hot"], worst.smallest_fault.far_end, worst.largest_current, zones
+        ),
         sw,
         analyse_field(d, corners, nets["cold"]),
         descent,

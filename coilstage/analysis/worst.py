@@ -15,6 +15,12 @@ continuous current, built from the drawing and the shipped tolerance defaults
 * largest current (continuous duty): the cold corner with every coil at the low end of its resistance
   tolerance and the bus held at the regulator's highest end (tolerance plus temperature compensation
   with the regulator at the lowest ambient).
+* duty sweep (a consistent vehicle state for the duty rules): the ambient swept over the drawing's
+  range; at each ambient every zone stands at its stated temperature less (ambient_max − ambient) (the
+  ratings' derating), the coils and the harness start cold at that ambient (the largest current: the
+  coils at the low end of their tolerance; the cables reach their zone's temperature only as the coils
+  warm) and the bus is at the regulator's highest end with the regulator at that ambient. A duty rule
+  takes its margin at every point and is decided at the worst one.
 
 Stated in the words of each view, so a verdict decided on it can say what decided it.
 """
@@ -22,11 +28,17 @@ Stated in the words of each view, so a verdict decided on it can say what decide
 from __future__ import annotations
 
 import dataclasses
+import math
+from collections.abc import Callable
 from dataclasses import dataclass
+
+import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_resistance
 from coilstage.analysis.conditions import Conditions
+from coilstage.analysis.corners import cold_duty
+from coilstage.analysis.linear import CaseNetwork
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.supply_limits import regulated_bus_range
@@ -56,6 +68,49 @@ class BusView:
     bus_voltage: float  # at the battery terminals [V]
 
 
+#: Number of ambients the duty sweep takes between the drawing's lowest and highest (ends included).
+SWEEP_POINTS = 9
+
+
+def zone_at_ambient(stated: float, ambient: float, ambient_max: float) -> float:
+    """A zone's temperature when the outside air is at ``ambient`` [°C]: its stated temperature (the
+    hottest, at the highest ambient) less the ambient's shortfall from its highest. A zone keeps the
+    rise the vehicle's own heat gives it over the outside air, so it follows the ambient one for one
+    (common practice for enclosure and under-bonnet temperatures; no source)."""
+    return stated - (ambient_max - ambient)
+
+
+@dataclass(frozen=True)
+class DutySweep:
+    """The largest continuous current of every element at each ambient of the sweep (one consistent
+    vehicle state per ambient; see the module docstring)."""
+
+    ambients: tuple[float, ...]  # [°C], lowest first
+    ambient_max: float  # [°C]
+    bus: tuple[float, ...]  # bus held at the battery terminals at each ambient [V]
+    currents: dict[str, tuple[float, ...]]  # element id -> current at each ambient [A]
+    states: dict[str, tuple[str, ...]]  # element id -> "all stages" or "<stage> alone" at each ambient
+    words: tuple[tuple[str, str], ...]
+
+    def zone(self, stated: float, j: int) -> float:
+        """Temperature of a zone stated at ``stated`` [°C] at the sweep's ``j``-th ambient."""
+        return zone_at_ambient(stated, self.ambients[j], self.ambient_max)
+
+    def point_words(self, j: int) -> str:
+        """What the ``j``-th point is, in words."""
+        return (
+            f"ambient {self.ambients[j]:g} °C (worst of {len(self.ambients)} from {self.ambients[0]:g} to "
+            f"{self.ambients[-1]:g} °C): zones at their stated temperature less "
+            f"{self.ambient_max - self.ambients[j]:g} K, "
+            f"coils and cables starting at {self.ambients[j]:g} °C, bus {self.bus[j]:.2f} V"
+        )
+
+    def worst(self, margin: Callable[[int], float | None]) -> int:
+        """Index of the ambient with the smallest margin (``margin(j)``; None counts as the worst)."""
+        ms = [margin(j) for j in range(len(self.ambients))]
+        return min(range(len(ms)), key=lambda j: -math.inf if ms[j] is None else ms[j])
+
+
 @dataclass(frozen=True)
 class WorstCases:
     largest_fault: FaultView
@@ -66,6 +121,8 @@ class WorstCases:
     bus_high: float  # the regulator's highest end [V]
     assumptions: tuple[str, ...] = ()  # each tolerance default used, with its value, source and status
     largest_current_solution: Solution | None = None  # the network at the largest continuous current
+    duty_sweep: DutySweep | None = None  # the duty rules' consistent vehicle states over the ambient range
+    duty_sweep_nominal: DutySweep | None = None  # the same states with nominal parts and the nominal bus
 
 
 # The shipped defaults the worst cases take, with the end each one uses (``None``: the nominal value).
@@ -289,4 +346,79 @@ def worst_cases(
         bus_high,
         used_defaults(tol, cells, alt is not None),
         worst,
+        duty_sweep(d, cases, r_tol, g),
+        duty_sweep(d, cases, 0.0, 0.0),
+    )
+
+
+def _with_coil_tolerance(d: Drawing, r_tol: float) -> Drawing:
+    """The drawing with every coil's resistance at ``(1 + r_tol)`` × its stated one."""
+    out = []
+    for e in d.elements:
+        if isinstance(e, Stage):
+            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * (1 + r_tol)))
+        out.append(e)
+    return dataclasses.replace(d, elements=tuple(out))
+
+
+def duty_sweep(d: Drawing, cases: dict[str, Conditions], r_tol: float, g: float) -> DutySweep:
+    """The largest continuous current of every element at each ambient of the sweep (module docstring):
+    one linear network per ambient, every all-on and one-stage-alone state from its factorisation
+    (:func:`coilstage.analysis.corners.cold_duty`). With ``r_tol = g = 0``: nominal parts and the cold
+    corner's bus at every ambient."""
+    env = d.environment
+    alt = d.supply.alternator
+    lo, hi = env.ambient_min, env.ambient_max
+    ambients = tuple(float(x) for x in np.unique(np.linspace(lo, hi, SWEEP_POINTS))) if hi > lo else (float(lo),)
+    cold = cases["cold"].sources
+    # a cold-corner bus the drawing states itself (not the default set-point + tolerance) stays the floor
+    stated_bus = alt is None or abs(d.corners.cold_bus - (alt.setpoint + alt.tolerance)) > 1e-9
+    circuit = Circuit(_with_coil_tolerance(d, r_tol) if r_tol else d)
+    currents: dict[str, list[float]] = {e.id: [] for e in d.elements}
+    states: dict[str, list[str]] = {e.id: [] for e in d.elements}
+    buses = []
+    for t in ambients:
+        if alt is not None and g != 0.0:
+            bus = regulated_bus_range(alt.setpoint, alt.tolerance, g, t, t).high
+            if stated_bus:
+                bus = max(bus, d.corners.cold_bus)
+        elif alt is not None:
+            bus = d.corners.cold_bus
+        else:
+            bus = cold.hold_bus or cold.battery_emf
+        buses.append(bus)
+        temps = {e.id: t for e in d.elements if isinstance(e, (Cable, Stage))}
+        src = dataclasses.replace(
+            cold, battery_emf=bus, hold_bus=bus, alt_setpoint=bus if cold.alt_setpoint is not None else None
+        )
+        duty, where = cold_duty(CaseNetwork(circuit, temps, src))
+        for k in currents:
+            currents[k].append(duty[k])
+            states[k].append(where[k])
+    if alt is None:
+        bus_words = "held by the battery"
+    elif g != 0.0:
+        bus_words = (
+            f"regulator's highest end with the regulator at the ambient (set-point {alt.setpoint:.2f} V + "
+            f"{alt.tolerance:.2f} V tolerance, {abs(g) * 1e3:g} mV/K compensation from 25 °C)"
+        )
+    else:
+        bus_words = f"held at {d.corners.cold_bus:.2f} V (the cold corner's)"
+    words = (
+        (
+            "coils",
+            f"and cables starting at the ambient, coil resistance {r_tol:+.0%} (tolerance; solenoid maker's FAQ)"
+            if r_tol
+            else "and cables starting at the ambient, stated coil resistance",
+        ),
+        ("zones", "stated temperature less (ambient_max − ambient): they follow the ambient (common practice)"),
+        ("bus", bus_words),
+    )
+    return DutySweep(
+        ambients,
+        hi,
+        tuple(buses),
+        {k: tuple(v) for k, v in currents.items()},
+        {k: tuple(v) for k, v in states.items()},
+        words,
     )

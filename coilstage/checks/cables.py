@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import dataclasses
+import math
+
 from coilstage.analysis.corners import stage_results
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
@@ -18,21 +21,51 @@ from coilstage.drawing.schema import Cable
 
 
 def _ampacity(a: Analysis) -> list[Verdict]:
+    """Each cable's current against its ampacity in one consistent vehicle state: the ambient swept over
+    the drawing's range with the zone, the coils and the bus following it (analysis.worst.DutySweep),
+    decided at the worst ambient with tolerances, the same sweep with nominal parts beside it."""
     out = []
+    sw = a.worst.duty_sweep if a.worst is not None else None
+    sn = a.worst.duty_sweep_nominal if a.worst is not None else None
     for c in a.drawing.of_kind(Cable):
-        nominal = _ampacity_at(a, c, a.duty[c.id], "cold")
-        if a.worst is None or nominal.status is Status.NOT_CHECKED:
+        rates = a.ratings.cables_sweep.get(c.id)
+        if sw is None or sn is None or not rates:
+            out.append(
+                _ampacity_at(c, a.ratings.cables[c.id], a.duty[c.id], c.zone_temperature, a.duty_state[c.id], "cold")
+            )
+            continue
+        nominal, _ = _ampacity_swept(c, rates, sn, "")
+        if nominal.status is Status.NOT_CHECKED:
             out.append(nominal)
             continue
-        worst = _ampacity_at(a, c, a.worst.largest_current[c.id], "largest current")
-        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+        worst, j = _ampacity_swept(c, rates, sw, "largest current")
+        deciding = (sw.point_words(j), *(f"{k} {v}" for k, v in sw.words))
         out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
 
 
-def _ampacity_at(a: Analysis, c: Cable, i: float, corner: str) -> Verdict:
-    """The cable's current ``i`` [A] against its ampacity in its zone and bundle."""
-    rating = a.ratings.cables[c.id]
+def _ampacity_swept(c: Cable, rates, sweep, corner: str) -> tuple[Verdict, int]:
+    """The verdict at the sweep's worst ambient for this cable, and that ambient's index."""
+
+    def verdict(j: int) -> Verdict:
+        return _ampacity_at(
+            c, rates[j], sweep.currents[c.id][j], sweep.zone(c.zone_temperature, j), sweep.states[c.id][j], corner
+        )
+
+    def margin(j: int) -> float | None:
+        amp = rates[j].ampacity
+        if isinstance(amp, str):
+            return math.inf  # not checked at this ambient: the others decide
+        return None if amp.value <= 0 else (amp.value - sweep.currents[c.id][j]) / amp.value
+
+    j = sweep.worst(margin)
+    v = verdict(j)
+    note = v.note + f" (ambient {sweep.ambients[j]:g} °C, the worst of the sweep)"
+    return dataclasses.replace(v, note=note), j
+
+
+def _ampacity_at(c: Cable, rating, i: float, zone_t: float, state: str, corner: str) -> Verdict:
+    """The cable's current ``i`` [A] against its ampacity ``rating`` with its zone at ``zone_t`` [°C]."""
     amp = rating.ampacity
     if isinstance(amp, str):
         return not_checked(AMPACITY, c.id, amp, "A", corner)
@@ -46,17 +79,17 @@ def _ampacity_at(a: Analysis, c: Cable, i: float, corner: str) -> Verdict:
             "A",
             None,
             AMPACITY.clause,
-            f"zone {c.zone} at {c.zone_temperature:g} °C leaves no ampacity for a {amp.column} °C insulation rating",
+            f"zone {c.zone} at {zone_t:g} °C leaves no ampacity for a {amp.column} °C insulation rating",
             corner,
         )
     comp = rating.heat_balance
     table_value = amp.base * amp.ambient_factor * amp.bundle_factor
     note = (
         f"{c.size_label} ({amp.method}): table {amp.base:.0f} A x ambient {amp.ambient_factor:.3f} "
-        f"({c.zone}, {c.zone_temperature:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded) = "
+        f"({c.zone}, {zone_t:g} °C) x bundle {amp.bundle_factor:.2f} ({c.bundle} loaded) = "
         f"{table_value:.0f} A; heat balance (still air, class {c.insulation_class} at {c.class_max:g} °C) "
         + ("not available (no outside diameter)" if comp is None else f"{comp:.0f} A")
-        + f"; current {i:.1f} A with {a.duty_state[c.id]} on"
+        + f"; current {i:.1f} A with {state} on"
     )
     return at_most(AMPACITY, c.id, i, amp.value, "A", note, corner)
 
@@ -129,7 +162,7 @@ def _voltage_drop(a: Analysis) -> list[Verdict]:
 
 AMPACITY = Rule(
     "cable.ampacity",
-    "Cable current at the cold corner within its ampacity in its zone and bundle",
+    "Cable current within its ampacity in its zone and bundle, in one vehicle state swept over the ambient range",
     "33 CFR 183.425 Table 5 (= ABYC E-11 ampacity table); ambient factor sqrt((Tc-Ta)/(Tc-30)) (derived); "
     "bundle factors of the USCG Electrical System Compliance Guideline; the lower of that and a still-air heat "
     "balance (Churchill-Chu via ht)",

@@ -6,7 +6,7 @@
    every fuse); then the full check (switching, duty, field, every rule) of 4, 8 and 16 stages: the
    switching rules grow with the square of the number of stages.
 
-Targets (issue: steady-state check): demo check under 1 s wall on a 2-core machine; the 200-stage
+Targets: demo check under 1 s wall on a 2-core machine; the 200-stage
 solve under 50 ms.
 
 Run: python benchmarks/bench_check.py

@@ -6,7 +6,7 @@ branch lengths; invented values) are checked with ``fleet.run_many`` on 2 worker
 duty, field) and every rule run; the summary printed (to a buffer here). The per-drawing cost is
 the wall time divided by the number of drawings, and the median of the workers' own timings.
 
-Target (issue: drawings from what the workshop already has): 200 four-stage drawings on 2 cores in
+Target: 200 four-stage drawings on 2 cores in
 under a minute.
 
 Run: python benchmarks/bench_fleet.py [N_DRAWINGS] [JOBS]

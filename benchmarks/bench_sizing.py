@@ -6,7 +6,7 @@
 3. ``size`` of a synthetic 16-stage drawing with undersized branches, 12 V-only relays and no
    suppression (in-process, one run).
 
-Targets (issue: from a verdict to the part that passes): suggestions add < 0.3 s to the flawed demo's
+Targets: suggestions add < 0.3 s to the flawed demo's
 check; size of the flawed demo < 2 s; size of a 16-stage drawing < 10 s.
 
 Run: python benchmarks/bench_sizing.py

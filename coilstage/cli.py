@@ -150,10 +150,13 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
         help="text, Markdown, HTML: only the result, the action list and the cautions (JSON always holds everything)",
     )
     c.add_argument(
-        "--suggest",
-        action="store_true",
-        help="add to each failure or warning what would pass (a checked part size or rating; takes seconds)",
+        "--no-suggest",
+        dest="suggest",
+        action="store_false",
+        help="leave out what would pass (by default each failure or warning says which checked part size or "
+        "rating clears it)",
     )
+    c.add_argument("--suggest", dest="suggest", action="store_true", help=argparse.SUPPRESS)  # the default
     c.add_argument(
         "--summary", action="store_true", help="fleet mode: check many drawings and print one summary line each"
     )
@@ -224,7 +227,7 @@ def _check(args: argparse.Namespace) -> int:
 
     doc = document.build(analysis, verdicts)
     if args.suggest:
-        doc = _with_suggestions(doc, verdicts, drawing_path)
+        doc = _with_suggestions(doc, (drawing, analysis, verdicts), drawing_path, args.parts)
 
     from coilstage.report import parts, record
 
@@ -254,21 +257,36 @@ def _check(args: argparse.Namespace) -> int:
     return EXIT_FAIL if summ["fail"] else EXIT_OK
 
 
-def _with_suggestions(doc: dict[str, Any], verdicts: Any, drawing_path: Path) -> dict[str, Any]:
-    """The document with each verdict's ``suggestion``: the text of a checked part that would clear it
-    (:func:`coilstage.sizing.suggestions`), or None. Sizing that cannot run is said on stderr."""
+def _with_suggestions(
+    doc: dict[str, Any], checked: tuple[Any, Any, Any], drawing_path: Path, parts: list[str] | None = None
+) -> dict[str, Any]:
+    """The document with each verdict's ``suggestion`` (the text of a checked part that would clear
+    it, or None) and ``suggested`` (its details), from :func:`coilstage.sizing.suggestions` given the
+    check already made (``checked``: drawing, analysis, verdicts). Where sizing cannot run the report
+    goes out without suggestions and stderr says why (the check itself stands)."""
     from coilstage import sizing
 
+    verdicts = checked[2]
     try:
-        found = sizing.suggestions(drawing_path.read_text(encoding="utf-8-sig"), str(drawing_path), drawing_path.parent)
-    except sizing.SizingError as exc:
-        _err(f"coilstage: --suggest: no suggestions ({exc})")
+        found = sizing.suggestions(
+            drawing_path.read_text(encoding="utf-8-sig"),
+            str(drawing_path),
+            drawing_path.parent,
+            checked=checked,
+            parts_dirs=tuple(parts or ()),
+        )
+    except (sizing.SizingError, ArithmeticError, ValueError, RuntimeError, KeyError, OSError) as exc:
+        _err(f"coilstage: no suggestions of what would pass ({exc}); the check itself stands")
         return doc
     by = sizing.suggestions_by_verdict(verdicts, found)
     rows = []
     for v in doc["verdicts"]:
-        s = by.get((v["rule"], v["subject"]))
-        rows.append({**v, "suggestion": s["text"] if s else None})
+        s = by.get((v["rule"], v["subject"])) if v["status"] in ("fail", "warn") else None
+        detail = None
+        if s:
+            keep = ("part", "kind", "key", "today", "suggested", "next_smaller", "next_smaller_fails", "blocked")
+            detail = {k: s[k] for k in (*keep, "fits", "needs", "missing", "checked", "text") if k in s}
+        rows.append({**v, "suggestion": s["text"] if s else None, "suggested": detail})
     return {**doc, "verdicts": rows}
 
 

@@ -76,7 +76,8 @@ class SizingError(ValueError):
 
 
 @cache
-def _series(name: str) -> tuple[float, ...]:
+def standard_series(name: str) -> tuple[float, ...]:
+    """The shipped standard series ``name`` (coilstage/data/suppressor_series.toml), smallest first."""
     from coilstage import tables
 
     for row in tables.shipped("suppressor_series.toml")["table"]["rows"]:
@@ -97,9 +98,9 @@ def _status(v) -> str:
     return str(v.status.value if hasattr(v.status, "value") else v.status)
 
 
-def _rank(v) -> float:
-    """FAIL 0 < WARN 1 < NOT_CHECKED 1.5 < PASS 2: a verdict that could not be reached never counts
-    as passing where a part exists that passes it."""
+def rank(v) -> float:
+    """The order of a verdict's status for sizing: FAIL 0 < WARN 1 < NOT_CHECKED 1.5 < PASS 2; a
+    verdict that could not be reached never counts as passing where a part exists that passes it."""
     st = _status(v)
     return 1.5 if st == "not checked" else _RANK[st]
 
@@ -160,12 +161,12 @@ def prepare(text: str) -> Prepared:
             elif key == "rating" and kind == "fuse":
                 row = tables.fuse_types().get(e.get("type"), {})
                 ser = row.get("series") or [
-                    v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)
+                    v for v in standard_series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)
                 ]
                 start = _qty(float(ser[0]), "A")
                 doc.set("harness", i, key, format_value(start))
             elif key in ("rating_12v", "rating_24v") and kind == "relay":
-                start = _qty(_series("relay_contact_rating")[0], "A")
+                start = _qty(standard_series("relay_contact_rating")[0], "A")
                 doc.set("harness", i, key, format_value(start))
             elif key == "suppression" and kind == "stage":
                 start = ""
@@ -194,6 +195,7 @@ class Bench:
         self._drawings: dict[Edits, Any] = {}
         self._fast: dict[Edits, dict] = {}
         self._full: dict[Edits, tuple] = {}
+        self._duty: dict[tuple, dict | None] = {}
         self.evaluations = {"screen": 0, "full": 0}
 
     @staticmethod
@@ -304,6 +306,30 @@ class Bench:
         r = self._full[k]
         return None if r is None else r
 
+    def duty(self, edits: dict, rules: tuple[str, ...]) -> dict | None:
+        """Verdicts by (rule, subject) of the rules whose ids start with one of ``rules``, on the full
+        analysis (the duty simulation included): what the full check says of them, without the rules
+        of the parts sizing does not change (the coils' time to their limit is most of a check)."""
+        k = self.key(edits)
+        if k in self._full:
+            r = self._full[k]
+            return None if r is None else r[1]
+        if (k, rules) not in self._duty:
+            d = self.drawing(edits)
+            out = None
+            if d is not None:
+                from coilstage.analysis.run import analyse
+                from coilstage.checks import RULES
+
+                try:
+                    a = analyse(d)
+                    out = _by_key(v for rule in RULES if rule.id.startswith(rules) for v in rule.evaluate(a))
+                except _CANDIDATE_ERRORS:
+                    out = None
+            self._duty[(k, rules)] = out
+            self.evaluations["full"] += 1
+        return self._duty[(k, rules)]
+
 
 def _by_key(verdicts) -> dict:
     return {(v.rule, v.subject): v for v in verdicts}
@@ -315,7 +341,7 @@ def _screen_verdicts(d, switching: bool = True, rules: tuple[str, ...] = ()) -> 
     from coilstage.checks import RULES
 
     try:
-        from coilstage.analysis.corners import analyse
+        from coilstage.analysis.run import analyse
 
         a = analyse(d, switching=switching, heating=False)
     except (ImportError, TypeError):  # the analysis no longer offers the lighter call: the full check
@@ -457,7 +483,7 @@ def parts_of(d, prepared: Prepared | None = None, text: str | None = None) -> li
             ser = (
                 _library_series(d, e.where)
                 or list(e.series)
-                or [v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)]
+                or [v for v in standard_series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)]
             )
             out.append(
                 Part(
@@ -476,7 +502,7 @@ def parts_of(d, prepared: Prepared | None = None, text: str | None = None) -> li
         elif isinstance(e, Relay):
             system = d.supply.system_voltage
             key = f"rating_{system}v"
-            ser = list(_series("relay_contact_rating"))
+            ser = list(standard_series("relay_contact_rating"))
             have = e.rating_24v if system == 24 else e.rating_12v
             out.append(
                 Part(
@@ -572,6 +598,9 @@ class Suggestion:
     needs: tuple[str, ...] = ()  # further requirements (breaking capacity, voltage rating, DC category ...)
     missing: tuple[str, ...] = ()  # data to give before the part can be judged
     edits: tuple = ()  # ((harness index, key), TOML text) that make the suggestion
+    #: ((rule, subject), rank) the suggested part must reach on each verdict it takes part in (see
+    #: :func:`rank`): a pass, or the best any member of its series reaches where none passes
+    targets: tuple = ()
 
     def to_dict(self) -> dict:
         return {
@@ -593,11 +622,11 @@ class Suggestion:
 
 def _failing(inv: dict) -> list:
     """The verdicts that fail or warn (a verdict not checked for missing data is listed apart)."""
-    return [v for v in inv.values() if _rank(v) < 1.5]
+    return [v for v in inv.values() if rank(v) < 1.5]
 
 
 def _bad(inv: dict, targets: dict) -> list:
-    return [v for k, v in inv.items() if _rank(v) < targets.get(k, 2)]
+    return [v for k, v in inv.items() if rank(v) < targets.get(k, 2)]
 
 
 def _switching_for(part: Part) -> bool:
@@ -607,10 +636,37 @@ def _switching_for(part: Part) -> bool:
 
 
 def _verdicts(bench: Bench, part: Part, edits: dict, full: bool = False) -> dict | None:
+    """The verdicts of a candidate: the screen, or with ``full`` the part's rules on the full analysis
+    (the duty simulation included) unless :func:`_duty_holds` shows the duty rules need no new run."""
     if full:
-        r = bench.full(edits)
-        return None if r is None else r[1]
+        if _duty_holds(bench, part, edits):
+            return bench.screen(edits, switching=_switching_for(part), rules=part.rules)
+        return bench.duty(edits, part.rules)
     return bench.screen(edits, switching=_switching_for(part), rules=part.rules)
+
+
+def _duty_holds(bench: Bench, part: Part, edits: dict) -> bool:
+    """True where the duty verdicts of ``part`` are known to pass for the candidate ``edits`` without
+    simulating the duty again: the drawing without this part's edits was checked in full (the check
+    already made), every duty verdict the part takes part in passed there, and the candidate only
+    makes the part larger along its series (same insulation or a higher class). A larger conductor
+    has less resistance per metre and more copper to heat (its temperature over the duty falls); a
+    higher fuse rating takes a larger melting I²t (its thermal state falls). The current the larger
+    part lets through rises by the part's own share of the circuit resistance only, which is what
+    the screen's steady-state rules (ampacity, continuous duty) judge at the largest current."""
+    if part.kind not in ("cable", "fuse"):
+        return False
+    value = edits.get((part.index, part.key))
+    if value is None or value not in part.series or part.series.index(value) < part.today_pos:
+        return False
+    rest = {k: v for k, v in edits.items() if k[0] != part.index}
+    if any(k[0] == part.index and k[1] not in (part.key, "insulation") for k in edits):
+        return False
+    today = bench._full.get(bench.key(rest))
+    if today is None:
+        return False
+    duty = [v for k, v in involved(part, today[1]).items() if k[0] in _HEATING_RULES]
+    return all(rank(v) >= 2 for v in duty)
 
 
 def _ok(bench: Bench, part: Part, edits: dict, targets: dict, full: bool = False) -> tuple[bool, list]:
@@ -652,7 +708,7 @@ def _smallest(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key
     inv = involved(part, vs)
     # the targets: the best of today, the largest member and the member at three quarters (a table
     # may leave its largest sizes without an ampacity, so the largest alone is no reference)
-    targets = {k: _rank(v) for k, v in inv.items()}
+    targets = {k: rank(v) for k, v in inv.items()}
     refs = [inv_today]
     if len(series) > 2:
         q = _verdicts(bench, part, _with(base, ((part.index, key), series[(3 * len(series)) // 4])))
@@ -660,10 +716,10 @@ def _smallest(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key
     for ref in refs:
         for k, v in ref.items():
             if k in targets:
-                targets[k] = max(targets[k], _rank(v))
+                targets[k] = max(targets[k], rank(v))
     blocked = tuple(Finding.of(inv[k]) for k in inv if targets[k] < 1.5)  # not checked: missing data, listed apart
-    improves = any(targets[k] > _rank(v) for k, v in inv_today.items() if k in targets) or any(
-        _rank(v) < 2 for k, v in inv_today.items() if k not in targets
+    improves = any(targets[k] > rank(v) for k, v in inv_today.items() if k in targets) or any(
+        rank(v) < 2 for k, v in inv_today.items() if k not in targets
     )
     if not improves and not _bad(inv_today, targets):
         return _Boundary(None, targets, blocked, (), False, False)
@@ -760,11 +816,11 @@ def _relay_needs(bench: Bench, part: Part, base: dict) -> tuple[list[str], tuple
         if rule == "relay.coil_pickup":
             if _status(v) == "not checked":
                 missing += (f"give the coil data of {part.id} (voltage, resistance, operate_voltage)",)
-            elif v.limit is not None and _rank(v) < 2:
+            elif v.limit is not None and rank(v) < 2:
                 needs.append(
                     f"a coil that operates at {v.value / 1.1:.2f} V or less hot (it gets {v.value:.2f} V; 110 % margin)"
                 )
-        if rule == "relay.inductive_break" and _rank(v) < 2 and v.limit is not None:
+        if rule == "relay.inductive_break" and rank(v) < 2 and v.limit is not None:
             needs.append(f"a DC category or inductive break rating for L/R {v.value:.0f} ms, or suppression")
         if rule == "relay.inductive_break" and _status(v) == "not checked" and "voltage_rating" in v.note:
             missing += (f"give the voltage rating of {part.id} (the suppressed break needs it)",)
@@ -781,7 +837,7 @@ def _insulation(bench: Bench, part: Part, base: dict) -> tuple[dict, str | None]
     inv = involved(part, bench.screen(top, switching=False, rules=part.rules) or {})
     k = ("cable.temperature_class", part.id)
     ka = ("cable.ampacity", part.id)
-    if k not in inv or _rank(inv[k]) >= 2:
+    if k not in inv or rank(inv[k]) >= 2:
         return base, None
     # the lowest class that passes the class rule, and if one does, the lowest that also leaves the
     # largest size an ampacity that passes (a hot zone eats the ampacity of a low class)
@@ -790,9 +846,9 @@ def _insulation(bench: Bench, part: Part, base: dict) -> tuple[dict, str | None]
         c = _with(top, ((part.index, "insulation"), format_value(letter)))
         got = involved(part, bench.screen(c, switching=False, rules=part.rules) or {})
         v = got.get(k)
-        if v is not None and _rank(v) >= 2:
+        if v is not None and rank(v) >= 2:
             first = first or letter
-            if ka not in got or _rank(got[ka]) >= 2:
+            if ka not in got or rank(got[ka]) >= 2:
                 return _with(base, ((part.index, "insulation"), format_value(letter))), letter
     if first is None:
         return base, None
@@ -851,6 +907,7 @@ def _suggest_series(bench: Bench, part: Part, base: dict) -> Suggestion | None:
             needs=tuple(needs),
             missing=missing,
             edits=extra,
+            targets=tuple(bd.targets.items()),
         )
     j = bd.index
     label = part.labels[j]
@@ -881,6 +938,7 @@ def _suggest_series(bench: Bench, part: Part, base: dict) -> Suggestion | None:
         needs=tuple(needs),
         missing=missing,
         edits=(*extra, ((part.index, part.key), part.series[j])),
+        targets=tuple(bd.targets.items()),
     )
 
 
@@ -919,7 +977,7 @@ def _window(bench: Bench, part: Part, base: dict, series: tuple[str, ...], extra
         v_top, v_bot = top.get(k), bot.get(k)
         v = v_top or v_bot
         if k[0] in _TYPE_RULES:
-            if _rank(v) < 2 and _status(v) != "not checked":
+            if rank(v) < 2 and _status(v) != "not checked":
                 if k[0] == "fuse.breaking_capacity":
                     type_needs.append(
                         (
@@ -937,9 +995,9 @@ def _window(bench: Bench, part: Part, base: dict, series: tuple[str, ...], extra
             if "melting_i2t" in v.note:
                 missing.append(f"give the maker's melting I²t for {part.id}")
             continue
-        if v_top is not None and _rank(v_top) >= 2:
+        if v_top is not None and rank(v_top) >= 2:
             floor_rules.add(k)
-        elif v_bot is not None and _rank(v_bot) >= 2:
+        elif v_bot is not None and rank(v_bot) >= 2:
             ceil_rules.add(k)
         elif v_top is not None and v_bot is not None and (v_top.margin or 0) >= (v_bot.margin or 0):
             floor_rules.add(k)
@@ -948,7 +1006,7 @@ def _window(bench: Bench, part: Part, base: dict, series: tuple[str, ...], extra
 
     def passes(j: int, rules: set) -> bool:
         i = inv(j)
-        return all(_rank(i[k]) >= 2 for k in rules if k in i)
+        return all(rank(i[k]) >= 2 for k in rules if k in i)
 
     n = len(series)
     floor_at = None
@@ -970,14 +1028,14 @@ def _window(bench: Bench, part: Part, base: dict, series: tuple[str, ...], extra
     below = above = ()
     if floor_at is not None and floor_at > 0:
         i = inv(floor_at - 1)
-        below = tuple(Finding.of(i[k]) for k in sorted(floor_rules) if k in i and _rank(i[k]) < 2)
+        below = tuple(Finding.of(i[k]) for k in sorted(floor_rules) if k in i and rank(i[k]) < 2)
     elif floor_at is None:
-        below = tuple(Finding.of(top[k]) for k in sorted(floor_rules) if k in top and _rank(top[k]) < 2)
+        below = tuple(Finding.of(top[k]) for k in sorted(floor_rules) if k in top and rank(top[k]) < 2)
     if ceil_at is not None and ceil_at + 1 < n:
         i = inv(ceil_at + 1)
-        above = tuple(Finding.of(i[k]) for k in sorted(ceil_rules) if k in i and _rank(i[k]) < 2)
+        above = tuple(Finding.of(i[k]) for k in sorted(ceil_rules) if k in i and rank(i[k]) < 2)
     elif ceil_at is None:
-        above = tuple(Finding.of(bot[k]) for k in sorted(ceil_rules) if k in bot and _rank(bot[k]) < 2)
+        above = tuple(Finding.of(bot[k]) for k in sorted(ceil_rules) if k in bot and rank(bot[k]) < 2)
     return _Window(
         ok, floor_at, ceil_at, floor_rules, ceil_rules, type_needs, list(dict.fromkeys(missing)), below, above
     )
@@ -987,7 +1045,8 @@ def _fuse_series(fuse_type: str) -> tuple[float, ...]:
     from coilstage import tables
 
     row = tables.fuse_types().get(fuse_type, {})
-    ser = row.get("series") or [v for v in _series("fuse_rating_without_series") if v <= row.get("max_rating", 1e9)]
+    top = row.get("max_rating", 1e9)
+    ser = row.get("series") or [v for v in standard_series("fuse_rating_without_series") if v <= top]
     return tuple(float(v) for v in ser)
 
 
@@ -1038,7 +1097,7 @@ def _cable_for_window(bench, part, base, series, extra, cables) -> tuple | None:
                 rules=part.rules,
             )
             inv = {} if vs is None else involved(part, vs)
-            return all(_rank(inv[k]) >= 2 for k in (w_top.floor_rules | w_top.ceil_rules) if k in inv)
+            return all(rank(inv[k]) >= 2 for k in (w_top.floor_rules | w_top.ceil_rules) if k in inv)
 
         lo, hi = -1, len(cand) - 1
         while hi - lo > 1:
@@ -1073,8 +1132,8 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
         # the duty rules: the lowest of the window, stepping up on the full check
         j_ok = None
         for j in w.ok:
-            r = bench.full(_with(base, ((part.index, part.key), part.series[j])))
-            if r is not None and not _failing(involved(part, r[1])):
+            r = _verdicts(bench, part, _with(base, ((part.index, part.key), part.series[j])), full=True)
+            if r is not None and not _failing(involved(part, r)):
                 j_ok = j
                 break
         checked = j_ok is not None
@@ -1156,8 +1215,8 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
             suggested, value_text = sv[lo].strip('"'), sv[lo]
             fits = tuple(labels)
             smaller = sv[lo - 1].strip('"') if lo > 0 else None
-            r = bench.full(_with(base, *edits))
-            checked = r is not None and not _failing(involved(part, r[1]))
+            r = bench.duty(_with(base, *edits), part.rules)
+            checked = r is not None and not _failing(involved(part, r))
             w = ow
         elif needs or not w.ok:
             text += "; no shipped ISO 8820 type makes a window: give the maker's data of a fuse that does"
@@ -1209,9 +1268,9 @@ def _suggest_suppressor(bench: Bench, part: Part, base: dict) -> Suggestion | No
         return None
     stage = next(s for s in d.stages if s.id == part.id)
     inv_today = involved(part, bench.screen(base) or {})
-    if stage.suppression.kind != "none" and all(_rank(v) >= 1.5 for v in inv_today.values()):
+    if stage.suppression.kind != "none" and all(rank(v) >= 1.5 for v in inv_today.values()):
         return None
-    if stage.suppression.kind == "none" and all(_rank(v) >= 1.5 for v in inv_today.values()):
+    if stage.suppression.kind == "none" and all(rank(v) >= 1.5 for v in inv_today.values()):
         return None
     release = d.switching.release_limit is not None
     big = {"peak_current": "100 kA", "reverse_voltage": "100 kV", "energy_rating": "1 MJ"}
@@ -1226,7 +1285,7 @@ def _suggest_suppressor(bench: Bench, part: Part, base: dict) -> Suggestion | No
     # 1. the kind and clamp voltage: a plain diode where the drawing sets no release limit, else the
     #    lowest zener voltage of the series that meets it (a higher clamp releases faster)
     kinds: list[tuple[str, float | None]] = [("diode", None)] if not release else []
-    kinds += [("diode_zener", v) for v in _series("zener_voltage")]
+    kinds += [("diode_zener", v) for v in standard_series("zener_voltage")]
     seq = tuple(spec(k, v, big) for k, v in kinds)
     labels = [("freewheel diode" if k == "diode" else f"diode + {v:g} V zener") for k, v in kinds]
     bd = _smallest(bench, part, base, seq)
@@ -1269,9 +1328,9 @@ def _suggest_suppressor(bench: Bench, part: Part, base: dict) -> Suggestion | No
     }
     unit = {"peak_current": "A", "reverse_voltage": "V", "energy_rating": "J"}
     series = {
-        "peak_current": _series("suppressor_peak_current"),
-        "reverse_voltage": _series("suppressor_reverse_voltage"),
-        "energy_rating": _series("suppressor_energy"),
+        "peak_current": standard_series("suppressor_peak_current"),
+        "reverse_voltage": standard_series("suppressor_reverse_voltage"),
+        "energy_rating": standard_series("suppressor_energy"),
     }
     ratings: dict[str, str] = {}
     lower: dict[str, str] = {}
@@ -1327,6 +1386,7 @@ def _suggest_suppressor(bench: Bench, part: Part, base: dict) -> Suggestion | No
         needs=needs,
         missing=missing,
         edits=(((part.index, part.key), value_text),),
+        targets=tuple(targets.items()),
     )
 
 
@@ -1370,18 +1430,18 @@ def _suggestions(bench: Bench, prepared: Prepared, only_failing: bool = True, ba
     bare = [
         p
         for p in parts
-        if p.kind == "suppressor" and p.today == "none" and any(_rank(v) < 1.5 for v in involved(p, vs).values())
+        if p.kind == "suppressor" and p.today == "none" and any(rank(v) < 1.5 for v in involved(p, vs).values())
     ]
     joint = _suppressor_suggestions(bench, bare, base, vs) if d.switching.release_limit is None else {}
     for part in parts:
         inv = involved(part, vs)
-        if only_failing and all(_rank(v) >= 2 for v in inv.values()):
+        if only_failing and all(rank(v) >= 2 for v in inv.values()):
             continue
         s = joint.get(part.id) or suggest_part(bench, part, base)
         if s is not None:
             # the suggestion answers every failing or warning verdict of its part, the duty rules
             # (judged by the full check only) included
-            extra = tuple(k for k, v in inv.items() if _rank(v) < 1.5 and k not in s.answers)
+            extra = tuple(k for k, v in inv.items() if rank(v) < 1.5 and k not in s.answers)
             out.append(replace(s, answers=s.answers + extra) if extra else s)
     return out
 
@@ -1410,7 +1470,7 @@ def _suppressor_suggestions(bench: Bench, parts: list[Part], base: dict, vs: dic
             spec = tomllib.loads(f"x = {specs[(p.index, p.key)]}")["x"]
             if name not in spec:
                 continue
-            ser = _series(series_name)
+            ser = standard_series(series_name)
             x = float(spec[name].split()[0])
             k = next((n for n, y in enumerate(ser) if y >= x), None)
             if k:
@@ -1419,13 +1479,13 @@ def _suppressor_suggestions(bench: Bench, parts: list[Part], base: dict, vs: dic
     out = {}
     for p in parts:
         inv = involved(p, got)
-        bad = [v for v in inv.values() if _rank(v) < 1.5]
-        smaller_fails = tuple(Finding.of(v) for v in involved(p, vs).values() if _rank(v) < 1.5)
+        bad = [v for v in inv.values() if rank(v) < 1.5]
+        smaller_fails = tuple(Finding.of(v) for v in involved(p, vs).values() if rank(v) < 1.5)
         for name in names:
             smaller_fails += tuple(
                 Finding.of(v)
                 for k, v in involved(p, lower[name]).items()
-                if k[1].startswith(p.id) and _rank(v) < 1.5 and k[0] == "suppressor.rating"
+                if k[1].startswith(p.id) and rank(v) < 1.5 and k[0] == "suppressor.rating"
             )
         spec = tomllib.loads(f"x = {specs[(p.index, p.key)]}")["x"]
         rating_text = ", ".join(f"{k.replace('_', ' ')} ≥ {v}" for k, v in spec.items() if k != "kind")
@@ -1613,8 +1673,7 @@ def _joint_series(bench: Bench, parts: list[Part], edits: dict, auto: set, vs: d
     for p in parts:
         inv_today = involved(p, vs)
         t = {
-            k: max(_rank(v), _rank(inv_today[k]) if k in inv_today else 0)
-            for k, v in own(p, involved(p, vs_top)).items()
+            k: max(rank(v), rank(inv_today[k]) if k in inv_today else 0) for k, v in own(p, involved(p, vs_top)).items()
         }
         targets[p.id] = t
         start = -1 if (p.index, p.key) in auto else math.floor(p.today_pos)
@@ -1673,9 +1732,9 @@ def _joint_fuses(bench: Bench, parts: list[Part], edits: dict, auto: set) -> tup
             v = vt or vb
             if k[0] in _TYPE_RULES or (_status(v) == "not checked" and "given" in v.note):
                 continue
-            if vt is not None and _rank(vt) >= 2:
+            if vt is not None and rank(vt) >= 2:
                 fl.add(k)
-            elif vb is not None and _rank(vb) >= 2:
+            elif vb is not None and rank(vb) >= 2:
                 ce.add(k)
             else:
                 (fl if (vt and vb and (vt.margin or 0) >= (vb.margin or 0)) else ce).add(k)
@@ -1688,7 +1747,7 @@ def _joint_fuses(bench: Bench, parts: list[Part], edits: dict, auto: set) -> tup
         got = at(mids) or {}
         for p in active:
             inv = involved(p, got)
-            ok = all(_rank(inv[k]) >= 2 for k in floor_rules[p.id] if k in inv)
+            ok = all(rank(inv[k]) >= 2 for k in floor_rules[p.id] if k in inv)
             lo[p.id], hi[p.id] = (lo[p.id], mids[p.id]) if ok else (mids[p.id], hi[p.id])
         active = [p for p in active if hi[p.id] - lo[p.id] > 1]
     at_floor = at(hi) or {}
@@ -1696,12 +1755,12 @@ def _joint_fuses(bench: Bench, parts: list[Part], edits: dict, auto: set) -> tup
     out, left = {}, []
     for p in parts:
         inv = involved(p, at_floor)
-        type_ok = all(_rank(inv[k]) >= 1.5 for k in inv if k[0] in _TYPE_RULES)
-        window = all(_rank(inv[k]) >= 2 for k in floor_rules[p.id] | ceil_rules[p.id] if k in inv)
+        type_ok = all(rank(inv[k]) >= 1.5 for k in inv if k[0] in _TYPE_RULES)
+        window = all(rank(inv[k]) >= 2 for k in floor_rules[p.id] | ceil_rules[p.id] if k in inv)
         if window and type_ok:
             inv_t = involved(p, today)
             keep = (p.index, p.key) not in auto and all(
-                _rank(inv_t[k]) >= 2 for k in floor_rules[p.id] | ceil_rules[p.id] if k in inv_t
+                rank(inv_t[k]) >= 2 for k in floor_rules[p.id] | ceil_rules[p.id] if k in inv_t
             )
             if not keep:
                 out[(p.index, p.key)] = p.series[hi[p.id]]
@@ -1722,9 +1781,9 @@ def _joint_suppressors(bench: Bench, parts: list[Part], edits: dict) -> dict:
         cand[(p.index, p.key)] = format_value(big)
     vs = bench.screen(cand) or {}
     series = {
-        "peak_current": (_series("suppressor_peak_current"), "A", "peak current"),
-        "reverse_voltage": (_series("suppressor_reverse_voltage"), "V", "reverse voltage"),
-        "energy_rating": (_series("suppressor_energy"), "J", "energy"),
+        "peak_current": (standard_series("suppressor_peak_current"), "A", "peak current"),
+        "reverse_voltage": (standard_series("suppressor_reverse_voltage"), "V", "reverse voltage"),
+        "energy_rating": (standard_series("suppressor_energy"), "J", "energy"),
     }
     out = {}
     for p in parts:
@@ -1781,7 +1840,7 @@ def size_drawing(
         auto_keys = set(prepared.auto) if rounds == 1 else set()
 
         def needs(p: Part, verdicts: dict) -> list:
-            return [v for v in involved(p, verdicts).values() if _rank(v) < 2]
+            return [v for v in involved(p, verdicts).values() if rank(v) < 2]
 
         # 1. every cable and relay contact that fails or warns, bisected together; then the
         #    suppressors together; the per-part path below takes what is left (insulation classes,
@@ -1794,7 +1853,7 @@ def size_drawing(
             if p.kind != "cable" or p.id in prepared.fixed:
                 continue
             tc = involved(p, vs).get(("cable.temperature_class", p.id))
-            if tc is None or _rank(tc) >= 2:
+            if tc is None or rank(tc) >= 2:
                 continue
             _, letter = _insulation(bench, p, edits)
             if letter is None:
@@ -1861,7 +1920,7 @@ def size_drawing(
         for p in left:
             inv = involved(p, bench.screen(edits, switching=False, rules=("fuse.",)) or {})
             need_bc = max(
-                (v.value for k, v in inv.items() if k[0] == "fuse.breaking_capacity" and _rank(v) < 1.5), default=0.0
+                (v.value for k, v in inv.items() if k[0] == "fuse.breaking_capacity" and rank(v) < 1.5), default=0.0
             )
             if need_bc and not any(r["breaking_capacity"] >= need_bc for r in _fuse_types().values()):
                 grouped.add(p.id)
@@ -1880,8 +1939,8 @@ def size_drawing(
                     continue
                 inv_now = involved(part, bench.screen(edits, switching=False) or {})
                 tc = inv_now.get(("cable.temperature_class", part.id))
-                insul = tc is not None and _rank(tc) < 2 and (part.id, "insulation") not in done_insulation
-                shared = [k for k, v in inv_now.items() if k[0] == "circuit.voltage_drop" and _rank(v) < 2] and (
+                insul = tc is not None and rank(tc) < 2 and (part.id, "insulation") not in done_insulation
+                shared = [k for k, v in inv_now.items() if k[0] == "circuit.voltage_drop" and rank(v) < 2] and (
                     part.id,
                     edits.get((part.index, part.key)),
                 ) not in done_insulation
@@ -1895,7 +1954,7 @@ def size_drawing(
                 vs_part = vs
             inv = involved(part, vs_part)
             auto = (part.index, part.key) in prepared.auto
-            bad = [v for v in inv.values() if _rank(v) < 2]
+            bad = [v for v in inv.values() if rank(v) < 2]
             if not bad and not (auto and rounds == 1):
                 continue
             s = (
@@ -1982,7 +2041,7 @@ def _remaining(bench: Bench, prepared: Prepared, edits: dict, vs: dict) -> list[
     parts = parts_of(d, None, bench.render(edits))
     out = []
     for k, v in vs.items():
-        if _rank(v) >= 1.5:
+        if rank(v) >= 1.5:
             continue
         holders = [p for p in parts if k in involved(p, {k: v})]
         fixed = [p.id for p in holders if p.id in prepared.fixed]

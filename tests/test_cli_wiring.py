@@ -158,7 +158,7 @@ def test_rules_name_their_physics(capsys):
 
 
 def test_parts_option_gives_the_run_a_library(tmp_path):
-    """--parts DIR resolves bare part names in a drawing that names no library itself (issue 14.2);
+    """--parts DIR resolves bare part names in a drawing that names no library itself;
     without it the same drawing is bad input (exit 2) with the reference named."""
     from .conftest import coach_with_parts
 

@@ -165,7 +165,7 @@ def test_practitioner_units():
         html.margin_text(
             {"value": {"value": 150.0, "unit": "degC"}, "limit": {"value": 165.0, "unit": "degC"}, "margin": 0.03}
         )
-        == "+15.0 K"
+        == "15 K of headroom"  # 165 - 150 = 15 K
     )
     assert html.turns({"value": 2484.2, "unit": "A"}) == "2484 A-turns"
 

@@ -78,7 +78,7 @@ _HARNESS_R = (6 * 0.52e-3 + 3 * 1.82e-3) * (1 - 50 * ALPHA_CU) + 0.7e-3
 
 
 def test_relay_contact_rating_hand_worked():
-    """The contact's duty is decided at the largest continuous current (issue 10): coil resistance
+    """The contact's duty is decided at the largest continuous current: coil resistance
     -5 % and the bus at 28.0 + 0.3 + 0.020 V/K x 55 K = 29.4 V (coilstage/data/tolerance_defaults.toml:
     coil tolerance common practice, 24 V compensation from memory). Coil 0.5 Ω: I ≈ 29.4 /
     (0.475 x 0.8035 + 0.0076) ≈ 75.5 A; the relay passes at <= 90 % of its rating (common practice),
@@ -93,11 +93,11 @@ def test_relay_contact_rating_hand_worked():
     s = _by_part(sizing.suggestions(text))["K0"]
     assert s.suggested == "100 A" and s.smaller == "80 A"
     assert [f.rule for f in s.smaller_fails] == ["relay.contact_rating"]
-    assert min(x for x in sizing._series("relay_contact_rating") if 0.9 * x >= i) == 100
+    assert min(x for x in sizing.standard_series("relay_contact_rating") if 0.9 * x >= i) == 100
 
 
 def test_fuse_window_hand_worked():
-    """The fuse's continuous duty is decided at the largest continuous current (issue 10): coil
+    """The fuse's continuous duty is decided at the largest continuous current: coil
     resistance -5 % (coilstage/data/tolerance_defaults.toml, common practice) and the bus at
     set-point + tolerance + compensation at the lowest ambient, 28.0 + 0.3 + 0.020 V/K x (25 - -30) K
     = 29.4 V (the same table's 24 V compensation row, from memory). Coil 0.9 Ω: I ≈ 42.3 A through the
@@ -121,7 +121,7 @@ def test_fuse_window_hand_worked():
 
 def test_cable_size_hand_worked():
     """Coil 0.3 Ω, the main fuse protecting only the feed; the branch is judged at the largest
-    continuous current (issue 10: coil -5 %, bus 29.4 V, see the relay test). With the 4 mm² branch:
+    continuous current (coil -5 %, bus 29.4 V, see the relay test). With the 4 mm² branch:
     I ≈ 29.4 / (0.285 x 0.8035 + (6 x 0.52 + 3 x 4.55) mΩ x 0.8035 + 0.7 mΩ) ≈ 120.9 A (ISO 6722-1
     Table 4 resistances, the shipped table's values); with any thicker branch the current lies between
     that and the bound of a branch of no resistance, 29.4 / (0.2290 + 0.0025 + 0.0007) ≈ 126.6 A.
@@ -175,7 +175,7 @@ def _full_ok(text: str, part: sizing.Part, targets: dict) -> tuple[bool, list]:
     d = parse_drawing(text)
     _, verdicts = coilstage.check(d)
     inv = sizing.involved(part, {(v.rule, v.subject): v for v in verdicts})
-    bad = [v for k, v in inv.items() if sizing._rank(v) < targets.get(k, 2)]
+    bad = [v for k, v in inv.items() if sizing.rank(v) < targets.get(k, 2)]
     return not bad, bad
 
 
@@ -187,16 +187,13 @@ def _full_ok(text: str, part: sizing.Part, targets: dict) -> tuple[bool, list]:
 )
 def test_suggested_part_passes_and_next_smaller_fails(coil_r, branch, relay):
     text = drawing_text(stages=2, coil_r=[coil_r, 1.0], branch=branch).replace('"150 A"', f'"{relay}"')
-    prepared = sizing.prepare(text)
-    bench = sizing.Bench(prepared.loadable)
-    d = bench.drawing({})
-    parts = {p.id: p for p in sizing.parts_of(d, prepared)}
-    for s in sizing._suggestions(bench, prepared):
+    parts = {p.id: p for p in sizing.parts_of(parse_drawing(text), None, text)}
+    for s in sizing.suggestions(text):
         if s.suggested is None or s.kind not in ("cable", "relay"):
             continue
         part = parts[s.part]
         j = part.series.index(s.value_text)
-        targets = sizing._smallest(bench, part, {}, part.series).targets
+        targets = dict(s.targets)
         doc = TomlText(text)
         for (i, key), value in s.edits:
             doc.set("harness", i, key, value)

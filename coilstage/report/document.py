@@ -248,6 +248,40 @@ def field(a: Analysis) -> dict[str, Any]:
     }
 
 
+def _parameter_unit(key: str) -> str | None:
+    """The unit of a declared parameter, from the shipped tolerance defaults (a coil type's or a
+    cable's own key as its generic row); None where the key is not one of them."""
+    from coilstage.analysis import worst
+
+    rows = worst.defaults()
+    parts = key.split(".")
+    for k in (key, ".".join([parts[0], "*", *parts[2:]]) if len(parts) > 2 else key):
+        if k in rows:
+            return str(rows[k].get("unit"))
+    if key.startswith("environment.ambient"):  # the ambient range: a temperature step
+        return "degC"
+    if parts[0] == "cables" and key.endswith("length_tolerance"):
+        return str(rows.get("tolerances.cable_length", {}).get("unit")) if "tolerances.cable_length" in rows else None
+    return None
+
+
+def sensitivities(v: Verdict) -> list[dict[str, Any]]:
+    """The parameters that move a worst-case verdict's margin most, largest first: the tolerance key,
+    its words, the move stated (in the parameter's unit) and the margin's change over it (a
+    fraction: -0.05 is 5 points less)."""
+    return [
+        {
+            "parameter": s.parameter,
+            "words": s.words,
+            "change": s.change,
+            "unit": _parameter_unit(s.parameter),
+            "margin_change": s.margin_change,
+        }
+        for s in (v.worst.sensitivities if v.worst is not None else ())
+        if math.isfinite(s.change) and math.isfinite(s.margin_change)
+    ]
+
+
 def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
     """The whole report as plain data."""
     d = a.drawing
@@ -319,6 +353,7 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
                 },
                 "worst_conditions": None if v.worst is None else v.corner,
                 "deciding": [] if v.worst is None else list(v.worst.deciding),
+                "sensitivities": [] if v.worst is None else sensitivities(v),
             }
             for v in verdicts
         ],

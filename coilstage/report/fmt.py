@@ -75,21 +75,106 @@ def turns(d: dict[str, Any] | None) -> str:
     return f"{d['value']:.0f} A-turns"
 
 
-def margin_text(v: dict[str, Any]) -> str:
-    """A verdict's headroom: in K for a temperature (limit − value), else as a percentage of the limit."""
-    m = v.get("margin")
-    val, lim = v.get("value"), v.get("limit")
-    if (
+#: a failing margin below this (-1000 %) says nothing its size could: "far beyond the limit" instead
+FAR_BEYOND = -10.0
+
+
+def _temperature(val: dict[str, Any] | None, lim: dict[str, Any] | None) -> bool:
+    return (
         val is not None
         and lim is not None
         and val.get("unit") == "degC"
         and val.get("value") is not None
         and lim.get("value") is not None
-    ):
-        return f"{lim['value'] - val['value']:+.1f} K"
+    )
+
+
+def kelvin_text(value: float, limit: float, margin: float | None = None) -> str:
+    """Headroom of a temperature in kelvin: ``kelvin_text(135, 165) == '30 K of headroom'``,
+    ``kelvin_text(177, 165) == '12 K over'``; the margin's sign (where given) says which side is safe."""
+    h = limit - value
+    safe = margin >= 0 if margin is not None else h >= 0
+    k = abs(h)
+    amount = f"{k:.0f}" if k >= 10 else f"{k:.1f}"
+    return f"{amount} K of headroom" if safe else f"{amount} K over"
+
+
+def far_beyond(v: dict[str, Any]) -> bool:
+    """True where a failing margin's size means nothing: below -1000 %, or a limit of zero (a part
+    left with no rating at all, so no fraction of it can be stated)."""
+    m, val, lim = v.get("margin"), v.get("value"), v.get("limit")
+    if m is not None and math.isfinite(m) and m < FAR_BEYOND:
+        return True
+    return (
+        m is None
+        and v.get("status") == "fail"
+        and val is not None
+        and lim is not None
+        and val.get("value") is not None
+        and lim.get("value") == 0.0
+        and val.get("value") != 0.0
+    )
+
+
+def margin_text(v: dict[str, Any]) -> str:
+    """A verdict's headroom: in K for a temperature ("30 K of headroom", "12 K over"), "far beyond the
+    limit" with the value and limit where a percentage would mean nothing, else as a percentage of the
+    limit."""
+    m = v.get("margin")
+    val, lim = v.get("value"), v.get("limit")
+    if far_beyond(v):
+        return f"far beyond the limit ({qv(val)} against {qv(lim)})"
+    if _temperature(val, lim):
+        return kelvin_text(val["value"], lim["value"], m)
     if m is None:
         return "—"
     return f"{m * 100:+.0f} %" if math.isfinite(m) else NOT_FINITE
+
+
+def change_text(change: float, unit: str | None) -> str:
+    """A parameter's move towards its worst case: a fraction as "−5 %", V/K as mV/K, a temperature
+    step in K; the minus sign is the typographic one."""
+    if not math.isfinite(change):
+        return NOT_FINITE
+    if unit == "1":
+        t = f"{change * 100:+.3g} %"
+    elif unit == "V/K":
+        t = f"{change * 1e3:+.3g} mV/K"
+    elif unit == "degC":
+        t = f"{change:+.3g} K"
+    elif unit in (None, ""):
+        t = f"{change:+.3g}"
+    else:
+        t = f"{'+' if change >= 0 else '-'}{si(abs(change), unit)}"
+    return t.replace("-", "−", 1) if t.startswith("-") else t
+
+
+def sensitivity_text(s: dict[str, Any]) -> str:
+    """One sensitivity for a reader: "coil resistance −5 % takes 5.1 points" (of margin)."""
+    mc = s["margin_change"] * 100
+    verb = "takes" if mc < 0 else "gives"
+    return f"{s['words']} {change_text(s['change'], s.get('unit'))} {verb} {abs(mc):.1f} points"
+
+
+def worst_lines(v: dict[str, Any], top: int = 3) -> list[str]:
+    """For a verdict decided at its worst case: the nominal and worst-case margins with the
+    conditions, what decided them, and the ``top`` largest sensitivities where there are any; empty
+    for a verdict read at one corner."""
+    nom = v.get("nominal")
+    if not nom:
+        return []
+    nominal = {"status": nom["status"], "value": nom["value"], "limit": v.get("limit"), "margin": nom["margin"]}
+    where = v.get("worst_conditions") or v.get("corner") or "its worst case"
+    out = [
+        f"nominal: {nom['status'].upper()}, {margin_text(nominal)}; at the {where}: "
+        f"{v['status'].upper()}, {margin_text(v)}"
+    ]
+    if v.get("deciding"):
+        out.append("decided by: " + "; ".join(v["deciding"]))
+    sens = (v.get("sensitivities") or [])[:top]
+    if sens:
+        out.append("largest effects: " + "; ".join(sensitivity_text(s) for s in sens))
+    return out
 
 
 def fixed(value: float | None, unit: str, places: int = 1) -> str:

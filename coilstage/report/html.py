@@ -19,7 +19,7 @@ from html import escape
 from typing import Any
 
 from coilstage.report import actions as actions_mod
-from coilstage.report.fmt import duration, margin_text, percent, qv, si, turns
+from coilstage.report.fmt import duration, margin_text, percent, qv, si, turns, worst_lines
 
 #: How each status is shown: symbol, word, CSS class.
 STATUS = {
@@ -100,6 +100,7 @@ table.meta th { width: 34mm; background: none; font-weight: normal; color: #4a54
 .actions ul { margin: 0.5mm 0 0 0; padding-left: 4.5mm; }
 .actions li { margin: 0.3mm 0; }
 .actions .why { color: #333; }
+.worst { color: #444; font-size: 0.92em; }
 .actions .suggest { margin: 0.5mm 0 0 0; font-style: italic; }
 .actions .suggest::before { content: "→ what would pass: "; font-style: normal; font-weight: bold; }
 .signoff { border: 1.2pt solid var(--ink); padding: 3mm; break-inside: avoid; margin-top: 4mm; }
@@ -243,7 +244,9 @@ def _actions(doc: dict) -> str:
                 out.append(
                     f"<li>{status_badge(v['status'])} <code>{e(v['rule'])}</code>{subj}"
                     + (f": {escape(fig)}" if fig else "")
+                    + (f", {escape(margin_text(v))}" if fig else "")
                     + f'<div class="why">{e(v["note"])}</div>'
+                    + "".join(f'<div class="worst">{e(w)}</div>' for w in worst_lines(v))
                     + (f'<p class="suggest">{e(v["suggestion"])}</p>' if v.get("suggestion") else "")
                     + "</li>"
                 )
@@ -563,7 +566,9 @@ def _verdicts(doc: dict, h: str) -> str:
             + (f'<div class="note">{e(v["corner"])} corner</div>' if v.get("corner") else "")
             + f"</td><td class=n>{_vq(v['value']) if v['value'] else '—'}</td>"
             f"<td class=n>{_vq(v['limit']) if v['limit'] else '—'}</td>"
-            f"<td class=n>{margin_text(v)}</td><td>{e(v['note'])}</td></tr>"
+            f"<td class=n>{e(margin_text(v))}</td><td>{e(v['note'])}"
+            + "".join(f'<div class="worst">{e(w)}</div>' for w in worst_lines(v))
+            + "</td></tr>"
         )
     cols = (
         '<colgroup><col class="c-status"><col class="c-subject"><col class="c-num"><col class="c-num">'

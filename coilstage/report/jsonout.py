@@ -9,6 +9,12 @@ At the top level, beside the document's keys: ``actions`` (always: what to chang
 grouped by part, from :mod:`coilstage.report.actions`), and where given ``record`` (the run's
 traceability block, :mod:`coilstage.report.record`) and ``parts`` (every element as read,
 :mod:`coilstage.report.parts`). Their addition is schema version 1.1.
+
+Schema version 1.2: each verdict carries its ``suggestion`` (the one-line text of a checked part that
+would clear it, or null; the same text as in ``actions``), ``suggested`` (that suggestion's details:
+part, kind, today's value, the suggested value, the next smaller standard part and what it fails,
+whether the full check confirmed it; or null) and ``sensitivities`` (the parameters that move a
+worst-case verdict's margin most, largest first; empty where none were computed).
 """
 
 from __future__ import annotations
@@ -18,8 +24,9 @@ from typing import Any
 
 from coilstage.report import actions, safe
 
-#: the version of the JSON report's layout (1.1: record, parts and actions at the top level)
-SCHEMA_VERSION = "1.1"
+#: the version of the JSON report's layout (1.1: record, parts and actions at the top level; 1.2: the
+#: suggestion and the sensitivities beside each verdict)
+SCHEMA_VERSION = "1.2"
 
 
 def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dict[str, Any] | None = None) -> str:
@@ -31,8 +38,15 @@ def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dic
     for k, v in doc.items():
         if k not in out and k != "schema_version":
             out[k] = v
-    # a suggestion belongs to the action list; the verdicts keep their documented shape
-    out["verdicts"] = [{k: x for k, x in v.items() if k != "suggestion"} for v in doc["verdicts"]]
+    out["verdicts"] = [
+        {
+            **v,
+            "sensitivities": v.get("sensitivities", []),
+            "suggestion": v.get("suggestion"),
+            "suggested": v.get("suggested"),
+        }
+        for v in doc["verdicts"]
+    ]
     if parts is not None:
         out["parts"] = parts
     text = json.dumps(safe.guard(out, for_json=True), indent=2, ensure_ascii=False, allow_nan=False)

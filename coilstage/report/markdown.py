@@ -13,7 +13,7 @@ from typing import Any
 from coilstage.report import actions as actions_mod
 from coilstage.report import record as record_mod
 from coilstage.report import safe
-from coilstage.report.fmt import margin_text, num, pct, qv
+from coilstage.report.fmt import margin_text, num, pct, qv, worst_lines
 
 _MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|#~])")
 
@@ -62,6 +62,7 @@ def _opening(doc: dict[str, Any], record: dict[str, Any] | None) -> list[str]:
                 out.append(
                     f"  - {v['status'].upper()} {_code(v['rule'])}{subj}: {qv(v['value'])} against "
                     f"{qv(v['limit'])}, margin {margin_text(v)}. {_esc(v['note'])}"
+                    + "".join(f" {_esc(w[:1].upper() + w[1:])}." for w in worst_lines(v))
                     + (f" What would pass: {_esc(v['suggestion'])}" if v.get("suggestion") else "")
                 )
         if n:
@@ -219,7 +220,7 @@ def render(doc: dict[str, Any], *, brief: bool = False, record: dict[str, Any] |
         out.append(
             f"| {_esc(v['status'].upper())} | {_code(v['rule'])} | {_esc(v['subject'])} | {qv(v['value'])} | "
             f"{qv(v['limit'])} | "
-            f"{margin_text(v)} | {_esc(v['note'])} | {_esc(v['clause'])} |"
+            f"{margin_text(v)} | {_esc(' — '.join([v['note'], *worst_lines(v)]))} | {_esc(v['clause'])} |"
         )
     out += ["", "## Prospective short-circuit currents (cold corner)", ""]
     out.append(f"- battery terminals: {qv(doc['faults']['battery_terminals'])}")

@@ -12,7 +12,7 @@ from typing import Any
 from coilstage.report import actions as actions_mod
 from coilstage.report import record as record_mod
 from coilstage.report import safe
-from coilstage.report.fmt import NOT_FINITE, margin_text, num, pct, qv, turns
+from coilstage.report.fmt import NOT_FINITE, margin_text, num, pct, qv, turns, worst_lines
 
 _STYLE = {"pass": "green", "warn": "yellow", "fail": "bold red", "not checked": "magenta"}
 
@@ -110,6 +110,8 @@ def render(
                 line.append(f" {v['rule']}{subj}: {qv(v['value'])} against {qv(v['limit'])}, margin {margin_text(v)}")
                 say(line)
                 say(f"      {v['note']}")
+                for w in worst_lines(v):
+                    say(f"      {w}")
                 if v.get("suggestion"):
                     say(f"      what would pass: {v['suggestion']}")
     say()
@@ -389,6 +391,8 @@ def render(
             line.append(f"{x['rule']} {x['subject']}: ", style="bold")
             line.append(x["note"])
             say(line)
+            for w in worst_lines(x):
+                say(f"      {w}")
     rules: dict[str, str] = {}
     for x in doc["verdicts"]:
         rules.setdefault(x["rule"], x["clause"])

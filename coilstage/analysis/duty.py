@@ -322,16 +322,21 @@ class DutyResult:
                 if seg is None:  # no model kept: the recorded points are all there is
                     out = float(np.interp(sgn * level, sgn * y[j - 1 : j + 1], self.t[j - 1 : j + 1]))
                 else:
-                    y0 = self.state(j - 1)
+                    # the step again at a fine tolerance: its accepted points bracket the crossing closely
+                    fts, fys = integrate_dopri(seg, a, b, self.state(j - 1), rtol=1e-10, atol=1e-8, source="crossing")
+                    fy = np.array([sgn * (yy[col] - level) for yy in fys])
+                    m = int(np.nonzero(fy >= 0)[0][0]) if np.any(fy >= 0) else len(fts) - 1
+                    lo = max(m - 1, 0)
+                    ta, ya = float(fts[lo]), fys[lo]
 
                     def g(tt: float) -> float:
-                        if tt <= a:
-                            return float(y0[col] - level)
-                        _ts, ys = integrate_dopri(seg, a, tt, y0, rtol=1e-10, atol=1e-8, source="crossing time")
-                        return float(ys[-1][col] - level)
+                        if tt <= ta:
+                            return float(sgn * (ya[col] - level))
+                        _ts, ys = integrate_dopri(seg, ta, tt, ya, rtol=1e-10, atol=1e-8, source="crossing time")
+                        return float(sgn * (ys[-1][col] - level))
 
-                    gb = g(b)
-                    out = b if sgn * gb < 0 else bracketed_root(g, a, b, xtol=tol)
+                    tb = float(fts[m])
+                    out = tb if (m == lo or g(tb) < 0) else bracketed_root(g, ta, tb, xtol=tol)
         self._crossings[key] = out
         return out
 
@@ -476,6 +481,9 @@ def simulate(
             progress(t0, total)
     t = np.array(ts_all)
     ymat = np.array(ys_all)
+    # the hold at the melting point acts from the step after it is reached: the record is held there too
+    ymat[:, :n_c] = np.minimum(ymat[:, :n_c], cab_melt)
+    ymat[:, n_c : n_c + n_s] = np.minimum(ymat[:, n_c : n_c + n_s], st_melt)
     # the electrical figures at the recorded points
     cur_s = np.zeros((len(t), n_s))
     cur_c = np.zeros((len(t), n_c))

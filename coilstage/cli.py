@@ -213,7 +213,9 @@ def _check(args: argparse.Namespace) -> int:
             return EXIT_BAD_INPUT
         from coilstage import fleet
 
-        return fleet.run_many(paths, args.format, args.output, args.jobs, args.summary_format)
+        return fleet.run_many(
+            paths, args.format, args.output, args.jobs, args.summary_format, parts_dirs=tuple(args.parts or ())
+        )
     drawing_path = Path(paths[0])
     if args.output:
         outputs.check_target(args.output, [drawing_path])

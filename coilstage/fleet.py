@@ -118,26 +118,32 @@ def report_paths(drawings: list[Path], out_dir: Path, fmt: str) -> list[Path]:
 # ---------------------------------------------------------------- one drawing (runs in a worker)
 
 
-def _render(doc: dict, fmt: str) -> str:
+def _render(doc: dict, fmt: str, record: dict | None = None, parts: dict | None = None) -> str:
+    """One drawing's report, with the record block (and in JSON the parts block) a single check writes."""
     if fmt == "json":
         from coilstage.report import jsonout
 
-        return jsonout.render(doc)
+        return jsonout.render(doc, record, parts)
     if fmt == "markdown":
         from coilstage.report import markdown
 
-        return markdown.render(doc)
+        return markdown.render(doc, record=record)
     from rich.console import Console
 
     from coilstage.report import text
 
     buf = io.StringIO()
-    text.render(doc, Console(file=buf, width=140, color_system=None, force_terminal=False))
+    text.render(doc, Console(file=buf, width=140, color_system=None, force_terminal=False), record=record)
     return buf.getvalue()
 
 
-def check_one(path: str, fmt: str = "text", report: str | None = None) -> Row:
-    """Load, check and (with ``report``) write the report of one drawing; never raises."""
+def check_one(path: str, fmt: str = "text", report: str | None = None, run: dict | None = None) -> Row:
+    """Load, check and (with ``report``) write the report of one drawing; never raises.
+
+    ``run``: what the whole run shares, found once by the parent process: ``argv`` (the command
+    line the record block names), ``revision`` (the source revision, asked of git once, not per
+    drawing) and ``parts_dirs`` (the parts libraries of ``--parts``)."""
+    run = run or {}
     from coilstage.errors import AnalysisError, DataError, DrawingError
 
     t0 = time.perf_counter()
@@ -146,7 +152,7 @@ def check_one(path: str, fmt: str = "text", report: str | None = None) -> Row:
         import coilstage
         from coilstage.checks.base import Status
 
-        drawing = coilstage.load_drawing(path)
+        drawing = coilstage.load_drawing(path, parts_dirs=tuple(run.get("parts_dirs", ())))
         analysis, verdicts = coilstage.check(drawing)
         row.fails = sum(v.status is Status.FAIL for v in verdicts)
         row.warns = sum(v.status is Status.WARN for v in verdicts)
@@ -158,10 +164,12 @@ def check_one(path: str, fmt: str = "text", report: str | None = None) -> Row:
             tight = min(with_margin, key=lambda v: v.margin)
             row.margin, row.margin_rule, row.margin_subject = tight.margin, tight.rule, tight.subject
         if report is not None:
-            from coilstage.report import document
+            from coilstage.report import document, parts, record
             from coilstage.wirelist import write_atomic
 
-            write_atomic(Path(report), _render(document.build(analysis, verdicts), fmt))
+            rec = record.build(drawing, argv=run.get("argv"), revision=run.get("revision"))
+            listed = parts.build(drawing) if fmt == "json" else None
+            write_atomic(Path(report), _render(document.build(analysis, verdicts), fmt, rec, listed))
             row.report = report
     except (DrawingError, DataError) as exc:
         row.result = "bad input"
@@ -176,7 +184,7 @@ def check_one(path: str, fmt: str = "text", report: str | None = None) -> Row:
     return row
 
 
-def _check_job(job: tuple[str, str, str | None]) -> Row:
+def _check_job(job: tuple[str, str, str | None, dict | None]) -> Row:
     return check_one(*job)
 
 
@@ -197,10 +205,11 @@ def check_all(
     reports: list[Path] | None = None,
     jobs: int | None = None,
     progress=None,
+    run: dict | None = None,
 ) -> list[Row]:
     """Check every drawing, ``jobs`` at a time in worker processes; rows in the drawings' order.
-    ``progress(done, total, row)`` is called as each finishes."""
-    jobs_list = [(str(d), fmt, str(reports[k]) if reports else None) for k, d in enumerate(drawings)]
+    ``progress(done, total, row)`` is called as each finishes; ``run`` as for :func:`check_one`."""
+    jobs_list = [(str(d), fmt, str(reports[k]) if reports else None, run) for k, d in enumerate(drawings)]
     n = min(jobs or default_jobs(), len(jobs_list)) or 1
     rows: list[Row | None] = [None] * len(jobs_list)
     done = 0
@@ -341,8 +350,10 @@ def run_many(
     stdout=None,
     stderr=None,
     progress: bool = True,
+    parts_dirs: tuple = (),
 ) -> int:
-    """Check every drawing named by ``paths`` and print the summary; the worst exit code."""
+    """Check every drawing named by ``paths`` and print the summary; the worst exit code.
+    ``parts_dirs``: the parts libraries given to the run (``--parts``)."""
     stdout = stdout or sys.stdout
     stderr = stderr or sys.stderr
     drawings, missing = expand(paths)
@@ -368,6 +379,11 @@ def run_many(
             print("coilstage: a report would overwrite a drawing; choose another folder", file=stderr)
             return EXIT_BAD_INPUT
         folder.mkdir(parents=True, exist_ok=True)
+    run: dict = {"argv": list(sys.argv), "revision": None, "parts_dirs": tuple(parts_dirs)}
+    if reports is not None:
+        from coilstage.report import record
+
+        run["revision"] = record.source_revision()  # once for the run; each report's record names it
     t0 = time.perf_counter()
     if progress:
         from rich.console import Console
@@ -389,9 +405,10 @@ def run_many(
                 reports,
                 jobs,
                 lambda done, total, row: bar.update(task, completed=done, description=Path(row.drawing).name),
+                run,
             )
     else:
-        rows = check_all(drawings, fmt, reports, jobs)
+        rows = check_all(drawings, fmt, reports, jobs, run=run)
     elapsed = time.perf_counter() - t0
     code = max((r.exit_code for r in rows), default=EXIT_OK)
     if missing:

@@ -111,6 +111,34 @@ def test_text_and_csv_summaries_and_reports(tmp_path):
     assert "checked in" in err
 
 
+def test_fleet_reports_carry_the_record_and_parts_blocks(tmp_path):
+    """Each report a fleet run writes has what a single check writes: the record block (the
+    drawing's SHA-256, the command, the tables) and, in JSON, the parts block; in text and Markdown
+    the record. The SHA-256 is computed here with hashlib over the file's bytes."""
+    import hashlib
+
+    jsonschema = pytest.importorskip("jsonschema")
+    from .conftest import ROOT
+
+    paths = _batch(tmp_path / "fleet", n_good=2, bad=False)
+    schema = json.loads((ROOT / "docs" / "report-schema.json").read_text())
+    for fmt, ext in (("json", "json"), ("markdown", "md"), ("text", "txt")):
+        out_dir = tmp_path / f"reports-{fmt}"
+        code, _out, _err = _run(paths, jobs=2, out_dir=str(out_dir), fmt=fmt, progress=False)
+        assert code == 1
+        for p in paths:
+            body = (out_dir / f"{p.stem}.{ext}").read_text(encoding="utf-8")
+            digest = hashlib.sha256(p.read_bytes()).hexdigest()
+            if fmt == "json":
+                doc = json.loads(body)
+                jsonschema.validate(doc, schema)
+                assert doc["record"]["drawing"]["sha256"] == digest
+                assert doc["record"]["tables"]
+                assert {s.id for s in coilstage.load_drawing(p).stages} <= {x["id"] for x in doc["parts"]["parts"]}
+            else:
+                assert digest in "".join(body.split())  # a narrow terminal may fold the hash
+
+
 def test_expand(tmp_path):
     _batch(tmp_path / "f", n_good=1, bad=False, failing=False)
     found, missing = fleet.expand([str(tmp_path / "f"), str(tmp_path / "f" / "good-00.toml"), str(tmp_path / "nope")])

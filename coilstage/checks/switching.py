@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 from coilstage import tables
@@ -351,9 +352,10 @@ def _suppressors(a: Analysis) -> list[Verdict]:
     if a.switching is None:
         return [not_checked(SUPPRESSOR, "stages", "switching was not analysed")]
     out = []
-    system = a.drawing.supply.system_voltage
-    dump = tables.load_dump_clamped(system)
-    need_v = max(dump, a.drawing.corners.limit_bus)
+    central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
+    test, assumed = applicable_test(central)
+    dumps = stage_dumps(a.drawing, central)
+    u_hi, _hi_words = _highest_bus(a)
     for s in a.drawing.stages:
         sup = s.suppression
         if sup.kind == "none":
@@ -379,6 +381,18 @@ def _suppressors(a: Analysis) -> list[Verdict]:
                 )
             )
         what = "stand-off" if sup.bidirectional else "reverse"
+        said = f"Test {test}" + (", central suppression not stated: Test A assumed" if assumed else "")
+        if sup.bidirectional:  # it clamps the pulse (its energy: suppressor.load_dump); in service it must not conduct
+            clamped = tables.load_dump_clamped(a.drawing.supply.system_voltage)
+            need_v = max(clamped, u_hi)
+            why = (
+                f"must stand off the clamped load dump ({clamped:g} V, ISO 16750-2 Test B) and the highest bus "
+                f"({u_hi:g} V); the unclamped pulse's energy is suppressor.load_dump's"
+            )
+        else:  # a diode blocks the bus while its stage is on: the peak of the pulse that applies
+            peak = dumps[s.id].bus_peak
+            need_v = max(peak, u_hi)
+            why = f"must block the load-dump peak ({peak:g} V, ISO 16750-2 {said}) and the highest bus ({u_hi:g} V)"
         if sup.reverse_voltage is None:
             out.append(
                 not_checked(
@@ -393,8 +407,7 @@ def _suppressors(a: Analysis) -> list[Verdict]:
                     sup.reverse_voltage,
                     need_v,
                     "V",
-                    f"must block the clamped load dump ({dump:g} V, ISO 16750-2 Test B) and the highest bus "
-                    f"({a.drawing.corners.limit_bus:g} V)",
+                    why,
                     "limit",
                 )
             )
@@ -461,13 +474,19 @@ def _load_dump(a: Analysis) -> list[Verdict]:
     sups = {s.id: s.suppression for s in a.drawing.stages}
     for sid in a_dumps:
         sup = sups[sid]
-        if central != "not known":
-            v = _dump_verdict(sid, sup, (b_dumps if central == "central" else a_dumps)[sid], Status.FAIL)
-            out.append(v)
+        test, assumed = applicable_test(central)
+        if not assumed:
+            v = _dump_verdict(sid, sup, (b_dumps if test == "B" else a_dumps)[sid], Status.FAIL)
+            said = "central load-dump suppression stated" if test == "B" else "no central load-dump suppression stated"
+            out.append(dataclasses.replace(v, note=f"{v.note}; {said}"))
             continue
         va = _dump_verdict(sid, sup, a_dumps[sid], Status.FAIL)
         if va.status is not Status.FAIL:
-            out.append(va)
+            out.append(
+                dataclasses.replace(
+                    va, note=f"{va.note}; central load-dump suppression not stated: Test A (unclamped) assumed"
+                )
+            )
             continue
         vb = _dump_verdict(sid, sup, b_dumps[sid], Status.FAIL)
         if vb.status is Status.FAIL:
@@ -663,7 +682,9 @@ RELAY_BREAKING = Rule(
 SUPPRESSOR = Rule(
     "suppressor.rating",
     "Suppressor peak current, reverse (stand-off) voltage and energy per break",
-    "Break current at the cold corner; ISO 16750-2 Test B clamped load dump (35 V / 58 V); clamp energy computed",
+    "Break current at the cold corner; a diode blocks the ISO 16750-2 load-dump peak that applies (Test A "
+    "without central suppression or not stated, Test B with it), a TVS or varistor stands off the clamped "
+    "Test B (35 V / 58 V) and the highest bus; clamp energy per break computed",
     _suppressors,
     ("transient.clamp_decay",),
 )

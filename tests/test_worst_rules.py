@@ -195,3 +195,43 @@ def test_ampacity_in_one_vehicle_state_against_brute_force(path, cid, request):
     # the old envelope's margin (cold current against the stated zone's ampacity) is not what decides
     old = (a.ratings.cables[cid].ampacity.value - a.worst.largest_current[cid]) / a.ratings.cables[cid].ampacity.value
     assert verdict.margin != pytest.approx(old, rel=1e-3) or cid == "W-ALT"
+
+
+def test_braking_retained_decided_at_the_lowest_bus(coach):
+    # The old rule read the hot corner (stated battery EMF 25.2 V, alternator at its full idle output).
+    a, v = coach
+    b = a.worst.braking
+    verdict = v[("field.braking_retained", "retarder")]
+    assert verdict.corner == "lowest bus"
+    assert verdict.value == pytest.approx(b.ratio)
+    assert verdict.worst.nominal_value == pytest.approx(a.field.ratio_corners)
+    assert b.ratio < a.field.ratio_corners
+    # battery by hand: 9 mOhm x exp(ln(1.5)/48 x (25 - 40)) x (1 + 0.4 x 0.5) x 1.5 (shipped defaults), at
+    # the highest ambient that goes with hot coils; KVL at the battery: U = E(50 %) - R_b I_b
+    r_b = 0.009 * math.exp(0.008447 * (25 - 40)) * 1.2 * 1.5
+    sol = b.solution
+    d = a.drawing
+    u = sol.v[d.supply.battery.node] - sol.v[d.supply.negative_node]
+    assert u == pytest.approx(24.48 - r_b * sol.battery_current, rel=1e-9)
+    assert b.bus_voltage == pytest.approx(u, abs=1e-9)
+    # a lower bus heats the windings less than the hot corner's steady state
+    hot = a.conditions["hot"].temperatures
+    assert all(b.solution.resistance[s.id] < hot_r for s, hot_r in ((s, _hot_r(s, hot[s.id])) for s in d.stages))
+
+
+def _hot_r(stage, theta):
+    """The stage's resistance at ``theta`` [°C] with +5 % tolerance (IEC 60028 linear law)."""
+    c = stage.coil
+    return c.r_ref * (1 + ALPHA_CU * (theta - 20.0)) / (1 + ALPHA_CU * (c.t_ref - 20.0)) * stage.r_factor * 1.05
+
+
+def test_braking_ratio_without_magnetic_circuit_by_hand(truck):
+    # Coils without a magnetic circuit: effort ∝ (N·I)² (same turns on every stage), so the ratio is
+    # Σ I_low² / Σ I_cold² of the stage currents (hand sum over the two stages).
+    a, _ = truck
+    b = a.worst.braking
+    cold = a.corners["cold"].solution
+    num = sum(b.solution.current[s.id] ** 2 for s in a.drawing.stages)
+    den = sum(cold.current[s.id] ** 2 for s in a.drawing.stages)
+    assert b.ratio == pytest.approx(num / den, rel=1e-9)
+    assert b.ratio < a.field.ratio_corners

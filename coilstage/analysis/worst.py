@@ -11,7 +11,8 @@ continuous current, built from the drawing and the shipped tolerance defaults
   alternator off (a parked vehicle chafes too), cables at their zone temperature, the rest of the
   loads connected, and the fault's own resistance.
 * lowest bus (sag, pick-up, braking): the hot corner's temperatures with the battery as in the
-  smallest fault and the alternator at its idle output less its hot derating.
+  smallest fault and the alternator at its idle output less its hot derating; for the braking that
+  remains, also the coils at the high end of their resistance tolerance (less current).
 * largest current (continuous duty): the cold corner with every coil at the low end of its resistance
   tolerance and the bus held at the regulator's highest end (tolerance plus temperature compensation
   with the regulator at the lowest ambient).
@@ -36,8 +37,9 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_resistance
-from coilstage.analysis.conditions import Conditions
+from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_temperatures
 from coilstage.analysis.corners import cold_duty
+from coilstage.analysis.field import circuit_of
 from coilstage.analysis.linear import CaseNetwork
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
@@ -66,6 +68,34 @@ class BusView:
     words: tuple[tuple[str, str], ...]
     solution: Solution
     bus_voltage: float  # at the battery terminals [V]
+
+
+@dataclass(frozen=True)
+class BrakingView:
+    """The braking effort that remains at the lowest bus with the coils hot and at the high end of their
+    resistance tolerance, over the cold corner's (the low-speed law T ∝ σB²ω: B² from the magnetic
+    circuit, or (N·I)² where a coil has none)."""
+
+    name: str
+    words: tuple[tuple[str, str], ...]
+    solution: Solution
+    bus_voltage: float  # at the battery terminals [V]
+    effort_cold: float  # relative effort of the cold corner, all stages on
+    effort: float  # the same at the lowest bus
+    ratio: float  # effort / effort_cold
+
+
+def braking_effort(d: Drawing, currents: dict[str, float]) -> float:
+    """Relative braking effort of all stages at the stage currents ``currents`` (stage id -> A): the sum
+    over stages of B² in the gap at each coil's ampere-turns (the magnetic circuit), or (N·I)² for a
+    coil without one (the same measure :func:`coilstage.analysis.field.analyse_field` uses)."""
+    total = 0.0
+    circs = {name: circuit_of(c) for name, c in d.coils.items()}
+    for s in d.stages:
+        ni = s.coil.turns * currents[s.id] * s.coil_current_factor
+        circ = circs[s.coil.name]
+        total += circ.gap_flux_density(ni) ** 2 if circ is not None else ni * ni
+    return total
 
 
 #: Number of ambients the duty sweep takes between the drawing's lowest and highest (ends included).
@@ -123,6 +153,7 @@ class WorstCases:
     largest_current_solution: Solution | None = None  # the network at the largest continuous current
     duty_sweep: DutySweep | None = None  # the duty rules' consistent vehicle states over the ambient range
     duty_sweep_nominal: DutySweep | None = None  # the same states with nominal parts and the nominal bus
+    braking: BrakingView | None = None  # braking retained at the lowest bus, hot coils at +tolerance
 
 
 # The shipped defaults the worst cases take, with the end each one uses (``None``: the nominal value).
@@ -308,6 +339,60 @@ def worst_cases(
         sol.v[s.battery.node],
     )
 
+    # ---- braking retained: the lowest bus with the hot coils at the high end of their tolerance
+    r_hi = tol["coils.*.resistance_tolerance"]["high"]
+    # one state of the vehicle: the hot coils go with the highest ambient, so the battery's resistance is
+    # raised for its charge and age but taken at that ambient, not at the lowest one (a battery at
+    # -30 °C beside windings in an 80 °C retarder zone is two vehicles)
+    t_hot = d.environment.ambient_max
+    rb_hot = internal_resistance(
+        rb,
+        soc,
+        t_hot,
+        t_reference=25.0,
+        temperature_coefficient=tol["supply.battery.resistance_temperature_coefficient"]["nominal"],
+        empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
+        age_factor=age,
+    )
+    # the windings' steady state is solved again in this state (a lower bus heats them less), with the
+    # coils at the high end of their tolerance and the alternator hot-derated
+    db = _with_coil_tolerance(_with_battery(d, rb_hot), r_hi)
+    if alt is not None:
+        alt_b = dataclasses.replace(
+            alt, limit_idle=alt.limit_idle * (1 - derate), limit_rated=alt.limit_rated * (1 - derate)
+        )
+        db = dataclasses.replace(db, supply=dataclasses.replace(db.supply, alternator=alt_b))
+    db = dataclasses.replace(db, corners=dataclasses.replace(d.corners, hot_battery_emf=emf_min))
+    b_temps = hot_temperatures(db)
+    bsol = Circuit(db).solve(b_temps, SourceState(emf_min, alt.setpoint if alt else None, hot_alternator_limit(db)))
+    cold_sol = Circuit(d).solve(cold_t, cases["cold"].sources)
+    e_cold = braking_effort(d, {st.id: abs(cold_sol.current[st.id]) for st in d.stages})
+    e_low = braking_effort(d, {st.id: abs(bsol.current[st.id]) for st in d.stages})
+    braking = BrakingView(
+        "lowest bus",
+        (
+            (
+                "battery",
+                f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); {rb_hot * 1e3:.1f} mΩ (stated "
+                f"{rb * 1e3:.1f} mΩ at 25 °C, full, raised for {soc:.0%} charge and age × {age:g}, at the highest "
+                f"ambient {t_hot:g} °C that goes with hot coils)",
+            ),
+            ("alternator", alt_words),
+            (
+                "coils",
+                f"resistance {r_hi:+.0%} (tolerance; solenoid maker's FAQ), at their steady state in this state: "
+                + ", ".join(f"{st.id} {b_temps[st.id]:.0f} °C" for st in d.stages),
+            ),
+            ("cables", "as the hot corner"),
+            ("reference", "the cold corner's effort, all stages on"),
+        ),
+        bsol,
+        bsol.v[s.battery.node],
+        e_cold,
+        e_low,
+        e_low / e_cold if e_cold else math.nan,
+    )
+
     # ---- largest continuous current
     r_tol = tol["coils.*.resistance_tolerance"]["low"]
     g = tol["supply.alternator.compensation_24v" if cells == 12 else "supply.alternator.compensation_12v"]["nominal"]
@@ -348,6 +433,7 @@ def worst_cases(
         worst,
         duty_sweep(d, cases, r_tol, g),
         duty_sweep(d, cases, 0.0, 0.0),
+        braking,
     )
 
 

@@ -10,6 +10,7 @@ from coilstage.checks.base import (
     Verdict,
     at_least,
     at_most,
+    decided_at_worst,
     not_checked,
 )
 
@@ -72,6 +73,8 @@ def _saturation(a: Analysis) -> list[Verdict]:
 
 
 def _retained(a: Analysis) -> list[Verdict]:
+    """The braking effort the hot corner leaves, decided at the lowest bus (battery half charged, cold and
+    aged, alternator hot at idle, coils hot at the high end of their tolerance), the hot corner beside it."""
     f = a.field
     lim = a.drawing.retarder.min_braking_ratio
     if f is None:
@@ -83,9 +86,22 @@ def _retained(a: Analysis) -> list[Verdict]:
     )
     if f.torque:
         note += f"; estimated torque {f.torque['cold']:.0f} N·m cold, {f.torque['hot']:.0f} N·m hot"
+    b = a.worst.braking if a.worst is not None else None
     if lim is None:
+        if b is not None:
+            note += f"; at the lowest bus ({b.bus_voltage:.2f} V) {b.ratio:.0%}"
         return [not_checked(RETAINED, "retarder", note + "; no retarder.min_braking_ratio in the drawing", "1")]
-    return [at_least(RETAINED, "retarder", f.ratio_corners, lim, "1", note, "hot")]
+    nominal = at_least(RETAINED, "retarder", f.ratio_corners, lim, "1", note, "hot")
+    if b is None:
+        return [nominal]
+    words = (
+        f"braking effort at the lowest bus / cold {b.ratio:.0%} ({basis}; low-speed law T ∝ σB²ω), bus "
+        f"{b.bus_voltage:.2f} V at the battery terminals"
+    )
+    if f.torque and b.effort_cold:
+        words += f"; estimated torque {f.torque['cold'] * b.ratio:.0f} N·m"
+    worst = at_least(RETAINED, "retarder", b.ratio, lim, "1", words, b.name)
+    return [decided_at_worst(worst, nominal, b.name, tuple(f"{k} {v}" for k, v in b.words))]
 
 
 INDUCTANCE = Rule(
@@ -104,7 +120,7 @@ SATURATION = Rule(
 )
 RETAINED = Rule(
     "field.braking_retained",
-    "Braking effort the hot corner leaves, against the drawing's minimum",
+    "Braking effort the hot coils leave at the lowest bus, against the drawing's minimum",
     "Low-speed eddy-current law T ∝ σ·B²·ω (Smythe; Schieber); B from the magnetic circuit",
     _retained,
     ("magnetic.MagneticCircuit", "network.solve_with_limited_source"),

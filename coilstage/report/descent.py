@@ -24,6 +24,8 @@ def write_csv(r, path: Path) -> None:
                 "battery_A",
                 "alternator_A",
                 "battery_Ah",
+                *([f"{s}_surroundings_degC" for s in r.stage_ids] if r.zone_temperature is not None else []),
+                *(["battery_state_of_charge", "battery_emf_V"] if r.state_of_charge is not None else []),
             ]
         )
         for k, t in enumerate(r.t):
@@ -37,6 +39,12 @@ def write_csv(r, path: Path) -> None:
                     f"{r.battery_current[k]:.4g}",
                     f"{r.alternator_current[k]:.4g}",
                     f"{r.charge_drawn[k] / 3600:.4f}",
+                    *(f"{x:.4g}" for x in (r.zone_temperature[k] if r.zone_temperature is not None else ())),
+                    *(
+                        [f"{r.state_of_charge[k]:.4f}", f"{r.battery_emf[k]:.4f}"]
+                        if r.state_of_charge is not None
+                        else []
+                    ),
                 ]
             )
 
@@ -61,12 +69,23 @@ def write_json(r, path: Path, title: str) -> None:
         "alternator_current": r.alternator_current.tolist(),
         "battery_charge": (r.charge_drawn / 3600).tolist(),
     }
+    if r.zone_temperature is not None:
+        doc["surroundings_temperature"] = {s: r.zone_temperature[:, k].tolist() for k, s in enumerate(r.stage_ids)}
+    if r.state_of_charge is not None:
+        doc["battery_state_of_charge"] = r.state_of_charge.tolist()
+        doc["battery_emf"] = r.battery_emf.tolist()
+    if r.conditions is not None:
+        doc["conditions"] = {k: v for k, v in r.conditions.words}
+        doc["assumptions"] = list(r.conditions.assumptions)
     path.write_text(json.dumps(doc, allow_nan=False) + "\n", encoding="utf-8")
 
 
 def state_of_charge(r, d) -> np.ndarray | None:
-    """Battery state of charge over the duty [fraction]: the start value less the charge drawn over
-    the capacity (a plain charge balance, as the battery rule takes it); None without a capacity."""
+    """Battery state of charge over the duty [fraction], as the battery rule takes it: the simulated
+    one (charge used weighted for its rate, held at 0 once flat) where the run carries it, else the
+    start value less the charge drawn over the capacity; None without a capacity."""
+    if getattr(r, "state_of_charge", None) is not None:
+        return np.asarray(r.state_of_charge)
     cap = d.supply.battery.capacity
     if not cap or r.duty is None:
         return None
@@ -94,6 +113,12 @@ def figure(r, d, title: str):
             lw=1.5,
             label=f"{svgplot.group_label(g)} winding",
         )
+    if r.zone_temperature is not None:
+        zg = svgplot.coinciding({s: [r.zone_temperature[:, k]] for k, s in enumerate(r.stage_ids)})
+        for g in zg:
+            k = r.stage_ids.index(g[0])
+            lab = f"{svgplot.group_label(g)} surroundings"
+            ax[0].plot(tm, r.zone_temperature[:, k], color="tab:gray", lw=1.0, label=lab)
     for lim in sorted({s.coil.limit_temperature for s in d.stages}):
         ax[0].axhline(lim, color="tab:red", ls=":", lw=1)
         ax[0].annotate(
@@ -157,7 +182,23 @@ def figure(r, d, title: str):
     ax[2].set_ylabel("bus voltage [V]")
     soc = state_of_charge(r, d)
     if soc is not None:
-        ax[3].plot(tm, 100 * soc, "k", lw=1.3, label="state of charge (charge balance)")
+        label = (
+            "state of charge (Peukert-weighted)"
+            if getattr(r, "state_of_charge", None) is not None
+            else ("state of charge (charge balance)")
+        )
+        ax[3].plot(tm, 100 * soc, "k", lw=1.3, label=label)
+        flat = r.time_to_charge(0.0) if hasattr(r, "time_to_charge") else float("inf")
+        if np.isfinite(flat):
+            ax[3].axvline(flat / 60.0, color="tab:red", ls="--", lw=1.0)
+            ax[3].annotate(
+                f"flat after {flat / 60:.1f} min",
+                (flat / 60.0, 0.5),
+                xycoords=("data", "axes fraction"),
+                ha="left",
+                fontsize=7,
+                color="tab:red",
+            )
         floor = d.duty.min_soc if d.duty is not None else None
         if floor is not None:
             ax[3].axhline(100 * floor, color="tab:red", ls=":", lw=1.1)

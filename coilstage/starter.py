@@ -96,8 +96,8 @@ _SYSTEMS = {
         "rating_24v",
         "150 A",
         'rating_12v = "200 A"  # the same contacts at 12 V (invented)',
-        "60 V",
-        '{ voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "16.8 V", '
+        "100 V",
+        '{ voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "15 V", '
         'feed_resistance = "1.5 ohm", rise = "25 K" }',
         '{ kind = "diode_zener", zener_voltage = "24 V", forward_voltage = "0.9 V", peak_current = "150 A", '
         'reverse_voltage = "400 V", energy_rating = "120 J" }',
@@ -133,7 +133,7 @@ _SYSTEMS = {
         "150 A",
         "",
         "32 V",
-        '{ voltage = "12 V", resistance = "30 ohm @ 20 degC", operate_voltage = "8.4 V", feed_resistance = "0.8 ohm", '
+        '{ voltage = "12 V", resistance = "30 ohm @ 20 degC", operate_voltage = "7.5 V", feed_resistance = "0.8 ohm", '
         'rise = "20 K" }',
         '{ kind = "diode", forward_voltage = "0.9 V", peak_current = "200 A", reverse_voltage = "200 V", '
         'energy_rating = "20 J" }',
@@ -221,7 +221,8 @@ internal_resistance = "{rint}"  # the battery's internal resistance (invented{ba
 node = "B+"  # the battery positive node (optional; default "B+")
 capacity = "{capacity}"  # rated capacity, for the charge drawn over the duty (optional; invented)
 # chemistry = "flooded"  # "flooded", "agm" or "gel": its open-circuit voltage line and Peukert exponent (optional)
-# cold_cranking_current = "{s.cca}"  # rated cold-cranking current from the label (optional; invented)
+# cold_cranking_current = "{s.cca}"  # rated cold-cranking current of one 12 V battery (optional; invented)
+# cranking_standard = "SAE J537"  # the test it is rated to: "SAE J537", "EN 50342-1", "DIN 43539-2", "IEC 60095-1"
 # short_circuit_current = "{s.isc}"  # the maker's rated short-circuit current (optional; invented)
 # peukert = 1.25  # Peukert exponent for the usable charge (optional; default by chemistry)
 

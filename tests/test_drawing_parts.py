@@ -46,10 +46,13 @@ def test_battery_keys():
     d = _d(
         _battery(
             'chemistry = "agm"\ncold_cranking_current = "1000 A"\nshort_circuit_current = "2.5 kA"\npeukert = 1.12\n'
+            'cranking_standard = "EN 50342-1"\n'
         )
     )
     b = d.supply.battery
     assert (b.chemistry, b.cranking_current, b.short_circuit_current, b.peukert) == ("agm", 1000.0, 2500.0, 1.12)
+    assert b.cranking_standard == "EN 50342-1"
+    assert load_drawing(COACH).supply.battery.cranking_standard == "SAE J537"
     # the stated Peukert exponent is the sweep's row too
     s = d.tolerances["supply.battery.peukert_exponent"]
     assert (s.low, s.high, s.where) == (1.12, 1.12, "supply.battery.peukert")
@@ -65,6 +68,8 @@ def test_battery_keys():
         ("peukert = 0.8", "supply.battery.peukert", "from 1 to 2"),
         ('peukert = "1.2"', "supply.battery.peukert", "plain number"),
         ("peukert = nan", "supply.battery.peukert", "from 1 to 2"),
+        ('cranking_standard = "SAE"', "supply.battery.cranking_standard", '"SAE J537", "EN 50342-1"'),
+        ('cranking_standard = "SAE J537"', "supply.battery.cranking_standard", "a cold_cranking_current beside it"),
     ],
 )
 def test_bad_battery_values(line, where, words):
@@ -252,6 +257,7 @@ _STARTER_KEYS = (
     "load_dump_suppression",
     "chemistry",
     "cold_cranking_current",
+    "cranking_standard",
     "short_circuit_current",
     "peukert",
     "rotor_zone_rise",

@@ -18,9 +18,10 @@ class Battery:
     node: str
     capacity: float | None = None  # [C] (A·h × 3600)
     chemistry: str = "flooded"  # flooded | agm | gel (open-circuit voltage line and resistance rise)
-    cranking_current: float | None = None  # rated cold-cranking current [A] (bounds the resistance)
+    cranking_current: float | None = None  # rated cold-cranking current of one 12 V block [A] (bounds R)
     short_circuit_current: float | None = None  # maker's rated short-circuit current [A]
     peukert: float | None = None  # Peukert exponent for usable charge; None: the shipped default
+    cranking_standard: str = "SAE J537"  # the test cranking_current is rated to (physics.battery.CRANKING_TESTS)
 
 
 @dataclass(frozen=True)

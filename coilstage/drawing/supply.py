@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from coilstage import tables
+from coilstage.physics.battery import CRANKING_TESTS
 from coilstage.units import gate
 
 from .defaults import default
@@ -32,6 +33,7 @@ KEYS = {
         "capacity",
         "chemistry",
         "cold_cranking_current",
+        "cranking_standard",
         "emf",
         "internal_resistance",
         "node",
@@ -83,6 +85,9 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
         cca = r.quantity(b, "cold_cranking_current", "supply.battery", "current", default=None, positive=True)
         isc = r.quantity(b, "short_circuit_current", "supply.battery", "current", default=None, positive=True)
         peukert = r.value(b, "peukert", "supply.battery", _peukert, default=None)
+        standard = r.text(b, "cranking_standard", "supply.battery", default=None, choices=list(CRANKING_TESTS))
+        if "cranking_standard" in b and "cold_cranking_current" not in b:
+            r.problem("supply.battery.cranking_standard", b["cranking_standard"], "a cold_cranking_current beside it")
         bad = any(
             k in b
             for k, v in (
@@ -90,6 +95,7 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
                 ("cold_cranking_current", cca),
                 ("short_circuit_current", isc),
                 ("peukert", peukert),
+                ("cranking_standard", standard),
             )
             if v is None
         )
@@ -103,6 +109,7 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
                 cranking_current=cca,
                 short_circuit_current=isc,
                 peukert=peukert,
+                cranking_standard=standard or default("supply.battery.cranking_standard"),
             )
 
     alternator = None

@@ -350,3 +350,26 @@ def test_an_empty_tolerances_table_changes_nothing():
     assert empty == plain
     got = [(v.rule, v.subject, v.status, v.value) for v in check(empty)[1]]
     assert got == [(v.rule, v.subject, v.status, v.value) for v in check(plain)[1]]
+
+
+def test_every_new_key_is_in_the_format_document():
+    """docs/drawing-format.md names every key of [tolerances], of the battery, supply and environment
+    keys added for the operating state, of the relay coil circuit and of a joint."""
+    from coilstage.drawing import environment, harness, relays, supply, tolerances
+
+    from .conftest import ROOT
+
+    doc = (ROOT / "docs" / "drawing-format.md").read_text(encoding="utf-8")
+    keys = (
+        set(tolerances.KEYS)
+        | {"chemistry", "cold_cranking_current", "cranking_standard", "short_circuit_current", "peukert"}
+        | {"load_dump_suppression", "rotor_zone_rise", "rotor_zone_time_constant"}
+        | {"suppression", "fuse", "wire_size", "resistance_tolerance", "inductance_tolerance", "length_tolerance"}
+        | (harness.ELEMENT_KEYS["joint"] - {"id", "kind", "from", "to", "note"})
+    )
+    assert keys <= supply.KEYS["supply.battery"] | supply.KEYS["supply"] | environment.KEYS["environment"] | (
+        relays.KEYS["relay_coil"] | harness.ELEMENT_KEYS["joint"] | tolerances.KEYS
+    ) | {"resistance_tolerance", "inductance_tolerance", "length_tolerance"}
+    missing = sorted(k for k in keys if f"`{k}`" not in doc and f"`supply.battery.{k}`" not in doc)
+    missing = [k for k in missing if f".{k}`" not in doc]
+    assert missing == []

@@ -158,7 +158,7 @@ def test_tolerance_defaults_listed_once_under_assumptions(coach):
     }
     doc = build(a, list(verdicts.values()))
     lines = [x for x in doc["assumptions"] if x.startswith("worst-case default ")]
-    assert len(lines) == len(set(lines)) == 11
+    assert len(lines) == len(set(lines)) == 12
     by_key = {x.split(" ")[2]: x for x in lines}
     assert "supply.alternator.compensation_12v" not in by_key  # a 24 V drawing takes the 24 V gradient
     for key, line in by_key.items():

@@ -34,10 +34,15 @@ def truck():
     return _checked(TRUCK)
 
 
+#: as-routed length over the drawing's, the long end of the shipped default (+10 %, common practice)
+LENGTH_HIGH = 1.10
+
+
 def _r_cable(d, cid: str, theta: float) -> float:
-    """R = R'20 · length · (1 + α(θ − 20)) with the drawing's ISO 6722 R'20 (an input, not a result)."""
+    """R = R'20 · length · 1.10 · (1 + α(θ − 20)) with the drawing's ISO 6722 R'20 (an input, not a
+    result) and the cable at the long end of its length tolerance."""
     c = next(e for e in d.elements if e.id == cid)
-    return c.r20_per_m * c.length * (1 + ALPHA_CU * (theta - 20.0))
+    return c.r20_per_m * c.length * LENGTH_HIGH * (1 + ALPHA_CU * (theta - 20.0))
 
 
 def _by_id(d, eid: str):
@@ -142,7 +147,7 @@ def test_nuisance_opening_decided_at_the_largest_current(coach):
         assert verdict.margin < verdict.worst.nominal_margin
 
 
-def _brute_force_ampacity(path: str, cid: str):
+def _brute_force_ampacity(path: str, cid: str, coil_factor: float = 0.95, drawing=None):
     """Brute-force reference for the consistent-state sweep: for each ambient of the sweep, the drawing
     itself is changed (dataclasses.replace) so its zones stand at their stated temperature less
     (ambient_max − ambient), its cold corner is at that ambient with the bus the regulator's highest
@@ -153,7 +158,7 @@ def _brute_force_ampacity(path: str, cid: str):
 
     from coilstage.drawing.schema import Cable, Stage
 
-    d = load_drawing(path)
+    d = drawing or load_drawing(path)
     alt = d.supply.alternator
     g = 0.020 if d.supply.system_voltage == 24 else 0.010  # V/K, shipped compensation defaults (magnitude)
     lo, hi = d.environment.ambient_min, d.environment.ambient_max
@@ -163,7 +168,7 @@ def _brute_force_ampacity(path: str, cid: str):
         els = []
         for e in d.elements:
             if isinstance(e, Stage):
-                e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * 0.95))
+                e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * coil_factor))
             elif isinstance(e, Cable):
                 e = dataclasses.replace(e, zone_temperature=e.zone_temperature - (hi - t))
             els.append(e)
@@ -235,3 +240,46 @@ def test_braking_ratio_without_magnetic_circuit_by_hand(truck):
     den = sum(cold.current[s.id] ** 2 for s in a.drawing.stages)
     assert b.ratio == pytest.approx(num / den, rel=1e-9)
     assert b.ratio < a.field.ratio_corners
+
+
+def test_drawing_stated_tolerances_are_used():
+    import dataclasses
+
+    from coilstage.drawing.schema import ToleranceSpec
+
+    d = load_drawing(COACH)
+    tol = {
+        "coils.RC4.resistance_tolerance": ToleranceSpec(-0.10, 0.10, "uniform", "coils.RC4.resistance_tolerance"),
+        "cables.W-MAIN.length_tolerance": ToleranceSpec(0.0, 0.30, "uniform", "harness.W-MAIN.length_tolerance"),
+        "supply.battery.internal_resistance": ToleranceSpec(0.006, 0.030, "uniform", "supply.battery.resistance"),
+    }
+    ds = dataclasses.replace(d, tolerances={**d.tolerances, **tol})
+    a = analyse(ds, switching=False, heating=False)
+    sf, lf = a.worst.smallest_fault, a.worst.largest_fault
+    # the battery's stated range replaces the derived one at both ends
+    assert sf.battery_resistance == pytest.approx(0.030)
+    assert lf.battery_resistance == pytest.approx(0.006)
+    # main feed at +30 % (its own row), the other cables at the harness's +10 %: the hand calculation
+    # with W-MAIN's resistance scaled by 1.30/1.10
+    hand = _hand_far_end_main_with(a, {"W-MAIN": 1.30})
+    assert sf.far_end["W-MAIN"] == pytest.approx(hand, rel=1e-3)
+    # the coil type's own -10 % decides the consistent-state sweep: brute force with 0.90 x R
+    ref = _brute_force_ampacity(COACH, "W1", coil_factor=0.90, drawing=ds)
+    v = {(x.rule, x.subject): x for x in run_checks(a)}[("cable.ampacity", "W1")]
+    assert v.margin == pytest.approx(min(m for _, m in ref), rel=1e-6)
+    assert "-10%" in " ".join(v.worst.deciding)
+
+
+def _hand_far_end_main_with(a, length: dict[str, float]) -> float:
+    """:func:`_hand_far_end_main` with some cables at their own length factor instead of 1.10."""
+    global _r_cable
+    plain = _r_cable
+
+    def scaled(d, cid, theta):
+        return plain(d, cid, theta) * length.get(cid, LENGTH_HIGH) / LENGTH_HIGH
+
+    _r_cable = scaled
+    try:
+        return _hand_far_end_main(a)
+    finally:
+        _r_cable = plain

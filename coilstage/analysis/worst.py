@@ -41,6 +41,7 @@ from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_
 from coilstage.analysis.corners import cold_duty
 from coilstage.analysis.field import circuit_of
 from coilstage.analysis.linear import CaseNetwork
+from coilstage.analysis.tolerances import DRAWING_STATUS, effective, lookup
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.supply_limits import regulated_bus_range
@@ -168,6 +169,7 @@ _USED: tuple[tuple[str, str], ...] = (
     ("tolerances.fault_resistance", "high"),
     ("supply.alternator.hot_derating", "high"),
     ("coils.*.resistance_tolerance", "low"),
+    ("tolerances.cable_length", "high"),
 )
 
 
@@ -207,6 +209,44 @@ def defaults() -> dict[str, dict]:
     return {r["key"]: r for r in tables.shipped("tolerance_defaults.toml")["table"]["rows"]}
 
 
+def coil_tolerances(d: Drawing, tol: dict[str, dict], end: str) -> dict[str, float]:
+    """Stage id -> the ``end`` ("low" or "high") of its coil type's resistance tolerance (the drawing's
+    own row for that coil type where it states one, else the generic row) [fraction]."""
+    return {s.id: float(lookup(tol, "coils.*.resistance_tolerance", s.coil.name)[end]) for s in d.stages}
+
+
+def _tol_words(r: dict[str, float]) -> str:
+    vals = sorted(set(r.values()))
+    if len(vals) <= 1:
+        return f"{(vals[0] if vals else 0.0):+.0%}"
+    return ", ".join(f"{k} {v:+.0%}" for k, v in r.items())
+
+
+def _with_cable_length(d: Drawing, tol: dict[str, dict]) -> Drawing:
+    """The drawing with every cable at the long end of its length tolerance (its own row where the
+    drawing states one, else the harness's)."""
+    out = []
+    for e in d.elements:
+        if isinstance(e, Cable):
+            e = dataclasses.replace(
+                e, length=e.length * (1 + float(lookup(tol, "tolerances.cable_length", e.id)["high"]))
+            )
+        out.append(e)
+    return dataclasses.replace(d, elements=tuple(out))
+
+
+def regulator_tolerance(d: Drawing, tol: dict[str, dict]) -> float:
+    """The regulator's set-point tolerance [V]: the drawing's relative row where it states one
+    (``supply.alternator.tolerance``, high end × set-point), else the alternator's stated tolerance."""
+    alt = d.supply.alternator
+    if alt is None:
+        return 0.0
+    row = tol.get("supply.alternator.tolerance")
+    if row is not None and row.get("status") == DRAWING_STATUS:
+        return alt.setpoint * float(row["high"])
+    return alt.tolerance
+
+
 def _cells(d: Drawing) -> int:
     return 12 if d.supply.system_voltage == 24 else 6
 
@@ -243,7 +283,7 @@ def worst_cases(
     """The worst-case views of a drawing (see the module docstring); ``duty`` is the nominal largest
     current of each element [A], scaled here by the ratio of its all-stages-on current at the worst
     and at the nominal cold case."""
-    tol = defaults()
+    tol = effective(d)
     s = d.supply
     alt = s.alternator
     cells = _cells(d)
@@ -253,7 +293,8 @@ def worst_cases(
 
     # ---- largest fault
     emf_max = cells * tol["supply.battery.surface_charge_per_cell"]["high"]
-    rb_min = rb * tol["supply.battery.resistance_min_factor"]["low"]
+    rb_row = tol.get("supply.battery.internal_resistance")  # only where the drawing states the range
+    rb_min = float(rb_row["low"]) if rb_row else rb * tol["supply.battery.resistance_min_factor"]["low"]
     excess = tol["supply.alternator.cold_excess"]["high"]
     alt_max = alt.limit_rated * (1 + excess) if alt else None
     dmax = _with_battery(d, rb_min, base_load=0.0)
@@ -290,23 +331,28 @@ def worst_cases(
         empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
         age_factor=age,
     )
+    if rb_row:
+        rb_max = float(rb_row["high"])
     r_fault = tol["tolerances.fault_resistance"]["high"]
-    dmin = _with_battery(d, rb_max)
+    dmin = _with_cable_length(_with_battery(d, rb_max), tol)
     cmin = Circuit(dmin)
     zone_t = dict(cold_t)
     zone_t.update({c.id: c.zone_temperature for c in d.of_kind(Cable)})
     src_min = SourceState(emf_min, None, None, alt_fixed=True)
     at, far, bat = _faults(cmin, zone_t, src_min, protected, r_fault)
-    battery_words = (
-        f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); {rb_max * 1e3:.1f} mΩ (stated "
-        f"{rb * 1e3:.1f} mΩ at 25 °C, full, raised for {soc:.0%} charge, {t_min:g} °C and age × {age:g})"
+    battery_words = f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); " + (
+        f"{rb_max * 1e3:.1f} mΩ (the high end of the drawing's range)"
+        if rb_row
+        else f"{rb_max * 1e3:.1f} mΩ (stated {rb * 1e3:.1f} mΩ at 25 °C, full, raised for {soc:.0%} charge, "
+        f"{t_min:g} °C and age × {age:g})"
     )
+    len_hi = float(tol["tolerances.cable_length"]["high"])
     smallest = FaultView(
         "smallest fault",
         (
             ("battery", battery_words),
             ("alternator", "off (engine stopped)"),
-            ("cables", "at their zone temperatures"),
+            ("cables", f"at their zone temperatures, lengths at the long end of their tolerance ({len_hi:+.0%})"),
             ("other loads", "connected"),
             ("fault", f"{r_fault * 1e3:g} mΩ of its own (chafe or loose contact; from memory)"),
         ),
@@ -334,13 +380,17 @@ def worst_cases(
     sol = cmin.solve(hot.temperatures, src_low)
     lowest = BusView(
         "lowest bus",
-        (("battery", battery_words), ("alternator", alt_words), ("coils and cables", "as the hot corner")),
+        (
+            ("battery", battery_words),
+            ("alternator", alt_words),
+            ("coils and cables", f"as the hot corner, cable lengths {len_hi:+.0%}"),
+        ),
         sol,
         sol.v[s.battery.node],
     )
 
     # ---- braking retained: the lowest bus with the hot coils at the high end of their tolerance
-    r_hi = tol["coils.*.resistance_tolerance"]["high"]
+    r_hi = coil_tolerances(d, tol, "high")
     # one state of the vehicle: the hot coils go with the highest ambient, so the battery's resistance is
     # raised for its charge and age but taken at that ambient, not at the lowest one (a battery at
     # -30 °C beside windings in an 80 °C retarder zone is two vehicles)
@@ -356,7 +406,9 @@ def worst_cases(
     )
     # the windings' steady state is solved again in this state (a lower bus heats them less), with the
     # coils at the high end of their tolerance and the alternator hot-derated
-    db = _with_coil_tolerance(_with_battery(d, rb_hot), r_hi)
+    if rb_row:
+        rb_hot = float(rb_row["high"])
+    db = _with_coil_tolerance(_with_cable_length(_with_battery(d, rb_hot), tol), r_hi)
     if alt is not None:
         alt_b = dataclasses.replace(
             alt, limit_idle=alt.limit_idle * (1 - derate), limit_rated=alt.limit_rated * (1 - derate)
@@ -380,10 +432,10 @@ def worst_cases(
             ("alternator", alt_words),
             (
                 "coils",
-                f"resistance {r_hi:+.0%} (tolerance; solenoid maker's FAQ), at their steady state in this state: "
+                f"resistance {_tol_words(r_hi)} (tolerance), at their steady state in this state: "
                 + ", ".join(f"{st.id} {b_temps[st.id]:.0f} °C" for st in d.stages),
             ),
-            ("cables", "as the hot corner"),
+            ("cables", f"at their zone temperatures, lengths {len_hi:+.0%}"),
             ("reference", "the cold corner's effort, all stages on"),
         ),
         bsol,
@@ -394,14 +446,15 @@ def worst_cases(
     )
 
     # ---- largest continuous current
-    r_tol = tol["coils.*.resistance_tolerance"]["low"]
+    r_tol = coil_tolerances(d, tol, "low")
     g = tol["supply.alternator.compensation_24v" if cells == 12 else "supply.alternator.compensation_12v"]["nominal"]
     cold = cases["cold"]
     if alt is not None:
-        hi = regulated_bus_range(alt.setpoint, alt.tolerance, g, t_min, max(t_min, 25.0)).high
+        reg_tol = regulator_tolerance(d, tol)
+        hi = regulated_bus_range(alt.setpoint, reg_tol, g, t_min, max(t_min, 25.0)).high
         bus_high = max(hi, cold.sources.hold_bus or 0.0)
         reg_words = (
-            f"held at {bus_high:.2f} V: set-point {alt.setpoint:.2f} V + {alt.tolerance:.2f} V tolerance + "
+            f"held at {bus_high:.2f} V: set-point {alt.setpoint:.2f} V + {reg_tol:.2f} V tolerance + "
             f"{abs(g) * 1e3:g} mV/K compensation at {t_min:g} °C (from 25 °C)"
         )
     else:
@@ -410,7 +463,7 @@ def worst_cases(
     src_hi = dataclasses.replace(cold.sources, hold_bus=bus_high, battery_emf=bus_high)
     if src_hi.alt_setpoint is not None:
         src_hi = dataclasses.replace(src_hi, alt_setpoint=bus_high)
-    overrides = {e.id: element_resistance(e, cold_t.get(e.id, 20.0)) * (1 + r_tol) for e in d.of_kind(Stage)}
+    overrides = {e.id: element_resistance(e, cold_t.get(e.id, 20.0)) * (1 + r_tol[e.id]) for e in d.of_kind(Stage)}
     circuit = Circuit(d)
     nominal = circuit.solve(cold_t, cold.sources)
     worst = circuit.solve(cold_t, src_hi, overrides=overrides)
@@ -419,7 +472,7 @@ def worst_cases(
         for k, i in duty.items()
     }
     words = (
-        ("coils", f"{t_min:g} °C, resistance {r_tol:+.0%} (tolerance; solenoid maker's FAQ)"),
+        ("coils", f"{t_min:g} °C, resistance {_tol_words(r_tol)} (tolerance)"),
         ("bus", reg_words),
     )
     return WorstCases(
@@ -431,41 +484,46 @@ def worst_cases(
         bus_high,
         used_defaults(tol, cells, alt is not None),
         worst,
-        duty_sweep(d, cases, r_tol, g),
-        duty_sweep(d, cases, 0.0, 0.0),
+        duty_sweep(d, cases, r_tol, g, regulator_tolerance(d, tol)),
+        duty_sweep(d, cases, {}, 0.0),
         braking,
     )
 
 
-def _with_coil_tolerance(d: Drawing, r_tol: float) -> Drawing:
-    """The drawing with every coil's resistance at ``(1 + r_tol)`` × its stated one."""
+def _with_coil_tolerance(d: Drawing, r_tol: dict[str, float]) -> Drawing:
+    """The drawing with each stage's coil resistance at ``(1 + r_tol[stage id])`` × its stated one."""
     out = []
     for e in d.elements:
-        if isinstance(e, Stage):
-            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * (1 + r_tol)))
+        if isinstance(e, Stage) and r_tol.get(e.id, 0.0):
+            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * (1 + r_tol[e.id])))
         out.append(e)
     return dataclasses.replace(d, elements=tuple(out))
 
 
-def duty_sweep(d: Drawing, cases: dict[str, Conditions], r_tol: float, g: float) -> DutySweep:
+def duty_sweep(
+    d: Drawing, cases: dict[str, Conditions], r_tol: dict[str, float], g: float, reg_tol: float | None = None
+) -> DutySweep:
     """The largest continuous current of every element at each ambient of the sweep (module docstring):
     one linear network per ambient, every all-on and one-stage-alone state from its factorisation
-    (:func:`coilstage.analysis.corners.cold_duty`). With ``r_tol = g = 0``: nominal parts and the cold
-    corner's bus at every ambient."""
+    (:func:`coilstage.analysis.corners.cold_duty`). ``r_tol``: stage id -> its coil's resistance
+    tolerance end [fraction]. With ``r_tol = {}`` and ``g = 0``: nominal parts and the cold corner's bus
+    at every ambient."""
     env = d.environment
     alt = d.supply.alternator
     lo, hi = env.ambient_min, env.ambient_max
     ambients = tuple(float(x) for x in np.unique(np.linspace(lo, hi, SWEEP_POINTS))) if hi > lo else (float(lo),)
     cold = cases["cold"].sources
     # a cold-corner bus the drawing states itself (not the default set-point + tolerance) stays the floor
+    if alt is not None and reg_tol is None:
+        reg_tol = alt.tolerance
     stated_bus = alt is None or abs(d.corners.cold_bus - (alt.setpoint + alt.tolerance)) > 1e-9
-    circuit = Circuit(_with_coil_tolerance(d, r_tol) if r_tol else d)
+    circuit = Circuit(_with_coil_tolerance(d, r_tol) if any(r_tol.values()) else d)
     currents: dict[str, list[float]] = {e.id: [] for e in d.elements}
     states: dict[str, list[str]] = {e.id: [] for e in d.elements}
     buses = []
     for t in ambients:
         if alt is not None and g != 0.0:
-            bus = regulated_bus_range(alt.setpoint, alt.tolerance, g, t, t).high
+            bus = regulated_bus_range(alt.setpoint, reg_tol, g, t, t).high
             if stated_bus:
                 bus = max(bus, d.corners.cold_bus)
         elif alt is not None:
@@ -486,15 +544,15 @@ def duty_sweep(d: Drawing, cases: dict[str, Conditions], r_tol: float, g: float)
     elif g != 0.0:
         bus_words = (
             f"regulator's highest end with the regulator at the ambient (set-point {alt.setpoint:.2f} V + "
-            f"{alt.tolerance:.2f} V tolerance, {abs(g) * 1e3:g} mV/K compensation from 25 °C)"
+            f"{reg_tol:.2f} V tolerance, {abs(g) * 1e3:g} mV/K compensation from 25 °C)"
         )
     else:
         bus_words = f"held at {d.corners.cold_bus:.2f} V (the cold corner's)"
     words = (
         (
             "coils",
-            f"and cables starting at the ambient, coil resistance {r_tol:+.0%} (tolerance; solenoid maker's FAQ)"
-            if r_tol
+            f"and cables starting at the ambient, coil resistance {_tol_words(r_tol)} (tolerance)"
+            if any(r_tol.values())
             else "and cables starting at the ambient, stated coil resistance",
         ),
         ("zones", "stated temperature less (ambient_max − ambient): they follow the ambient (common practice)"),

@@ -234,13 +234,12 @@ class _DutyNetwork(QuasiStatic):
         rhs = self._rhs_base.copy()
         rhs[self.bat - 1] += emf / resistance
         self.rhs0 = rhs
-        if resistance == self._rb0:
+        dg = 1.0 / resistance - 1.0 / self._rb0  # the battery's conductance less the one stamped [S]
+        if dg == 0.0:
             self._bat_rows = None
-        else:
-            z = np.zeros(2, dtype=np.int64)
-            br = Branches(z, np.array([self.bat, self.bat], dtype=np.int64), np.array([-self._rb0, resistance]))
-            r, c, v, _rhs, _n = mna_matrix(self.n_nodes, br, self._none, self._none)
-            self._bat_rows = (r, c, v)
+        else:  # one diagonal entry: the battery lies between its node and the reference (node 0, dropped)
+            k = np.array([self.bat - 1], dtype=np.int64)
+            self._bat_rows = (k, k, np.array([dg]))
 
     def _solver(self, g: np.ndarray, extra: float):
         on = g > 0
@@ -323,7 +322,11 @@ class DutyResult:
                     out = float(np.interp(sgn * level, sgn * y[j - 1 : j + 1], self.t[j - 1 : j + 1]))
                 else:
                     # the step again at a fine tolerance: its accepted points bracket the crossing closely
-                    fts, fys = integrate_dopri(seg, a, b, self.state(j - 1), rtol=1e-10, atol=1e-8, source="crossing")
+                    fine = self._crossings.get(("fine", j))
+                    if fine is None:  # one fine pass per step, shared by every state that crosses in it
+                        fine = integrate_dopri(seg, a, b, self.state(j - 1), rtol=1e-10, atol=1e-8, source="crossing")
+                        self._crossings[("fine", j)] = fine
+                    fts, fys = fine
                     fy = np.array([sgn * (yy[col] - level) for yy in fys])
                     m = int(np.nonzero(fy >= 0)[0][0]) if np.any(fy >= 0) else len(fts) - 1
                     lo = max(m - 1, 0)
@@ -336,9 +339,29 @@ class DutyResult:
                         return float(sgn * (ys[-1][col] - level))
 
                     tb = float(fts[m])
-                    out = tb if (m == lo or g(tb) < 0) else bracketed_root(g, ta, tb, xtol=tol)
+                    out = tb if m == lo else self._refine(seg, g, ta, ya, tb, fys[m], col, sgn, level, tol)
         self._crossings[key] = out
         return out
+
+    @staticmethod
+    def _refine(seg, g, ta, ya, tb, yb, col, sgn, level, tol) -> float:
+        """The crossing of ``level`` inside one fine step [ta, tb]: first the root of the cubic Hermite
+        interpolant of the state through both ends with their derivatives (dense output of the step),
+        kept where the solution itself confirms it (g changes sign across ±tol of it); otherwise, as
+        where the step holds a kink (a conductor held at its melting point), a bracketed root of g."""
+        h = tb - ta
+        fa, fb = np.asarray(seg(ta, ya))[col], np.asarray(seg(tb, yb))[col]
+        p0, p1 = sgn * (ya[col] - level), sgn * (yb[col] - level)
+        m0, m1 = sgn * fa * h, sgn * fb * h
+        # p(s) = (2s³ − 3s² + 1)p0 + (s³ − 2s² + s)m0 + (−2s³ + 3s²)p1 + (s³ − s²)m1, s in [0, 1]
+        coef = [2 * p0 + m0 - 2 * p1 + m1, -3 * p0 - 2 * m0 + 3 * p1 - m1, m0, p0]
+        roots = [float(r.real) for r in np.roots(coef) if abs(r.imag) < 1e-12 and -1e-9 <= r.real <= 1 + 1e-9]
+        if roots:
+            est = ta + min(roots) * h
+            lo, hi = max(ta, est - tol), min(tb, est + tol)
+            if (lo == ta or g(lo) < 0) and g(hi) >= 0:
+                return est
+        return bracketed_root(g, ta, tb, xtol=tol)
 
     def time_to(self, k: int, limit: float, tol: float = 1e-3) -> float:
         """First time stage ``k``'s winding reaches ``limit`` [s] (inf: never within the duty)."""
@@ -405,9 +428,12 @@ def simulate(
     def soc_of(used: float) -> float:
         return min(1.0, max(0.0, start_soc - used / cap))
 
+    last = [math.nan]
+
     def set_battery(used: float) -> None:
-        if not cap:  # no capacity: the stated EMF and resistance throughout
+        if not cap or used == last[0]:  # no capacity: the stated EMF and resistance throughout
             return
+        last[0] = used
         soc = soc_of(used)
         emf = open_circuit_voltage(soc, cond.cells, offset_per_cell=cond.ocv_offset)
         r = internal_resistance(

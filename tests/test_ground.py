@@ -1,0 +1,114 @@
+"""Ground and return rule: each return lost in turn, the network re-solved without it, where the current
+goes and what opens or overheats. Before this rule a lost return was never considered (every case below
+passed silently). Checked by Kirchhoff's current law at the ground stud and Ohm's law across the open
+return on the re-solved network, and by hand on a small harness."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from coilstage import check
+from coilstage.analysis.ground import OPEN_RESISTANCE, lose_return, returns
+from coilstage.checks import Status
+from coilstage.checks.ground import LOST_RETURN
+from coilstage.drawing.load import parse_drawing
+
+from .conftest import COACH, drawing_text
+
+COACH_TEXT = COACH.read_text(encoding="utf-8")
+CHASSIS_PATH = '\n[[harness]]\nid = "G-BODY"\nkind = "ground"\nfrom = "GSTUD"\nto = "CHASSIS"\nresistance = "{r}"\n'
+
+
+def analysed(text: str):
+    a, _ = check(parse_drawing(text, "case"))
+    return a
+
+
+def one(a, subject):
+    (v,) = [v for v in LOST_RETURN.evaluate(a) if v.subject == subject]
+    return v
+
+
+def test_a_stage_return_lost_drops_the_stage_out():
+    # Coach W1R (S1's return) lost: no other path, S1's current falls to nothing (its braking drops out),
+    # and the open return stands at the branch voltage (S1- floats up to S1+: no current, no drop).
+    a = analysed(COACH_TEXT)
+    v = one(a, "W1R")
+    assert v.status is Status.WARN and "S1 53.5 -> 0.0 A" in v.note
+    cold = a.conditions["cold"]
+    lr = lose_return(a.drawing, "W1R", cold.temperatures, cold.sources)
+    sol = lr.solution
+    assert abs(sol.current["S1"]) < 1e-6
+    assert lr.gap_voltage == pytest.approx(sol.v["S1+"] - sol.v["GSTUD"], abs=1e-6)
+    assert {e.id for e in returns(a.drawing)} >= {"W1R", "W2R", "W3R", "W4R", "W-RET", "W-STRAP"}
+
+
+def test_shared_return_lost_goes_through_the_chassis_and_strap():
+    # With the ground stud also bolted to the body (a 2 mohm chassis path), losing W-RET sends the stages'
+    # current through the body and the battery strap W-STRAP. Kirchhoff's current law at GSTUD: the
+    # chassis path carries what the four stage returns bring; Ohm's law: the open W-RET stands at
+    # I x (R_body + R_strap).
+    a = analysed(COACH_TEXT + CHASSIS_PATH.format(r="2 mohm"))
+    cold = a.conditions["cold"]
+    lr = lose_return(a.drawing, "W-RET", cold.temperatures, cold.sources)
+    s = lr.solution
+    into_stud = sum(s.current[k] for k in ("W1R", "W2R", "W3R", "W4R"))
+    assert s.current["G-BODY"] == pytest.approx(into_stud, rel=1e-6)
+    assert s.current["W-STRAP"] == pytest.approx(into_stud, rel=1e-6)
+    i = s.current["G-BODY"]
+    assert lr.gap_voltage == pytest.approx(i * (s.resistance["G-BODY"] + s.resistance["W-STRAP"]), rel=1e-6)
+    v = one(a, "W-RET")
+    assert "G-BODY" in v.note and "W-STRAP" in v.note
+    # the 95 mm^2 strap carries it within its ampacity; the body path has no rating in the drawing: WARN
+    assert s.current["W-STRAP"] < a.ratings.cables["W-STRAP"].ampacity.value
+    assert v.status is Status.WARN and "G-BODY (" in v.note and "no rating" in v.note
+    # A 6 mm^2 strap cannot carry the four stages: the loss pushes it over its ampacity (33 CFR 183.425)
+    thin = COACH_TEXT.replace('size = "95 mm^2"\nlength = "0.6 m"', 'size = "6 mm^2"\nlength = "0.6 m"')
+    assert thin != COACH_TEXT
+    v = one(analysed(thin + CHASSIS_PATH.format(r="2 mohm")), "W-RET")
+    assert v.status is Status.FAIL and "the loss pushes W-STRAP overheats" in v.note
+
+
+def test_battery_strap_lost_leaves_body_shorts_uncleared():
+    # W-STRAP carries nothing in service; lost, a short to the body has no way back: WARN, saying so.
+    v = one(analysed(COACH_TEXT), "W-STRAP")
+    assert v.status is Status.WARN and "short to the body" in v.note
+
+
+def test_lost_return_by_hand_on_two_stages():
+    # Generated 24 V harness: two stages on a 35 mm^2 feed, each with its own return to a stud, the stud to
+    # B- by its return cable. Independent check: the intact and broken networks solved by numpy.linalg on
+    # the nodal equations written out here (the held bus of the cold corner as an ideal source).
+    a = analysed(drawing_text(stages=2))
+    cold = a.conditions["cold"]
+    d = a.drawing
+    ret = [e.id for e in returns(d) if e.a.startswith("S") or e.b.startswith("S")]
+    lost = ret[0]
+    lr = lose_return(d, lost, cold.temperatures, cold.sources)
+    s = lr.solution
+    nodes = sorted({n for e in d.elements for n in (e.a, e.b)} | {d.supply.negative_node, d.supply.battery.node})
+    idx = {n: k for k, n in enumerate(nodes)}
+    g = np.zeros((len(nodes), len(nodes)))
+    for e in d.elements:
+        r = OPEN_RESISTANCE if e.id == lost else s.resistance[e.id]
+        i, j = idx[e.a], idx[e.b]
+        for p, q in ((i, i), (j, j)):
+            g[p, q] += 1 / r
+        g[i, j] -= 1 / r
+        g[j, i] -= 1 / r
+    # fix B- at 0 and B+ at the held bus; other loads and sources as the solution's currents
+    fixed = {d.supply.negative_node: s.v[d.supply.negative_node], d.supply.battery.node: s.v[d.supply.battery.node]}
+    inj = np.zeros(len(nodes))
+    if d.supply.base_load > 0 and d.supply.base_load_node in idx:
+        inj[idx[d.supply.base_load_node]] -= d.supply.base_load
+    if d.supply.alternator is not None and d.supply.alternator.node in idx:
+        inj[idx[d.supply.alternator.node]] += s.alternator_current
+    free = [n for n in nodes if n not in fixed]
+    fi = [idx[n] for n in free]
+    xi = [idx[n] for n in fixed]
+    vx = np.array([fixed[n] for n in fixed])
+    vf = np.linalg.solve(g[np.ix_(fi, fi)], inj[fi] - g[np.ix_(fi, xi)] @ vx)
+    for n, v in zip(free, vf, strict=True):
+        assert s.v[n] == pytest.approx(v, abs=1e-6), n
+    assert lr.stages and lr.stages[0].after < 1e-6

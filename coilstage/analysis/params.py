@@ -401,6 +401,18 @@ class Model:
         self.st_fault = net.stamps(norton, net.size(False))
         self.st_low = net.stamps([*norton, (0, net.alt_node)], net.size(False))
         self.c_open = net.vsource_block(False, net.size(False))
+        # the stages as ports of the duty network: p_k = e_a − e_b (None where a node is reached only
+        # through stages: the stage-free network would float it)
+        others = {int(v) for j in range(len(d.elements)) if j not in self.stages for v in (net.ea[j], net.eb[j])}
+        touched = {int(v) for j in self.stages for v in (net.ea[j], net.eb[j])}
+        self.ports = None
+        if touched <= others | {0}:
+            self.ports = np.zeros((net.size(True), len(self.stages)))
+            for q, j in enumerate(self.stages):
+                if net.ea[j] > 0:
+                    self.ports[net.ea[j] - 1, q] += 1.0
+                if net.eb[j] > 0:
+                    self.ports[net.eb[j] - 1, q] -= 1.0
 
     # ---- the sample's inputs
     def column(self, x: np.ndarray, key: str, default: float) -> np.ndarray:
@@ -458,7 +470,6 @@ class Model:
         on = np.ones((len(states), len(self.d.elements)))
         for q, st in enumerate(states):
             on[q, self.stages] = st
-        g_el = g[:, None, :] * on[None, :, :]  # (N, Q, E)
         size = net.size(True)
         rhs = np.zeros((n, size))
         alt = self.d.supply.alternator
@@ -473,9 +484,33 @@ class Model:
         if base > 0:
             net.inject(rhs, net.base_node, np.full(n, -base))
         rhs[:, size - 1] = bus
-        rhs = np.broadcast_to(rhs[:, None, :], (n, len(states), size))
-        xs = net.solve(g_el[..., net.res_el], self.st_duty, self.c_duty, rhs)
-        return net.element_currents(xs, g_el), xs, bus
+        g_el = g[:, None, :] * on[None, :, :]  # (N, Q, E)
+        if self.ports is None or s_count < 2:
+            rhs_q = np.broadcast_to(rhs[:, None, :], (n, len(states), size))
+            xs = net.solve(g_el[..., net.res_el], self.st_duty, self.c_duty, rhs_q)
+            return net.element_currents(xs, g_el), xs, bus
+        # Stages as ports of the stage-free network (one solve per sample with 1 + S right-hand sides):
+        # A0 v = b − P i, stage k: R_k i_k = p_kᵀ v, so (diag R + K) i = c with Z = A0⁻¹P, K = PᵀZ,
+        # c = Pᵀ A0⁻¹ b (the RL reduction of analysis.linear, here at DC and for every sample at once)
+        g0 = g.copy()
+        g0[:, self.stages] = 0.0
+        sol = net.solve(
+            g0[:, net.res_el],
+            self.st_duty,
+            self.c_duty,
+            np.concatenate([rhs[:, :, None], np.broadcast_to(self.ports, (n, *self.ports.shape))], axis=2),
+        )
+        xb, z = sol[:, :, 0], sol[:, :, 1:]
+        c = xb @ self.ports  # (N, S)
+        k = np.einsum("zs,nzt->nst", self.ports, z)  # (N, S, S)
+        rs = r[:, self.stages]
+        i_all = np.linalg.solve(k + rs[:, :, None] * np.eye(s_count), c[:, :, None])[:, :, 0]
+        i_alone = c / (rs + np.einsum("nss->ns", k))
+        i_q = np.concatenate([i_all[:, None, :], i_alone[:, :, None] * np.eye(s_count)[None]], axis=1)
+        xs = xb[:, None, :] - np.einsum("nqs,nzs->nqz", i_q, z)
+        cur = net.element_currents(xs, g_el)
+        cur[:, :, self.stages] = i_q
+        return cur, xs, bus
 
     def battery_low(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(EMF, resistance) of the battery for the low bus (N,) each."""

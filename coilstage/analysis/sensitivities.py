@@ -47,6 +47,11 @@ STEP = 1e-3
 FULL_CORNERS = 8
 #: points of the scan across a non-monotone parameter's range
 SCAN = 11
+#: above this many unknowns the sensitivities are not computed (dense batched solves: cost ∝ n³ per sample)
+MAX_UNKNOWNS = 150
+#: how a gradient was found
+EXACT = "exact: direct or adjoint method on the network's factorisation (physics.sensitivity)"
+DIFFERENCED = "central differences through params.evaluate"
 #: a margin change below this (a fraction: 1e-5 is a thousandth of a point) counts as no effect
 NEGLIGIBLE = 1e-5
 
@@ -191,10 +196,18 @@ def analyse_sensitivities(
 
     ``exhaustive`` forces every corner (True) or the search (False); by default every corner is
     evaluated where at most :data:`FULL_CORNERS` parameters have an effect."""
-    ps = model(d).params
+    m = model(d)
+    if m.net.size(True) > MAX_UNKNOWNS:
+        raise ValueError(
+            f"the network has {m.net.size(True)} unknowns, above the {MAX_UNKNOWNS} the dense vectorised model takes"
+        )
+    ps = m.params
     p = len(ps)
     x0 = nominal(ps)
     grads, m0 = gradients(d)
+    exact = exact_gradients(d)
+    methods = {k: EXACT if k in exact else DIFFERENCED for k in grads}
+    grads.update(exact)
     keys = [k for k in (keys if keys is not None else list(grads)) if k in grads]
     if not keys:
         return {}
@@ -282,9 +295,7 @@ def analyse_sensitivities(
         effects = tuple(sorted(eff, key=lambda e: e.margin_change))
         values = {q.key: float(xc[j]) for j, q in enumerate(ps) if xc[j] != x0[j]}
         corner = Corner(xc, m, st, values, tuple(ps[j].key for j in flags[k]), full, interior[k])
-        out[k] = VerdictSensitivity(
-            k, m0[k], grads[k], "central difference through params.evaluate", effects, corner, tuple(ps), gc
-        )
+        out[k] = VerdictSensitivity(k, m0[k], grads[k], methods[k], effects, corner, tuple(ps), gc)
     return out
 
 
@@ -308,3 +319,125 @@ def corner_words(vs: VerdictSensitivity) -> tuple[str, ...]:
         where = f"; its worst lies inside the range, at {at:g} {p.unit}" if at is not None else "; both ends searched"
         out.append(f"not monotone in {p.words}: its effect changes sign within {p.low:g} to {p.high:g} {p.unit}{where}")
     return tuple(out)
+
+
+#: relative step for differencing the element laws (closed forms, no solve: round-off ε/h only)
+LAW_STEP = 1e-6
+
+
+def exact_gradients(d: Drawing, at: np.ndarray | None = None) -> dict[tuple[str, str], np.ndarray]:
+    r"""dm/dp of the margins that come from a linear solve, exactly on the network's factorisation:
+    the duty network (fuse.continuous, cable.ampacity, relay.contact_rating, circuit.voltage_drop) by
+    the direct method, the low-bus network (supply.bus_minimum) by the adjoint method
+    (:mod:`coilstage.physics.sensitivity`), each in the state the sample is in (the stage state that
+    gives an element its largest current; the alternator's present state).
+
+    .. math:: \frac{\partial x}{\partial p} = -A^{-1}\Bigl(\frac{\partial A}{\partial p}x
+              - \frac{\partial b}{\partial p}\Bigr)
+
+    ∂A/∂p and ∂b/∂p are the stamps of the element conductances' and sources' derivatives; those of
+    the element laws themselves (R(θ) scaled by a tolerance, the regulator line, the battery's
+    open-circuit line and resistance) are differenced with a relative step of :data:`LAW_STEP`
+    (closed forms, no solve: their round-off is ε/h, about 2e-10 relative). The breaking-capacity
+    margin (a ratio of two solves, U_oc / Z_kk) is left to :func:`gradients` (central differences).
+    """
+    from coilstage.physics.sensitivity import adjoint_sensitivities, direct_sensitivities
+
+    m = model(d)
+    ps = m.params
+    net = m.net
+    lim = m.limits
+    p = len(ps)
+    x0 = nominal(ps) if at is None else np.asarray(at, dtype=float)
+    h = LAW_STEP * np.where(np.abs(x0) > 0, np.abs(x0), np.array([q.high - q.low for q in ps]))
+    rows = np.tile(x0, (2 * p + 1, 1))
+    rows[1 : p + 1] += np.diag(h)
+    rows[p + 1 :] -= np.diag(h)
+
+    def diff(v: np.ndarray) -> np.ndarray:  # (2P+1, ...) -> derivative (P, ...)
+        return (v[1 : p + 1] - v[p + 1 :]) / (2 * h).reshape((p,) + (1,) * (v.ndim - 1))
+
+    out: dict[tuple[str, str], np.ndarray] = {}
+    el = m.el_ix
+    d_ = m.d
+    # ---- duty network, every stage state, full matrices
+    r = m.resistances(rows, m.ambient(rows))
+    g = np.divide(1.0, r, out=np.zeros_like(r), where=r > 0)
+    size = net.size(True)
+    b = np.zeros((len(rows), size))
+    alt = d_.supply.alternator
+    if alt is not None:
+        net.inject(b, net.alt_node, alt.limit_rated * (1.0 + m.column(rows, "supply.alternator.cold_excess", 0.0)))
+        b[:, size - 1] = m.regulated(rows)
+    else:
+        b[:, size - 1] = d_.corners.cold_bus
+    if d_.supply.base_load > 0:
+        net.inject(b, net.base_node, np.full(len(rows), -d_.supply.base_load))
+    s_count = len(m.stages)
+    states = [np.ones(s_count, dtype=bool)]
+    if s_count > 1:
+        states += [np.arange(s_count) == k for k in range(s_count)]
+    cur_q, dcur_q, x_q, dx_q = [], [], [], []
+    for st in states:
+        on = np.ones(len(d_.elements))
+        on[m.stages] = st
+        g_on = g * on
+        # A is linear in the conductances: ∂A/∂p is the stamps of ∂g/∂p (differencing the assembled
+        # matrix instead would lose digits where sub-milliohm parts sit beside ohm coils)
+        a0 = (g_on[0, net.res_el] @ m.st_duty).reshape(size, size) + m.c_duty
+        da = (diff(g_on[:, net.res_el]) @ m.st_duty).reshape(p, size, size)
+        x = np.linalg.solve(a0, b[0])
+        dx = direct_sensitivities(a0, x, da, diff(b))  # (P, size)
+        v = np.concatenate([[0.0], x[: net.n]])
+        dv = np.concatenate([np.zeros((p, 1)), dx[:, : net.n]], axis=1)
+        i = (v[net.ea] - v[net.eb]) * g_on[0]
+        di = diff(g_on) * (v[net.ea] - v[net.eb]) + g_on[0] * (dv[:, net.ea] - dv[:, net.eb])
+        for q, k in enumerate(net.zero_el):
+            i[k] = x[net.n + q]
+            di[:, k] = dx[:, net.n + q]
+        cur_q.append(i)
+        dcur_q.append(di)
+        x_q.append(v)
+        dx_q.append(dv)
+    cur = np.array(cur_q)  # (Q, E)
+    dcur = np.array(dcur_q)  # (Q, P, E)
+    best = np.argmax(np.abs(cur), axis=0)
+    for kind, limits in (("fuse.continuous", lim.fuse_limit), ("cable.ampacity", lim.cable_limit)):
+        for eid, limit in limits.items():
+            j = el[eid]
+            q = best[j]
+            out[(kind, eid)] = -np.sign(cur[q, j]) * dcur[q, :, j] / limit
+    for eid, (limit, _held) in lim.relay_limit.items():
+        j = el[eid]
+        out[("relay.contact_rating", eid)] = -np.sign(cur[best[j], j]) * dcur[best[j], :, j] / limit
+    v, dv = x_q[0], dx_q[0]
+    for sj in m.stages:
+        e = d_.elements[sj]
+        df = (dv[:, net.bat] - (dv[:, net.ea[sj]] - dv[:, net.eb[sj]])) / d_.supply.system_voltage
+        out[("circuit.voltage_drop", e.id)] = -df / lim.drop_pass
+    # ---- low bus, in the alternator's present state
+    if lim.v_min > 0:
+        _x, mode = m.low_bus(x0[None])
+        r = m.resistances(rows, m.hot_t)
+        emf, rb = m.battery_low(rows)
+        size = net.size(False)
+        b = np.zeros((len(rows), size))
+        net.inject(b, net.bat, emf / rb)
+        if d_.supply.base_load > 0:
+            net.inject(b, net.base_node, np.full(len(rows), -d_.supply.base_load))
+        g_alt = np.zeros(len(rows))
+        if mode[0] in (0, 1):
+            if mode[0] == 0:
+                g_alt = np.full(len(rows), 1.0 / alt.source_resistance)
+                net.inject(b, net.alt_node, m.regulated(rows) / alt.source_resistance)
+            else:
+                net.inject(b, net.alt_node, m.hot_limit * (1.0 - m.column(rows, "supply.alternator.hot_derating", 0.0)))
+        g_rows = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None], g_alt[:, None]], axis=1)
+        a0 = (g_rows[0] @ m.st_low).reshape(size, size) + m.c_open
+        da = (diff(g_rows) @ m.st_low).reshape(p, size, size)
+        x = np.linalg.solve(a0, b[0])
+        c = np.zeros(size)
+        c[net.bat - 1] = 1.0
+        dy = adjoint_sensitivities(a0, x, c, da, diff(b))
+        out[("supply.bus_minimum", "bus")] = dy / lim.v_min
+    return out

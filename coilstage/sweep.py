@@ -483,6 +483,9 @@ def _param_row(p: ParameterLike) -> dict[str, Any]:
         "high": float(p.high),
         "unit": p.unit,
         "distribution": str(p.distribution),
+        "elements": list(getattr(p, "elements", ()) or ()),
+        "source": str(getattr(p, "source", "")),
+        "status": str(getattr(p, "status", "")),
     }
 
 

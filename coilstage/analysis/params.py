@@ -549,24 +549,24 @@ class Model:
         limit = self.hot_limit * (1.0 - self.column(x, "supply.alternator.hot_derating", 0.0))
         u_set = self.regulated(x)
         r_src = alt.source_resistance
-        # the three states of the source, solved for every sample; each keeps the one consistent with
-        # it (physics.network.charging_source_state, with the same rounding allowance)
-        g_reg = np.concatenate([g_el, 1.0 / rb[:, None], np.full((n, 1), 1.0 / r_src)], axis=1)
+        # the three states of the source from one solve of the network without it, for the injection
+        # and a unit current at its node (z): limited x = x_b + L z, off x = x_b, regulating by the
+        # Sherman–Morrison update for its conductance G = 1/r_src to the reference,
+        # x = y − G z (eᵀy)/(1 + G eᵀz) with y = x_b + (u/r_src) z; each sample keeps the state
+        # consistent with it (physics.network.charging_source_state, with the same rounding allowance)
         g_off = np.concatenate([g_el, 1.0 / rb[:, None], np.zeros((n, 1))], axis=1)
-        rhs_reg = rhs.copy()
-        net.inject(rhs_reg, net.alt_node, u_set / r_src)
-        rhs_lim = rhs.copy()
-        net.inject(rhs_lim, net.alt_node, limit)
-        x_reg = net.solve(g_reg, self.st_low, self.c_open, rhs_reg)
-        i_reg = (u_set - x_reg[:, net.alt_node - 1]) / r_src
+        unit = np.zeros((n, size))
+        net.inject(unit, net.alt_node, np.ones(n))
+        sol = net.solve(g_off, self.st_low, self.c_open, np.stack([rhs, unit], axis=2))
+        xb, z = sol[:, :, 0], sol[:, :, 1]
+        k = net.alt_node - 1
+        y = xb + (u_set / r_src)[:, None] * z
+        x_reg = y - (z * (y[:, k] / (r_src + z[:, k]))[:, None])
+        i_reg = (u_set - x_reg[:, k]) / r_src
         slack = 1e-9 * np.maximum(1.0, limit)
         mode = np.where(i_reg > limit + slack, 1, np.where(i_reg < -slack, 2, 0))
-        out = x_reg
-        if np.any(mode != 0):
-            g2 = g_off[mode != 0]
-            r2 = np.where((mode[mode != 0] == 1)[:, None], rhs_lim[mode != 0], rhs[mode != 0])
-            out = x_reg.copy()
-            out[mode != 0] = net.solve(g2, self.st_low, self.c_open, r2)
+        x_lim = xb + limit[:, None] * z
+        out = np.where((mode == 0)[:, None], x_reg, np.where((mode == 1)[:, None], x_lim, xb))
         return out, mode
 
     def largest_fault(self, x: np.ndarray) -> dict[str, np.ndarray]:

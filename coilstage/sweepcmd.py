@@ -168,7 +168,8 @@ def summary(result: Any, drawing_path: Path, title: str, out: Path) -> str:
         f"{len(tight)} tight (some sample fails or warns, or the 1 % quantile margin is under "
         f"{100 * sweep.TIGHT_MARGIN:.0f} %): histograms written for them.",
         f"Worst case: {result.rules[0].corner_note if result.rules else 'not known'}.",
-        "Quantiles are read from a histogram of the margins (within 'quantile_resolution' of the sample quantile).",
+        "Quantiles are read from a histogram of the margins: each within 'quantile_resolution' (sweep.json) of the "
+        "ceil(qN)-th smallest sample.",
         "",
         CAUTION,
     ]
@@ -216,7 +217,10 @@ def document(result: Any, drawing_path: Path, title: str, stems: dict[tuple[str,
             "normal": "mean at the middle of [low, high], the ends at ±3 sigma, truncated at the ends",
             "shares": "fraction of the samples; 95 % Wilson score interval (Wilson 1927, JASA 22:209-212)",
             "margin": "headroom as a fraction of the rule's limit, positive on the safe side",
-            "quantiles": f"from a {sweep.HIST_BINS}-bin histogram, within quantile_resolution of the sample quantile",
+            "quantiles": (
+                f"from a histogram of at most {sweep.HIST_BINS} cells: within quantile_resolution of the "
+                "ceil(qN)-th smallest sample (Hyndman and Fan 1996, definition 1)"
+            ),
             "worst_case": result.rules[0].corner_note if result.rules else "",
             "tight": f"some sample fails or warns, or the 1 % quantile margin is under {sweep.TIGHT_MARGIN:g}",
         },

@@ -2,7 +2,8 @@
 
 1. Suggestions for every failing verdict of the flawed demo, against its check alone (in-process,
    warm imports, median of runs): the time suggestions add.
-2. ``size`` of the flawed demo (in-process, median of runs).
+2. ``size`` of the flawed demo (in-process, median of runs), and once with the invented workshop
+   parts library (configs/parts/).
 3. ``size`` of a synthetic 16-stage drawing with undersized branches, 12 V-only relays and no
    suppression (in-process, one run).
 
@@ -170,6 +171,13 @@ def main() -> None:
     print(
         f"size flawed demo: {t_size:.2f} s ({len(r.changes)} changes, {r.rounds} rounds, "
         f"{r.evaluations['screen']} screened, {r.evaluations['full']} full checks; target < 2 s)"
+    )
+    lib = (ROOT / "configs" / "parts",)
+    t_lib, r_lib = _median(lambda: sizing.size_drawing(text, str(FLAWED), FLAWED.parent, parts_dirs=lib), 1)
+    chosen = sorted({c.new.rsplit("#", 1)[-1] for c in r_lib.changes if c.key == "part"})
+    print(
+        f"size flawed demo with the invented workshop library: {t_lib:.2f} s (library parts chosen: "
+        f"{', '.join(chosen) or 'none'})"
     )
     syn = synthetic(16)
     t = time.perf_counter()

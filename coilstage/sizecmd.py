@@ -23,6 +23,13 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("drawing", type=Path, help="drawing file (TOML); never modified")
     parser.add_argument("-o", "--output", type=Path, required=True, help="where to write the new drawing")
     parser.add_argument("--force", action="store_true", help="replace the output file if it exists")
+    parser.add_argument(
+        "--parts",
+        action="append",
+        metavar="DIR",
+        help="a parts library (a TOML file or a folder of them): its fuses, relays and suppressors are chosen "
+        "where one passes every rule (smallest first), and bare part names resolve there; may be repeated",
+    )
 
 
 def run(args: argparse.Namespace) -> int:
@@ -43,7 +50,7 @@ def run(args: argparse.Namespace) -> int:
         print(f"coilstage: {out} exists; give --force to replace it", file=sys.stderr)
         return 2
     try:
-        result = sizing.size_drawing(text, str(src), src.parent)
+        result = sizing.size_drawing(text, str(src), src.parent, parts_dirs=tuple(getattr(args, "parts", None) or ()))
     except DrawingError as exc:
         print(f"coilstage: {exc.source}: {len(exc.problems)} problem(s)", file=sys.stderr)
         for p in exc.problems:
@@ -56,7 +63,9 @@ def run(args: argparse.Namespace) -> int:
             from coilstage.drawing.load import parse_drawing
 
             try:
-                parse_drawing(sizing.prepare(text).loadable, str(src), src.parent)
+                parse_drawing(
+                    sizing.prepare(text).loadable, str(src), src.parent, tuple(getattr(args, "parts", None) or ())
+                )
             except DrawingError as err:
                 for p in err.problems:
                     print(f"  {p}", file=sys.stderr)

@@ -833,10 +833,13 @@ def _insulation(bench: Bench, part: Part, base: dict) -> tuple[dict, str | None]
     from coilstage import tables
 
     inv_today = involved(part, bench.screen(base, switching=False, rules=part.rules) or {})
-    top = _with(base, ((part.index, part.key), part.series[_top(bench, part, base, part.series, part.key, inv_today)]))
-    inv = involved(part, bench.screen(top, switching=False, rules=part.rules) or {})
     k = ("cable.temperature_class", part.id)
     ka = ("cable.ampacity", part.id)
+    if k not in inv_today or rank(inv_today[k]) >= 2:
+        # the class passes at today's size: a larger conductor heats itself less, so it passes there too
+        return base, None
+    top = _with(base, ((part.index, part.key), part.series[_top(bench, part, base, part.series, part.key, inv_today)]))
+    inv = involved(part, bench.screen(top, switching=False, rules=part.rules) or {})
     if k not in inv or rank(inv[k]) >= 2:
         return base, None
     # the lowest class that passes the class rule, and if one does, the lowest that also leaves the
@@ -1983,16 +1986,186 @@ def size_drawing(
             changed = True
         if not changed:
             break
+    library = parts_library_of(bench)
+    if library is not None:
+        _library_choices(bench, prepared, library, edits, changes)
     out_text = _write(text, prepared, edits)
     final = bench.full(edits)
     verdicts = final[2]
     remaining = _remaining(bench, prepared, edits, final[1])
     ch = [
-        Change(part, key, _show(old, prepared.auto.get((i, key))), _show(new), "; ".join(sorted(whys)))
+        Change(
+            part,
+            key,
+            _show(old, prepared.auto.get((i, key))),
+            _show(new),
+            "; ".join(sorted(whys)),
+        )
         for (i, key), (part, old, new, whys) in changes.items()
         if old != new
     ]
     return SizeResult(out_text, ch, verdicts, remaining, rounds, dict(bench.evaluations))
+
+
+# ---------------------------------------------------------------- whole parts from a parts library
+
+
+def parts_library_of(bench: Bench):
+    """The parts libraries of the run: those given (``--parts``) and those the drawing names
+    (``[tables] parts``, relative to the drawing); None where there are none. A library with
+    problems is left out here (the loader reports it where the drawing refers to it)."""
+    from coilstage.errors import DataError
+    from coilstage.parts_library import Library, load_library
+
+    paths = [Path(p) for p in bench.parts_dirs]
+    raw = getattr(bench, "_raw", None)
+    if raw is None:
+        try:
+            raw = tomllib.loads(bench.text)
+        except tomllib.TOMLDecodeError:
+            raw = {}
+    named = (raw.get("tables") or {}).get("parts") if isinstance(raw.get("tables"), dict) else None
+    for x in [named] if isinstance(named, str) else named if isinstance(named, list) else []:
+        if isinstance(x, str):
+            paths.append((bench.base_dir or Path(".")) / x)
+    lib = Library()
+    for p in paths:
+        try:
+            lib.merge(load_library(p))
+        except DataError:
+            continue
+    return lib if lib.files else None
+
+
+def _amps(text: Any) -> float:
+    from coilstage.units import parse_quantity
+
+    try:
+        return parse_quantity(str(text), "current")
+    except Exception:
+        return math.inf
+
+
+def _energy(text: Any) -> float:
+    from coilstage.units import parse_quantity
+
+    try:
+        return parse_quantity(str(text), "energy")
+    except Exception:
+        return math.inf
+
+
+def _ref_text(bench: Bench, lp) -> str:
+    """How the new drawing names a library part: its file relative to the drawing (so the drawing
+    loads without --parts), and its name."""
+    import os
+
+    f = Path(lp.file)
+    if bench.base_dir is not None:
+        try:
+            return f"{Path(os.path.relpath(f, bench.base_dir)).as_posix()}#{lp.name}"
+        except ValueError:  # another drive
+            pass
+    return f"{f.as_posix()}#{lp.name}"
+
+
+_ELEMENT_KEEP = {"id", "kind", "from", "to", "zone", "length", "protects", FIXED_KEY}
+
+
+def library_candidates(bench: Bench, part: Part, system_voltage: float, library) -> list[tuple[str, tuple, float]]:
+    """The library's parts that could take ``part``'s place, smallest first: (label, edits, size).
+
+    A fuse comes at each rating of its maker's series (its own rating where it gives none), ordered
+    by rating; a relay by its contact rating at the system voltage; a suppressor by its energy
+    rating, then its peak current. Each candidate's edits name the part (``part = "file#name"``)
+    and take out the element's own keys the part gives, so that the maker's values apply."""
+    raw = tomllib.loads(bench.text)
+    entry = (raw.get("harness") or [])[part.index]
+    out: list[tuple[str, tuple, float]] = []
+    if part.kind in ("fuse", "relay"):
+        for lp in library.parts_of(part.kind):
+            drop = tuple(((part.index, k), None) for k in entry if k in lp.fields and k not in _ELEMENT_KEEP)
+            name = ((part.index, "part"), format_value(_ref_text(bench, lp)))
+            if part.kind == "fuse":
+                for r in lp.series or (lp.fields.get("rating"),):
+                    if r is None:
+                        continue
+                    edits = (*[x for x in drop if x[0][1] != "rating"], name, ((part.index, "rating"), format_value(r)))
+                    out.append((f"{lp.name} at {r}", edits, _amps(r)))
+            else:
+                key = "rating_24v" if system_voltage == 24 else "rating_12v"
+                out.append((lp.name, (*drop, name), _amps(lp.fields.get(key))))
+    elif part.kind == "suppressor":
+        for lp in library.parts_of("suppressor"):
+            size = _energy(lp.fields.get("energy_rating")) * 1e6 + _amps(lp.fields.get("peak_current"))
+            out.append((lp.name, (((part.index, "suppression"), format_value({"part": _ref_text(bench, lp)})),), size))
+    out.sort(key=lambda c: c[2])
+    return out
+
+
+def _library_choices(bench: Bench, prepared: Prepared, library, edits: dict, changes: dict) -> None:
+    """Whole parts from the library where one passes every rule it takes part in: for each fuse,
+    relay and stage suppressor sizing may change, the smallest library candidate whose verdicts all
+    pass, judged on the full analysis for a fuse (its duty rules) and on the screen with the
+    switching analysis for a relay or a suppressor (no duty rule reads them). Only a verdict the
+    design as sized cannot judge for missing data may stay not checked. Where no library part
+    passes, the part stays as sized from the standard series. The change list names the part and
+    what the next smaller candidate fails."""
+    d = bench.drawing(edits)
+    if d is None:
+        return
+    for part in parts_of(d, prepared):
+        if part.id in prepared.fixed or part.kind == "cable":
+            continue
+        cands = library_candidates(bench, part, d.supply.system_voltage, library)
+        if not cands:
+            continue
+        rules = part.rules if part.kind != "relay" else ("relay.",)
+        full = part.kind == "fuse"
+
+        def judged(e: dict, full: bool = full, rules: tuple = rules) -> dict | None:
+            if full:
+                return bench.duty(e, rules)
+            return bench.screen(e, switching=True, rules=rules)
+
+        now = involved(part, judged(edits) or {})
+        # every verdict passes; one the design as sized cannot judge for missing data may stay so
+        bar = {k: 1.5 if rank(v) == 1.5 else 2.0 for k, v in now.items()}
+        chosen = None
+        before: tuple = ()
+        for label, cand_edits, _size in cands:
+            e = _with(edits, *cand_edits)
+            screen = bench.screen(e, switching=True, rules=rules)
+            inv = involved(part, screen or {})
+            bad = [v for k, v in inv.items() if rank(v) < bar.get(k, 2.0)]
+            if screen is not None and not bad and full:
+                inv = involved(part, judged(e) or {})
+                bad = [v for k, v in inv.items() if rank(v) < bar.get(k, 2.0)]
+            if screen is not None and inv and not bad:
+                chosen = (label, cand_edits)
+                break
+            before = (label, tuple(Finding.of(v) for v in bad))
+        if chosen is None:
+            continue
+        label, cand_edits = chosen
+        why = f"library part {label} passes every rule it takes part in (smallest of the library first)"
+        replaced = sorted(k[1] for k, v in cand_edits if v is None)
+        if replaced:
+            why += "; its maker's values replace " + ", ".join(replaced)
+        if before:
+            fails = ", ".join(f.text() for f in before[1][:3]) or "it cannot be judged"
+            why += f"; the next smaller, {before[0]}, fails {fails}"
+        for k, v in cand_edits:
+            if v is None:  # a key the part now gives: no change of its own in the list
+                changes.pop(k, None)
+                continue
+            old = edits.get(k, _original(bench, k))
+            if old == v:
+                continue
+            rec = changes.setdefault(k, [prepared.ids.get(k[0], part.id), old, v, set()])
+            rec[2] = v
+            rec[3].add(why)
+        edits.update(dict(cand_edits))
 
 
 def _original(bench: Bench, k: tuple[int, str]) -> str | None:

@@ -57,8 +57,6 @@ def figure(row: Any, title: str, samples: int, seed: int) -> Any:
     lo = float(edges.min()) if edges.size else 0.0
     hi = float(edges.max()) if edges.size else 1.0
     ax.axvline(0.0, color="black", linewidth=1.6, label="limit (margin 0;\nthe rule fails below)")
-    if lo < 0.0:
-        ax.axvspan(min(lo, 0.0), 0.0, color="0.9", zorder=0)
     nom = _pct(row.nominal_margin)
     if nom is not None:
         ax.axvline(nom, color="black", linestyle="--", linewidth=1.0, label=f"nominal {nom:.2f} %")
@@ -67,7 +65,10 @@ def figure(row: Any, title: str, samples: int, seed: int) -> Any:
         ax.axvline(worst, color="black", linestyle=":", linewidth=1.2, label=f"worst case {worst:.2f} %")
     span = [v for v in (lo, hi, 0.0, nom, worst) if v is not None]
     pad = 0.04 * (max(span) - min(span) or 1.0)
-    ax.set_xlim(min(span) - pad, max(span) + pad)
+    left = min(span) - pad
+    ax.set_xlim(left, max(span) + pad)
+    if left < 0.0:  # the failing side of the limit
+        ax.axvspan(left, 0.0, color="0.92", zorder=0, linewidth=0)
     ax.set_xlabel("margin, % of the limit (positive: on the safe side)")
     ax.set_ylabel("samples per bin")
     share = (

@@ -75,7 +75,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def _whole(text: str, name: str, lo: int, hi: int | None) -> tuple[int | None, str | None]:
-    t = str(text).strip().replace("_", "")
+    t = str(text).strip().replace("_", "").replace(" ", "").replace("\u202f", "")
     try:
         v = int(t)
     except ValueError:
@@ -116,7 +116,8 @@ def summary(result: Any, drawing_path: Path, title: str, out: Path) -> str:
     lines = [
         f"coilstage sweep {drawing_path}",
         f"  {title}",
-        f"  {result.samples} samples, seed {result.seed}, {len(result.parameters)} declared parameters "
+        f"  {result.samples} sample{'s' * (result.samples != 1)}, seed {result.seed}, "
+        f"{len(result.parameters)} declared parameters "
         f"(see {out / 'sweep.json'}); the steady-state rules only",
         "",
     ]
@@ -268,7 +269,14 @@ def run(args: argparse.Namespace) -> int:
             f"the network has {m.net.size(True)} unknowns; the sweep's vectorised model takes at most "
             f"{sensitivities.MAX_UNKNOWNS}",
         )
-    result = _sweep(drawing, n, seed, quiet=getattr(args, "quiet", False))
+    import numpy as np
+
+    try:
+        result = _sweep(drawing, n, seed, quiet=getattr(args, "quiet", False))
+    except np.linalg.LinAlgError as exc:
+        raise AnalysisError(
+            str(drawing_path), f"a sampled network cannot be solved ({exc}); check the parts' resistances"
+        ) from None
 
     from coilstage.cli import _protected
     from coilstage.report import histogram

@@ -238,3 +238,34 @@ def test_exact_gradients_against_central_differences(path):
         assert np.max(np.abs(g - fd[key])) <= 2e-6 * scale, key
     vs = analyse_sensitivities(d, [next(iter(ex))])
     assert next(iter(vs.values())).method == EXACT
+
+
+def test_a_margin_not_monotone_in_a_parameter_is_said_and_searched(coach, monkeypatch):
+    """A made-up margin over the coach's parameters with its lowest point inside the ambient range,
+    m = 0.5 − 0.4 (1 − ((θ − 5 °C)/35 K)²) + 2 x_coil: falling then rising in θ (lowest 0.1 at 5 °C,
+    0.5 at both ends, worked by hand), rising in the coil tolerance. The search must flag the ambient,
+    find 5 °C by its scan (a point of the 11-point grid from −30 to 40 °C) and the coil at −5 %."""
+    import coilstage.analysis.sensitivities as sens
+    from coilstage.analysis.params import Evaluated
+
+    ps = parameters(coach)
+    k = {p.key: j for j, p in enumerate(ps)}
+    real = sens.evaluate
+
+    def made_up(d, x):
+        x = np.atleast_2d(x)
+        t = x[:, k["environment.ambient"]]
+        m = 0.5 - 0.4 * (1 - ((t - 5.0) / 35.0) ** 2) + 2 * x[:, k["coils.RC4.resistance_tolerance"]]
+        out = real(d, x)
+        out[("made.up", "x")] = Evaluated(m, np.zeros(len(m), dtype=int), m, 1.0, "1")
+        return out
+
+    monkeypatch.setattr(sens, "evaluate", made_up)
+    vs = sens.analyse_sensitivities(coach, [("made.up", "x")])[("made.up", "x")]
+    assert vs.method == sens.DIFFERENCED
+    assert vs.corner.not_monotone == ("environment.ambient",)
+    assert vs.corner.interior == {"environment.ambient": pytest.approx(5.0)}
+    assert vs.corner.values["coils.RC4.resistance_tolerance"] == -0.05
+    assert vs.corner.margin == pytest.approx(0.1 - 0.1)
+    words = sens.corner_words(vs)
+    assert any(w.startswith("not monotone in ambient") and "inside the range, at 5 degC" in w for w in words)

@@ -307,7 +307,7 @@ def corner_words(vs: VerdictSensitivity) -> tuple[str, ...]:
     parts = []
     for key, v in c.values.items():
         p = ps[key]
-        parts.append(f"{p.words} {p.change_words(v - p.nominal)}")
+        parts.append(f"{p.words} {v:g} °C" if p.unit == "degC" else f"{p.words} {p.change_words(v - p.nominal)}")
     how = "every corner" if c.exhaustive else "corner search from the sensitivity signs"
     out = [
         f"worst corner of the declared tolerances ({how}): margin {c.margin:.1%} "

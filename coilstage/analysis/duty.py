@@ -30,6 +30,7 @@ import numpy as np
 from coilstage import tables
 from coilstage.analysis.materials import metal
 from coilstage.analysis.quasistatic import QuasiStatic, stage_thermal_resistance
+from coilstage.analysis.tolerances import effective
 from coilstage.drawing.schema import Cable, Drawing, Duty, Fuse, Relay
 from coilstage.physics.battery import (
     FLOODED_OCV_LINE,
@@ -119,16 +120,6 @@ class DutyConditions:
     assumptions: tuple[str, ...] = ()
 
 
-def _tolerance_rows(d: Drawing) -> dict[str, dict]:
-    """The tolerance rows by key: the drawing's own overlaid on the shipped defaults where that module
-    exists, else the shipped defaults (coilstage/data/tolerance_defaults.toml)."""
-    try:
-        from coilstage.analysis.tolerances import effective  # type: ignore[import-not-found]
-    except ImportError:
-        return {r["key"]: r for r in tables.shipped("tolerance_defaults.toml")["table"]["rows"]}
-    return effective(d)
-
-
 def rotor_zone_defaults() -> dict[str, dict]:
     """The shipped rotor-zone rows by key (coilstage/data/rotor_zone_defaults.toml)."""
     return {r["key"]: r for r in tables.shipped("rotor_zone_defaults.toml")["table"]["rows"]}
@@ -157,7 +148,7 @@ def duty_conditions(d: Drawing) -> DutyConditions:
             )
     rise = float(rows["environment.rotor_zone_rise"]["value"]) if rise is None else rise
     tau = float(rows["environment.rotor_zone_time_constant"]["value"]) if tau is None else tau
-    tol = _tolerance_rows(d)
+    tol = effective(d)
     b = d.supply.battery
     alt = d.supply.alternator
     derate = float(tol["supply.alternator.hot_derating"]["nominal"]) if alt else 0.0
@@ -173,17 +164,14 @@ def duty_conditions(d: Drawing) -> DutyConditions:
     if b.chemistry in ("agm", "gel"):
         offset = float(bat_data["agm"]["full_per_cell"]) - FLOODED_OCV_LINE[-1][1]
     if b.peukert is not None:
-        k, k_words = b.peukert, "stated"
-    elif b.chemistry == "flooded":
+        k = b.peukert
+    else:  # the row of the battery's chemistry (analysis.tolerances), or the one the drawing states
         r = tol["supply.battery.peukert_exponent"]
         k = float(r["nominal"])
-        k_words = f"default for a flooded battery ({r['source']}; {r['status']})"
-        assumptions.append(f"duty default supply.battery.peukert = {k:g}: {k_words}")
-    else:
-        r = next(x for x in bat_data["peukert_exponents"] if x["type"].lower() == b.chemistry)
-        k = float(r["high"])
-        k_words = f"default for {b.chemistry}: the high end of {r['low']:g}-{r['high']:g} ({r['status']})"
-        assumptions.append(f"duty default supply.battery.peukert = {k:g}: {k_words}")
+        assumptions.append(
+            f"duty default supply.battery.peukert = {k:g} ({b.chemistry}): {r['quantity']}; source: {r['source']}; "
+            f"status: {r['status']}"
+        )
     t_bat = env.ambient_max
     # a warm battery is not credited with more than its rating (the safe side)
     share = min(

@@ -196,6 +196,8 @@ class Bench:
         self._fast: dict[Edits, dict] = {}
         self._full: dict[Edits, tuple] = {}
         self._duty: dict[tuple, dict | None] = {}
+        #: (part kind, series) -> the largest member the rules could judge, as last found
+        self.tops: dict[tuple, int] = {}
         self.evaluations = {"screen": 0, "full": 0}
 
     @staticmethod
@@ -775,12 +777,17 @@ def _top(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key: str
         )
 
     n = len(series) - 1
+    known = bench.tops.get((part.kind, series))
+    if known is not None and 0 <= known < n and judged(known) and not judged(known + 1):
+        # where another part of the same series found the table's end, two judgements confirm it
+        return known
     if judged(n):
         return n
     lo, hi = -1, n  # hi: not judged
     while hi - lo > 1:
         mid = (lo + hi) // 2
         lo, hi = (mid, hi) if judged(mid) else (lo, mid)
+    bench.tops[(part.kind, series)] = max(lo, 0)
     return max(lo, 0)
 
 

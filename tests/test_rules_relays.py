@@ -219,17 +219,19 @@ def test_stated_central_suppression_selects_test_b():
     assert vk.status is Status.NOT_CHECKED
 
 
-def test_diode_reverse_voltage_against_the_peak_that_applies():
-    # Before: suppressor.rating asked a diode for Test B's 58 V only. Without central suppression (or not
-    # stated) it must block Test A's 202 V peak (ISO 16750-2 Test A, 24 V); with it, U_s* = 58 V.
+def test_diode_blocks_the_peak_that_applies():
+    # suppressor.load_dump: a diode blocks the open-circuit peak of the pulse that applies: Test A's 202 V
+    # without central suppression or where not stated (ISO 16750-2 Test A, 24 V), U_s* = 58 V with it.
     t = COACH_TEXT.replace('reverse_voltage = "400 V"', 'reverse_voltage = "100 V"')
-    v = one(SUPPRESSOR.evaluate(analysed(t)), "S1 reverse voltage")
-    assert v.status is Status.FAIL and v.limit == 202.0 and "Test A assumed" in v.note
-    v = one(SUPPRESSOR.evaluate(analysed(central(t, "yes"))), "S1 reverse voltage")
+    v = one(LOAD_DUMP.evaluate(analysed(central(t, "no"))), "S1 load dump")
+    assert v.status is Status.FAIL and v.limit == 202.0
+    v = one(LOAD_DUMP.evaluate(analysed(central(t, "yes"))), "S1 load dump")
     assert v.status is Status.PASS and v.limit == 58.0
     for rating, want in (("202 V", Status.PASS), ("201.9 V", Status.FAIL)):
         t = COACH_TEXT.replace('reverse_voltage = "400 V"', f'reverse_voltage = "{rating}"')
-        assert one(SUPPRESSOR.evaluate(analysed(t)), "S1 reverse voltage").status is want
+        assert one(LOAD_DUMP.evaluate(analysed(central(t, "no"))), "S1 load dump").status is want
+    # suppressor.rating keeps the clamped 58 V and the highest bus for its own verdict
+    assert one(SUPPRESSOR.evaluate(analysed(COACH_TEXT)), "S1 reverse voltage").limit == 58.0
 
 
 # ---------------------------------------------------------------- DC-13 on the rating's U_e x I_e

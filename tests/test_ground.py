@@ -112,3 +112,24 @@ def test_lost_return_by_hand_on_two_stages():
     for n, v in zip(free, vf, strict=True):
         assert s.v[n] == pytest.approx(v, abs=1e-6), n
     assert lr.stages and lr.stages[0].after < 1e-6
+
+
+def test_lost_return_boundary_at_a_relays_rating():
+    # Flawed retrofit, W2R lost: K3 and K4 go from 59.5 A to about 60.5 A against their 60 A rating, so the
+    # loss pushes them over (FAIL). Their rating 0.1 % above / below the rerouted current: WARN (K1 has only
+    # a 12 V rating, a part with no rating here) / FAIL.
+    from .conftest import FLAWED
+
+    text = FLAWED.read_text(encoding="utf-8")
+    a = analysed(text)
+    cold = a.conditions["cold"]
+    lr = lose_return(a.drawing, "W2R", cold.temperatures, cold.sources)
+    i = max(abs(lr.solution.current[k]) for k in ("K3", "K4"))
+    assert one(a, "W2R").status is Status.FAIL and "K3 runs above its contact rating" in one(a, "W2R").note
+    for k, want in ((1.001, Status.WARN), (0.999, Status.FAIL)):
+        t = text
+        for rid in ("K3", "K4"):
+            s = t.index(f'id = "{rid}"')
+            e = t.index("[[harness]]", s)
+            t = t[:s] + t[s:e].replace('rating_24v = "60 A"', f'rating_24v = "{k * i:.4f} A"') + t[e:]
+        assert one(analysed(t), "W2R").status is want, k

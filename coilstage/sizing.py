@@ -196,6 +196,7 @@ class Bench:
         self._fast: dict[Edits, dict] = {}
         self._full: dict[Edits, tuple] = {}
         self._duty: dict[tuple, dict | None] = {}
+        self._rated: dict[Edits, dict | None] = {}  # relay ratings judged on an analysis already made
         #: (part kind, series) -> the largest member the rules could judge, as last found
         self.tops: dict[tuple, int] = {}
         self.evaluations = {"screen": 0, "full": 0}
@@ -639,12 +640,56 @@ def _switching_for(part: Part) -> bool:
 
 def _verdicts(bench: Bench, part: Part, edits: dict, full: bool = False) -> dict | None:
     """The verdicts of a candidate: the screen, or with ``full`` the part's rules on the full analysis
-    (the duty simulation included) unless :func:`_duty_holds` shows the duty rules need no new run."""
+    (the duty simulation included) unless :func:`_duty_holds` shows the duty rules need no new run.
+    A relay's contact rating is judged on the analysis already made (:func:`_rating_only`)."""
+    if part.kind == "relay" and not full:
+        got = _rating_only(bench, part, edits)
+        if got is not None:
+            return got
     if full:
         if _duty_holds(bench, part, edits):
             return bench.screen(edits, switching=_switching_for(part), rules=part.rules)
         return bench.duty(edits, part.rules)
     return bench.screen(edits, switching=_switching_for(part), rules=part.rules)
+
+
+def candidate_verdicts(bench: Bench, part: Part, edits: dict) -> dict | None:
+    """The verdicts by (rule, subject) sizing judges ``part`` by for the candidate ``edits`` (the
+    screen, or a relay's contact rating on the analysis already made); None where the candidate
+    cannot be read or judged."""
+    return _verdicts(bench, part, edits)
+
+
+def _rating_only(bench: Bench, part: Part, edits: dict) -> dict | None:
+    """The relay's contact-rating verdicts of a candidate that differs from an analysed drawing in
+    that rating only: the analysis of the drawing without the edit, with the candidate drawing in
+    its place. The rating enters no figure of the analysis (the network holds the contact's
+    resistance, the rule reads the rating); tests/test_sizing.py checks the result against a fresh
+    analysis. None where no analysis of the rest is at hand (then the screen runs)."""
+    import dataclasses
+
+    from coilstage.checks import RULES
+
+    k = (part.index, part.key)
+    if k not in edits:
+        return None
+    rest = {x: v for x, v in edits.items() if x != k}
+    r = bench._full.get(bench.key(rest))
+    if r is None:
+        return None
+    key = bench.key(edits)
+    if key not in bench._rated:
+        d = bench.drawing(edits)
+        out = None
+        if d is not None:
+            try:
+                a = dataclasses.replace(r[0], drawing=d)
+                out = _by_key(v for rule in RULES if rule.id.startswith(part.rules) for v in rule.evaluate(a))
+            except _CANDIDATE_ERRORS:
+                out = None
+        bench._rated[key] = out
+        bench.evaluations["screen"] += 1
+    return bench._rated[key]
 
 
 def _duty_holds(bench: Bench, part: Part, edits: dict) -> bool:

@@ -493,3 +493,28 @@ def test_size_command_passes_the_parts_library_through(tmp_path):
     main(["size", str(src), "-o", str(out), "--parts", str(ROOT / "configs" / "parts")])
     assert "#K-150-24" in out.read_text(encoding="utf-8")
     assert src.read_text(encoding="utf-8") == _library_text()  # the input is never modified
+
+
+def test_a_relay_rating_judged_on_the_analysis_already_made_equals_a_fresh_check():
+    """Sizing judges a relay's contact rating on the analysis of the drawing as checked, with only the
+    rating changed (the rating enters no figure of the analysis); each candidate's verdicts equal
+    those of the public check of the edited text, figure for figure."""
+    text = drawing_text(stages=2, coil_r=[0.5, 1.0]).replace('"150 A"', '"60 A"')
+    d = parse_drawing(text)
+    a, v = coilstage.check(d)
+    found = sizing.suggestions(text, checked=(d, a, v))
+    k0 = _by_part(found)["K0"]
+    assert k0.suggested is not None and k0.checked
+    parts = {p.id: p for p in sizing.parts_of(d, None, text)}
+    part = parts["K0"]
+    for rating in ('"60 A"', k0.value_text, part.series[part.series.index(k0.value_text) - 1]):
+        doc = TomlText(text)
+        doc.set("harness", part.index, part.key, rating)
+        fresh = {(x.rule, x.subject): x for x in coilstage.check(parse_drawing(doc.text))[1]}
+        bench = sizing.Bench(text)
+        bench.full({})  # the check of the drawing as given, as suggestions() has it
+        fast = sizing.involved(part, sizing.candidate_verdicts(bench, part, {(part.index, part.key): rating}))
+        assert fast
+        for k, x in fast.items():  # the check adds sensitivities; every figure and word is the same
+            y = fresh[k]
+            assert (x.status, x.value, x.limit, x.margin, x.note) == (y.status, y.value, y.limit, y.margin, y.note)

@@ -65,6 +65,10 @@ class CableThermal:
         return np.interp(theta, self.grid, self.shed, right=None)
 
 
+#: Lowest conductor temperature the network is solved at [°C] (below any vehicle ambient, above the
+#: −234.5 °C where copper's linear resistance law would reach zero).
+T_FLOOR = -100.0
+
 #: Conductor rise over its zone at which the heat it sheds is tabulated [K] (denser near the zone).
 RISE_GRID = np.concatenate([np.linspace(0.0, 100.0, 11), np.linspace(120.0, 600.0, 13)])
 
@@ -446,7 +450,11 @@ def simulate(
         any_on = bool(np.any(on))
 
         def rhs(_t, y):
-            tc, ts, tz = y[:n_c], y[n_c : n_c + n_s], y[iz:]
+            # a trial stage of the integrator may lie outside what a conductor can be (its error control
+            # rejects such a step); the network is solved within that range so it stays solvable
+            tc = np.clip(y[:n_c], T_FLOOR, cab_melt)
+            ts = np.clip(y[n_c : n_c + n_s], T_FLOOR, st_melt)
+            tz = y[iz:]
             set_battery(float(y[n_c + n_s + 1]))
             i_c, i_s, i_bat, _ia, _x = net.solve(tc, ts, on, limit)
             _rc, rs = net.resistances(tc, ts)

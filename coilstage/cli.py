@@ -34,6 +34,7 @@ COMMAND_MODULES: dict[str, str] = {
     "import": "coilstage.importcmd",
     "export": "coilstage.exportcmd",
     "init": "coilstage.starter",
+    "sweep": "coilstage.sweepcmd",
 }
 
 _OUT_FOLDER_HELP = "folder to write the files into; created if its parent exists (default: %(default)s)"
@@ -52,7 +53,7 @@ def _err(text: str) -> None:
         pass
 
 
-def _console(stream: Any, to_file: bool) -> Any:
+def make_console(stream: Any, to_file: bool) -> Any:
     from rich.console import Console as RichConsole
 
     class Console(RichConsole):
@@ -65,7 +66,7 @@ def _console(stream: Any, to_file: bool) -> Any:
     return Console(file=stream, **common)
 
 
-def _protected(drawing_path: Path) -> list[Path]:
+def protected_paths(drawing_path: Path) -> list[Path]:
     """The drawing and every existing file it names (its own tables): inputs no output may replace."""
     out = [drawing_path]
     try:
@@ -194,7 +195,7 @@ def _render(
     else:
         from coilstage.report import text
 
-        text.render(doc, _console(stream, to_file), details=details, brief=brief, record=record)
+        text.render(doc, make_console(stream, to_file), details=details, brief=brief, record=record)
 
 
 def _check(args: argparse.Namespace) -> int:
@@ -244,7 +245,7 @@ def _check(args: argparse.Namespace) -> int:
 
     how = {"brief": args.brief, "record": rec, "parts": listed}
     if args.output:
-        with outputs.staged([args.output], _protected(drawing_path)) as (tmp,):
+        with outputs.staged([args.output], protected_paths(drawing_path)) as (tmp,):
             with open(tmp, "w", encoding="utf-8", newline="") as fh:
                 _render(doc, args.format, fh, True, args.details, html_page, **how)
     else:
@@ -329,7 +330,7 @@ def _waveforms(args: argparse.Namespace) -> int:
     rows = waveforms.series(analysis, step)
     ids = [s.id for s in drawing.stages]
     names = [f"{drawing_path.stem}-waveforms.{ext}" for ext in ("csv", "json", "png", "svg")]
-    with outputs.folder_outputs(args.out, names, _protected(drawing_path)) as tmp:
+    with outputs.folder_outputs(args.out, names, protected_paths(drawing_path)) as tmp:
         waveforms.write_csv(rows, tmp[0], ids)
         waveforms.write_json(rows, tmp[1], step, drawing.title)
         waveforms.plot(rows, tmp[2:], _plot_title(drawing.title))
@@ -394,7 +395,7 @@ def _descent(args: argparse.Namespace) -> int:
         BarColumn(),
         TextColumn("{task.percentage:>3.0f} %"),
         TimeElapsedColumn(),
-        console=_console(sys.stderr, False),
+        console=make_console(sys.stderr, False),
         transient=True,
         disable=sys.stderr is None,
     ) as bar:
@@ -403,7 +404,7 @@ def _descent(args: argparse.Namespace) -> int:
     from coilstage.report import descent
 
     names = [f"{drawing_path.stem}-descent.{ext}" for ext in ("csv", "json", "png", "svg")]
-    with outputs.folder_outputs(args.out, names, _protected(drawing_path)) as tmp:
+    with outputs.folder_outputs(args.out, names, protected_paths(drawing_path)) as tmp:
         descent.write_csv(result, tmp[0])
         descent.write_json(result, tmp[1], drawing.title)
         descent.plot(result, drawing, tmp[2:], _plot_title(drawing.title))
@@ -443,7 +444,7 @@ def _field(args: argparse.Namespace) -> int:
 
     names = [f"{drawing_path.stem}-field.{ext}" for ext in ("png", "svg")]
     try:
-        with outputs.folder_outputs(args.out, names, _protected(drawing_path)) as tmp:
+        with outputs.folder_outputs(args.out, names, protected_paths(drawing_path)) as tmp:
             if not field_plot.plot(analysis, tmp, _plot_title(drawing.title)):
                 raise _NothingToPlot
     except _NothingToPlot:
@@ -467,7 +468,7 @@ def _tables(args: argparse.Namespace) -> int:
 
     if sys.stdout is None:
         raise OutputError("standard output", "it is closed")
-    c = _console(sys.stdout, False)
+    c = make_console(sys.stdout, False)
     c.print(Text.assemble(("Shipped tables", "bold"), " (coilstage/data)\n"))
     for row in list_tables():
         c.print(Text.assemble((row["file"], "bold"), f"  ({row['kind']}, {row['rows']} rows, {row['status']})"))
@@ -490,7 +491,7 @@ def _rules(args: argparse.Namespace) -> int:
 
     if sys.stdout is None:
         raise OutputError("standard output", "it is closed")
-    c = _console(sys.stdout, False)
+    c = make_console(sys.stdout, False)
     c.print(Text("Rules\n", style="bold"))
     from coilstage.analysis.laws import rule_laws
 
@@ -591,7 +592,7 @@ def _selected(argv: list[str]) -> str | None:
     return None
 
 
-def _report_error(exc: BaseException) -> None:
+def report_error(exc: BaseException) -> None:
     from coilstage.errors import AnalysisError, DataError, DrawingError
     from coilstage.outputs import OutputError
 
@@ -653,7 +654,7 @@ def main(argv: list[str] | None = None) -> int:
         _stdout_gone()
         return EXIT_OK
     except CoilstageError as exc:
-        _report_error(exc)
+        report_error(exc)
         return EXIT_BAD_INPUT
     except OSError as exc:
         if sys.stdout is not None and _is_stdout_error(exc):

@@ -278,7 +278,7 @@ def run(args: argparse.Namespace) -> int:
             str(drawing_path), f"a sampled network cannot be solved ({exc}); check the parts' resistances"
         ) from None
 
-    from coilstage.cli import _protected
+    from coilstage.cli import protected_paths
     from coilstage.report import histogram
     from coilstage.report.safe import clean
 
@@ -288,7 +288,7 @@ def run(args: argparse.Namespace) -> int:
     stems = {(r.rule, r.subject): s for r, s in zip(tight, stem_list, strict=True)}
     names = ["sweep.csv", "sweep.json"] + [f"{s}.{e}" for s in stem_list for e in ("png", "svg")]
     doc = document(result, drawing_path, title, stems)
-    with outputs.folder_outputs(out, names, _protected(drawing_path)) as tmp:
+    with outputs.folder_outputs(out, names, protected_paths(drawing_path)) as tmp:
         _write_csv(result, tmp[0])
         with open(tmp[1], "w", encoding="utf-8", newline="") as fh:
             json.dump(doc, fh, indent=1, ensure_ascii=False, allow_nan=False)
@@ -337,9 +337,9 @@ def main(argv: list[str] | None = None) -> int:
     try:
         return run(args)
     except CoilstageError as exc:
-        from coilstage.cli import _report_error
+        from coilstage.cli import report_error
 
-        _report_error(exc)
+        report_error(exc)
         return EXIT_BAD_INPUT
 
 

@@ -41,12 +41,12 @@ def _parsed(path: Path) -> _Tags:
 
 
 def test_every_plug_in_command_is_registered_and_has_help(capsys):
-    assert set(cli.COMMAND_MODULES) == {"size", "diff", "import", "export", "init"}
+    assert set(cli.COMMAND_MODULES) == {"size", "diff", "import", "export", "init", "sweep"}
     with pytest.raises(SystemExit) as exc:
         main(["--help"])
     assert exc.value.code == 0
     out = capsys.readouterr().out
-    for name in ("check", "size", "diff", "import", "export", "init", "rules", "tables"):
+    for name in ("check", "size", "diff", "import", "export", "init", "sweep", "rules", "tables"):
         assert name in out
     assert "folder" in out and "file" in out  # the one meaning of -o, said in --help
 

@@ -80,17 +80,17 @@ def test_folder_commands_never_write_over_the_drawing(tmp_path: Path, command: s
 
 
 def test_a_table_the_drawing_names_is_protected(tmp_path: Path, capsys):
-    from coilstage.cli import _protected
+    from coilstage.cli import protected_paths
 
     table = tmp_path / "my-cables.toml"
     table.write_text("# a user's table\n")
     d = tmp_path / "d.toml"
     d.write_text(COACH.read_text() + '\n[zz_unused]\nconductor_table = "my-cables.toml"\n')
-    assert any(outputs.same_file(p, table) for p in _protected(d))
+    assert any(outputs.same_file(p, table) for p in protected_paths(d))
     hard = tmp_path / "other-name.toml"
     os.link(table, hard)
     with pytest.raises(outputs.OutputError):
-        outputs.check_target(hard, _protected(d))
+        outputs.check_target(hard, protected_paths(d))
 
 
 # ------------------------------------------------------------------ bad targets: exit 2, nothing left
@@ -292,11 +292,11 @@ def _assert_no_controls(text: str) -> None:
 def test_text_report_shows_hostile_text_as_text():
     import io
 
-    from coilstage.cli import _console
+    from coilstage.cli import make_console
     from coilstage.report import text
 
     buf = io.StringIO()
-    text.render(_hostile_doc(), _console(buf, True), details=True)
+    text.render(_hostile_doc(), make_console(buf, True), details=True)
     out = buf.getvalue()
     _assert_no_controls(out)
     assert "[/x]" in out and "[bold]" in out and ":fire:" in out
@@ -356,7 +356,7 @@ def test_guard_fails_loudly_in_strict_mode(monkeypatch):
 def test_guard_in_production_shows_na_and_a_not_checked_reason(monkeypatch, fmt: str):
     import io
 
-    from coilstage.cli import _console
+    from coilstage.cli import make_console
     from coilstage.report import jsonout, markdown, text
 
     monkeypatch.delenv("COILSTAGE_STRICT_FINITE", raising=False)
@@ -373,7 +373,7 @@ def test_guard_in_production_shows_na_and_a_not_checked_reason(monkeypatch, fmt:
         out = markdown.render(doc)
     else:
         buf = io.StringIO()
-        text.render(doc, _console(buf, True), details=True)
+        text.render(doc, make_console(buf, True), details=True)
         out = buf.getvalue()
     assert safe.NOT_FINITE in out or fmt == "json"
     assert safe.FINITE_RULE in out

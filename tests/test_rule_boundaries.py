@@ -163,3 +163,80 @@ def test_battery_floor_default_50_percent():
     _, short = _verdicts(_battery(drawn / 0.40 * 0.99))
     assert _one(ok, "battery.charge", "battery").status is Status.PASS
     assert _one(short, "battery.charge", "battery").status is Status.FAIL
+
+
+def _fm_set(text: str, line: str) -> str:
+    return text.replace('type = "single-bolt"\n', f'type = "single-bolt"\n{line}\n', 1)
+
+
+@pytest.mark.parametrize(
+    ("rating", "status"), [("31.9 V", Status.FAIL), ("32 V", Status.WARN), ("32.1 V", Status.PASS)]
+)
+def test_fuse_voltage_rating_at_the_code_maximum_iso16750_2(rating, status):
+    # ISO 16750-2:2010 Table 2, code F: 32 V highest operating voltage on a 24 V system; a fuse rated
+    # exactly at it warns (no headroom), below it fails, above it passes.
+    _, vs = _verdicts(_fm_set(drawing_text(stages=1), f'voltage_rating = "{rating}"'))
+    v = _one(vs, "fuse.voltage_rating", "FM")
+    assert v.limit == pytest.approx(32.0)  # ISO 16750-2 Table 2, code F maximum
+    assert v.status is status
+
+
+def test_fuse_voltage_rating_decided_at_the_regulator_end_above_the_code():
+    # 12 V code C: 16 V maximum (ISO 16750-2 Table 1). A 15.9 V set-point with its tolerances (the worst
+    # cases' regulator end, analysis.worst) holds the bus above 16 V: the rule decides at that end.
+    text = drawing_text(stages=1, system=12).replace('setpoint = "14.0 V"', 'setpoint = "15.9 V"')
+    a, vs = _verdicts(_fm_set(text, 'voltage_rating = "16.1 V"'))
+    v = _one(vs, "fuse.voltage_rating", "FM")
+    assert a.worst.bus_high > 16.1
+    assert v.limit == pytest.approx(a.worst.bus_high)  # the larger of the two
+    assert v.status is Status.FAIL  # 16.1 V rated passes the 16 V code but not the regulator's end
+
+
+def _rerated_limit(rule: str, subject: str, text: str) -> tuple[float, float]:
+    _, vs = _verdicts(text)
+    v = _one(vs, rule, subject)
+    return v.value, v.limit
+
+
+@pytest.mark.parametrize(("k", "status"), [(0.99, Status.PASS), (1.01, Status.WARN)])
+def test_fuse_continuous_75_percent(k, status):
+    # 75 % continuous-load rule (common practice, circuitprotection.ca fuseology): the rating is set
+    # so that the current lies 1 % inside / outside 75 % of the rerated rating.
+    text = drawing_text(stages=1)
+    i, limit = _rerated_limit("fuse.continuous", "FM", text)
+    rerated = limit / 0.75  # the rerated rating at 300 A
+    rating = i / (0.75 * k) * 300.0 / rerated
+    _, vs = _verdicts(_with_fuse_rating(text, rating))
+    assert _one(vs, "fuse.continuous", "FM").status is status
+
+
+@pytest.mark.parametrize(("k", "status"), [(0.99, Status.WARN), (1.01, Status.FAIL)])
+def test_fuse_continuous_100_percent(k, status):
+    # Above the rerated rating itself the fuse opens in time: FAIL (ISO 8820 rated current).
+    text = drawing_text(stages=1)
+    i, limit = _rerated_limit("fuse.continuous", "FM", text)
+    rerated = limit / 0.75
+    rating = i / k * 300.0 / rerated
+    _, vs = _verdicts(_with_fuse_rating(text, rating))
+    assert _one(vs, "fuse.continuous", "FM").status is status
+
+
+@pytest.mark.parametrize(("k", "status"), [(0.99, Status.PASS), (1.01, Status.WARN), (1.02 / 0.9, Status.FAIL)])
+def test_relay_contact_90_percent_and_rating(k, status):
+    # Relay contact current: pass up to 90 % of the rating (common practice, no source), warn up to the
+    # rating, fail above. The 150 A rating at 85 degC rated ambient applies unchanged in the 60 degC zone.
+    text = drawing_text(stages=1)
+    i, limit = _rerated_limit("relay.contact_rating", "K0", text)
+    assert limit == pytest.approx(150.0)
+    rating = i / (0.9 * k)
+    _, vs = _verdicts(text.replace('rating_24v = "150 A"', f'rating_24v = "{rating:.4f} A"'))
+    assert _one(vs, "relay.contact_rating", "K0").status is status
+
+
+@pytest.mark.parametrize(("k", "status"), [(1.01, Status.PASS), (0.99, Status.FAIL)])
+def test_fuse_breaking_capacity(k, status):
+    # ISO 8820 breaking capacity at least the prospective fault current (computed by the network).
+    text = drawing_text(stages=1)
+    i, _ = _rerated_limit("fuse.breaking_capacity", "FM", text)
+    _, vs = _verdicts(text.replace('breaking_capacity = "20 kA"', f'breaking_capacity = "{k * i:.3f} A"', 1))
+    assert _one(vs, "fuse.breaking_capacity", "FM").status is status

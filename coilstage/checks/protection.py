@@ -12,6 +12,7 @@ from coilstage.checks.base import (
     at_most,
     ceiling,
     decided_at_worst,
+    floor,
     not_checked,
 )
 from coilstage.drawing.schema import Cable, Fuse, Relay
@@ -112,19 +113,45 @@ def _fuse_protects(a: Analysis) -> list[Verdict]:
     return out
 
 
+def highest_bus(a: Analysis) -> tuple[float, str]:
+    """The highest voltage the bus can reach [V] with words: the larger of the supply code's maximum
+    (ISO 16750-2 Tables 1-2, or the drawing's limit corner) and the regulator's highest end
+    (``a.worst.bus_high``: set-point plus its tolerance, where the worst cases were computed)."""
+    d = a.drawing
+    code = max(d.supply.v_max, d.corners.limit_bus)
+    code_words = f"{code:g} V code maximum ({d.supply.limits_source or 'drawing'})"
+    if a.worst is not None and a.worst.bus_high > code:
+        return a.worst.bus_high, f"{a.worst.bus_high:.2f} V regulator's highest end (above the {code_words})"
+    return code, code_words
+
+
 def _fuse_voltage(a: Analysis) -> list[Verdict]:
-    v = a.drawing.corners.limit_bus
+    v, words = highest_bus(a)
     out = []
     for f in a.drawing.of_kind(Fuse):
+        r = f.voltage_rating
+        if r < v:
+            status, why = Status.FAIL, "below the highest voltage the bus can reach"
+        elif r <= v * (1.0 + 1e-9):
+            status = Status.WARN
+            why = (
+                "exactly at the highest voltage, with no headroom: any excursion above it (a regulator "
+                "fault, a load dump) is beyond the fuse's rated voltage and it may not clear an arc; "
+                "choose the next rated voltage up (58 V)"
+            )
+        else:
+            status, why = Status.PASS, "above the highest voltage"
         out.append(
-            at_least(
-                FUSE_VOLTAGE,
+            Verdict(
+                FUSE_VOLTAGE.id,
                 f.id,
-                f.voltage_rating,
+                status,
+                r,
                 v,
                 "V",
-                f"fuse rated {f.voltage_rating:g} V against the system's highest voltage {v:g} V "
-                f"({a.drawing.supply.limits_source or 'drawing'})",
+                floor(r, v),
+                FUSE_VOLTAGE.clause,
+                f"fuse rated {r:g} V against the {words}: {why}",
                 "limit",
             )
         )
@@ -269,8 +296,9 @@ FUSE_PROTECTS = Rule(
 )
 FUSE_VOLTAGE = Rule(
     "fuse.voltage_rating",
-    "Fuse voltage rating at least the system's highest voltage",
-    "ISO 8820-1/-3: rated voltage 32 V or 58 V; system maximum from ISO 16750-2",
+    "Fuse voltage rating above the highest voltage the bus can reach (exactly at it: warn)",
+    "ISO 8820-1/-3: rated voltage 32 V or 58 V; system maximum from ISO 16750-2 Tables 1-2 or the "
+    "regulator's highest end, the larger",
     _fuse_voltage,
     (),
 )

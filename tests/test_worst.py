@@ -54,8 +54,10 @@ def test_largest_fault_drops_the_other_loads(coach):
 def test_breaking_capacity_decided_at_the_largest_fault(coach):
     a, v = coach
     f1 = v[("fuse.breaking_capacity", "F1")]
-    assert f1.margin == pytest.approx((3000 - a.worst.largest_fault.at_fuse["F1"]) / 3000)
-    assert f1.worst.nominal_margin == pytest.approx((3000 - a.fault_current["F1"]) / 3000)
+    # the coach's F1 breaks 4 kA (its drawing's datasheet figure)
+    assert f1.limit == pytest.approx(4000)
+    assert f1.margin == pytest.approx((4000 - a.worst.largest_fault.at_fuse["F1"]) / 4000)
+    assert f1.worst.nominal_margin == pytest.approx((4000 - a.fault_current["F1"]) / 4000)
     assert f1.margin < f1.worst.nominal_margin
     assert f1.corner == "largest fault"
 

@@ -240,3 +240,35 @@ def test_fuse_breaking_capacity(k, status):
     i, _ = _rerated_limit("fuse.breaking_capacity", "FM", text)
     _, vs = _verdicts(text.replace('breaking_capacity = "20 kA"', f'breaking_capacity = "{k * i:.3f} A"', 1))
     assert _one(vs, "fuse.breaking_capacity", "FM").status is status
+
+
+@pytest.mark.parametrize(("k", "status"), [(0.99, Status.PASS), (1.01, Status.WARN)])
+def test_overvoltage_fuse_at_its_rerated_rating_iso16750_2(k, status):
+    # ISO 16750-2 4.3.1: at the 36 V long-term overvoltage the fuse holds up to its rerated rating
+    # (pass) and opens above it (warn: it protects, the retarder is lost). The rating placed so that
+    # the overvoltage current lies 1 % inside / outside the rerated rating (rerating at 60 °C read
+    # from the rule's own limit at 300 A).
+    from coilstage.checks.overvoltage import OV_FUSE
+
+    a, _ = _verdicts(drawing_text(stages=1))
+    (v,) = [v for v in OV_FUSE.evaluate(a) if v.subject == "FM"]
+    rer = v.limit / 300.0
+    a2, _ = _verdicts(_with_fuse_rating(drawing_text(stages=1), v.value / (rer * k)))
+    (v2,) = [v for v in OV_FUSE.evaluate(a2) if v.subject == "FM"]
+    assert v2.value == pytest.approx(v.value, rel=1e-9)
+    assert v2.status is status
+
+
+def test_new_rules_register_with_unique_ids_and_clauses():
+    # The rule list as checks/__init__.py will build it with the new modules (fuse.cyclic_duty replacing
+    # fuse.pulse_withstand): ids unique, every rule with a clause and the physics it rests on.
+    from coilstage.checks import RULES as REGISTERED
+    from coilstage.checks import coordination, cyclic, overvoltage
+
+    rules = [r for r in REGISTERED if r.id != "fuse.pulse_withstand"]
+    rules = [r for r in rules if r.id not in {x.id for x in (*coordination.RULES, *cyclic.RULES, *overvoltage.RULES)}]
+    rules += [*cyclic.RULES, *coordination.RULES, *overvoltage.RULES]
+    ids = [r.id for r in rules]
+    assert len(ids) == len(set(ids))
+    for r in (*cyclic.RULES, *coordination.RULES, *overvoltage.RULES):
+        assert r.clause and r.laws, r.id

@@ -153,11 +153,18 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
     c.add_argument(
         "--no-suggest",
         dest="suggest",
-        action="store_false",
-        help="leave out what would pass (by default each failure or warning says which checked part size or "
-        "rating clears it)",
+        action="store_const",
+        const="none",
+        help="leave out what would pass (by default each failure says which checked part size or rating clears it)",
     )
-    c.add_argument("--suggest", dest="suggest", action="store_true", help=argparse.SUPPRESS)  # the default
+    c.add_argument(
+        "--suggest",
+        dest="suggest",
+        action="store_const",
+        const="all",
+        help="say what would pass for the warnings too (each candidate is checked, so this takes longer)",
+    )
+    c.set_defaults(suggest="failures")
     c.add_argument(
         "--summary", action="store_true", help="fleet mode: check many drawings and print one summary line each"
     )
@@ -229,8 +236,11 @@ def _check(args: argparse.Namespace) -> int:
     from coilstage.report import document
 
     doc = document.build(analysis, verdicts)
-    if args.suggest:
-        doc = _with_suggestions(doc, (drawing, analysis, verdicts), drawing_path, args.parts)
+    wanted = ("fail", "warn") if args.suggest == "all" else ("fail",)
+    if args.suggest != "none" and any(v["status"] in wanted for v in doc["verdicts"]):
+        doc = _with_suggestions(
+            doc, (drawing, analysis, verdicts), drawing_path, args.parts, warnings=args.suggest == "all"
+        )
 
     from coilstage.report import parts, record
 
@@ -261,7 +271,11 @@ def _check(args: argparse.Namespace) -> int:
 
 
 def _with_suggestions(
-    doc: dict[str, Any], checked: tuple[Any, Any, Any], drawing_path: Path, parts: list[str] | None = None
+    doc: dict[str, Any],
+    checked: tuple[Any, Any, Any],
+    drawing_path: Path,
+    parts: list[str] | None = None,
+    warnings: bool = True,
 ) -> dict[str, Any]:
     """The document with each verdict's ``suggestion`` (the text of a checked part that would clear
     it, or None) and ``suggested`` (its details), from :func:`coilstage.sizing.suggestions` given the
@@ -277,6 +291,7 @@ def _with_suggestions(
             drawing_path.parent,
             checked=checked,
             parts_dirs=tuple(parts or ()),
+            warnings=warnings,
         )
     except (sizing.SizingError, ArithmeticError, ValueError, RuntimeError, KeyError, OSError) as exc:
         _err(f"coilstage: no suggestions of what would pass ({exc}); the check itself stands")

@@ -1455,8 +1455,10 @@ def suggestions(
     only_failing: bool = True,
     checked: tuple | None = None,
     parts_dirs: tuple = (),
+    warnings: bool = True,
 ) -> list[Suggestion]:
-    """A checked suggestion for every part that takes part in a failing or warning verdict.
+    """A checked suggestion for every part that takes part in a failing or warning verdict (with
+    ``warnings=False``: a failing verdict; a part with warnings only is left out).
 
     ``checked``: ``(drawing, analysis, verdicts)`` of the check already made of this very text (as
     ``coilstage.check`` returns them), so that the drawing is not read and checked a second time;
@@ -1470,10 +1472,12 @@ def suggestions(
         k = bench.key({})
         bench._drawings[k] = drawing
         bench._full[k] = (analysis, _by_key(verdicts), verdicts)
-    return _suggestions(bench, prepared, only_failing)
+    return _suggestions(bench, prepared, only_failing, warnings=warnings)
 
 
-def _suggestions(bench: Bench, prepared: Prepared, only_failing: bool = True, base: dict | None = None) -> list:
+def _suggestions(
+    bench: Bench, prepared: Prepared, only_failing: bool = True, base: dict | None = None, warnings: bool = True
+) -> list:
     base = dict(base or {})
     d = bench.drawing(base)
     if d is None:
@@ -1491,6 +1495,8 @@ def _suggestions(bench: Bench, prepared: Prepared, only_failing: bool = True, ba
     for part in parts:
         inv = involved(part, vs)
         if only_failing and all(rank(v) >= 2 for v in inv.values()):
+            continue
+        if not warnings and all(rank(v) >= 1 for v in inv.values()):
             continue
         s = joint.get(part.id) or suggest_part(bench, part, base)
         if s is not None:

@@ -1,4 +1,4 @@
-"""winding.time_to_limit finds the crossing on the solution itself (issue 10 point 5.3), checked
+"""winding.time_to_limit finds the crossing on the solution itself, checked
 against an independent integration: scipy.integrate.solve_ivp (DOP853, rtol 1e-9) with a terminal event
 at the limit temperature, on the same right-hand side."""
 

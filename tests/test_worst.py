@@ -1,4 +1,4 @@
-"""Each rule at its own worst case (issue 10): the worst-case views against hand calculations, and the
+"""Each rule at its own worst case: the worst-case views against hand calculations, and the
 verdicts decided on them carrying their nominal figures."""
 
 from __future__ import annotations
@@ -28,7 +28,7 @@ def test_smallest_fault_battery_by_hand(coach):
     assert sf.battery_emf == pytest.approx(24.48)
     # Hand-worked from the shipped defaults: 9 mOhm x exp(ln(1.5)/48 x (25 + 30)) x (1 + 0.4 x 0.5) x 1.5.
     assert sf.battery_resistance == pytest.approx(0.009 * math.exp(0.008447 * 55) * 1.2 * 1.5, rel=1e-4)
-    # The far-end fault of the main feed falls far below the largest: issue 10's first case.
+    # The far-end fault of the main feed falls far below the largest (the first case a review measured).
     assert sf.far_end["W-MAIN"] < 0.5 * a.far_end_fault["W-MAIN"]
 
 
@@ -42,7 +42,7 @@ def test_smallest_fault_with_its_own_resistance_is_bounded(coach):
 
 
 def test_largest_fault_drops_the_other_loads(coach):
-    # Issue 10 point 5.4: the largest fault with the rest of the vehicle disconnected; surface-charged
+    # The largest fault with the rest of the vehicle disconnected; surface-charged
     # battery 12 x 2.2 = 26.4 V (battery retailer's note), 0.9 x 9 mOhm (IEC 61660-1, from memory).
     a, _ = coach
     lf = a.worst.largest_fault
@@ -63,7 +63,7 @@ def test_breaking_capacity_decided_at_the_largest_fault(coach):
 
 
 def test_continuous_duty_with_coil_tolerance_and_cold_regulator(coach):
-    # Issue 10 case 5: coil R -5 % and the regulator's compensation at -30 degC take the main fuse's
+    # Coil R -5 % and the regulator's compensation at -30 degC take the main fuse's
     # margin from 13 % towards 5 %. Hand estimate of the current ratio: (29.6 V / 28.5 V) / 0.95 = 1.093
     # less the shared feed's drop.
     a, v = coach
@@ -100,7 +100,7 @@ def test_decided_at_worst_says_a_nominal_pass_that_fails():
 
 
 def test_time_to_limit_quotes_its_own_run():
-    # Issue 10 point 5.2: the time and the temperature beside it come from one run (the continuous
+    # The time and the temperature beside it come from one run (the continuous
     # profile), not the time from the profile and the temperature from the hot corner (alternator idle).
     a = analyse(load_drawing("configs/flawed-retrofit-24v.toml"), switching=False)
     v = {x.subject: x for x in run_checks(a) if x.rule == "winding.time_to_limit"}
@@ -111,7 +111,7 @@ def test_time_to_limit_quotes_its_own_run():
 
 
 def test_hot_steady_state_with_unmodelled_neighbours_closes():
-    # Issue 10 point 5.1: S3 and S4 on a coil without a thermal model (stated hot 150 °C); S1's steady
+    # S3 and S4 on a coil without a thermal model (stated hot 150 °C); S1's steady
     # state must be solved with them at 150 °C, the state the hot corner then runs. Independent check:
     # at the hot corner's own solution, S1's winding temperature equals zone + P·Rth with P = I²R at
     # that temperature (the steady heat balance, physics.thermal), to 0.01 K.
@@ -191,7 +191,7 @@ def test_ampacity_and_contact_duty_at_the_largest_current(coach, rule, subject):
 
 
 def test_voltage_drop_at_the_largest_current(coach):
-    """circuit.voltage_drop is decided at the largest continuous current (issue 10): the drop is the
+    """circuit.voltage_drop is decided at the largest continuous current: the drop is the
     current times the path's resistance (Ohm's law), so with the same (cold) cables it grows with the
     currents, at most by (29.6 V / 28.5 V) / 0.95 = 1.093 (hand estimate, as for the fuses), and by more
     than the bus ratio 29.6 / 28.5 = 1.039 alone. The nominal figure is the worse of the cold and hot

@@ -84,7 +84,7 @@ def hot_winding_temperatures(d: Drawing) -> dict[str, float]:
         net = QuasiStatic(d, d.corners.hot_battery_emf, alt.setpoint if alt else None)
         t_cab = np.array([c.zone_temperature for c in net.cables])
         # a neighbour without a thermal model stands at the hot temperature the hot corner then runs it at,
-        # so the heat balance of the modelled windings closes in the same state (issue 10 point 5.1)
+        # so the heat balance of the modelled windings closes in the same state
         t_st = np.array(
             [s.coil.zone_temperature if s.coil.has_thermal_model else s.coil.hot_temperature for s in net.stages]
         )

@@ -149,12 +149,3 @@ def fault_currents(circuit: Circuit, fault: Conditions, protected: dict[str, lis
     at = circuit.fault_currents(fault.temperatures, fault.sources, places)
     return {f.id: at[f.b] for f in fuses}, {cid: at[node] for cid, node in far.items()}, at[d.supply.battery.node]
 
-
-def __getattr__(name: str):
-    """Temporary forward of ``Analysis`` and ``analyse`` (now in :mod:`coilstage.analysis.run`) for the
-    callers not yet moved; a dynamic import, listed in tests/test_house.py, to be deleted with them."""
-    if name in ("Analysis", "analyse"):
-        import importlib
-
-        return getattr(importlib.import_module("coilstage.analysis.run"), name)
-    raise AttributeError(name)

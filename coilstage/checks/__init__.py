@@ -9,15 +9,37 @@ import numpy as np
 from coilstage.analysis.params import evaluate
 from coilstage.analysis.run import Analysis
 from coilstage.analysis.sensitivities import VerdictSensitivity, analyse_sensitivities, corner_words
-from coilstage.checks import cables, field, fuse_timing, protection, supply, switching, thermal
+from coilstage.checks import (
+    cables,
+    coordination,
+    cyclic,
+    field,
+    fuse_timing,
+    ground,
+    joints,
+    protection,
+    supply,
+    switching,
+    thermal,
+)
 from coilstage.checks.base import Rule, Sensitivity, Status, Verdict
 from coilstage.errors import AnalysisError
 
+#: relay.voltage_rating is judged in checks/switching.py (what the opening contact sees: the highest bus
+#: or the load dump that applies, plus the suppressor's voltage), where relay.inductive_break reads
+#: the same figure; the plain rating-against-bus form in checks/protection.py is not registered
+_SUPERSEDED = {("protection", "relay.voltage_rating")}
+
 RULES: list[Rule] = [
     *cables.RULES,
-    *protection.RULES,
+    *[r for r in protection.RULES if ("protection", r.id) not in _SUPERSEDED],
+    *coordination.RULES,
     *fuse_timing.RULES,
+    *cyclic.RULES,
     *switching.RULES,
+    *switching.NEW_RULES,
+    *joints.RULES,
+    *ground.RULES,
     *thermal.RULES,
     *field.RULES,
     *supply.RULES,

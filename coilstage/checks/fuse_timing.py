@@ -245,36 +245,6 @@ def _ahead_of_fuse(a: Analysis) -> list[Verdict]:
     return out
 
 
-def _pulse(a: Analysis) -> list[Verdict]:
-    out = []
-    tab = tables.fuse_gate_table()
-    window = float(tab["pulse_window"])
-    frac, fnote = tables.pulse_fraction(a.drawing.switching.cycles)
-    for f in a.drawing.of_kind(Fuse):
-        if f.melting_i2t is None:
-            out.append(not_checked(PULSE, f.id, "no melting_i2t given for this fuse", "A^2s"))
-            continue
-        if a.switching is None:
-            out.append(not_checked(PULSE, f.id, "switching was not analysed", "A^2s"))
-            continue
-        worst = a.ratings.fuses[f.id].pulse_i2t
-        limit = frac * f.melting_i2t
-        out.append(
-            at_most(
-                PULSE,
-                f.id,
-                worst,
-                limit,
-                "A^2s",
-                f"I²t through the fuse over the first {window * 1e3:g} ms after each switch-on (largest of the "
-                "cold-corner scenarios) "
-                f"against {fnote} of the {f.melting_i2t:g} A²s melting I²t ({a.drawing.switching.cycles:,} switchings)",
-                "cold",
-            )
-        )
-    return out
-
-
 NUISANCE = Rule(
     "fuse.no_nuisance_opening",
     "Fuse current over switch-on, sequence and continuous cold duty below its must-not-open gate",
@@ -308,11 +278,7 @@ AHEAD = Rule(
     _ahead_of_fuse,
     (),
 )
-PULSE = Rule(
-    "fuse.pulse_withstand",
-    "Switch-on pulse I²t within the fuse's pulse-withstand fraction of its melting I²t",
-    "Fuse maker's pulse guide: 48 / 38 / 29 / 22 % of melting I²t for 10² / 10³ / 10⁴ / 10⁵ pulses",
-    _pulse,
-    ("transient.LinearRL",),
-)
-RULES = [NUISANCE, OVERLOAD, SHORT, AHEAD, PULSE]
+#: The pulse rule of earlier versions (the I²t of the first 10 ms of each switch-on against a pulse
+#: fraction of the melting I²t) is gone: an RL stage has no inrush, so it could not fail; the fuse's
+#: heating over each on-period of the duty is ``fuse.cyclic_duty`` (checks/cyclic.py).
+RULES = [NUISANCE, OVERLOAD, SHORT, AHEAD]

@@ -25,18 +25,18 @@ PHYSICS = pathlib.Path(coilstage.physics.__file__).parent
 
 CONFORMING = [
     "coilstage.physics.battery",
+    "coilstage.physics.cable_heat",
     "coilstage.physics.conductor",
     "coilstage.physics.fault",
     "coilstage.physics.magnetic",
     "coilstage.physics.network",
     "coilstage.physics.numeric",
     "coilstage.physics.supply_limits",
+    "coilstage.physics.thermal",
     "coilstage.physics.transient",
 ]
 #: Not yet in the template (module: what is missing).
 PENDING = {
-    "coilstage.physics.thermal": "not yet converted",
-    "coilstage.physics.cable_heat": "not yet converted",
     "coilstage.physics.sensitivity": "not yet converted",
     "coilstage.physics.load_dump": "not yet converted",
     "coilstage.physics.fuse_cyclic": "not yet converted",

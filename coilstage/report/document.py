@@ -164,7 +164,11 @@ def heating(a: Analysis) -> dict[str, Any]:
     b = d.supply.battery
     drawn = float(r.charge_drawn[-1]) / 3600 if r is not None else None
     cap = b.capacity / 3600 if b.capacity else None
-    end_soc = d.duty.start_soc - drawn / cap if (drawn is not None and cap and d.duty) else None
+    end_soc = None
+    if r is not None and r.state_of_charge is not None and len(r.state_of_charge):
+        end_soc = float(r.state_of_charge[-1])  # the simulated state: rate-weighted, held at 0 once flat
+    elif drawn is not None and cap and d.duty:
+        end_soc = max(d.duty.start_soc - drawn / cap, 0.0)
     return {
         "duty": None
         if r is None
@@ -361,6 +365,14 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
         "heating": heating(a),
         "field": field(a),
         "summary": summary(verdicts),
-        "assumptions": list(dict.fromkeys((*d.assumptions, *(a.worst.assumptions if a.worst is not None else ())))),
+        "assumptions": list(
+            dict.fromkeys(
+                (
+                    *d.assumptions,
+                    *(a.worst.assumptions if a.worst is not None else ()),
+                    *(a.descent.assumptions if a.descent is not None else ()),
+                )
+            )
+        ),
         "cautions": cautions(a),
     }

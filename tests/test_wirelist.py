@@ -113,7 +113,7 @@ to = "K{_k}.87"
 rating_24v = "150 A"
 rated_ambient = "25 degC"
 derating = "80 % @ 85 degC"
-voltage_rating = "60 V"
+voltage_rating = "80 V"
 coil = {{ voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "16.8 V", feed_resistance = "1.5 ohm" }}
 resistance = "0.5 mohm"
 zone = "retarder_box"
@@ -390,10 +390,10 @@ def test_build_list_of_the_coach():
     assert c16.quantity == 8 and c16.length == pytest.approx(2.0 + 2.3 + 2.6 + 2.9 + 1.2 + 1.4 + 1.6 + 1.8)
     c95 = lines[("cable", "95 mm², ISO 6722 class C, copper")]
     assert c95.quantity == 3 and c95.length == pytest.approx(0.6 + 4.5 + 4.5)
-    assert lines[("cable", "70 mm², ISO 6722 class D, copper")].length == pytest.approx(3.5)
+    assert lines[("cable", "95 mm², ISO 6722 class D, copper")].length == pytest.approx(3.5)  # W-ALT
     fuses = {k[1]: b.quantity for k, b in lines.items() if k[0] == "fuse"}
     assert fuses == {
-        "ISO 8820-4 type B, 100 A, 32 V, breaking 3 kA": 4,
+        "ISO 8820-4 type B, 100 A, 32 V, breaking 4 kA": 4,
         "ISO 8820-5 type SF51, 350 A, 32 V, breaking 5 kA": 1,
     }
     assert lines[("coil", "coil type RC4")].quantity == 8  # four stages of two coils

@@ -138,6 +138,8 @@ def test_relay_coil_circuit_keys():
         (', fuse = "0 A"', "harness[3] (K0).coil.fuse", "greater than zero"),
         (', wire_size = "7 mm^2"', "harness[3] (K0).coil.wire_size", "a size listed in ISO 6722-1"),
         (', wire_size = "2 m"', "harness[3] (K0).coil.wire_size", "conductor size"),
+        # "25 degC" as a difference would read as 298.15 K (an offset scale): refused
+        (', rise = "25 degC"', "harness[3] (K0).coil.rise", "not a temperature"),
     ],
 )
 def test_bad_relay_coil_values(extra, where, words):

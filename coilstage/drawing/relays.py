@@ -141,7 +141,7 @@ def _relay_coil(r: Reader, e: dict, where: str):
     rt = r.value(c, "resistance", cw, parse_resistance_at)
     op = r.quantity(c, "operate_voltage", cw, "voltage", positive=True)
     feed = r.quantity(c, "feed_resistance", cw, "resistance", default=0.0, nonnegative=True)
-    rise = r.quantity(c, "rise", cw, "temperature_difference", default=None, nonnegative=True)
+    rise = r.difference(c, "rise", cw, default=None)
     if rise is None and "rise" not in c:
         rise = default("relay.coil.rise")
         r.assume(f"{cw}.rise not given: the relay coil is taken at its zone temperature (no self-heating)")

@@ -4,6 +4,7 @@ T_max - 20 °C) as a duty case: coils, fuses and cables."""
 from __future__ import annotations
 
 import math
+import re
 
 import pytest
 from scipy.optimize import brentq
@@ -16,7 +17,9 @@ from coilstage.drawing.load import parse_drawing
 
 from .conftest import COACH, drawing_text
 
-COACH_TEXT = COACH.read_text(encoding="utf-8")
+#: the coach without its controller's overvoltage cut-out: its stages see the failed regulator's 36 V
+#: (tests/test_overvoltage_cutout.py takes the coach as it is)
+COACH_TEXT = re.sub(r"^overvoltage_cutout = .*\n(?: {10,}#.*\n)?", "", COACH.read_text(encoding="utf-8"), flags=re.M)
 
 
 def _analyse(text: str, name: str = "ov"):

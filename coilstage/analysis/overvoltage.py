@@ -62,6 +62,10 @@ def overvoltage_case(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
     u = OVERVOLTAGE.get(d.supply.system_voltage)
     if u is None:
         return None
+    failed = u
+    cut = d.supply.overvoltage_cutout
+    if cut is not None and cut < u:
+        u = cut  # the controller drops its stages above its cut-out: they see at most the cut-out voltage
     t = d.environment.ambient_max - BELOW_TMAX
     temps = temperatures(d, t)
     alt = d.supply.alternator
@@ -102,6 +106,13 @@ def overvoltage_case(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
         f"bus held at {u:g} V for {DURATION / 60:g} min (ISO 16750-2 4.3.1 regulator failure, {STATUS}), "
         f"cables and coils starting at T_max - 20 °C = {t:g} °C"
     )
+    if u < failed:
+        words = (
+            f"a failed regulator holds the bus at {failed:g} V (ISO 16750-2 4.3.1, {STATUS}); the retarder's "
+            f"controller drops its stages above its stated {u:g} V cut-out (supply.overvoltage_cutout), so the "
+            f"stages run at most at {u:g} V for {DURATION / 60:g} min, cables and coils starting at "
+            f"T_max - 20 °C = {t:g} °C"
+        )
     cur = {k: abs(v) for k, v in sol.current.items()}
     cur_n = {k: abs(v) for k, v in sol_n.current.items()}
     cuts = {}

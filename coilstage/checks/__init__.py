@@ -17,6 +17,7 @@ from coilstage.checks import (
     fuse_timing,
     ground,
     joints,
+    overvoltage,
     protection,
     supply,
     switching,
@@ -41,6 +42,7 @@ RULES: list[Rule] = [
     *joints.RULES,
     *ground.RULES,
     *thermal.RULES,
+    *overvoltage.RULES,
     *field.RULES,
     *supply.RULES,
 ]

@@ -132,6 +132,13 @@ def _coils(a: Analysis) -> list[Verdict]:
             out.append(not_checked(OV_COIL, s.id, c.how, "degC"))
             continue
         opened = [f.id for f in fuses if _opens(f, case.current[f.id]) and s.id in case.cuts[f.id]]
+        # the regulator failure lasts its 60 min; the retarder is held on for the drawing's duty at most
+        span = min(DURATION, a.drawing.duty.duration) if a.drawing.duty is not None else DURATION
+        held = (
+            f"the {span / 60:.0f} min duty"
+            if span < DURATION
+            else f"the {DURATION / 60:.0f} min of the regulator failure"
+        )
         head = (
             f"{c.steady_temperature:.0f} °C in steady state against the {c.limit:g} °C class limit: "
             f"{c.limit - c.steady_temperature:+.0f} K"
@@ -141,8 +148,11 @@ def _coils(a: Analysis) -> list[Verdict]:
         elif c.time_to_limit is None:
             status = Status.FAIL
             why = "above its class in steady state; no heat capacity is given, so the time to the limit is unknown"
-        elif c.time_to_limit >= DURATION:
-            status, why = Status.PASS, f"reaches its class limit only after {c.time_to_limit / 60:.0f} min"
+        elif c.time_to_limit >= span:
+            status, why = (
+                Status.PASS,
+                f"reaches its class limit only after {c.time_to_limit / 60:.0f} min, beyond {held}",
+            )
         elif opened:
             status = Status.WARN
             why = (
@@ -153,7 +163,8 @@ def _coils(a: Analysis) -> list[Verdict]:
             status = Status.FAIL
             why = (
                 f"reaches its class limit after {c.time_to_limit / 60:.0f} min (at most: the starting power held) "
-                "of retardation on a failed regulator while no fuse opens: fit an overvoltage cut-out or a "
+                f"of retardation on a failed regulator, within {held}, while no fuse opens: fit an overvoltage "
+                "cut-out (supply.overvoltage_cutout) or a "
                 "winding thermal switch that drops the stage, or coils rated for the overvoltage"
             )
         out.append(

@@ -49,6 +49,9 @@ class Supply:
     chassis_node: str  # where a short to the vehicle body lands
     #: central load-dump suppression at the alternator: "yes", "no" or "not known" (ISO 16750-2 Test B / A)
     load_dump_suppression: str = "not known"
+    #: the bus voltage above which the retarder's controller switches its stages off (its supply
+    #: protection) [V]; None: the drawing states none, so the stages stay on in a regulator failure
+    overvoltage_cutout: float | None = None
 
 
 @dataclass(frozen=True)

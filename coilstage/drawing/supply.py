@@ -26,6 +26,7 @@ KEYS = {
         "limits",
         "load_dump_suppression",
         "negative",
+        "overvoltage_cutout",
         "system",
     },
     "supply.limits": {"max", "min"},
@@ -135,6 +136,7 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
         r.assume("no alternator in the drawing: the battery alone feeds the bus")
 
     suppression = r.text(s, "load_dump_suppression", "supply", default=None, choices=list(LOAD_DUMP_SUPPRESSION))
+    cutout = r.quantity(s, "overvoltage_cutout", "supply", "voltage", default=None, positive=True)
 
     base = r.quantity(s, "base_load", "supply", "current", default=None, nonnegative=True)
     if base is None and "base_load" not in s:
@@ -175,6 +177,9 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
     if battery.node == negative:
         r.problem("supply.battery.node", battery.node, "a node other than the negative node")
         return None
+    if cutout is not None and cutout <= system:
+        r.problem("supply.overvoltage_cutout", s["overvoltage_cutout"], f"a voltage above the {round(system)} V system")
+        return None
     return Supply(
         round(system),
         code,
@@ -188,4 +193,5 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
         negative,
         chassis or negative,
         load_dump_suppression=suppression or default("supply.load_dump_suppression"),
+        overvoltage_cutout=cutout,
     )

@@ -167,15 +167,18 @@ def _coils(a: Analysis) -> list[Verdict]:
                 "cut-out (supply.overvoltage_cutout) or a "
                 "winding thermal switch that drops the stage, or coils rated for the overvoltage"
             )
+        by_time = c.steady_temperature > c.limit and c.time_to_limit is not None
+        value, limit, unit = (c.time_to_limit, span, "s") if by_time else (c.steady_temperature, c.limit, "degC")
+        margin = (c.time_to_limit - span) / span if by_time else (c.limit - c.steady_temperature) / (c.limit + 273.15)
         out.append(
             Verdict(
                 OV_COIL.id,
                 s.id,
                 status,
-                c.steady_temperature,
-                c.limit,
-                "degC",
-                (c.limit - c.steady_temperature) / (c.limit + 273.15),
+                value,
+                limit,
+                unit,
+                margin,
                 OV_COIL.clause,
                 f"{why}; {head}; {c.how}; {case.words}. Caution: hot coils burn; follow the vehicle maker's "
                 "instructions and local codes",

@@ -154,13 +154,20 @@ def _battery(capacity_ah: float) -> str:
 
 def test_battery_floor_default_50_percent():
     # Common practice (shipped default): a lead-acid battery is kept above half charge, so from 90 % the
-    # usable share is 40 % of the capacity. The drawn charge does not depend on the capacity (the EMF is
-    # held), so the capacity is placed 1 % either side of drawn / 0.40.
+    # usable share is 40 % of the capacity. The drawn charge is rate-weighted (Peukert), so it changes
+    # with the capacity: the capacity where drawn = limit is found by fixed-point steps on the rule's
+    # own ratio, then placed 1 % either side (the ratio moves by more than 1 %: the pin straddles).
     _, vs = _verdicts(_battery(1000.0))
-    drawn = _one(vs, "battery.charge", "battery").value
-    assert drawn > 1.0  # the duty must draw on the battery for the pin to mean anything
-    _, ok = _verdicts(_battery(drawn / 0.40 * 1.01))
-    _, short = _verdicts(_battery(drawn / 0.40 * 0.99))
+    v = _one(vs, "battery.charge", "battery")
+    assert v.value > 1.0  # the duty must draw on the battery for the pin to mean anything
+    assert v.limit == pytest.approx(0.40 * 1000.0, rel=1e-6)  # 90 % start - 50 % floor = 40 % of 1000 A h
+    cap = v.value / 0.40
+    for _ in range(8):
+        _, vs = _verdicts(_battery(cap))
+        v = _one(vs, "battery.charge", "battery")
+        cap *= (v.value / v.limit) ** 0.8
+    _, ok = _verdicts(_battery(cap * 1.01))
+    _, short = _verdicts(_battery(cap * 0.99))
     assert _one(ok, "battery.charge", "battery").status is Status.PASS
     assert _one(short, "battery.charge", "battery").status is Status.FAIL
 

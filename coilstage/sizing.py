@@ -48,6 +48,7 @@ _HEATING_RULES = (
     "cable.conductor_temperature",
     "battery.charge",
     "fuse.duty_thermal_state",
+    "fuse.cyclic_duty",
 )
 #: What sizing cannot change, by rule: the part of the vehicle it belongs to.
 UNCHANGEABLE = {
@@ -59,6 +60,13 @@ UNCHANGEABLE = {
     "field.saturation": "the coils",
     "field.inductance_crosscheck": "the coils",
     "field.braking_retained": "the coils and their cooling",
+    "overvoltage.coil": "the coils and their cooling, or the controller's overvoltage cut-out",
+    "overvoltage.fuse": "the regulator's protection (a fuse that opens on a failed regulator protects the wiring)",
+    "ground.lost_return": "the layout of the returns",
+    "relay.coil_circuit": "the relay coil circuit (its fuse and wire)",
+    "joint.current": "the joints and lugs",
+    "joint.heat": "the joints and lugs",
+    "joint.lug_size": "the joints and lugs",
 }
 
 

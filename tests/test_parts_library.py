@@ -113,7 +113,8 @@ def test_a_library_part_overridden_in_a_drawing():
     got = parse_drawing(toml_dumps(expanded), "expanded", CONFIGS)
 
     typed = _coach_raw()
-    _element(typed, "F1")["rating"] = "80 A"
+    # the library's F-100-B values typed in (configs/parts/workshop-parts.toml), the rating the drawing's
+    _element(typed, "F1").update(rating="80 A", voltage_rating="58 V", breaking_capacity="3 kA")
     want = parse_drawing(toml_dumps(typed), "typed", CONFIGS)
     assert _elements(got) == _elements(want)
     assert check(got)[1] == check(want)[1]

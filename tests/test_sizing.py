@@ -107,8 +107,11 @@ def test_fuse_window_hand_worked():
     bus = 28.0 + 0.3 + 0.020 * (25.0 - -30.0)
     i = _cold_current(0.9 * 0.95, _HARNESS_R, bus=bus)
     assert i == pytest.approx(42.3, rel=0.01)
-    text = drawing_text(stages=1, coil_r=[0.9]).replace(
-        'type = "single-bolt"\nrating = "300 A"', 'type = "E"\nrating = "30 A"'
+    # rated 58 V: a 32 V fuse on the 32 V code-F bus warns for its voltage at any current rating; 1 000
+    # switchings over the fuse's life: at the default 10^5 the cyclic-duty rule's shipped factor asks
+    # for more than the cable allows, and this test is about the continuous-duty end of the window
+    text = drawing_text(stages=1, coil_r=[0.9], extra="[switching]\ncycles = 1000\n").replace(
+        'type = "single-bolt"\nrating = "300 A"', 'type = "E"\nrating = "30 A"\nvoltage_rating = "58 V"'
     )
     s = _by_part(sizing.suggestions(text))["FM"]
     floor = i / (0.75 * 0.94)
@@ -267,7 +270,8 @@ def test_fixed_part_stays_and_is_named():
     r = sizing.size_drawing(text, str(FLAWED), FLAWED.parent)
     assert ("W2", "size") not in {(c.part, c.key) for c in r.changes}
     assert 'size = "4 mm^2"' in r.text.split('id = "W2"')[1].split("[[harness]]")[0]
-    held = [x for x in r.remaining if x["subject"] == "W2"]
+    # (the regulator-failure case is not one sizing designs for: overvoltage.cable W2 stays as it is)
+    held = [x for x in r.remaining if x["subject"] == "W2" and not x["rule"].startswith("overvoltage.")]
     assert held and all("fixed part W2" in x["held_by"] for x in held)
     # the written drawing loads, and sizing it again keeps W2 fixed and changes nothing
     parse_drawing(r.text, str(FLAWED), FLAWED.parent)
@@ -336,7 +340,6 @@ def test_action_list_groups_by_part():
     texts = [x["text"] for x in al["fail"]]
     assert any(t.startswith("W2 — ") and "use 12 mm² or larger" in t for t in texts)
     assert any(t.startswith("K1 — ") and "100 A" in t for t in texts)
-    assert "give the maker's melting I²t for F2" in al["missing"]
     assert any(x["part"] == "battery" for x in al["cannot_change"])
     # every failing verdict is either answered by a part or listed as what sizing cannot change
     listed = {r for x in al["fail"] + al["cannot_change"] for r in x["rules"]}

@@ -6,7 +6,6 @@ import dataclasses
 
 import numpy as np
 
-from coilstage.analysis.params import evaluate
 from coilstage.analysis.run import Analysis
 from coilstage.analysis.sensitivities import VerdictSensitivity, analyse_sensitivities, corner_words
 from coilstage.checks import (
@@ -82,56 +81,8 @@ def _with_sensitivities(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
         worst = dataclasses.replace(
             v.worst, deciding=(*v.worst.deciding, *corner_words(vs)), sensitivities=_sensitivities(vs)
         )
-        out.append(_at_corner(a, dataclasses.replace(v, worst=worst), vs))
+        out.append(dataclasses.replace(v, worst=worst))
     return out
-
-
-#: The rules whose verdict the corner search decides where its corner is worse: those whose model in
-#: :mod:`coilstage.analysis.params` is the rule's own state of the vehicle (the duty network at the
-#: regulator's high end for the drop, the low bus, the largest fault). Cable, fuse and relay duty are
-#: judged in one consistent vehicle state swept over the ambient (zones following the ambient), which
-#: the corner model does not hold; for them the corner's margin is a deciding input only.
-CORNER_DECIDES = frozenset({"circuit.voltage_drop", "supply.bus_minimum", "fuse.breaking_capacity"})
-#: the corner search's status codes (analysis.params.Evaluated.status)
-_STATUS = {0: Status.PASS, 1: Status.WARN, 2: Status.FAIL}
-_RANK = {Status.PASS: 0, Status.WARN: 1, Status.FAIL: 2}
-#: where the corner's margin is lower than the view's by less than this and its status is the same, the
-#: view's verdict stands (half a point: the report prints margins to the whole point, so a smaller
-#: difference would move the words and not the figure); the corner's margin is among its deciding inputs
-_SAME_MARGIN = 0.005
-
-
-def _at_corner(a: Analysis, v: Verdict, vs: VerdictSensitivity) -> Verdict:
-    """The verdict decided at the worst corner of the declared tolerances where that corner is worse
-    than the worst-case view the rule read: a PASS must hold at every combination of the tolerances
-    the drawing declares (or the shipped defaults stand for), so the lower margin decides, with the
-    view's figure kept in the note."""
-    c = vs.corner
-    if v.rule not in CORNER_DECIDES:
-        return v
-    status = _STATUS[int(c.status)]
-    if v.margin is None or _RANK[status] < _RANK.get(v.status, 0) or c.margin >= v.margin:
-        return v
-    if _RANK[status] == _RANK.get(v.status, 0) and c.margin >= v.margin - _SAME_MARGIN:
-        return v
-    ev = evaluate(a.drawing, c.x[None, :]).get((v.rule, v.subject))
-    value, limit = v.value, v.limit
-    if ev is not None and ev.unit == v.unit:
-        value, limit = float(ev.value[0]), float(ev.limit)
-    view = f"the {v.corner}" if v.corner else "the rule's own worst-case view"
-    note = (
-        f"{status.value.upper()} at the worst corner of the declared tolerances (margin {c.margin:.1%}; "
-        f"{view} alone gives {v.margin:.1%}): {v.note}"
-    )
-    return dataclasses.replace(
-        v,
-        status=status,
-        value=value,
-        limit=limit,
-        margin=float(c.margin),
-        note=note,
-        corner="worst corner of the declared tolerances",
-    )
 
 
 def run_checks(a: Analysis) -> list[Verdict]:

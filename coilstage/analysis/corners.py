@@ -148,4 +148,3 @@ def fault_currents(circuit: Circuit, fault: Conditions, protected: dict[str, lis
     places = [d.supply.battery.node, *(f.b for f in fuses), *far.values()]
     at = circuit.fault_currents(fault.temperatures, fault.sources, places)
     return {f.id: at[f.b] for f in fuses}, {cid: at[node] for cid, node in far.items()}, at[d.supply.battery.node]
-

@@ -90,7 +90,7 @@ _SYSTEMS = {
         "20 mm^2",
         "100 A",
         "B",
-        "32 V",
+        "58 V",
         "5 kA",
         "40000 A^2*s",
         "rating_24v",
@@ -180,6 +180,7 @@ def starter_text(system: int = 24, stages: int = 4) -> str:
     rint, capacity, rint_high = _BANK.get((system, stages), (s.rint, s.capacity, s.rint_high))
     bank = "; a battery bank sized for this retarder" if (system, stages) in _BANK else ""
     main_length = "4 m" if system == 24 else "2.5 m"  # a 12 V feed must be short: its drop is a share of 12 V
+    cutout = 30 if system == 24 else 15  # a retarder controller's overvoltage cut-out (invented)
     positions = "\n\n".join(
         f'[[switching.positions]]\nname = "{k}"  # position {k} of the hand control\n'
         f'at = "{0.2 * (k - 1):g} s"  # reached at this time of the switch-on sequence (invented)\n'
@@ -213,6 +214,7 @@ code = "{s.code}"  # ISO 16750-2 supply code ({s.code_range}); or give [supply.l
 base_load = "{s.base_load}"  # the rest of the vehicle while braking, a constant current (invented)
 negative = "B-"  # the battery negative node; the reference of the network (optional)
 chassis = "B-"  # where a short to the body lands (optional; default: the negative node)
+overvoltage_cutout = "{cutout} V"  # the retarder controller drops its stages above this bus (invented datasheet)
 # load_dump_suppression = "not known"  # central load-dump suppression at the alternator: yes/no (optional)
 
 [supply.battery]
@@ -294,7 +296,7 @@ from = "B+"  # the supply side
 to = "F0"
 type = "{main_type}"  # ISO 8820 fuse type
 rating = "{main_rating}"  # rated current (invented)
-voltage_rating = "32 V"  # the fuse's rated voltage (invented datasheet)
+voltage_rating = "58 V"  # the fuse's rated voltage (invented datasheet): above the bus's highest
 breaking_capacity = "5 kA"  # from the fuse maker's datasheet (invented)
 resistance = "0.15 mohm"  # the fuse's own resistance (optional; invented)
 zone = "chassis_rail"  # where it sits

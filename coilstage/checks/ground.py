@@ -65,12 +65,14 @@ def _lost_return(a: Analysis) -> list[Verdict]:
         if over:
             status = Status.FAIL
             note += "; the loss pushes " + "; ".join(over)
-        elif unrated or lost or (lr.carried < 1e-3 and d.supply.chassis_node in (g.a, g.b)):
+        elif unrated or (lost and parts) or (lr.carried < 1e-3 and d.supply.chassis_node in (g.a, g.b)):
             status = Status.WARN
             if unrated:
                 note += "; through parts with no rating: " + ", ".join(unrated) + ": state their ratings"
         else:
             status = Status.PASS
+            if lost:
+                note += "; it fails safe: no other part takes the current and only the stage's braking is lost"
         note += "; a lost return is a fault to find and repair (inspect and torque ground studs to the maker's figure)"
         if worst is not None:
             out.append(

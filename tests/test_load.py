@@ -165,7 +165,10 @@ def test_a_library_part_overridden_in_a_drawing_gives_the_typed_verdicts():
 
     got = parse_drawing(coach_with_parts(), "parts.toml", COACH.parent)
     raw = tomllib.loads(COACH.read_text(encoding="utf-8"))
-    next(e for e in raw["harness"] if e["id"] == "F1")["rating"] = "80 A"
+    # the library's F-100-B values typed in (configs/parts/workshop-parts.toml), the rating the drawing's
+    next(e for e in raw["harness"] if e["id"] == "F1").update(
+        rating="80 A", voltage_rating="58 V", breaking_capacity="3 kA"
+    )
     want = parse_drawing(toml_dumps(raw), "typed.toml", COACH.parent)
 
     def strip(d):

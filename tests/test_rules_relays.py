@@ -90,7 +90,7 @@ def test_pickup_decided_at_the_lowest_bus():
     assert need == pytest.approx(21.75, abs=0.01)
     low = a.worst.lowest_bus.bus_voltage
     hot = a.corners["hot"].bus_voltage
-    assert low < 23.3 < hot  # the lowest bus is below the 23.3 V the review measured
+    assert low < hot  # the lowest bus lies below the hot corner's
     v = one(PICKUP.evaluate(a), "K1")
     assert v.status is Status.WARN
     assert v.value == pytest.approx(low * r95 / (r95 + 1.5), rel=1e-12)
@@ -148,7 +148,10 @@ def test_voltage_rating_in_the_load_dump_that_applies():
     v = one(RELAY_VOLTAGE.evaluate(a), "K1 load dump")
     assert v.limit == pytest.approx(u + 24.9, rel=1e-12)
     assert v.limit == pytest.approx(77.4, abs=0.1)
-    assert v.status is Status.FAIL and "Test A (unclamped) assumed" in v.note
+    # the coach's contactors switch 80 V: they pass; rated 60 V (as they were) they fail
+    assert v.status is Status.PASS and "Test A (unclamped) assumed" in v.note
+    v60 = one(RELAY_VOLTAGE.evaluate(analysed(set_key(COACH_TEXT, "K1", "voltage_rating", '"60 V"'))), "K1 load dump")
+    assert v60.status is Status.FAIL
     # Central suppression stated ("yes", Test B, clamped at 58 V): the loaded 52.5 V lies below the
     # clamp, so the figure is the same; a 300 ohm stage barely loads the pulse and Test B clamps it.
     assert one(RELAY_VOLTAGE.evaluate(analysed(central(COACH_TEXT, "yes"))), "K1 load dump").limit == pytest.approx(

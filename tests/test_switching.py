@@ -101,7 +101,11 @@ def test_network_switching_matches_solve_ivp(corner, scenario):
 
 
 def test_hot_corner_alternator_changes_state_during_switch_on():
-    d = load_drawing(COACH)
+    # the coach with a 100 A idle output (its alternator before the larger pulley): the switch-on takes
+    # it from regulating into its current limit
+    from coilstage.drawing.load import parse_drawing
+
+    d = parse_drawing(COACH.read_text(encoding="utf-8").replace('limit_idle = "170 A"', 'limit_idle = "100 A"'), "x")
     sw = analyse_switching(d, case_networks(Circuit(d), conditions(d)))
     modes = [seg.lin.mode for seg in sw.scenarios["hot:all stages"].segments]
     assert modes[:2] == ["regulating", "current-limited"]
@@ -287,11 +291,12 @@ def test_demo_drawings_pass_the_suppressor_and_release_rules():
 def test_demo_relays_at_their_worst_cases():
     # The truck's diodes: its contacts see 16 V + 0.9 V, and 18.4 V + 0.9 V opening in the unclamped
     # 12 V load dump (hand-worked in tests/test_rules_relays.py): the break passes. The coach's 24 V
-    # zeners put 52.5 V + 24.9 V = 77.4 V across a 60 V contact opening in the 24 V load dump: FAIL
-    # (both rules, one figure). Both coils only WARN at the lowest bus (pick-up under 110 % of need).
+    # zeners put 52.5 V + 24.9 V = 77.4 V across its contacts opening in the 24 V load dump: they are
+    # rated 80 V, so the break passes (a 60 V contact fails: tests/test_rules_relays.py). Both coils
+    # only WARN at the lowest bus (pick-up under 110 % of need).
     from coilstage.checks.switching import PICKUP, RELAY_BREAKING
 
-    for path, brk in ((TRUCK, Status.PASS), (COACH, Status.FAIL)):
+    for path, brk in ((TRUCK, Status.PASS), (COACH, Status.PASS)):
         a, _ = check(load_drawing(path))
         assert {v.status for v in RELAY_BREAKING.evaluate(a)} == {brk}, path.name
         assert {v.status for v in PICKUP.evaluate(a)} == {Status.WARN}, path.name

@@ -60,4 +60,8 @@ def test_the_check_of_a_thin_cable_behind_a_large_fuse_fails_it(tmp_path):
     _, verdicts = coilstage.check(coilstage.load_drawing(_thin_main_feed(tmp_path)))
     v = [v for v in verdicts if v.rule == "fuse.cable_short_circuit" and "W-MAIN" in v.subject]
     assert v and v[0].status.name == "FAIL"
-    assert v[0].value is None and "far beyond" in v[0].note
+    # at the smallest fault (half-charged cold battery, 5 mΩ in the fault) the far-end short of the
+    # 0.5 mm² feed draws less than the 300 A rating, so the fuse need not open at all; at the nominal
+    # fault it would be cleared only after the conductor passed copper's melting point
+    assert v[0].value is None
+    assert "need not open" in v[0].note or "far beyond" in v[0].note

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import pytest
@@ -188,3 +189,30 @@ def coach_with_parts() -> str:
     el["S1"]["suppression"] = {"part": "DZ-24-150"}
     raw.setdefault("tables", {})["parts"] = "parts/workshop-parts.toml"
     return toml_dumps(raw)
+
+
+# ---------------------------------------------------------------- editing one element of a drawing text
+
+
+def _block(text: str, elem_id: str) -> tuple[int, int]:
+    i = text.index(f'id = "{elem_id}"')
+    s = text.rindex("[[harness]]", 0, i)
+    e = text.find("[[harness]]", i)
+    return s, (len(text) if e < 0 else e)
+
+
+def set_key(text: str, elem_id: str, key: str, value: str) -> str:
+    """The drawing text with ``key = value`` set in the harness element ``elem_id``."""
+    s, e = _block(text, elem_id)
+    b = text[s:e]
+    if re.search(rf"^{key} = .*$", b, flags=re.M):
+        b = re.sub(rf"^{key} = .*$", lambda m: f"{key} = {value}", b, flags=re.M)
+    else:
+        b = b.rstrip("\n") + f"\n{key} = {value}\n\n"
+    return text[:s] + b + text[e:]
+
+
+def del_key(text: str, elem_id: str, key: str) -> str:
+    """The drawing text with ``key`` removed from the harness element ``elem_id``."""
+    s, e = _block(text, elem_id)
+    return text[:s] + re.sub(rf"^{key} = .*\n", "", text[s:e], flags=re.M) + text[e:]

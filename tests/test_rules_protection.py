@@ -12,32 +12,9 @@ from coilstage.checks import Status
 from coilstage.drawing.load import parse_drawing
 from coilstage.errors import DrawingError
 
-from .conftest import COACH, drawing_text
+from .conftest import COACH, del_key, drawing_text, set_key
 
 COACH_TEXT = COACH.read_text(encoding="utf-8")
-
-
-def _block(text: str, elem_id: str) -> tuple[int, int]:
-    i = text.index(f'id = "{elem_id}"')
-    s = text.rindex("[[harness]]", 0, i)
-    e = text.find("[[harness]]", i)
-    return s, (len(text) if e < 0 else e)
-
-
-def set_key(text: str, elem_id: str, key: str, value: str) -> str:
-    """The drawing text with ``key = value`` set in the harness element ``elem_id``."""
-    s, e = _block(text, elem_id)
-    b = text[s:e]
-    if re.search(rf"^{key} = .*$", b, flags=re.M):
-        b = re.sub(rf"^{key} = .*$", lambda m: f"{key} = {value}", b, flags=re.M)
-    else:
-        b = b.rstrip("\n") + f"\n{key} = {value}\n\n"
-    return text[:s] + b + text[e:]
-
-
-def del_key(text: str, elem_id: str, key: str) -> str:
-    s, e = _block(text, elem_id)
-    return text[:s] + re.sub(rf"^{key} = .*\n", "", text[s:e], flags=re.M) + text[e:]
 
 
 def verdicts(text: str):

@@ -322,17 +322,23 @@ def worst_cases(
     soc = tol["supply.battery.state_of_charge"]["low"]
     age = tol["supply.battery.age_factor"]["high"]
     emf_min = open_circuit_voltage(soc, cells=cells)
-    rb_max = internal_resistance(
-        rb,
-        soc,
-        t_min,
-        t_reference=25.0,
-        temperature_coefficient=tol["supply.battery.resistance_temperature_coefficient"]["nominal"],
-        empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
-        age_factor=age,
-    )
-    if rb_row:
-        rb_max = float(rb_row["high"])
+
+    def raised_resistance(temperature: float) -> float:
+        """The battery's resistance at the low charge, aged, at ``temperature`` [°C] (the drawing's
+        stated high end where it gives one) [Ω]."""
+        if rb_row:
+            return float(rb_row["high"])
+        return internal_resistance(
+            rb,
+            soc,
+            temperature,
+            t_reference=25.0,
+            temperature_coefficient=tol["supply.battery.resistance_temperature_coefficient"]["nominal"],
+            empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
+            age_factor=age,
+        )
+
+    rb_max = raised_resistance(t_min)
     r_fault = tol["tolerances.fault_resistance"]["high"]
     dmin = _with_cable_length(_with_battery(d, rb_max), tol)
     cmin = Circuit(dmin)
@@ -395,19 +401,9 @@ def worst_cases(
     # raised for its charge and age but taken at that ambient, not at the lowest one (a battery at
     # -30 °C beside windings in an 80 °C retarder zone is two vehicles)
     t_hot = d.environment.ambient_max
-    rb_hot = internal_resistance(
-        rb,
-        soc,
-        t_hot,
-        t_reference=25.0,
-        temperature_coefficient=tol["supply.battery.resistance_temperature_coefficient"]["nominal"],
-        empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
-        age_factor=age,
-    )
+    rb_hot = raised_resistance(t_hot)
     # the windings' steady state is solved again in this state (a lower bus heats them less), with the
     # coils at the high end of their tolerance and the alternator hot-derated
-    if rb_row:
-        rb_hot = float(rb_row["high"])
     db = _with_coil_tolerance(_with_cable_length(_with_battery(d, rb_hot), tol), r_hi)
     if alt is not None:
         alt_b = dataclasses.replace(

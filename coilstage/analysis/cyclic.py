@@ -1,7 +1,9 @@
 """Cyclic duty of each fuse's element over the drawing's duty profile: the on-periods the fuse sees,
 the element's peak rise over the profile repeated (first-order element model,
 :mod:`coilstage.physics.fuse_cyclic`), and each on-current against the cyclic limit
-B'2(N) x I_melt(t_on) at the drawing's number of switchings N.
+B'2(N) x I_melt(t_on) at the drawing's number of switchings N: the fuse maker's cyclic derating where
+the drawing states it (the fuse's ``cyclic_factor``, with ``cyclic_cycles`` the switchings it is rated
+for), else the shipped default of ``data/fuse_cyclic_derating.toml``.
 
 The element model: I_min (the smallest current that melts it) = the shipped minimum melting multiple
 x rating x the fuse's rerating at its zone temperature; τ from the fuse's melting I²t where given
@@ -51,6 +53,8 @@ class FuseCycling:
     cycles: int  # switchings over the fuse's life
     fraction: float  # B'2(N)
     fraction_words: str
+    makers: bool  # the factor is the fuse maker's (the drawing's cyclic_factor), not the shipped default
+    rated_cycles: int | None  # switchings the maker's factor is rated for, where stated
     periods: tuple[OnPeriod, ...]
     peak_share: float  # steady-periodic peak rise over the repeated profile / melting rise [-]
     repeats: int  # profile repetitions simulated to reach it
@@ -108,6 +112,22 @@ def repeated_peak(steps: list[tuple[float, float, float]], i_min: float, tau: fl
     return peak, reps
 
 
+def cyclic_fraction(f: Fuse, cycles: int) -> tuple[float, str]:
+    """B'2 for the fuse at ``cycles`` switchings, with words: the maker's cyclic derating where the
+    drawing gives it (``cyclic_factor``, used as stated: the maker rates it, no curve is laid over it),
+    else the shipped default interpolated at ``cycles``."""
+    if f.cyclic_factor is not None:
+        rated = f" (rated for {f.cyclic_cycles:,} switchings)" if f.cyclic_cycles is not None else ""
+        return f.cyclic_factor, f"maker's cyclic derating {f.cyclic_factor:.2f}{rated}, at {cycles:,} switchings"
+    tab = cyclic_table()
+    pts = [(float(r["cycles"]), float(r["fraction"])) for r in tab["rows"]]
+    frac = interpolate_cyclic_fraction(cycles, pts)
+    return frac, (
+        f"shipped default {frac:.2f}, common practice, at {cycles:,} switchings (the fuse maker's cyclic "
+        "derating was not given: state it as the fuse's cyclic_factor)"
+    )
+
+
 def fuse_cycling(d: Drawing, descent: DutyResult, f: Fuse) -> FuseCycling | str:
     """The fuse's cyclic duty over the profile ``descent``, or why it could not be computed."""
     if f.id not in descent.device_current:
@@ -116,11 +136,7 @@ def fuse_cycling(d: Drawing, descent: DutyResult, f: Fuse) -> FuseCycling | str:
     if isinstance(model, str):
         return model
     i_min, tau, tau_words = model
-    tab = cyclic_table()
-    n = int(d.switching.cycles)
-    pts = [(float(r["cycles"]), float(r["fraction"])) for r in tab["rows"]]
-    frac = interpolate_cyclic_fraction(n, pts)
-    frac_words = f"B'2 = {frac:.2f} at {n:,} switchings ({tab['default_note']})"
+    frac, frac_words = cyclic_fraction(f, int(d.switching.cycles))
     steps = step_currents(descent, f.id)
     periods: list[OnPeriod] = []
     run: list[tuple[float, float, float]] = []
@@ -135,7 +151,21 @@ def fuse_cycling(d: Drawing, descent: DutyResult, f: Fuse) -> FuseCycling | str:
             periods.append(OnPeriod(run[0][0], t_on, i_on, im, frac * im))
             run = []
     peak, reps = repeated_peak(steps, i_min, tau)
-    return FuseCycling(f.id, i_min, tau, tau_words, n, frac, frac_words, tuple(periods), peak, reps)
+    n = int(d.switching.cycles)
+    return FuseCycling(
+        f.id,
+        i_min,
+        tau,
+        tau_words,
+        n,
+        frac,
+        frac_words,
+        f.cyclic_factor is not None,
+        f.cyclic_cycles,
+        tuple(periods),
+        peak,
+        reps,
+    )
 
 
 def all_fuses(d: Drawing, descent: DutyResult | None) -> dict[str, FuseCycling | str]:

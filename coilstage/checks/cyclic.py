@@ -1,5 +1,6 @@
 """The fuse's cyclic duty: each on-period of the duty profile at the fuse's current against the
-cyclic limit B'2(N) x I_melt(t_on) at the drawing's number of switchings, and the element model's
+cyclic limit B'2(N) x I_melt(t_on) at the drawing's number of switchings (the maker's cyclic derating
+where the drawing gives it, else the shipped default), and the element model's
 peak rise over the profile repeated (it must stay below melting).
 
 An RL load has no inrush, so a switch-on pulse integral says nothing about a retarder's fuses; what
@@ -34,12 +35,24 @@ def _cyclic(a: Analysis) -> list[Verdict]:
         )
         if c.peak_share >= 1.0:
             status, why = Status.FAIL, "the element reaches its melting rise: the fuse opens in service"
+        elif p.current > p.limit and c.makers:
+            status = Status.FAIL
+            why = (
+                "above the maker's cyclic limit: the element fatigues and the fuse opens early in service "
+                "(choose a larger rating or a fuse rated for the duty)"
+            )
         elif p.current > p.limit:
             # the factor is a shipped default taken from another fuse family: not a proven failure
             status = Status.WARN
             why = (
                 "above the cyclic limit: the element fatigues and the fuse may open early; the factor is a "
                 "shipped default, so the fuse maker's cyclic rating decides (ask for it, or choose a larger rating)"
+            )
+        elif c.makers and c.rated_cycles is not None and c.rated_cycles < c.cycles:
+            status = Status.WARN
+            why = (
+                f"within the maker's cyclic limit, but the maker rates it for {c.rated_cycles:,} switchings and "
+                f"the drawing switches {c.cycles:,}: ask the fuse maker for the factor at that count"
             )
         else:
             status, why = Status.PASS, "within the cyclic limit"
@@ -64,8 +77,9 @@ def _cyclic(a: Analysis) -> list[Verdict]:
 FUSE_CYCLIC = Rule(
     "fuse.cyclic_duty",
     "Fuse on-currents of the duty profile within the cyclic limit B'2(N) x I_melt(t_on); element below melting",
-    "Fuse makers' cyclic-loading rule I_on <= B'2(N) I_melt(t_on) (semiconductor-fuse application guide; "
-    "a shipped default for ISO 8820 fuses); lumped first-order element heating (Incropera & DeWitt §5.2-5.3)",
+    "Fuse makers' cyclic-loading rule I_on <= B'2(N) I_melt(t_on): the maker's cyclic derating where the "
+    "drawing gives it, else a shipped default for ISO 8820 fuses (semiconductor-fuse application guide); "
+    "lumped first-order element heating (Incropera & DeWitt §5.2-5.3)",
     _cyclic,
     (
         "fuse_cyclic.melting_current",

@@ -1,4 +1,5 @@
-"""A ``[[harness]]`` element of kind "fuse": ISO 8820 type, rating, breaking capacity and time-current gates."""
+"""A ``[[harness]]`` element of kind "fuse": ISO 8820 type, rating, breaking capacity, time-current gates
+and the maker's cyclic derating."""
 
 from __future__ import annotations
 
@@ -53,6 +54,11 @@ def read_fuse(r, e, where, env, common) -> Fuse | None:
             protects = tuple(p)
     melt = r.quantity(e, "melting_i2t", where, "joule_integral", default=None, positive=True)
     gates, gsrc = _gates(r, e, where, ftype)
+    # the maker's cyclic derating (I_on <= factor x I_melt(t_on)) and the switchings it is rated for
+    cyc = r.share(e, "cyclic_factor", where, default=None, low_open=True)
+    cyc_n = r.integer(e, "cyclic_cycles", where, default=None, maximum=100_000_000)
+    if "cyclic_cycles" in e and "cyclic_factor" not in e:
+        r.problem(f"{where}.cyclic_cycles", e["cyclic_cycles"], "given with the cyclic_factor it is rated for")
     if None in (ftype, rating, zone, zt, vr, bc, res, row):
         return None
     return Fuse(
@@ -71,6 +77,8 @@ def read_fuse(r, e, where, env, common) -> Fuse | None:
         gates=gates,
         gates_source=gsrc,
         melting_i2t=melt,
+        cyclic_factor=cyc,
+        cyclic_cycles=cyc_n,
     )
 
 

@@ -44,6 +44,8 @@ ELEMENT_KEYS = {
         "protects",
         "gates",
         "melting_i2t",
+        "cyclic_factor",
+        "cyclic_cycles",
     },
     "relay": _COMMON
     | {

@@ -257,6 +257,8 @@ class Fuse(Element):
     gates: tuple[tuple[float, float, float], ...] | None = None  # (multiple, t_min, t_max); None: shipped
     gates_source: str = ""
     melting_i2t: float | None = None  # [A²·s]
+    cyclic_factor: float | None = None  # maker's cyclic derating B'2 [-]; None: the shipped default
+    cyclic_cycles: int | None = None  # switchings the maker's factor is rated for; None: not stated
 
 
 @dataclass(frozen=True)

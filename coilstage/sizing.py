@@ -208,6 +208,23 @@ class Bench:
         #: (part kind, series) -> the largest member the rules could judge, as last found
         self.tops: dict[tuple, int] = {}
         self.evaluations = {"screen": 0, "full": 0}
+        self._corners: dict | None = None
+
+    def corners(self) -> dict:
+        """The worst tolerance corner of each steady-state verdict of the drawing as given ((rule,
+        subject) -> parameter key -> value), found once: candidates are judged at these corners (the
+        full check of the result searches again). Empty where the drawing cannot be read or the
+        search cannot be made (then no verdict is decided at a corner, as in the check)."""
+        if self._corners is None:
+            from coilstage.analysis.sensitivities import analyse_sensitivities
+            from coilstage.checks.tolerance_corner import corners_of
+
+            d = self.drawing({})
+            try:
+                self._corners = {} if d is None else corners_of(analyse_sensitivities(d))
+            except (*_CANDIDATE_ERRORS, ValueError, KeyError):
+                self._corners = {}
+        return self._corners
 
     @staticmethod
     def key(edits: dict) -> Edits:
@@ -286,7 +303,7 @@ class Bench:
             return None
         skipped = _HEATING_RULES + (() if switching else _SWITCHING_RULES)
         try:
-            vs = _by_key(_screen_verdicts(d, switching, rules))
+            vs = _by_key(_screen_verdicts(d, switching, rules, self.corners()))
         except _CANDIDATE_ERRORS:
             # a candidate the rules cannot judge (a figure out of range) is never one that passes
             self._fast[(k, switching, rules)] = None
@@ -330,11 +347,17 @@ class Bench:
             out = None
             if d is not None:
                 from coilstage.analysis.run import analyse
-                from coilstage.checks import RULES
+                from coilstage.checks import RULES, with_worst_corners
 
                 try:
                     a = analyse(d)
-                    out = _by_key(v for rule in RULES if rule.id.startswith(rules) for v in rule.evaluate(a))
+                    out = _by_key(
+                        with_worst_corners(
+                            a,
+                            [v for rule in RULES if rule.id.startswith(rules) for v in rule.evaluate(a)],
+                            self.corners(),
+                        )
+                    )
                 except _CANDIDATE_ERRORS:
                     out = None
             self._duty[(k, rules)] = out
@@ -346,10 +369,12 @@ def _by_key(verdicts) -> dict:
     return {(v.rule, v.subject): v for v in verdicts}
 
 
-def _screen_verdicts(d, switching: bool = True, rules: tuple[str, ...] = ()) -> list:
+def _screen_verdicts(d, switching: bool = True, rules: tuple[str, ...] = (), corners: dict | None = None) -> list:
     """The rules (ids starting with one of ``rules``; all when empty) on an analysis without the
-    duty simulation; falls back to the full check where the analysis cannot be asked for less."""
-    from coilstage.checks import RULES
+    duty simulation, the steady-state ones decided at the worst corner of the declared tolerances
+    as the check decides them; falls back to the full check where the analysis cannot be asked for
+    less."""
+    from coilstage.checks import RULES, with_worst_corners
 
     try:
         from coilstage.analysis.run import analyse
@@ -359,7 +384,9 @@ def _screen_verdicts(d, switching: bool = True, rules: tuple[str, ...] = ()) -> 
         import coilstage
 
         return coilstage.check(d)[1]
-    return [v for rule in RULES if not rules or rule.id.startswith(rules) for v in rule.evaluate(a)]
+    return with_worst_corners(
+        a, [v for rule in RULES if not rules or rule.id.startswith(rules) for v in rule.evaluate(a)], corners
+    )
 
 
 # ---------------------------------------------------------------- the parts and their verdicts
@@ -676,7 +703,7 @@ def _rating_only(bench: Bench, part: Part, edits: dict) -> dict | None:
     analysis. None where no analysis of the rest is at hand (then the screen runs)."""
     import dataclasses
 
-    from coilstage.checks import RULES
+    from coilstage.checks import RULES, with_worst_corners
 
     k = (part.index, part.key)
     if k not in edits:
@@ -692,7 +719,13 @@ def _rating_only(bench: Bench, part: Part, edits: dict) -> dict | None:
         if d is not None:
             try:
                 a = dataclasses.replace(r[0], drawing=d)
-                out = _by_key(v for rule in RULES if rule.id.startswith(part.rules) for v in rule.evaluate(a))
+                out = _by_key(
+                    with_worst_corners(
+                        a,
+                        [v for rule in RULES if rule.id.startswith(part.rules) for v in rule.evaluate(a)],
+                        bench.corners(),
+                    )
+                )
             except _CANDIDATE_ERRORS:
                 out = None
         bench._rated[key] = out

@@ -116,10 +116,15 @@ def test_voltage_drop_bands_follow_the_drawing_limits():
 
 
 def test_fuse_continuous_uses_75_percent_of_the_rerated_rating():
-    # 75 % rule (common practice, circuitprotection.ca): the 300 A main fuse at 60 degC, rerated by the
-    # shipped (from memory) curve: 0.94 at 60 degC -> 0.75 x 300 x 0.94 = 211.5 A.
+    # 75 % rule (common practice, circuitprotection.ca): the 300 A main fuse rerated by the shipped (from
+    # memory) curve at its zone in the worst consistent vehicle state: the largest current flows at the
+    # coldest ambient, -30 degC, where the zone stated at 60 degC (at the 40 degC highest ambient) stands
+    # at -10 degC; the curve between (-40, 1.12) and (25, 1.00) gives 1.12 - 0.12 x 30/65 = 1.0646 ->
+    # 0.75 x 300 x 1.0646 = 239.5 A.
     _, vs = check(parse_drawing(drawing_text(), "x"))
-    assert verdict(vs, "fuse.continuous", "FM").limit == pytest.approx(0.75 * 300 * 0.94, rel=1e-12)
+    v = verdict(vs, "fuse.continuous", "FM")
+    assert "ambient -30 °C" in v.note and "rerating at -10 °C" in v.note
+    assert v.limit == pytest.approx(0.75 * 300 * (1.12 - 0.12 * 30 / 65), rel=1e-12)
 
 
 def test_temperature_class_fail_when_zone_reaches_class():

@@ -12,11 +12,11 @@ import pytest
 
 from coilstage.analysis.circuit import Circuit, SourceState
 from coilstage.analysis.conditions import hot_temperatures
-from coilstage.analysis.params import FAIL, PASS, WARN, evaluate, nominal, parameters
+from coilstage.analysis.params import FAIL, PASS, WARN, evaluate, model, nominal, parameters
 from coilstage.analysis.run import analyse
 from coilstage.checks import RULES
 from coilstage.drawing.load import load_drawing
-from coilstage.drawing.schema import Cable, Stage
+from coilstage.drawing.schema import Cable, Fuse, Relay, Stage
 
 COACH = "configs/coach-24v-4stage.toml"
 STATUS = {"pass": PASS, "warn": WARN, "fail": FAIL}
@@ -89,16 +89,36 @@ def test_a_drawing_with_its_own_cable_row_gets_its_own_parameter(coach):
     assert "W1" not in ps["tolerances.cable_length"].elements
 
 
+def _zones_at(d, ambient):
+    """The drawing with every zone temperature moved by the ambient's shortfall from its highest (the
+    zones follow the ambient one for one), worked here element by element."""
+    shift = d.environment.ambient_max - ambient
+    els = tuple(
+        dataclasses.replace(e, zone_temperature=e.zone_temperature - shift)
+        if isinstance(e, (Cable, Fuse, Relay))
+        else e
+        for e in d.elements
+    )
+    return dataclasses.replace(d, elements=els)
+
+
 def test_duty_rules_equal_the_scalar_analysis_row_by_row(coach):
     """Each sample through analyse() on the drawing changed to it: cold corner at the sample's ambient,
-    bus held at the regulator's voltage (by hand), alternator at rated output plus its cold excess."""
+    every zone moved with the ambient, bus held at the regulator's voltage (by hand), alternator at
+    rated output plus its cold excess. The model tabulates the duty limits on an ambient grid and
+    interpolates between its points, so the samples' ambients are put on grid points here (exact
+    there); the interpolation between them is held by the next test."""
     ps = parameters(coach)
     xs = _samples(ps, 6, 1)
+    grid = model(coach).limits.grid
+    k_amb = [p.key for p in ps].index("environment.ambient")
+    xs[:, k_amb] = grid[np.abs(grid[None, :] - xs[:, k_amb, None]).argmin(axis=1)]
     got = evaluate(coach, xs)
     ids = {"fuse.continuous", "cable.ampacity", "relay.contact_rating"}
     seen = 0
     for i, x in enumerate(xs):
         d, col = _at(coach, ps, x)
+        d = _zones_at(d, col["environment.ambient"])
         alt = d.supply.alternator
         d = dataclasses.replace(
             d,
@@ -129,6 +149,33 @@ def test_duty_rules_equal_the_scalar_analysis_row_by_row(coach):
             assert e.value[i] == pytest.approx(100 * f, rel=1e-9)
             assert e.margin[i] == pytest.approx((d.limits.drop_pass - f) / d.limits.drop_pass, rel=1e-9, abs=1e-12)
     assert seen >= 6 * 20
+
+
+def test_duty_limits_between_grid_points_stay_within_a_tenth_of_a_percent(coach):
+    """Between the grid's points the interpolated limits against the ratings worked at the exact zone
+    temperature (analysis.ratings.cable_rating, tables.fuse_rerating): the ampacity's ambient factor is
+    smooth (a square root of the insulation's headroom), so a chord 2.5 K long is within 0.1 %."""
+    from coilstage import tables
+    from coilstage.analysis.ratings import cable_rating
+
+    m = model(coach)
+    grid = m.limits.grid
+    amb_max = coach.environment.ambient_max
+    mids = (grid[:-1] + grid[1:]) / 2
+    for c in coach.of_kind(Cable):
+        if c.id not in m.limits.cable_limit:
+            continue
+        got = np.interp(mids, grid, m.limits.cable_limit[c.id])
+        exact = [
+            cable_rating(dataclasses.replace(c, zone_temperature=c.zone_temperature - (amb_max - t))).ampacity.value
+            for t in mids
+        ]
+        assert got == pytest.approx(exact, rel=1e-3), c.id
+    frac = float(tables.fuse_rules()["continuous_fraction"])
+    for f in coach.of_kind(Fuse):
+        got = np.interp(mids, grid, m.limits.fuse_limit[f.id])
+        exact = [frac * f.rating * tables.fuse_rerating(f.zone_temperature - (amb_max - t)) for t in mids]
+        assert got == pytest.approx(exact, rel=1e-3), f.id
 
 
 def test_lowest_bus_equals_the_scalar_solve(coach):

@@ -8,7 +8,7 @@ import math
 import pytest
 
 from coilstage.analysis.run import analyse
-from coilstage.checks import run_checks
+from coilstage.checks import RULES, run_checks
 from coilstage.checks.base import Status, Verdict, decided_at_worst
 from coilstage.drawing.load import load_drawing
 
@@ -17,8 +17,10 @@ COACH = "configs/coach-24v-4stage.toml"
 
 @pytest.fixture(scope="module")
 def coach():
+    """The rules' own verdicts, each at its named worst case (run_checks may then decide a
+    steady-state verdict at a worse tolerance corner: tests/test_tolerance_corner.py)."""
     a = analyse(load_drawing(COACH), switching=False, heating=False)
-    return a, {(v.rule, v.subject): v for v in run_checks(a)}
+    return a, {(v.rule, v.subject): v for rule in RULES for v in rule.evaluate(a)}
 
 
 def test_smallest_fault_battery_by_hand(coach):
@@ -63,16 +65,25 @@ def test_breaking_capacity_decided_at_the_largest_fault(coach):
 
 
 def test_continuous_duty_with_coil_tolerance_and_cold_regulator(coach):
-    # Coil R -5 % and the regulator's compensation at -30 degC take the main fuse's
-    # margin from 13 % towards 5 %. Hand estimate of the current ratio: (29.6 V / 28.5 V) / 0.95 = 1.093
-    # less the shared feed's drop.
+    """fuse.continuous in one consistent vehicle state over the ambient range: at the coldest ambient
+    (-30 °C) the coils are coldest and the cold regulator's compensation raises the bus, 28.2 + 0.3 +
+    0.020 V/K x 55 K = 29.6 V, while the fuse's zone (60 °C at the highest ambient, 40 °C) is 70 K
+    cooler, -10 °C. Hand-worked limit from the shipped rerating curve (points (-40, 1.12) and
+    (25, 1.00), linear): 1.12 - 0.12 x 30/65 = 1.0646; 0.75 x 350 A x 1.0646 = 279.5 A. Hand estimate of
+    the current ratio to the nominal sweep (bus 28.5 V, stated coil R) at the same ambient:
+    at most (29.6 / 28.5) / 0.95 = 1.093 less the shared feed's drop."""
     a, v = coach
     fm = v[("fuse.continuous", "F-MAIN")]
+    sw, sn = a.worst.duty_sweep, a.worst.duty_sweep_nominal
     assert a.worst.bus_high == pytest.approx(28.2 + 0.3 + 0.020 * 55)
-    ratio = fm.value / fm.worst.nominal_value
+    assert sw.ambients[0] == -30.0 and sw.bus[0] == pytest.approx(29.6)
+    assert fm.corner == "largest current" and "ambient -30 °C" in fm.note
+    assert fm.limit == pytest.approx(0.75 * 350 * (1.12 - 0.12 * 30 / 65))
+    assert fm.value == pytest.approx(sw.currents["F-MAIN"][0])
+    ratio = fm.value / sn.currents["F-MAIN"][0]
     assert 1.08 < ratio < (29.6 / 28.5) / 0.95 + 1e-9
-    assert fm.worst.nominal_margin == pytest.approx(0.133, abs=0.002)
-    assert fm.margin < 0.06
+    assert fm.margin == pytest.approx((fm.limit - fm.value) / fm.limit)
+    assert fm.margin < fm.worst.nominal_margin
 
 
 def test_lowest_bus_is_the_battery_behind_its_highest_resistance(coach):
@@ -173,21 +184,22 @@ def test_tolerance_defaults_listed_once_under_assumptions(coach):
 
 @pytest.mark.parametrize(("rule", "subject"), [("relay.contact_rating", "K1")])
 def test_ampacity_and_contact_duty_at_the_largest_current(coach, rule, subject):
-    """Relay contact duty is decided at the largest continuous current (cable ampacity now in one
-    vehicle state over the ambient range, tests/test_worst_rules.py):
+    """Relay contact duty is decided at the largest continuous current in one vehicle state over the
+    ambient range (as cable ampacity, tests/test_worst_rules.py), the worst at the coldest ambient:
     coil R -5 % and the bus at the regulator's highest end, 28.2 + 0.3 + 0.020 V/K x 55 K = 29.6 V
     against the cold corner's 28.5 V. Hand estimate of the current ratio on the stage branch (Ohm's
     law, the coil dominating the branch): at most (29.6 / 28.5) / 0.95 = 1.093, less the shared feed's
     drop. The limit is the nominal verdict's own (the rating does not depend on the current)."""
     a, v = coach
     x = v[(rule, subject)]
+    sw, sn = a.worst.duty_sweep, a.worst.duty_sweep_nominal
     assert x.corner == "largest current" and x.worst is not None
-    assert x.value == pytest.approx(a.worst.largest_current[subject])
-    assert x.worst.nominal_value == pytest.approx(a.duty[subject])
-    assert 1.08 < x.value / x.worst.nominal_value < (29.6 / 28.5) / 0.95 + 1e-9
+    j = sw.ambients.index(-30.0)
+    assert x.value == pytest.approx(sw.currents[subject][j])
+    assert 1.08 < x.value / sn.currents[subject][j] < (29.6 / 28.5) / 0.95 + 1e-9
     assert x.margin == pytest.approx((x.limit - x.value) / x.limit)
     assert x.margin < x.worst.nominal_margin
-    assert "decided by coils" in x.note
+    assert "decided by ambient -30 °C" in x.note
 
 
 def test_voltage_drop_at_the_largest_current(coach):

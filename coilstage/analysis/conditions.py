@@ -190,3 +190,11 @@ def conditions(d: Drawing) -> dict[str, Conditions]:
         name: Conditions(name, temps, s, CORNER_PURPOSE.get(name, "prospective fault currents"), words[name])
         for name, (temps, s) in src.items()
     }
+
+
+def zone_at_ambient(stated: float, ambient: float, ambient_max: float) -> float:
+    """A zone's temperature when the outside air is at ``ambient`` [°C]: its stated temperature (the
+    hottest, at the highest ambient) less the ambient's shortfall from its highest. A zone keeps the
+    rise the vehicle's own heat gives it over the outside air, so it follows the ambient one for one
+    (common practice for enclosure and under-bonnet temperatures; no source)."""
+    return stated - (ambient_max - ambient)

@@ -44,6 +44,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import weakref
 from dataclasses import dataclass
 
@@ -51,7 +52,7 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, element_resistance
-from coilstage.analysis.conditions import hot_alternator_limit, hot_temperatures
+from coilstage.analysis.conditions import hot_alternator_limit, hot_temperatures, zone_at_ambient
 from coilstage.analysis.ratings import cable_rating
 from coilstage.analysis.tolerances import effective, element_key, lookup
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
@@ -120,7 +121,7 @@ class Evaluated:
     margin: np.ndarray
     status: np.ndarray
     value: np.ndarray
-    limit: float
+    limit: float | np.ndarray  # (N,) where it follows the sample's ambient
     unit: str
 
 
@@ -322,10 +323,16 @@ class _Net:
 
 @dataclass(frozen=True)
 class _Limits:
-    fuse_limit: dict[str, float]  # continuous: frac × rating × rerating [A]
+    """The limits of the duty rules as functions of the ambient (their zones follow it one for one,
+    :func:`coilstage.analysis.conditions.zone_at_ambient`, as the rules' duty sweep): each tabulated
+    on ``grid`` (ambients [°C], 2.5 K apart with the ends, the nominal and each relay's derating knee
+    among them) and read by linear interpolation."""
+
+    grid: np.ndarray  # ambients [°C]
+    fuse_limit: dict[str, np.ndarray]  # continuous: frac × rating × rerating at each grid ambient [A]
     fuse_frac: float
-    cable_limit: dict[str, float]  # ampacity [A]
-    relay_limit: dict[str, tuple[float, bool]]  # limit [A], warn-only (no derating above rated ambient)
+    cable_limit: dict[str, np.ndarray]  # ampacity at each grid ambient [A]
+    relay_limit: dict[str, tuple[np.ndarray, np.ndarray]]  # limit [A], warn-only (no derating above rated ambient)
     drop_pass: float
     drop_warn: float
     v_min: float
@@ -352,21 +359,56 @@ def _relay_limit(r: Relay, system: int) -> tuple[float, bool] | None:
     return rating * k, r.derated is None and t > r.rated_ambient
 
 
+#: spacing of the ambient grid the duty limits are tabulated on [K]
+GRID_STEP = 2.5
+
+
+def _grid(d: Drawing) -> np.ndarray:
+    env = d.environment
+    lo, hi = env.ambient_min, env.ambient_max
+    n = max(2, int(np.ceil((hi - lo) / GRID_STEP)) + 1)
+    knees = [r.rated_ambient + (hi - r.zone_temperature) for r in d.of_kind(Relay)]  # zone at its rated ambient
+    pts = [*np.linspace(lo, hi, n), min(max(25.0, lo), hi), *(t for t in knees if lo < t < hi)]
+    return np.unique(np.array(pts, dtype=float))
+
+
 def _limits(d: Drawing) -> _Limits:
+    """The duty limits of every fuse, cable and relay on the ambient grid. A cable or relay that has no
+    limit at some ambient of the range (no ampacity left, no rating for the system, a zone above its
+    highest ambient) is left out: the rule itself decides it whatever the current."""
     frac = float(tables.fuse_rules()["continuous_fraction"])
+    grid = _grid(d)
+    amb_max = d.environment.ambient_max
     fuses = d.of_kind(Fuse)
     cab = {}
     for c in d.of_kind(Cable):
-        amp = cable_rating(c).ampacity
-        if not isinstance(amp, str) and amp.value > 0:
-            cab[c.id] = float(amp.value)
+        vals = []
+        for t in grid:
+            amp = cable_rating(dataclasses.replace(c, zone_temperature=zone_at_ambient(c.zone_temperature, t, amb_max)))
+            if isinstance(amp.ampacity, str) or amp.ampacity.value <= 0:
+                break
+            vals.append(float(amp.ampacity.value))
+        else:
+            cab[c.id] = np.array(vals)
     rel = {}
     for r in d.of_kind(Relay):
-        lim = _relay_limit(r, d.supply.system_voltage)
-        if lim is not None and lim[0] > 0:
-            rel[r.id] = lim
+        lims = [
+            _relay_limit(
+                dataclasses.replace(r, zone_temperature=zone_at_ambient(r.zone_temperature, t, amb_max)),
+                d.supply.system_voltage,
+            )
+            for t in grid
+        ]
+        if all(lim is not None and lim[0] > 0 for lim in lims):
+            rel[r.id] = (np.array([lim[0] for lim in lims]), np.array([lim[1] for lim in lims]))
     return _Limits(
-        {f.id: frac * f.rating * tables.fuse_rerating(f.zone_temperature) for f in fuses},
+        grid,
+        {
+            f.id: np.array(
+                [frac * f.rating * tables.fuse_rerating(zone_at_ambient(f.zone_temperature, t, amb_max)) for t in grid]
+            )
+            for f in fuses
+        },
         frac,
         cab,
         rel,
@@ -654,23 +696,30 @@ def evaluate(d: Drawing, X: np.ndarray) -> dict[tuple[str, str], Evaluated]:
     el = {e.id: j for j, e in enumerate(d.elements)}
     cur, xs, _bus = m.duty(x)
     duty = np.max(np.abs(cur), axis=1)  # (N, E)
+    amb = m.ambient(x)
+
+    def at_ambient(table: np.ndarray) -> np.ndarray:
+        return np.interp(amb, lim.grid, table)
+
     for f in d.of_kind(Fuse):
         i = duty[:, el[f.id]]
-        limit = lim.fuse_limit[f.id]
+        limit = at_ambient(lim.fuse_limit[f.id])
         st = np.where(i <= limit, PASS, np.where(i <= limit / lim.fuse_frac, WARN, FAIL))
         out[("fuse.continuous", f.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
     for c in d.of_kind(Cable):
         if c.id in lim.cable_limit:
             i = duty[:, el[c.id]]
-            limit = lim.cable_limit[c.id]
+            limit = at_ambient(lim.cable_limit[c.id])
             out[("cable.ampacity", c.id)] = Evaluated(
                 _ceiling(i, limit), np.where(i <= limit, PASS, FAIL), i, limit, "A"
             )
     for r in d.of_kind(Relay):
         if r.id in lim.relay_limit:
             i = duty[:, el[r.id]]
-            limit, held = lim.relay_limit[r.id]
-            st = np.where(i <= RELAY_WARN_SHARE * limit, WARN if held else PASS, np.where(i <= limit, WARN, FAIL))
+            table, held_at = lim.relay_limit[r.id]
+            limit = at_ambient(table)
+            held = np.interp(amb, lim.grid, held_at.astype(float)) > 0.5
+            st = np.where(i <= RELAY_WARN_SHARE * limit, np.where(held, WARN, PASS), np.where(i <= limit, WARN, FAIL))
             out[("relay.contact_rating", r.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
     net = m.net
     v0 = np.concatenate([np.zeros((x.shape[0], 1)), xs[:, 0, : net.n]], axis=1)  # all stages on

@@ -7,6 +7,7 @@ Each figure names the model that made it; the checks only compare.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from dataclasses import dataclass, field
 
@@ -63,9 +64,14 @@ class CableRating:
     heat_balance: float | None
 
 
+@functools.lru_cache(maxsize=8192)
 def cable_rating(cable: Cable) -> CableRating:
     """The table's ampacity (33 CFR 183.425), and where the cable's diameters are known the lower of
-    that and the still-air heat balance's (a second opinion, with the same bundle factor)."""
+    that and the still-air heat balance's (a second opinion, with the same bundle factor).
+
+    Cached on the cable (a frozen dataclass: every input is a field of it; the tables it reads are
+    the shipped ones): the ambient grid of the tolerance model and sizing's candidates ask for the
+    same cables at the same zone temperatures many times."""
     comp = computed_ampacity(cable)
     if cable.material != "copper":
         why = f"the ampacity table is for copper; this cable is {cable.material}"

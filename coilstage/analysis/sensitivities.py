@@ -402,14 +402,21 @@ def exact_gradients(d: Drawing, at: np.ndarray | None = None) -> dict[tuple[str,
     cur = np.array(cur_q)  # (Q, E)
     dcur = np.array(dcur_q)  # (Q, P, E)
     best = np.argmax(np.abs(cur), axis=0)
-    for kind, limits in (("fuse.continuous", lim.fuse_limit), ("cable.ampacity", lim.cable_limit)):
-        for eid, limit in limits.items():
-            j = el[eid]
-            q = best[j]
-            out[(kind, eid)] = -np.sign(cur[q, j]) * dcur[q, :, j] / limit
-    for eid, (limit, _held) in lim.relay_limit.items():
+    amb = m.ambient(rows)
+
+    def ceiling_gradient(eid: str, table: np.ndarray) -> np.ndarray:
+        # m = 1 − |i| / L(ambient): dm/dp = −sign(i)·di/dp / L + |i| / L² · dL/dp (L the tabulated
+        # limit, piecewise linear in the ambient; its slope differenced like the element laws')
         j = el[eid]
-        out[("relay.contact_rating", eid)] = -np.sign(cur[best[j], j]) * dcur[best[j], :, j] / limit
+        q = best[j]
+        lim_rows = np.interp(amb, lim.grid, table)
+        return -np.sign(cur[q, j]) * dcur[q, :, j] / lim_rows[0] + abs(cur[q, j]) / lim_rows[0] ** 2 * diff(lim_rows)
+
+    for kind, limits in (("fuse.continuous", lim.fuse_limit), ("cable.ampacity", lim.cable_limit)):
+        for eid, table in limits.items():
+            out[(kind, eid)] = ceiling_gradient(eid, table)
+    for eid, (table, _held) in lim.relay_limit.items():
+        out[("relay.contact_rating", eid)] = ceiling_gradient(eid, table)
     v, dv = x_q[0], dx_q[0]
     for sj in m.stages:
         e = d_.elements[sj]

@@ -37,7 +37,7 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_resistance
-from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_temperatures
+from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_temperatures, zone_at_ambient
 from coilstage.analysis.corners import cold_duty
 from coilstage.analysis.field import circuit_of
 from coilstage.analysis.linear import CaseNetwork
@@ -101,14 +101,6 @@ def braking_effort(d: Drawing, currents: dict[str, float]) -> float:
 
 #: Number of ambients the duty sweep takes between the drawing's lowest and highest (ends included).
 SWEEP_POINTS = 9
-
-
-def zone_at_ambient(stated: float, ambient: float, ambient_max: float) -> float:
-    """A zone's temperature when the outside air is at ``ambient`` [°C]: its stated temperature (the
-    hottest, at the highest ambient) less the ambient's shortfall from its highest. A zone keeps the
-    rise the vehicle's own heat gives it over the outside air, so it follows the ambient one for one
-    (common practice for enclosure and under-bonnet temperatures; no source)."""
-    return stated - (ambient_max - ambient)
 
 
 @dataclass(frozen=True)

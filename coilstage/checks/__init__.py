@@ -23,6 +23,7 @@ from coilstage.checks import (
     thermal,
 )
 from coilstage.checks.base import Rule, Sensitivity, Status, Verdict
+from coilstage.checks.tolerance_corner import corner_figures, decide_at_corner, figures_at
 from coilstage.errors import AnalysisError
 
 #: relay.voltage_rating is judged in checks/switching.py (what the opening contact sees: the highest bus
@@ -55,13 +56,24 @@ def _sensitivities(vs: VerdictSensitivity) -> tuple[Sensitivity, ...]:
     )
 
 
-def _with_sensitivities(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
+def with_worst_corners(a: Analysis, verdicts: list[Verdict], corners: dict | None = None) -> list[Verdict]:
     """Each verdict decided at its worst case, with the sensitivities of its margin to every declared
     parameter and the worst corner of the declared tolerances among its deciding inputs (for the rules
-    :mod:`coilstage.analysis.params` models; the others keep theirs empty)."""
+    :mod:`coilstage.analysis.params` models; the others keep theirs empty); where that corner is worse
+    than the rule's own worst case, the verdict is decided there (:mod:`.tolerance_corner`).
+
+    With ``corners`` ((rule, subject) -> parameter key -> value, :func:`.tolerance_corner.corners_of`
+    of another drawing's search) the verdicts are decided at those corners instead, without a search
+    or sensitivities: how sizing judges a candidate part at the corners of the drawing it changes."""
     keys = [(v.rule, v.subject) for v in verdicts if v.worst is not None and v.status is not Status.NOT_CHECKED]
     if not keys:
         return verdicts
+    if corners is not None:
+        try:
+            got = figures_at(a.drawing, {k: corners[k] for k in keys if k in corners})
+        except (np.linalg.LinAlgError, ValueError, KeyError, AnalysisError):
+            return verdicts
+        return [decide_at_corner(v, got.get((v.rule, v.subject))) for v in verdicts]
     try:
         found = analyse_sensitivities(a.drawing, keys)
     except (np.linalg.LinAlgError, ValueError, KeyError, AnalysisError) as exc:
@@ -72,12 +84,14 @@ def _with_sensitivities(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
             else v
             for v in verdicts
         ]
+    figures = corner_figures(a.drawing, found)
     out = []
     for v in verdicts:
         vs = found.get((v.rule, v.subject)) if v.worst is not None else None
         if vs is None:
             out.append(v)
             continue
+        v = decide_at_corner(v, figures.get((v.rule, v.subject)))
         worst = dataclasses.replace(
             v.worst, deciding=(*v.worst.deciding, *corner_words(vs)), sensitivities=_sensitivities(vs)
         )
@@ -91,7 +105,7 @@ def run_checks(a: Analysis) -> list[Verdict]:
     out: list[Verdict] = []
     for rule in RULES:
         out.extend(rule.evaluate(a))
-    return _with_sensitivities(a, out)
+    return with_worst_corners(a, out)
 
 
-__all__ = ["RULES", "Rule", "Status", "Verdict", "run_checks"]
+__all__ = ["RULES", "Rule", "Status", "Verdict", "run_checks", "with_worst_corners"]

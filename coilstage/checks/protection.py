@@ -2,6 +2,10 @@
 
 from __future__ import annotations
 
+import dataclasses
+import math
+from collections.abc import Callable
+
 from coilstage import tables
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
@@ -19,32 +23,60 @@ from coilstage.drawing.schema import Cable, Fuse, Relay
 
 
 def _fuse_continuous(a: Analysis) -> list[Verdict]:
+    """Each fuse's continuous current against its rerated share in one consistent vehicle state: the
+    ambient swept over the drawing's range with the fuse's zone, the coils and the bus following it
+    (analysis.worst.DutySweep, as cable.ampacity), decided at the worst ambient with tolerances, the
+    same sweep with nominal parts beside it; the cold corner where no sweep was made."""
     out = []
     frac = float(tables.fuse_rules()["continuous_fraction"])
+    sw = a.worst.duty_sweep if a.worst is not None else None
+    sn = a.worst.duty_sweep_nominal if a.worst is not None else None
     for f in a.drawing.of_kind(Fuse):
-        rer = tables.fuse_rerating(f.zone_temperature)
-        carry = f.rating * rer
-        limit = frac * carry
 
-        def verdict(i: float, corner: str, f=f, rer=rer, carry=carry, limit=limit) -> Verdict:
+        def verdict(i: float, zone_t: float, state: str, corner: str, f=f) -> Verdict:
+            rer = tables.fuse_rerating(zone_t)
+            carry = f.rating * rer
+            limit = frac * carry
             status = Status.PASS if i <= limit else Status.WARN if i <= carry else Status.FAIL
             note = (
                 f"{i:.1f} A against {f.rating:g} A {f.part} type {f.fuse_type} x {rer:.3f} rerating at "
-                f"{f.zone_temperature:g} °C ({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to "
-                f"100 %; current with {a.duty_state[f.id]} on"
+                f"{zone_t:g} °C ({f.zone}) = {carry:.1f} A; pass <= {frac:.0%} of that, warn up to "
+                f"100 %; current with {state} on"
             )
             return Verdict(
                 FUSE_CONTINUOUS.id, f.id, status, i, limit, "A", ceiling(i, limit), FUSE_CONTINUOUS.clause, note, corner
             )
 
-        nominal = verdict(a.duty[f.id], "cold")
-        if a.worst is None:
-            out.append(nominal)
+        if sw is None or sn is None:
+            out.append(verdict(a.duty[f.id], f.zone_temperature, a.duty_state[f.id], "cold"))
             continue
-        worst = verdict(a.worst.largest_current[f.id], "largest current")
-        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+
+        def at(j: int, corner: str, s, f=f, verdict=verdict) -> Verdict:
+            return verdict(s.currents[f.id][j], s.zone(f.zone_temperature, j), s.states[f.id][j], corner)
+
+        nominal, _ = _swept(lambda j, c: at(j, c, sn), sn, "")
+        worst, j = _swept(lambda j, c: at(j, c, sw), sw, "largest current")
+        deciding = (sw.point_words(j), *(f"{k} {v}" for k, v in sw.words))
         out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
+
+
+def _swept(verdict_at: Callable[[int, str], Verdict], sweep, corner: str) -> tuple[Verdict, int]:
+    """The verdict at the sweep's worst ambient (the lowest margin; a failure with no margin first), and
+    that ambient's index."""
+    vs = [verdict_at(j, corner) for j in range(len(sweep.ambients))]
+
+    def margin(j: int) -> float | None:
+        v = vs[j]
+        if v.status is Status.NOT_CHECKED:
+            return math.inf
+        if v.margin is None:
+            return None if v.status is Status.FAIL else math.inf
+        return v.margin
+
+    j = sweep.worst(margin)
+    v = vs[j]
+    return dataclasses.replace(v, note=v.note + f" (ambient {sweep.ambients[j]:g} °C, the worst of the sweep)"), j
 
 
 def _fuse_protects(a: Analysis) -> list[Verdict]:
@@ -220,19 +252,32 @@ def relay_temperature_factor(r: Relay) -> tuple[float | None, str]:
 
 
 def _relay_contact(a: Analysis) -> list[Verdict]:
+    """Each relay's contact current against its rating derated to its zone, in one consistent vehicle
+    state swept over the ambient range (as fuse.continuous); the cold corner where no sweep was made."""
     out = []
+    sw = a.worst.duty_sweep if a.worst is not None else None
+    sn = a.worst.duty_sweep_nominal if a.worst is not None else None
     for r in a.drawing.of_kind(Relay):
-        nominal = _relay_contact_at(a, r, a.duty[r.id], "cold")
-        if a.worst is None or nominal.limit is None:
+        if sw is None or sn is None:
+            out.append(_relay_contact_at(a, r, a.duty[r.id], "cold"))
+            continue
+
+        def at(j: int, corner: str, s, r=r) -> Verdict:
+            z = s.zone(r.zone_temperature, j)
+            rz = dataclasses.replace(r, zone_temperature=z)
+            return _relay_contact_at(a, rz, s.currents[r.id][j], corner, s.states[r.id][j])
+
+        nominal, _ = _swept(lambda j, c: at(j, c, sn), sn, "")
+        if nominal.limit is None:
             out.append(nominal)
             continue
-        worst = _relay_contact_at(a, r, a.worst.largest_current[r.id], "largest current")
-        deciding = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+        worst, j = _swept(lambda j, c: at(j, c, sw), sw, "largest current")
+        deciding = (sw.point_words(j), *(f"{k} {v}" for k, v in sw.words))
         out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
 
 
-def _relay_contact_at(a: Analysis, r: Relay, i: float, corner: str) -> Verdict:
+def _relay_contact_at(a: Analysis, r: Relay, i: float, corner: str, state: str | None = None) -> Verdict:
     """The relay's contact current ``i`` [A] against its rating at its zone temperature."""
     rating, rnote = relay_rating(r, a.drawing.supply.system_voltage)
     if rating is None:
@@ -254,7 +299,7 @@ def _relay_contact_at(a: Analysis, r: Relay, i: float, corner: str) -> Verdict:
         ceiling(i, limit),
         RELAY_CONTACT.clause,
         f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice); "
-        f"current {i:.1f} A with {a.duty_state[r.id]} on",
+        f"current {i:.1f} A with {state or a.duty_state[r.id]} on",
         corner,
     )
 

@@ -474,16 +474,6 @@ def shipped_gates(fuse_type: str) -> FuseGates | None:
     return None
 
 
-def pulse_fraction(cycles: int) -> tuple[float, str]:
-    """Largest pulse I²t, as a fraction of the melting I²t, for ``cycles`` pulses, with a note."""
-    pts = fuse_gate_table()["pulse_fractions"]
-    for n, f in pts:
-        if cycles <= n:
-            return float(f), f"{f:.0%} for up to {n:,} pulses"
-    n, f = pts[-1]
-    return float(f), f"{f:.0%}, the figure for {n:,} pulses (the table ends there)"
-
-
 # ---------------------------------------------------------------- heating
 
 

@@ -1,6 +1,6 @@
 """What the cables, fuses and relays see against their ratings: each cable's ampacity (table and
 heat balance), the conductor's heating at a fuse's conventional fusing current and in a far-end short,
-the peak and pulse I²t a fuse carries when the stages switch, and a relay coil's hot pick-up voltage.
+the peak current a fuse carries when the stages switch, and a relay coil's hot pick-up voltage.
 Each figure names the model that made it; the checks only compare.
 """
 
@@ -162,25 +162,19 @@ def far_end_short(f: Fuse, c: Cable, i_sc: float) -> FarEndShort | str:
 @dataclass(frozen=True)
 class FuseSwitching:
     """What a fuse carries in the cold-corner switching scenarios: its peak current [A] (continuous
-    duty included) and the largest I²t over the pulse window after any switch-on [A²s] (trapezoid rule
-    on the exact switching solution)."""
+    duty included), sampled on the exact switching solution."""
 
     fuse: str
     peak_current: float
-    pulse_i2t: float | None  # None: switching not analysed
     model: str = "analysis.switching (exact piecewise RL solution), sampled"
 
 
 def fuse_switching(fuses: list[Fuse], duty: dict[str, float], sw: SwitchingResult | None) -> dict[str, FuseSwitching]:
-    """Each fuse's peak current (largest of its cold-corner duty and the cold switching scenarios) and
-    its largest I²t over the pulse window after any switch-on; every fuse read out in one sampling of
-    each scenario."""
+    """Each fuse's peak current (largest of its cold-corner duty and the cold switching scenarios);
+    every fuse read out in one sampling of each scenario."""
     peak = {f.id: duty[f.id] for f in fuses}
-    worst: dict[str, float | None] = dict.fromkeys(peak)
     if sw is not None and fuses:
-        window = float(tables.fuse_gate_table()["pulse_window"])
         keys = tuple(f"element:{f.id}" for f in fuses)
-        worst = dict.fromkeys(peak, 0.0)
         for sc in sw.scenarios.values():
             if sc.corner != "cold":
                 continue
@@ -188,13 +182,7 @@ def fuse_switching(fuses: list[Fuse], duty: dict[str, float], sw: SwitchingResul
             x = sc.sample(grid, [], keys)
             for f, key in zip(fuses, keys, strict=True):
                 peak[f.id] = max(peak[f.id], float(np.nanmax(np.abs(x[key]))))
-            for t_on in sorted({ev[0] for ev in sc.events}):
-                g = np.linspace(t_on, t_on + window, 2001)
-                x = sc.sample(g, [], keys)
-                for f, key in zip(fuses, keys, strict=True):
-                    # the whole current through the fuse, not just the step: a preloaded fuse has less margin
-                    worst[f.id] = max(worst[f.id], float(np.trapezoid(x[key] * x[key], g)))
-    return {f.id: FuseSwitching(f.id, peak[f.id], worst[f.id]) for f in fuses}
+    return {f.id: FuseSwitching(f.id, peak[f.id]) for f in fuses}
 
 
 def fuse_switching_scaled(
@@ -202,15 +190,14 @@ def fuse_switching_scaled(
 ) -> dict[str, FuseSwitching]:
     """Each fuse's peak current scaled from the cold corner to the largest continuous current: the
     network is linear in the bus voltage and the coils' conductance at a fixed switching sequence, so
-    the peak of the switch-on is taken to scale as its steady current does (``largest/duty``); the
-    pulse I²t, as the square of that. A fuse without a nominal current keeps its figures."""
+    the peak of the switch-on is taken to scale as its steady current does (``largest/duty``). A fuse
+    without a nominal current keeps its figures."""
     out = {}
     for fid, x in sw.items():
         k = largest[fid] / duty[fid] if fid in largest and duty.get(fid, 0.0) > 1e-12 else 1.0
         out[fid] = FuseSwitching(
             fid,
             x.peak_current * k,
-            None if x.pulse_i2t is None else x.pulse_i2t * k * k,
             x.model + f"; scaled × {k:.3f} to the largest continuous current",
         )
     return out

@@ -26,14 +26,9 @@ from coilstage.checks.base import Rule, Sensitivity, Status, Verdict
 from coilstage.checks.tolerance_corner import corner_figures, decide_at_corner, figures_at
 from coilstage.errors import AnalysisError
 
-#: relay.voltage_rating is judged in checks/switching.py (what the opening contact sees: the highest bus
-#: or the load dump that applies, plus the suppressor's voltage), where relay.inductive_break reads
-#: the same figure; the plain rating-against-bus form in checks/protection.py is not registered
-_SUPERSEDED = {("protection", "relay.voltage_rating")}
-
 RULES: list[Rule] = [
     *cables.RULES,
-    *[r for r in protection.RULES if ("protection", r.id) not in _SUPERSEDED],
+    *protection.RULES,
     *coordination.RULES,
     *fuse_timing.RULES,
     *cyclic.RULES,

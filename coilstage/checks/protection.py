@@ -12,7 +12,6 @@ from coilstage.checks.base import (
     Rule,
     Status,
     Verdict,
-    at_least,
     at_most,
     ceiling,
     decided_at_worst,
@@ -304,27 +303,6 @@ def _relay_contact_at(a: Analysis, r: Relay, i: float, corner: str, state: str |
     )
 
 
-def _relay_voltage(a: Analysis) -> list[Verdict]:
-    v = a.drawing.corners.limit_bus
-    out = []
-    for r in a.drawing.of_kind(Relay):
-        if r.voltage_rating is None:
-            out.append(not_checked(RELAY_VOLTAGE, r.id, "no voltage_rating given for this relay", "V", "limit"))
-            continue
-        out.append(
-            at_least(
-                RELAY_VOLTAGE,
-                r.id,
-                r.voltage_rating,
-                v,
-                "V",
-                f"highest switching voltage {r.voltage_rating:g} V against {v:g} V",
-                "limit",
-            )
-        )
-    return out
-
-
 FUSE_CONTINUOUS = Rule(
     "fuse.continuous",
     "Fuse continuous current within 75 % of its rating rerated for its zone",
@@ -361,11 +339,4 @@ RELAY_CONTACT = Rule(
     _relay_contact,
     ("network.mna_matrix",),
 )
-RELAY_VOLTAGE = Rule(
-    "relay.voltage_rating",
-    "Relay switching voltage rating at least the system's highest voltage",
-    "ISO 16750-2 system maximum; maker's rated switching voltage",
-    _relay_voltage,
-    (),
-)
-RULES = [FUSE_CONTINUOUS, FUSE_PROTECTS, FUSE_VOLTAGE, FUSE_BREAKING, RELAY_CONTACT, RELAY_VOLTAGE]
+RULES = [FUSE_CONTINUOUS, FUSE_PROTECTS, FUSE_VOLTAGE, FUSE_BREAKING, RELAY_CONTACT]

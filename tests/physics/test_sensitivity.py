@@ -1,6 +1,5 @@
 """Adjoint and direct sensitivities of a linear nodal solve against central finite differences of
-independent numpy.linalg solves, the worked check of a series circuit, and the sensitivity-directed
-worst vertex against brute-force enumeration of every vertex."""
+independent numpy.linalg solves, and the worked check of a series circuit."""
 
 from __future__ import annotations
 
@@ -12,14 +11,9 @@ from hypothesis import strategies as st
 from coilstage.physics.sensitivity import (
     Factors,
     adjoint_sensitivities,
-    adjoint_solution,
     all_vertices,
     central_difference,
     direct_sensitivities,
-    linear_worst_case,
-    normalised_sensitivity,
-    resistance_sensitivity,
-    vertex_search,
 )
 
 # ---------------------------------------------------------------- a small MNA builder of the test's own
@@ -113,7 +107,7 @@ def read_out(size, node):
 
 def test_series_circuit_worked_check():
     # Hand-worked: E = 28 V, Rs = 0.05 Ohm in series with RL = 0.5 Ohm; y = V_L = 25.4545 V;
-    # dV_L/dRs = -E RL/(Rs + RL)^2 = -46.281 V/Ohm; normalised S = -0.0909 (closed form).
+    # dV_L/dRs = -E RL/(Rs + RL)^2 = -46.281 V/Ohm (closed form).
     a, b = mna(3, [(1, 2, 0.05), (2, 0, 0.5)], [(0, 1, 28.0)], [])
     x = np.linalg.solve(a, b)
     assert x[1] == pytest.approx(28 * 0.5 / 0.55)
@@ -121,11 +115,7 @@ def test_series_circuit_worked_check():
     dy = adjoint_sensitivities(a, x, read_out(3, 2), d_a)
     assert dy[0] == pytest.approx(-28 * 0.5 / 0.55**2, rel=1e-12)
     assert dy[0] == pytest.approx(-46.281, abs=5e-4)
-    # Element form of the adjoint: x_hat of the load node = Rs || RL (hand-worked: 0.045455).
-    xh = adjoint_solution(a, read_out(3, 2))
-    assert xh[1] == pytest.approx(0.05 * 0.5 / 0.55)
-    assert resistance_sensitivity(x, xh, 1, 2, 0.05) == pytest.approx(dy[0], rel=1e-12)
-    assert normalised_sensitivity(x[1], 0.05, dy[0]) == pytest.approx(-0.0909, abs=1e-4)
+    assert direct_sensitivities(a, x, d_a)[0, 1] == pytest.approx(dy[0], rel=1e-12)
 
 
 # ---------------------------------------------------------------- against finite differences
@@ -178,25 +168,6 @@ def test_direct_equals_adjoint_and_differences():
     assert adjoint_sensitivities(a, x, c, d_a, d_b) == pytest.approx(
         central_difference(i_bat, p0, 1e-4), rel=1e-6, abs=1e-7
     )
-
-
-def test_element_forms_equal_the_general_adjoint():
-    # Element forms (Director & Rohrer 1969): dy/dR = (x_i - x_j)(xh_i - xh_j)/R^2; dy/dE = xh_row;
-    # dy/dJ (into node j from reference) = xh_j.
-    p0 = nominal_params()
-    a, b = build(p0)
-    x = np.linalg.solve(a, b)
-    d_a, d_b = derivatives(p0)
-    c = read_out(a.shape[0], 6)
-    general = adjoint_sensitivities(a, x, c, d_a, d_b)
-    xh = adjoint_solution(a, c)
-    _n, res, _v, _c = ladder()
-    i = np.array([e[0] for e in res])
-    j = np.array([e[1] for e in res])
-    r = p0[: len(res)]
-    assert resistance_sensitivity(x, xh, i, j, r) == pytest.approx(general[: len(res)], rel=1e-10)
-    assert xh[6] == pytest.approx(general[len(res)], rel=1e-10)  # the voltage source's row
-    assert xh[1] == pytest.approx(general[len(res) + 1], rel=1e-10)  # node 2
 
 
 # ---------------------------------------------------------------- vectorised over samples and read-outs
@@ -285,55 +256,6 @@ def test_adjoint_matches_differences_on_random_values(rs, e, j):
     d_a, d_b = derivatives(p0)
     dy = adjoint_sensitivities(a, x, read_out(a.shape[0], 6), d_a, d_b)
     assert dy * p0 == pytest.approx(fd_of_node(6, p0) * p0, rel=1e-6, abs=1e-6)
-
-
-# ---------------------------------------------------------------- worst case
-
-
-def test_sensitivity_directed_vertex_and_search_equal_brute_force():
-    # The worst vertices against brute-force enumeration of all 2^9 vertices (independent of the
-    # sensitivities). At nominal the alternator (80 A) charges the battery, so raising the battery's
-    # resistance raises the coil voltage; at the low vertex the battery discharges and the sign of
-    # that effect flips: the read-out is not monotone in R_b over the box, the signs alone miss the
-    # minimum, and the vertex search finds it and names R_b (index 0).
-    p0 = nominal_params()
-    a, b = build(p0)
-    x = np.linalg.solve(a, b)
-    d_a, d_b = derivatives(p0)
-    node = 6
-    dy = adjoint_sensitivities(a, x, read_out(a.shape[0], node), d_a, d_b)
-    half = 0.1 * p0  # ±10 % on every parameter
-    w = linear_worst_case(x[node - 1], dy, half)
-
-    def y(p):
-        aa, bb = build(p)
-        return np.linalg.solve(aa, bb)[node - 1]
-
-    values = np.array([y(p0 + s * half) for s in all_vertices(len(p0))])
-    # Maximum: monotone, the sign vertex is the worst and the search confirms it without moving.
-    assert y(p0 + w.vertex_signs * half) == pytest.approx(values.max(), rel=1e-12)
-    hi = vertex_search(y, p0, half, w.vertex_signs, maximise=True)
-    assert hi.value == pytest.approx(values.max(), rel=1e-12)
-    assert hi.not_monotone == ()
-    # Minimum: the opposite sign vertex is not the lowest ...
-    assert y(p0 - w.vertex_signs * half) > values.min() + 1e-3
-    lo = vertex_search(y, p0, half, -w.vertex_signs, maximise=False)
-    # ... the search finds it, and says which parameter was not monotone.
-    assert lo.value == pytest.approx(values.min(), rel=1e-12)
-    assert lo.not_monotone == (0,)
-    assert lo.evaluations < 2 ** len(p0) // 10
-    # The linear estimate is close to the true upward spread for ±10 % (second-order terms only).
-    assert values.max() - y(p0) == pytest.approx(w.linear, rel=0.05)
-
-
-def test_linear_worst_case_arithmetic():
-    # Hand-worked: gradient (2, -0.5, 0) with half-widths (0.1, 1, 5): terms 0.2, -0.5, 0;
-    # linear 0.7; RSS sqrt(0.04 + 0.25) = 0.5385; order by size 1, 0, 2.
-    w = linear_worst_case(3.0, np.array([2.0, -0.5, 0.0]), np.array([0.1, 1.0, 5.0]))
-    assert w.linear == pytest.approx(0.7)
-    assert w.rss == pytest.approx(np.sqrt(0.29))
-    assert list(w.order) == [1, 0, 2]
-    assert list(w.terms) == pytest.approx([0.2, -0.5, 0.0])
 
 
 def test_central_difference_of_a_polynomial():

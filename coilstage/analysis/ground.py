@@ -8,12 +8,18 @@ elements now carry more current (where the current goes: through the chassis, a 
 housing, another stage's return), which stages lose their current (their braking drops out), and the
 voltage the lost return leaves across its gap (the ground offset a fitter measures). Kirchhoff's laws
 on the intact and the broken network; no new physics.
+
+The intact return's ground offset: the voltage between each stage's return terminal (and the chassis)
+and the battery negative, read from the solved network's node voltages. The returns are a resistance
+shared by every stage that uses them, so each stage's offset carries its neighbours' currents too; it
+lowers the coil's voltage and lifts the ground of other equipment bonded at that point.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
+from coilstage import tables
 from coilstage.analysis.circuit import Circuit, Solution, SourceState
 from coilstage.drawing.schema import Cable, Drawing, Element, Stage
 
@@ -83,3 +89,70 @@ def lose_return(
         abs(after.v[gone.a] - after.v[gone.b]),
         after,
     )
+
+
+_OFFSET_TABLE = "ground_offset_iso16750-2.toml"
+
+
+@dataclass(frozen=True)
+class ReturnOffset:
+    """The ground offset at one point of the return: V(node) − V(negative) in a solved network [V].
+
+    ``subject`` is the stage whose return terminal it is (or the chassis node); ``stage_voltage`` the
+    voltage across that stage [V] (None for the chassis); ``feed_voltage`` V(stage's supply end) −
+    V(negative) [V]; ``drops`` the return elements on the ways down in potential from the point to the
+    negative, each (id, current [A], drop [V]), largest drop first."""
+
+    subject: str
+    node: str
+    offset: float
+    stage_voltage: float | None
+    feed_voltage: float | None
+    drops: tuple[tuple[str, float, float], ...]
+
+
+def offset_limit(d: Drawing) -> tuple[float, str]:
+    """The shipped ground-offset limit for the drawing's system [V], with its source words."""
+    tab = tables.shipped(_OFFSET_TABLE)["table"]
+    row = next(r for r in tab["rows"] if int(r["system"]) == int(d.supply.system_voltage))
+    return float(row["offset"]), f"{tab['standard']}, {row['status']}"
+
+
+def return_offsets(d: Drawing, solution: Solution) -> list[ReturnOffset]:
+    """The ground offset at each stage's return terminal and at the chassis node (where it is not the
+    negative node itself) in ``solution``: Ohm's law on the solved node voltages, no new physics."""
+    v = solution.v
+    neg = d.supply.negative_node
+    v0 = v[neg]
+    ret = returns(d)
+
+    by_node: dict[str, list[Element]] = {}
+    for e in ret:
+        by_node.setdefault(e.a, []).append(e)
+        by_node.setdefault(e.b, []).append(e)
+
+    def path_down(node: str) -> tuple[tuple[str, float, float], ...]:
+        """Return elements on every way down in potential from ``node`` to the negative."""
+        seen: dict[str, tuple[str, float, float]] = {}
+        todo = [node]
+        while todo:
+            n = todo.pop()
+            for e in by_node.get(n, []):
+                other = e.b if e.a == n else e.a
+                drop = v[n] - v[other]
+                if e.id not in seen and drop > 1e-9:
+                    seen[e.id] = (e.id, abs(solution.current[e.id]), drop)
+                    todo.append(other)
+        return tuple(sorted(seen.values(), key=lambda x: x[2], reverse=True))
+
+    out = []
+    for s in d.elements:
+        if not isinstance(s, Stage):
+            continue
+        off = v[s.b] - v0
+        out.append(ReturnOffset(s.id, s.b, off, v[s.a] - v[s.b], v[s.a] - v0, path_down(s.b)))
+    ch = d.supply.chassis_node
+    if ch != neg and ch in v:
+        off = v[ch] - v0
+        out.append(ReturnOffset(ch, ch, off, None, None, path_down(ch)))
+    return out

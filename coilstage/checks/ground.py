@@ -1,13 +1,14 @@
-"""Ground and return rules: each return lost in turn (a loose ground stud, a broken strap), where the
-current then goes and whether anything on that path opens or overheats. Judged at the cold corner (the
-largest currents the corners give)."""
+"""Ground and return rules: the ground offset the intact returns leave at each stage's return terminal
+and at the chassis (the returns as a resistance every stage shares); each return lost in turn (a loose
+ground stud, a broken strap), where the current then goes and whether anything on that path opens or
+overheats. Judged at the cold corner (the largest currents the corners give)."""
 
 from __future__ import annotations
 
 from coilstage import tables
-from coilstage.analysis.ground import lose_return, returns
+from coilstage.analysis.ground import lose_return, offset_limit, return_offsets, returns
 from coilstage.analysis.run import Analysis
-from coilstage.checks.base import Rule, Status, Verdict, ceiling, not_checked
+from coilstage.checks.base import Rule, Status, Verdict, at_most, ceiling, not_checked
 from coilstage.drawing.schema import Cable, Fuse, Relay
 
 
@@ -105,4 +106,39 @@ LOST_RETURN = Rule(
     _lost_return,
     ("network.mna_matrix",),
 )
-RULES = [LOST_RETURN]
+
+
+def _return_offset(a: Analysis) -> list[Verdict]:
+    d = a.drawing
+    limit, source = offset_limit(d)
+    neg = d.supply.negative_node
+    out = []
+    for ro in return_offsets(d, a.corners["cold"].solution):
+        path = ", ".join(f"{eid} {i:.1f} A {u * 1000:.0f} mV" for eid, i, u in ro.drops) or "no return element"
+        if ro.stage_voltage is not None:
+            lost = ro.offset / ro.feed_voltage if ro.feed_voltage else 0.0
+            head = (
+                f"return terminal {ro.node} {ro.offset:.3f} V above {neg} at the cold corner: the coil has "
+                f"{ro.stage_voltage:.2f} V across it, the return takes {lost:.1%} of the {ro.feed_voltage:.2f} V "
+                f"its feed end has over {neg}"
+            )
+        else:
+            head = f"the chassis ({ro.node}) {ro.offset:.3f} V above {neg} at the cold corner"
+        note = (
+            f"{head}; through {path} (a shared return carries every stage's current); limit {limit:g} V "
+            f"({source}): beyond it equipment grounded at this point is outside the offset it was tested for; "
+            f"measure it with the retarder on, between the ground point and the battery negative post"
+        )
+        out.append(at_most(RETURN_OFFSET, ro.subject, abs(ro.offset), limit, "V", note, "cold", over=Status.WARN))
+    return out
+
+
+RETURN_OFFSET = Rule(
+    "ground.return_offset",
+    "Ground offset between each stage's return terminal (and the chassis) and the battery negative",
+    "Ohm's law on the solved network (cold corner): the returns shared by every stage; limit the ISO 16750-2 "
+    "clause 4.8 ground offset test voltage (1.0 V from memory), a warning",
+    _return_offset,
+    ("network.mna_matrix", "conductor.resistance_at_temperature"),
+)
+RULES = [RETURN_OFFSET, LOST_RETURN]

@@ -247,7 +247,7 @@ class Ratings:
     #: each fuse's peak current at the largest continuous current (see :func:`fuse_switching_scaled`)
     fuses_worst: dict[str, FuseSwitching] = field(default_factory=dict)
     #: each cable's rating at every ambient of the duty sweep, its zone following the ambient
-    #: (:func:`coilstage.analysis.worst.zone_at_ambient`)
+    #: (:func:`coilstage.analysis.conditions.zone_at_ambient`)
     cables_sweep: dict[str, tuple[CableRating, ...]] = field(default_factory=dict)
 
 

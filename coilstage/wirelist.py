@@ -28,38 +28,64 @@ bundle                      loaded conductors in the bundle (a whole number)
 role                        ``feed`` or ``return`` (cables)
 sheathed                    yes / no
 material, conductor_table,  as in the drawing
-outer_diameter, wall
+outer_diameter, wall,
+insulation_material
+length_tolerance            a cable's length tolerance: ``10 %`` or ``0.3 m`` (±), ``-5 % .. +10 %``
+                            (low .. high; % and m may be mixed), a bare number a ratio
+                            (``0.05``); either form may end in ``(normal)`` or ``(uniform)``, the
+                            distribution of the tolerance sweep (``±0.3 m (uniform)``).
+                            ``length_tolerance [%]`` gives bare numbers that unit
 type                        fuse type (ISO 8820: F, C, E, L, N, A, B, SF30, SF51, single-bolt)
 rating                      fuse rating; for a relay, its contact rating at the base's system
                             voltage (becomes rating_24v or rating_12v)
 voltage_rating,             as in the drawing
 breaking_capacity,
 melting_i2t
+cyclic_factor               a fuse maker's cyclic derating: a ratio (``0.8``) or ``80 %``
+cyclic_cycles               the switchings that factor is rated for (a whole number)
 protects                    cable ids the fuse protects, separated by ``;``
 gates                       a fuse maker's time-current gates: ``2x 1 s..60 s; 3.5x 0.1 s..5 s``
                             (multiple of the rating, shortest .. longest time; either may be empty)
 rating_12v, rating_24v,     as in the drawing (relays)
 rated_ambient, derating,
 max_ambient, inductive_break
-categories                  rated DC categories, separated by ``;`` (``DC-1; DC-3``)
+categories                  rated DC categories, separated by ``;``, each a name or a name with the
+                            current and voltage it is rated at: ``DC-1; DC-13 (2.5 A @ 24 V)``
 coil.voltage,               the relay's coil (``coil.resistance`` as ``120 ohm @ 20 degC``)
 coil.resistance,
 coil.operate_voltage,
 coil.feed_resistance,
 coil.rise
+coil.suppression            what sits across the relay's coil: none, diode, diode_zener, resistor,
+                            varistor
+coil.fuse, coil.wire_size   the coil circuit's feed fuse (``5 A``) and wire (``1 mm²``, ``16 AWG``)
 resistance                  joint, busbar, measured ground path, fuse or contact resistance
+joint                       what a joint is: lug, stud, splice, connector, fuse_holder (its
+                            ``rating``, ``rated_ambient``, ``derating`` and ``zone`` in those
+                            columns)
+cable                       the id of the cable a joint (a lug) terminates
+conductor_range             the smallest and largest conductor a lug takes: ``70 mm² .. 95 mm²``
+                            (``conductor_range [mm²]`` with ``70 .. 95``)
 coil, count, connection     a stage: its coil type (from the base's ``[coils]``), number of coils,
                             ``series`` or ``parallel``
 suppression.kind, …         the stage's suppressor: ``suppression.kind`` and
                             ``suppression.forward_voltage``, ``.zener_voltage``, ``.clamp_voltage``,
                             ``.resistance``, ``.peak_current``, ``.reverse_voltage``, ``.energy_rating``
+suppression.part            a parts-library suppressor for the stage (``DZ-24-150``)
 part                        a parts-library reference (``my-parts.toml#F-60-B``), passed on as is
+fixed                       yes / no: ``coilstage size`` keeps this part as it is
 note                        free text
 =========================== ==================================================================
 
 Every quantity carries its unit, in the cell (``2.4 m``) or in the column header
 (``length [m]``: a bare number in that column takes the header's unit; a cell with its own unit
-keeps it). ``size [mm²]`` and ``size [AWG]`` work the same way.
+keeps it). ``size [mm²]`` and ``size [AWG]`` work the same way. Yes / no cells also take y, n,
+true, false, 1, 0 and x.
+
+Every element key a drawing may write has a column (a test holds the loader's key tables against
+``COLUMNS``), so ``export`` writes any drawing that loads. A value no cell can carry as it is (an
+empty ``protects`` list, an id starting with ``#``, a text with blanks around it) is refused with
+its key named, and nothing is written.
 
 The base
 --------
@@ -99,7 +125,9 @@ EXIT_OK, EXIT_BAD_INPUT = 0, 2
 # ---------------------------------------------------------------- columns
 
 #: column -> what its cells hold: a units.DIMENSIONS name, or one of
-#: "text", "size", "int", "bool", "list", "gates", "temperature", "text@" (a value-at text).
+#: "text", "size", "int", "bool", "list", "gates", "temperature", "text@" (a value-at text),
+#: "tolerance" (a length tolerance), "range" (two sizes), "categories" (names, each with its rating),
+#: "share" (a ratio: a bare number or "80 %").
 COLUMNS: dict[str, str] = {
     "id": "text",
     "kind": "text",
@@ -116,11 +144,15 @@ COLUMNS: dict[str, str] = {
     "conductor_table": "text",
     "outer_diameter": "length",
     "wall": "text",
+    "insulation_material": "text",
+    "length_tolerance": "tolerance",
     "type": "text",
     "rating": "current",
     "voltage_rating": "voltage",
     "breaking_capacity": "current",
     "melting_i2t": "joule_integral",
+    "cyclic_factor": "share",
+    "cyclic_cycles": "int",
     "protects": "list",
     "gates": "gates",
     "rating_12v": "current",
@@ -128,14 +160,20 @@ COLUMNS: dict[str, str] = {
     "rated_ambient": "temperature",
     "derating": "text@",
     "max_ambient": "temperature",
-    "categories": "list",
+    "categories": "categories",
     "inductive_break": "text@",
     "coil.voltage": "voltage",
     "coil.resistance": "text@",
     "coil.operate_voltage": "voltage",
     "coil.feed_resistance": "resistance",
     "coil.rise": "temperature_difference",
+    "coil.suppression": "text",
+    "coil.fuse": "current",
+    "coil.wire_size": "size",
     "resistance": "resistance",
+    "joint": "text",
+    "cable": "text",
+    "conductor_range": "range",
     "coil": "text",
     "count": "int",
     "connection": "text",
@@ -147,6 +185,8 @@ COLUMNS: dict[str, str] = {
     "suppression.peak_current": "current",
     "suppression.reverse_voltage": "voltage",
     "suppression.energy_rating": "energy",
+    "suppression.part": "text",
+    "fixed": "bool",
     "part": "text",
     "note": "text",
 }
@@ -171,6 +211,12 @@ _AWG_BARE = re.compile(r"^\s*(?:\d{1,2}|0{2,4}|[1-4]\s*/\s*0)\s*$")
 _DECIMAL_COMMA = re.compile(r"^(\s*[+-]?\d+),(\d+)(\s*\D.*)?$")
 _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*(?:\[\s*([^\]]*?)\s*\])?\s*$")
 _GATE = re.compile(r"^\s*([0-9.eE+-]+)\s*[x×]\s*(.*?)\s*\.\.\s*(.*?)\s*$")
+#: a length tolerance cell: "10 %", "0.3 m", "-5 % .. +10 %", each optionally followed by "(normal)"
+_TOLERANCE = re.compile(r"^\s*(.*?)\s*(?:\(\s*([^()]*?)\s*\))?\s*$")
+#: a rated category with its rating: "DC-13 (2.5 A @ 24 V)"
+_CATEGORY = re.compile(r"^\s*([^()@;]+?)\s*(?:\(\s*([^()]*?)\s*\))?\s*$")
+#: the distributions a length tolerance may name (as in the drawing's [tolerances] distribution)
+_DISTRIBUTIONS = ("normal", "uniform")
 
 # ---------------------------------------------------------------- TOML writing (stdlib has no writer)
 
@@ -432,8 +478,14 @@ def _columns(sheet: Sheet, problems: list[Problem]) -> list[_Column]:
         what = COLUMNS[name]
         if unit is not None:
             try:
-                if what == "size":
+                if what in ("size", "range"):
                     parse_cable_size(f"1 {unit}")
+                elif what == "share":
+                    if unit != "%":
+                        raise QuantityError('"%" (or no unit: a bare number is a ratio)')
+                elif what == "tolerance":
+                    if unit != "%":
+                        parse_quantity(f"1 {unit}", "length")
                 elif what == "temperature":
                     parse_temperature(f"1 {unit}")
                 elif what in _QUANTITY_KINDS:
@@ -458,7 +510,19 @@ def _describe(what: str) -> str:
         "list": "ids separated by ;",
         "gates": "time-current gates",
         "text@": 'a value at a condition, e.g. "80 % @ 85 degC"',
+        "share": 'a ratio (a number, or a share such as "80 %")',
+        "tolerance": _TOLERANCE_WORDS,
+        "range": _RANGE_WORDS,
+        "categories": _CATEGORY_WORDS,
     }.get(what, what.replace("_", " "))
+
+
+_TOLERANCE_WORDS = (
+    'a length tolerance: "10 %" or "0.3 m" (± symmetric), "-5 % .. +10 %" (low .. high), '
+    'optionally followed by "(normal)" or "(uniform)"'
+)
+_RANGE_WORDS = 'the smallest and largest conductor, e.g. "25 mm² .. 35 mm²"'
+_CATEGORY_WORDS = 'rated categories separated by ;, each a name or with its rating: "DC-1; DC-13 (2.5 A @ 24 V)"'
 
 
 def _example(what: str) -> str:
@@ -471,35 +535,149 @@ def _example(what: str) -> str:
     return DIMENSIONS[what][1]
 
 
+def _decimal_point(text: str, delim: str) -> str:
+    """With a semicolon delimiter, a decimal comma (``2,4 m``) read as a decimal point."""
+    if delim == ";":
+        m = _DECIMAL_COMMA.match(text)
+        if m:
+            return f"{m.group(1)}.{m.group(2)}{m.group(3) or ''}"
+    return text
+
+
+def _quantity_text(col: _Column, text: str, delim: str, where: str, problems: list[Problem], what: str) -> str | None:
+    """A quantity (or size) cell as the drawing writes it: the header's unit after a bare number."""
+    text = _decimal_point(text.strip(), delim)
+    awg_header = what == "size" and col.unit is not None and col.unit.upper() == "AWG"
+    bare = _NUMBER.match(text) or (awg_header and _AWG_BARE.match(text))
+    if bare:
+        if col.unit is None:
+            noun = "a conductor size" if what == "size" else f"a {what.replace('_', ' ')}"
+            ex = _example(what)
+            unit = ex.split(" ", 1)[1]
+            problems.append(
+                Problem(
+                    where,
+                    f'"{text}"',
+                    f'{noun} with its unit (e.g. "{ex}"), or the unit in the column header ("{col.name} [{unit}]")',
+                )
+            )
+            return None
+        return f"{text.strip()} {col.unit}"
+    return text
+
+
+def _tolerance_end(col: _Column, text: str, delim: str) -> str | float:
+    """One end of a length tolerance: a bare number is a ratio (as in the drawing), or takes the
+    header's unit; text with its unit is kept."""
+    text = _decimal_point(text.strip(), delim)
+    if _NUMBER.match(text):
+        return f"{text.strip()} {col.unit}" if col.unit else float(text)
+    return text
+
+
+def _negated(end: str | float) -> str | float | None:
+    """The low end of a symmetric tolerance (None for a signed one, which is not ±)."""
+    if isinstance(end, float):
+        return -end if end >= 0 else None
+    text = end.lstrip()
+    text = text[1:].lstrip() if text.startswith("+") else text
+    return None if text.startswith("-") else "-" + text
+
+
+def _tolerance_cell(col: _Column, text: str, delim: str, where: str, problems: list[Problem]) -> Any:
+    m = _TOLERANCE.match(text)
+    body, dist = (m.group(1), m.group(2)) if m else (text, None)
+    if dist is not None and dist.lower() not in _DISTRIBUTIONS:
+        problems.append(Problem(where, f'"{text}"', f'"(normal)" or "(uniform)" after the ends ({_TOLERANCE_WORDS})'))
+        return None
+    ends = [x for x in body.split("..")]
+    if len(ends) > 2 or not all(x.strip() for x in ends):
+        problems.append(Problem(where, f'"{text}"', _TOLERANCE_WORDS))
+        return None
+    if len(ends) == 2:
+        value: dict[str, Any] = {
+            "low": _tolerance_end(col, ends[0], delim),
+            "high": _tolerance_end(col, ends[1], delim),
+        }
+    else:
+        one = body.strip()
+        one = one[1:] if one.startswith("±") else one
+        high = _tolerance_end(col, one, delim)
+        if dist is None:
+            return high
+        low = _negated(high)
+        if low is None:
+            problems.append(
+                Problem(where, f'"{text}"', f"a tolerance without a sign: written alone it is ± ({_TOLERANCE_WORDS})")
+            )
+            return None
+        value = {"low": low, "high": high}
+    if dist is not None:
+        value["distribution"] = dist.lower()
+    return value
+
+
+def _range_cell(col: _Column, text: str, delim: str, where: str, problems: list[Problem]) -> Any:
+    ends = text.split("..")
+    if len(ends) != 2 or not all(x.strip() for x in ends):
+        problems.append(Problem(where, f'"{text}"', _RANGE_WORDS))
+        return None
+    out = [_quantity_text(col, x, delim, where, problems, "size") for x in ends]
+    return None if None in out else out
+
+
+def _split_outside_brackets(text: str) -> list[str]:
+    """Items separated by ``;`` or ``,``, a separator inside brackets kept (a decimal comma there)."""
+    items, depth, start = [], 0, 0
+    for k, ch in enumerate(text):
+        depth += (ch == "(") - (ch == ")")
+        if ch in ";," and depth == 0:
+            items.append(text[start:k])
+            start = k + 1
+    items.append(text[start:])
+    return [x.strip() for x in items if x.strip()]
+
+
+def _categories_cell(col: _Column, text: str, delim: str, where: str, problems: list[Problem]) -> Any:
+    out: list[Any] = []
+    for k, item in enumerate(_split_outside_brackets(text)):
+        m = _CATEGORY.match(item)
+        if not m:
+            problems.append(Problem(where, f'"{item}"', f"{_CATEGORY_WORDS} (item {k + 1})"))
+            return None
+        name, rating = m.group(1), m.group(2)
+        if rating is None:
+            out.append(name)
+            continue
+        parts = rating.split("@")
+        if len(parts) != 2 or not all(x.strip() for x in parts):
+            problems.append(Problem(where, f'"{item}"', f"{_CATEGORY_WORDS} (item {k + 1})"))
+            return None
+        cur, volt = (_decimal_point(x.strip(), delim) for x in parts)
+        out.append({"category": name, "current": cur, "voltage": volt})
+    return out
+
+
 def _cell_value(col: _Column, text: str, delim: str, where: str, problems: list[Problem]) -> Any:
     """The drawing value of one non-empty cell, or None after recording a problem."""
     what = COLUMNS[col.name]
     if what in _QUANTITY_KINDS or what == "size":
-        if delim == ";":
-            m = _DECIMAL_COMMA.match(text)
-            if m:
-                text = f"{m.group(1)}.{m.group(2)}{m.group(3) or ''}"
-        awg_header = what == "size" and col.unit is not None and col.unit.upper() == "AWG"
-        bare = _NUMBER.match(text) or (awg_header and _AWG_BARE.match(text))
-        if bare:
-            if col.unit is None:
-                noun = "a conductor size" if what == "size" else f"a {what.replace('_', ' ')}"
-                ex = _example(what)
-                unit = ex.split(" ", 1)[1]
-                problems.append(
-                    Problem(
-                        where,
-                        f'"{text}"',
-                        f'{noun} with its unit (e.g. "{ex}"), or the unit in the column header ("{col.name} [{unit}]")',
-                    )
-                )
-                return None
-            return f"{text.strip()} {col.unit}"
-        return text
+        return _quantity_text(col, text, delim, where, problems, what)
+    if what == "share":
+        return _tolerance_end(col, text, delim)  # a ratio, as a length tolerance's end
+    if what == "tolerance":
+        return _tolerance_cell(col, text, delim, where, problems)
+    if what == "range":
+        return _range_cell(col, text, delim, where, problems)
+    if what == "categories":
+        return _categories_cell(col, text, delim, where, problems)
     if what == "int":
         return int(text) if re.fullmatch(r"[+-]?\d+", text) else text
     if what == "bool":
-        return _BOOL_WORDS.get(text.lower(), text)
+        if text.lower() not in _BOOL_WORDS:
+            problems.append(Problem(where, f'"{text}"', "yes or no (also y, n, true, false, 1, 0, x)"))
+            return None
+        return _BOOL_WORDS[text.lower()]
     if what == "list":
         return [x.strip() for x in re.split(r"[;,]", text) if x.strip()]
     if what == "gates":
@@ -621,7 +799,10 @@ def map_problem(p: Problem, h: Harness) -> Problem | None:
     column = h.renamed[i].get(key, key)
     if (origin, key.split(" ")[0]) in h.reported or (origin, column) in h.reported:
         return None
-    where = f"{origin}, column {column}" + (f" {detail.strip()}" if detail.strip() else "")
+    detail = detail.strip()
+    if re.fullmatch(r"\.[A-Za-z_]\w*", detail):  # a part of the cell: "length_tolerance.low"
+        detail = f"({detail[1:]})"
+    where = f"{origin}, column {column}" + (f" {detail}" if detail else "")
     if p.expected.startswith("no such key here") and "allowed: " in p.expected:
         kind = h.elements[i].get("kind")
         allowed = p.expected.split("allowed: ", 1)[1].split(", ")
@@ -735,10 +916,14 @@ def build_drawing(wirelist: Path, base: Path, out: Path | None = None, sheet: Sh
     try:
         parse_drawing(text, str(out or wirelist), (out.parent if out else wirelist.parent))
     except DrawingError as exc:
+        cells = {p.where for p in problems if ", column " in p.where}
         for p in exc.problems:
             q = map_problem(p, h)
-            if q is not None and q not in problems:
-                problems.append(q)
+            if q is None or q in problems or q.where in cells:  # one message per cell
+                continue
+            problems.append(q)
+            if ", column " in q.where:
+                cells.add(q.where)
     except DataError as exc:
         problems.extend(exc.problems)
     if problems:
@@ -750,37 +935,34 @@ def build_drawing(wirelist: Path, base: Path, out: Path | None = None, sheet: Sh
 
 
 def _flatten(e: dict[str, Any], where: str) -> tuple[dict[str, str], list[Problem]]:
-    """One harness entry as wire-list cells."""
+    """One harness entry as wire-list cells; a problem for each key no cell can carry as it is."""
     cells: dict[str, str] = {}
     problems: list[Problem] = []
+
+    def refuse(key: str, value: Any, expected: str) -> None:
+        problems.append(Problem(f"{where}.{key}", _show(value), expected))
+
     for k, v in e.items():
         if k in NESTED and isinstance(v, dict):
             for sub, sv in v.items():
                 name = f"{k}.{sub}"
-                if name not in COLUMNS or isinstance(sv, (dict, list)):
-                    problems.append(Problem(f"{where}.{name}", repr(sv), "a key a wire list has a column for"))
+                if name not in COLUMNS:
+                    refuse(name, sv, f"a key a wire list has a column for (the {k}.* columns: {_nested_columns(k)})")
                     continue
-                cells[name] = _cell_of(sv)
+                text, why = _cell_text_of(COLUMNS[name], sv)
+                if why:
+                    refuse(name, sv, why)
+                    continue
+                cells[name] = text
             continue
         if k not in COLUMNS:
-            problems.append(Problem(f"{where}.{k}", "", "a key a wire list has a column for: " + ", ".join(COLUMNS)))
+            refuse(k, v, "a key a wire list has a column for: " + ", ".join(COLUMNS))
             continue
-        what = COLUMNS[k]
-        if what == "list" and isinstance(v, list):
-            cells[k] = "; ".join(map(str, v))
-        elif what == "gates" and isinstance(v, list):
-            pts = []
-            for g in v:
-                if not isinstance(g, dict):
-                    problems.append(Problem(f"{where}.gates", repr(g), "gate tables"))
-                    break
-                text = f"{float(g.get('multiple', 0)):g}x {g.get('min', '')}..{g.get('max', '')}"
-                pts.append(text.replace(" ..", ".."))
-            cells[k] = "; ".join(pts)
-        elif isinstance(v, (dict, list)):
-            problems.append(Problem(f"{where}.{k}", repr(v)[:40], f"{_describe(what)} (a wire list cell)"))
-        else:
-            cells[k] = _cell_of(v)
+        text, why = _cell_text_of(COLUMNS[k], v, k)
+        if why:
+            refuse(k, v, why)
+            continue
+        cells[k] = text
     return cells, problems
 
 
@@ -788,6 +970,119 @@ def _cell_of(v: Any) -> str:
     if isinstance(v, bool):
         return "yes" if v else "no"
     return str(v)
+
+
+def _nested_columns(table: str) -> str:
+    return ", ".join(c for c in COLUMNS if c.startswith(table + "."))
+
+
+def _show(value: Any) -> str:
+    text = repr(value) if not isinstance(value, str) else f'"{value}"'
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _number_text(v: Any) -> str:
+    """A number as the shortest text that reads back as the same float."""
+    return str(v) if isinstance(v, int) else repr(float(v))
+
+
+def _is_number(v: Any) -> bool:
+    return isinstance(v, (int, float)) and not isinstance(v, bool)
+
+
+def _plain(text: Any, *forbidden: str) -> bool:
+    """A text a cell carries as it is: no surrounding blanks and none of ``forbidden``."""
+    return isinstance(text, str) and text == text.strip() and not any(f in text for f in forbidden)
+
+
+def _tolerance_text(v: Any) -> str | None:
+    """A length tolerance of the drawing as one cell (None when no cell writes it)."""
+
+    def end(x: Any) -> str | None:
+        if _is_number(x):
+            return _number_text(x)
+        return x if _plain(x, "..", "(", ")") and x else None
+
+    if isinstance(v, list):
+        ends = [end(x) for x in v] if len(v) == 2 else [None]
+        return None if None in ends else f"{ends[0]} .. {ends[1]}"
+    if isinstance(v, dict):
+        if not set(v) <= {"low", "high", "distribution"} or "low" not in v or "high" not in v:
+            return None
+        lo, hi = end(v["low"]), end(v["high"])
+        dist = v.get("distribution")
+        if None in (lo, hi) or (dist is not None and dist not in _DISTRIBUTIONS):
+            return None
+        return f"{lo} .. {hi}" + (f" ({dist})" if dist else "")
+    return end(v)
+
+
+def _cell_text_of(what: str, v: Any, key: str = "") -> tuple[str, str | None]:
+    """(the cell text, None), or ("", what a cell would need) when the value has no cell."""
+    if what == "list":
+        if not isinstance(v, list) or not v:
+            return "", "ids in a list of at least one (the cell separates them with ;)"
+        if not all(_plain(x, ";", ",") and x for x in v):
+            return "", "ids without ; or , and without surrounding blanks (the cell separates ids with ;)"
+        return "; ".join(v), None
+    if what == "categories":
+        if not isinstance(v, list):
+            return "", _CATEGORY_WORDS
+        items = []
+        for c in v:
+            if isinstance(c, str) and _plain(c, ";", ",", "(", ")", "@"):
+                items.append(c)
+            elif (
+                isinstance(c, dict)
+                and set(c) == {"category", "current", "voltage"}
+                and _plain(c["category"], ";", ",", "(", ")", "@")
+                and all(_plain(c[x], "(", ")", "@", ";") for x in ("current", "voltage"))
+            ):
+                items.append(f"{c['category']} ({c['current']} @ {c['voltage']})")
+            else:
+                return "", _CATEGORY_WORDS
+        return "; ".join(items), None
+    if what == "gates":
+        if not isinstance(v, list):
+            return "", "a list of gate tables"
+        pts = []
+        for g in v:
+            m = g.get("multiple") if isinstance(g, dict) else None
+            plain_number = isinstance(m, str) and _NUMBER.match(m)
+            known = isinstance(g, dict) and set(g) <= {"multiple", "min", "max"}
+            if not known or not (_is_number(m) or plain_number):
+                return "", 'gate tables { multiple = 2.0, min = "1 s", max = "60 s" } (multiple a plain number)'
+            if not all(_plain(g.get(t, ""), "..", ";") for t in ("min", "max")):
+                return "", "gate times without .. or ; (the cell's separators)"
+            multiple = m.strip() if plain_number else _number_text(m)
+            pts.append(f"{multiple}x {g.get('min', '')}..{g.get('max', '')}".replace(" ..", ".."))
+        return "; ".join(pts), None
+    if what == "share":
+        if _is_number(v):
+            return _number_text(v), None
+        return (v, None) if _plain(v) and v else ("", 'a ratio: a number or a share such as "80 %"')
+    if what == "tolerance":
+        text = _tolerance_text(v)
+        return ("", _TOLERANCE_WORDS) if text is None else (text, None)
+    if what == "range":
+        if isinstance(v, list) and len(v) == 2 and all(_plain(x, "..") and x for x in v):
+            return f"{v[0]} .. {v[1]}", None
+        return "", _RANGE_WORDS
+    if what == "bool":
+        return ("yes" if v else "no", None) if isinstance(v, bool) else ("", "true or false")
+    if what == "int":
+        return (str(v), None) if isinstance(v, int) and not isinstance(v, bool) else ("", "a whole number")
+    if isinstance(v, (dict, list)):
+        return "", f"{_describe(what)} (a wire list cell)"
+    if isinstance(v, str):
+        if key == "note":
+            return v, None  # free text (its surrounding blanks are not kept)
+        if not _plain(v):
+            return "", "a text without surrounding blanks (a cell's are not kept)"
+        if key == "id" and v.startswith("#"):
+            return "", "an id not starting with # (a row starting with # is a comment)"
+        return v, None
+    return _cell_of(v), None
 
 
 def wirelist_rows(raw: dict[str, Any]) -> tuple[list[str], list[list[str]]]:
@@ -844,7 +1139,7 @@ class BuildLine:
 
 def build_list(drawing) -> list[BuildLine]:
     """Cable lengths per size, class and metal; parts per type and rating (from a loaded Drawing)."""
-    from coilstage.drawing.schema import Cable, Fuse, Relay, Resistor, Stage
+    from coilstage.drawing.schema import Cable, Fuse, Joint, Relay, Resistor, Stage
 
     cables: dict[tuple, list] = defaultdict(list)
     parts: dict[tuple[str, str], list[str]] = defaultdict(list)
@@ -890,7 +1185,16 @@ def build_list(drawing) -> list[BuildLine]:
                 count[key] += 1
         elif isinstance(e, Resistor):
             group = e.kind if e.kind in ("joint", "busbar") else "ground path"
-            key = (group, f"{e.resistance * 1000:g} mΩ")
+            item = f"{e.resistance * 1000:g} mΩ"
+            if isinstance(e, Joint):  # what it is, its rating and the conductors it takes, where stated
+                if e.joint_kind:
+                    item = f"{e.joint_kind.replace('_', ' ')}, {item}"
+                if e.rating is not None:
+                    item += f", {e.rating:g} A at {e.rated_ambient:g} °C"
+                if e.conductor_range is not None:
+                    lo, hi = (x * 1e6 for x in e.conductor_range)
+                    item += f", takes {lo:g}-{hi:g} mm²" if lo != hi else f", takes {lo:g} mm²"
+            key = (group, item)
             parts[key].append(e.id)
             count[key] += 1
     out = [

@@ -11,19 +11,27 @@ Part kinds and the keys they hold (those of the drawing element they stand for, 
 =============== ==================================================================================
 kind            keys
 =============== ==================================================================================
-fuse            type, rating, voltage_rating, breaking_capacity, melting_i2t, gates, resistance;
-                ``series`` (the ratings its family comes in, for choosing) is kept in the library
+fuse            type, rating, voltage_rating, breaking_capacity, melting_i2t, gates, resistance,
+                cyclic_factor, cyclic_cycles; ``series`` (the ratings its family comes in, for
+                choosing) is kept in the library
 relay           rating_12v, rating_24v, rated_ambient, derating, max_ambient, voltage_rating,
-                resistance, categories, inductive_break, coil (its voltage, resistance, …)
+                resistance, categories (names, or ``{ category, current, voltage }``),
+                inductive_break, coil (voltage, resistance, operate_voltage, feed_resistance, rise,
+                suppression, fuse, wire_size)
 suppressor      suppression_kind (diode, diode_zener, diode_resistor, tvs, varistor),
                 forward_voltage, zener_voltage, clamp_voltage, resistance, peak_current,
                 reverse_voltage, energy_rating
 cable           size, insulation, material, conductor_table, outer_diameter, wall (a maker's cable)
-joint, lug      resistance (a crimped or bolted joint, a cable lug on its stud)
+joint           joint (lug, stud, splice, connector, fuse_holder), resistance, rating,
+                rated_ambient, derating, conductor_range (``["25 mm^2", "35 mm^2"]``)
+lug             as a joint without ``joint``: a lug part is a lug (it gives a joint element
+                ``joint = "lug"``)
 busbar          resistance
 =============== ==================================================================================
 
-Every row may add ``maker``, ``note`` and ``series``, which stay in the library.
+Every row may add ``maker``, ``note`` and ``series``, which stay in the library. A joint or lug
+part may stand for a ``ground`` element too (a measured ground path): that takes its resistance
+only, and the record says which of the part's values were not used.
 
 A drawing refers to a part as ``part = "my-parts.toml#F-60-B"`` (the file relative to the drawing)
 or ``part = "F-60-B"`` (looked up in the libraries given to the run with ``--parts DIR`` or in the
@@ -58,6 +66,8 @@ _FUSE = {
     "melting_i2t": "joule_integral",
     "gates": "gates",
     "resistance": "resistance",
+    "cyclic_factor": "share",
+    "cyclic_cycles": "count",
 }
 _RELAY = {
     "rating_12v": "current",
@@ -89,15 +99,29 @@ _CABLE = {
     "outer_diameter": "length",
     "wall": "wall",
 }
+#: a lug, stud, splice, connector or fuse holder: the maker's data a drawing's joint takes
+_JOINT = {
+    "joint": "joint_kind",
+    "resistance": "resistance",
+    "rating": "current",
+    "rated_ambient": "temperature",
+    "derating": "fraction_at",
+    "conductor_range": "size_range",
+}
+#: a lug part is a lug: its kind says what ``joint`` is
+_LUG = {k: v for k, v in _JOINT.items() if k != "joint"}
 PART_KEYS: dict[str, dict[str, str]] = {
     "fuse": _FUSE,
     "relay": _RELAY,
     "suppressor": _SUPPRESSOR,
     "cable": _CABLE,
-    "joint": {"resistance": "resistance"},
-    "lug": {"resistance": "resistance"},
+    "joint": _JOINT,
+    "lug": _LUG,
     "busbar": {"resistance": "resistance"},
 }
+#: (part kind, element kind) -> the part's keys that element takes, where it takes fewer than the part
+#: holds: a joint or lug part on a measured ground path gives it its resistance only
+ACCEPTED = {("joint", "ground"): {"resistance"}, ("lug", "ground"): {"resistance"}}
 #: harness element kinds a part of each kind may stand for
 ELEMENT_KINDS = {
     "fuse": {"fuse"},
@@ -123,6 +147,9 @@ _COIL_KEYS = {
     "operate_voltage": "voltage",
     "feed_resistance": "resistance",
     "rise": "temperature_difference",
+    "suppression": "coil_suppression",
+    "fuse": "current",
+    "wire_size": "size",
 }
 _GATE_KEYS = {"multiple", "min", "max"}
 
@@ -188,6 +215,33 @@ def _check_value(what: str, value: Any) -> str | None:
             parse_temperature(value)
         elif what == "size":
             parse_cable_size(value)
+        elif what == "size_range":
+            want = 'the smallest and largest conductor it takes, e.g. ["25 mm^2", "35 mm^2"]'
+            if not isinstance(value, list) or len(value) != 2:
+                return want
+            ends = [parse_cable_size(x) for x in value]
+            if ends[0].system != ends[1].system:
+                return f"two sizes of one system, mm² or AWG ({want})"
+            small, large = (_size_area(x) for x in ends)
+            if small > large:
+                return f"a smallest size no larger than the largest ({want})"
+        elif what == "share":
+            f = parse_dimensionless(value)
+            if not 0 < f <= 1:
+                return 'a share above 0 and at most 100 % (a number or "80 %")'
+        elif what == "count":
+            if isinstance(value, bool) or not isinstance(value, int) or value < 1:
+                return "a whole number of at least 1"
+        elif what == "joint_kind":
+            from coilstage.drawing.joints import JOINT_KINDS
+
+            if value not in JOINT_KINDS:
+                return "one of " + ", ".join(JOINT_KINDS) + _hint(value, JOINT_KINDS)
+        elif what == "coil_suppression":
+            from coilstage.drawing.relays import COIL_SUPPRESSION
+
+            if value not in COIL_SUPPRESSION:
+                return "one of " + ", ".join(COIL_SUPPRESSION) + _hint(value, COIL_SUPPRESSION)
         elif what == "resistance_at":
             parse_resistance_at(value)
         elif what == "fraction_at":
@@ -214,8 +268,21 @@ def _check_value(what: str, value: Any) -> str | None:
                 return "one of " + ", ".join(SUPPRESSION_KINDS) + _hint(value, SUPPRESSION_KINDS)
         elif what == "categories":
             known = [row["category"] for row in tables.utilization_categories()]
-            if not isinstance(value, list) or not all(isinstance(x, str) and x in known for x in value):
-                return "a list of rated categories from " + ", ".join(known)
+            want = (
+                "a list of rated categories from "
+                + ", ".join(known)
+                + ', each a name or { category = "DC-13", current = "2.5 A", voltage = "24 V" }'
+            )
+            if not isinstance(value, list):
+                return want
+            for x in value:
+                if isinstance(x, dict):
+                    if x.get("category") not in known or set(x) != {"category", "current", "voltage"}:
+                        return want
+                    parse_quantity(x["current"], "current")
+                    parse_quantity(x["voltage"], "voltage")
+                elif not (isinstance(x, str) and x in known):
+                    return want
         elif what in ("relay_coil", "gates"):
             return None  # checked key by key by the caller
         else:
@@ -227,6 +294,15 @@ def _check_value(what: str, value: Any) -> str | None:
     except (TypeError, ValueError) as exc:
         return str(exc) or "a value of the right kind"
     return None
+
+
+def _size_area(size) -> float:
+    """The nominal area of a parsed cable size [m²] (AWG by ASTM B258)."""
+    if size.system == "awg":
+        from coilstage.physics.conductor import awg_area
+
+        return awg_area(int(size.nominal))
+    return size.nominal * 1e-6
 
 
 def _hint(word: Any, choices) -> str:
@@ -296,7 +372,7 @@ def _row_problems(fname: str, k: int, row: Any, names: dict[str, int]) -> tuple[
             continue
         if what == "relay_coil":
             if not isinstance(value, dict):
-                bad(key, value, "a table { voltage, resistance, operate_voltage, feed_resistance, rise }")
+                bad(key, value, "a table with the coil's keys: " + ", ".join(_COIL_KEYS))
                 continue
             for ck, cv in value.items():
                 if ck not in _COIL_KEYS:
@@ -421,6 +497,7 @@ class Provenance:
     source: str
     status: str
     series: tuple[str, ...] = ()  # the ratings the part's family comes in (for sizing to choose from)
+    unused: tuple[str, ...] = ()  # the part's keys this kind of element does not take
 
     def text(self) -> str:
         """One line for the report's assumptions."""
@@ -430,6 +507,8 @@ class Provenance:
         out += f"source: {self.source})"
         if self.overridden:
             out += f"; the drawing's own {', '.join(self.overridden)} used instead of the library's"
+        if self.unused:
+            out += f"; the library's {', '.join(self.unused)} not used (this element does not take them)"
         return out
 
 
@@ -491,6 +570,7 @@ def resolve(
     """The element's fields with the part's values under its own (``own`` without ``part``), the
     record of where each came from, and the problems (addressed at ``where``)."""
     part, why = find_part(ref, base_dir, library)
+    unused: tuple[str, ...] = ()
     if part is None:
         return None, None, [Problem(f"{where}.part", _show(ref), why or "a part")]
     if element_kind == "suppression":
@@ -512,8 +592,17 @@ def resolve(
         fields = dict(part.fields)
         if element_kind is None:
             own = {"kind": DEFAULT_ELEMENT[part.kind], **own}
+        target = element_kind or DEFAULT_ELEMENT[part.kind]
+        if part.kind == "lug" and target == "joint":
+            fields = {"joint": "lug", **fields}  # a lug part is a lug
+        accepted = ACCEPTED.get((part.kind, target))
+        if accepted is not None:
+            unused = tuple(k for k in fields if k not in accepted)
+            fields = {k: v for k, v in fields.items() if k in accepted}
     merged, from_lib, over = _merge(fields, own)
-    record = Provenance(where, part.ref, tuple(from_lib), tuple(over), part.source, part.status, tuple(part.series))
+    record = Provenance(
+        where, part.ref, tuple(from_lib), tuple(over), part.source, part.status, tuple(part.series), unused
+    )
     return merged, record, []
 
 

@@ -34,7 +34,7 @@ def _elements(drawing):
 def test_example_library():
     lib = load_library(LIBRARY)
     (parts,) = lib.files.values()
-    assert list(parts) == ["F-100-B", "F-350-S51", "K-150-24", "DZ-24-150", "C-16-C", "LUG-M10-95"]
+    assert list(parts) == ["F-100-B", "F-350-S51", "K-150-24", "DZ-24-150", "C-16-C", "LUG-M10-95", "POST-M10-2"]
     f = parts["F-100-B"]
     assert (f.kind, f.fields["rating"], f.fields["breaking_capacity"]) == ("fuse", "100 A", "3 kA")
     assert f.series == ("40 A", "60 A", "80 A", "100 A", "125 A")
@@ -185,4 +185,117 @@ def test_element_kind_taken_from_the_part():
         "LUG-M10-95", {"id": "J1", "from": "A", "to": "B"}, None, "harness[0]", Path("."), lib
     )
     assert problems == [] and merged["kind"] == "joint" and merged["resistance"] == "0.05 mohm"
+    # a lug part is a lug: it gives the joint its kind with the maker's data
+    assert merged["joint"] == "lug"
+    assert rec.from_library == ("joint", "resistance", "rating", "rated_ambient", "derating", "conductor_range")
+
+
+# ---------------------------------------------------------------- joints and lugs with their makers' data
+
+
+def _coach_with_a_return_lug(**lug) -> dict:
+    """The coach with its main return W-RET ending on a lug J-BAT at the battery's negative post."""
+    raw = _coach_raw()
+    _element(raw, "W-RET")["to"] = "B-S"
+    raw["harness"].append({"id": "J-BAT", "kind": "joint", "from": "B-S", "to": "B-", **lug})
+    return raw
+
+
+def test_a_library_lug_overridden_in_a_drawing():
+    """J-BAT from the invented workshop library's LUG-M10-95 (configs/parts/workshop-parts.toml) with
+    its rating written over equals the same lug with the library's values typed in; the record and
+    the parts list say which values came from the library."""
+    from coilstage.report import parts
+
+    raw = _coach_with_a_return_lug(
+        part="workshop-parts.toml#LUG-M10-95", rating="350 A", cable="W-RET", zone="chassis_rail"
+    )
+    raw["tables"] = {"parts": "parts/workshop-parts.toml"}
+    text = toml_dumps(raw)
+    got = parse_drawing(text, "lug.toml", CONFIGS)
+    typed = _coach_with_a_return_lug(
+        joint="lug",
+        resistance="0.05 mohm",
+        rating="350 A",
+        rated_ambient="30 degC",
+        derating="80 % @ 85 degC",
+        conductor_range=["70 mm^2", "95 mm^2"],
+        cable="W-RET",
+        zone="chassis_rail",
+    )
+    want = parse_drawing(toml_dumps(typed), "typed.toml", CONFIGS)
+    j = next(e for e in got.elements if e.id == "J-BAT")
+    assert (j.joint_kind, j.rating, j.rated_ambient, j.derated) == ("lug", 350.0, 30.0, (0.8, 85.0))
+    assert j.conductor_range == pytest.approx((70e-6, 95e-6))
+    assert j.part == "workshop-parts.toml#LUG-M10-95"
+    unref = [dataclasses.replace(e, part="") if e.id == "J-BAT" else e for e in _elements(got)]
+    assert unref == _elements(want)
+    verdicts = check(got)[1]
+    assert verdicts == check(want)[1]
+    # the lug's barrel range (from the library) is what its fit is judged on: W-RET is 95 mm²
+    lug = [v for v in verdicts if v.subject == "J-BAT" and v.rule.startswith("joint.") and "range" in v.note]
+    assert lug and all(v.status.value == "pass" for v in lug)
+
+    (rec,) = [r for r in got.provenance if r.where.endswith("(J-BAT)")]
+    assert rec.from_library == ("joint", "resistance", "rated_ambient", "derating", "conductor_range")
+    assert rec.overridden == ("rating",)
+    assert "the drawing's own rating used instead of the library's" in rec.text()
+    assert "source: terminal datasheet T-95" in rec.text()
+
+    rows = {p["id"]: p for p in parts.build(got, tomllib.loads(text))["parts"]}
+    origin = {r["key"]: r["origin"] for r in rows["J-BAT"]["values"]}
+    for key in ("joint", "resistance", "rated_ambient", "derating", "conductor_range"):
+        assert origin[key] == "library", key
+    assert origin["rating"] == "drawing" and origin["cable"] == "drawing"
+    note = next(r["note"] for r in rows["J-BAT"]["values"] if r["key"] == "derating")
+    assert "workshop-parts.toml#LUG-M10-95" in note
+
+
+def test_a_joint_part_on_a_ground_path_gives_its_resistance_only():
+    lib = load_library(LIBRARY)
+    own = {"id": "G1", "kind": "ground", "from": "A", "to": "B"}
+    merged, rec, problems = resolve("POST-M10-2", own, "ground", "harness[0] (G1)", Path("."), lib)
+    assert problems == []
+    assert merged == {**own, "resistance": "0.1 mohm"}
     assert rec.from_library == ("resistance",)
+    assert rec.unused == ("joint", "rating", "rated_ambient", "derating")
+    assert "the library's joint, rating, rated_ambient, derating not used" in rec.text()
+    merged, rec, problems = resolve("POST-M10-2", {"id": "J1", "from": "A", "to": "B"}, None, "j", Path("."), lib)
+    assert merged["joint"] == "stud" and merged["rating"] == "250 A" and rec.unused == ()
+
+
+JOINTS_BAD = """
+[table]
+kind = "parts"
+title = "bad joints on purpose"
+standard = "none"
+status = "from memory"
+rows = [
+  { name = "L1", kind = "lug", joint = "stud", resistance = "0.1 mohm", source = "s", status = "published" },
+  { name = "L2", kind = "lug", conductor_range = ["95 mm^2", "70 mm^2"], source = "s", status = "published" },
+  { name = "L3", kind = "lug", conductor_range = "95 mm^2", source = "s", status = "published" },
+  { name = "J1", kind = "joint", joint = "bolt", derating = "80 %", source = "s", status = "published" },
+  { name = "J2", kind = "joint", rating = "300", rated_ambient = "hot", source = "s", status = "published" },
+]
+"""
+
+
+def test_every_problem_of_a_joint_part_at_once(tmp_path):
+    path = tmp_path / "joints.toml"
+    path.write_text(JOINTS_BAD, encoding="utf-8")
+    with pytest.raises(DataError) as exc:
+        load_library(path)
+    got = [str(p) for p in exc.value.problems]
+    f = str(path)
+    want = [
+        f"{f}, part L1, key joint: expected a key of a lug part",
+        f"{f}, part L2, key conductor_range: found ['95 mm^2', '70 mm^2']; expected a smallest size no larger",
+        f'{f}, part L3, key conductor_range: found "95 mm^2"; expected the smallest and largest conductor',
+        f'{f}, part J1, key joint: found "bolt"; expected one of connector, fuse_holder, lug, splice, stud',
+        f'{f}, part J1, key derating: found "80 %"; expected a fraction at a temperature',
+        f'{f}, part J2, key rating: found "300"; expected a current',
+        f'{f}, part J2, key rated_ambient: found "hot"',
+    ]
+    for start in want:
+        assert any(g.startswith(start) for g in got), (start, got)
+    assert len(got) == len(want)

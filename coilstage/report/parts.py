@@ -317,6 +317,30 @@ def _resistor(x) -> list[dict]:
     return [_v("resistance", "resistance", x.resistance, "ohm")]
 
 
+def _joint(j) -> list[dict]:
+    """A joint that states more than its resistance: what it is, its rating and the conductors it takes."""
+    if not (j.joint_kind or j.rating is not None or j.conductor_range is not None or j.cable is not None):
+        return _resistor(j)
+    rng = j.conductor_range
+    return [
+        _v("joint", "what it is", j.joint_kind.replace("_", " ") or None),
+        _v("resistance", "resistance", j.resistance, "ohm"),
+        _v("rating", "continuous current rating", j.rating, "A"),
+        _v("rated_ambient", "rating stated at", j.rated_ambient, "degC"),
+        _v("derating", "derating", None if j.derated is None else f"{j.derated[0]:.0%} at {j.derated[1]:g} °C"),
+        _v("zone", "zone", j.zone),
+        _v(
+            "zone.temperature", "zone temperature", j.zone_temperature, "degC", "table" if j.zone != "ambient" else None
+        ),
+        _v(
+            "conductor_range",
+            "conductors it takes",
+            None if rng is None else f"{show(rng[0], 'm^2')} to {show(rng[1], 'm^2')}",
+        ),
+        _v("cable", "cable it terminates", j.cable),
+    ]
+
+
 def _coil_type(c) -> list[dict]:
     rows = [
         _v("metal", "winding metal", c.metal),
@@ -366,8 +390,10 @@ def _coil_type(c) -> list[dict]:
 
 
 def _element_rows(e) -> list[dict]:
-    from coilstage.drawing.schema import Cable, Fuse, Relay, Resistor, Stage
+    from coilstage.drawing.schema import Cable, Fuse, Joint, Relay, Resistor, Stage
 
+    if isinstance(e, Joint):
+        return _joint(e)
     if isinstance(e, Cable):
         return _cable(e)
     if isinstance(e, Fuse):

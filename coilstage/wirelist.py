@@ -1319,12 +1319,18 @@ def run_export(args: argparse.Namespace) -> int:
     try:
         drawing = load_drawing(dp)
         raw = tomllib.loads(dp.read_text(encoding="utf-8"))
-        header, rows = wirelist_rows(raw)
     except DrawingError as exc:
         _print_problems(exc, "drawing")
         return EXIT_BAD_INPUT
     except DataError as exc:
         _print_problems(exc, "table")
+        return EXIT_BAD_INPUT
+    try:
+        header, rows = wirelist_rows(raw)
+    except DrawingError as exc:
+        exc.source = str(dp)
+        _print_problems(exc, "drawing's wire list")
+        print("coilstage: these values have no wire-list cell as written; nothing written", file=sys.stderr)
         return EXIT_BAD_INPUT
     lines = build_list(drawing)
     write_wirelist(out, header, rows)

@@ -79,3 +79,61 @@ def test_design_current_above_rating_fails_ib_le_in():
     _, v, _ = _run(_rated(drawing_text(stages=1), 0.99 * ib))
     assert v.status is Status.FAIL and "I_B <= I_n" in v.note
     assert v.value == pytest.approx(ib, rel=1e-3) and v.limit == pytest.approx(0.99 * ib, rel=1e-3)
+
+
+def _next_size_up() -> str:
+    # FM an ISO 8820 type E fuse (shipped series ... 60, 70, 80 A) of 70 A over a 6 mm^2 branch whose
+    # ampacity in its zone is about 62 A: the next standard size up, within 150 %.
+    text = drawing_text(stages=1, branch="6 mm^2")
+    return text.replace('type = "single-bolt"', 'type = "E"', 1).replace('rating = "300 A"', 'rating = "70 A"', 1)
+
+
+def test_next_size_up_passes_abyc_and_fails_iec_both_shown():
+    # ABYC E-11 allows the next standard size above the ampacity (up to 150 %): PASS. IEC 60364-4-43
+    # 433.1 requires In <= Iz: 70 A > 62 A, FAIL. The coordination note names both results with their
+    # figures; the ABYC verdict keeps its own status.
+    _, v, abyc = _run(_next_size_up())
+    iz = abyc.limit
+    assert 60.0 < iz < 70.0  # between the series' 60 A and 70 A, so 70 A is the next size up
+    assert abyc.status is Status.PASS and "next standard size" in abyc.note
+    assert v.status is Status.FAIL and "I_n <= I_Z" in v.note
+    assert v.value == pytest.approx(70.0) and v.limit == pytest.approx(iz, rel=1e-9)
+    assert "the sources disagree" in v.note
+    assert f"ABYC E-11 (fuse.protects_cable): pass, rating 70 A against {iz:.1f} A" in v.note
+    assert "IEC 60364-4-43 433.1: fail" in v.note
+
+
+def test_disagreement_in_the_json_report(tmp_path):
+    # The report carries both verdicts for FM, each under its own rule with its own status.
+    import json
+
+    from coilstage.cli import main
+
+    src = tmp_path / "next-size.toml"
+    src.write_text(_next_size_up(), encoding="utf-8")
+    out = tmp_path / "report.json"
+    main(["check", str(src), "--no-suggest", "-f", "json", "-o", str(out)])
+    found = {}
+
+    def walk(o):
+        if isinstance(o, dict):
+            if o.get("subject") == "FM" and o.get("rule") in ("fuse.protects_cable", "fuse.coordination"):
+                found[o["rule"]] = o
+            for x in o.values():
+                walk(x)
+        elif isinstance(o, list):
+            for x in o:
+                walk(x)
+
+    walk(json.loads(out.read_text(encoding="utf-8")))
+    assert found["fuse.protects_cable"]["status"] == "pass"
+    assert found["fuse.coordination"]["status"] == "fail"
+    assert "the sources disagree" in found["fuse.coordination"]["note"]
+
+
+def test_agreement_says_so():
+    # A rating within the ampacity: both pass, and the note says it is the same conclusion.
+    iz = _iz()
+    _, v, abyc = _run(_rated(drawing_text(stages=1), 0.9 * iz))
+    assert v.status is Status.PASS and abyc.status is Status.PASS
+    assert "the same conclusion" in v.note and "disagree" not in v.note

@@ -54,7 +54,13 @@ def conventional_factor(f: Fuse) -> tuple[float, str]:
 def _abyc_words(v: Verdict | None) -> tuple[Status | None, str]:
     if v is None:
         return None, "ABYC E-11 (fuse.protects_cable) gave no verdict"
-    return v.status, f"ABYC E-11 (fuse.protects_cable): {v.status.value}"
+    if v.status is Status.NOT_CHECKED or v.value is None or v.limit is None:
+        return v.status, f"ABYC E-11 (fuse.protects_cable): {v.status.value}"
+    # both sources' figures side by side: the ABYC verdict's own comparison and its reason
+    reason = v.note.split(" (protects")[0].split("; ")[0]
+    return v.status, (
+        f"ABYC E-11 (fuse.protects_cable): {v.status.value}, rating {v.value:g} A against {v.limit:.1f} A ({reason})"
+    )
 
 
 def _coordination(a: Analysis) -> list[Verdict]:
@@ -110,7 +116,10 @@ def _coordination(a: Analysis) -> list[Verdict]:
         elif (abyc_status is Status.FAIL) == (status is Status.FAIL):
             agree = f"{abyc_words}, the same conclusion"
         else:
-            agree = f"the sources disagree: {abyc_words}, IEC 60364-4-43 433.1: {status.value}"
+            agree = (
+                f"the sources disagree: {abyc_words}; IEC 60364-4-43 433.1: {status.value}, {name}: {words} "
+                "(each verdict stands in the report under its own rule)"
+            )
         note = (
             f"{'failed ' + ', '.join(c[0] for c in failed) if failed else 'all three conditions hold'}; "
             f"deciding {name}: {words}; {k2_words}; {agree} (protects {', '.join(ids)})"

@@ -87,7 +87,7 @@ _SYSTEMS = {
         "0.25 K/W",
         "9 kg",
         "12 kg",
-        "20 mm^2",
+        "25 mm^2",
         "100 A",
         "B",
         "58 V",
@@ -155,7 +155,7 @@ _MAIN = {
         5: ("SF51", "450 A", "120 mm^2"),
         6: ("SF51", "500 A", "120 mm^2"),
     },
-    12: {1: ("single-bolt", "200 A", "95 mm^2"), 2: ("SF51", "350 A", "95 mm^2")},
+    12: {1: ("single-bolt", "200 A", "95 mm^2"), 2: ("SF51", "350 A", "120 mm^2")},
 }
 
 
@@ -348,8 +348,10 @@ type = "{s.branch_fuse_type}"
 rating = "{s.branch_fuse}"  # (invented)
 voltage_rating = "{s.branch_fuse_v}"  # (invented datasheet)
 breaking_capacity = "{s.branch_fuse_bc}"  # (invented datasheet)
-melting_i2t = "{s.branch_fuse_i2t}"  # melting I²t, for the switch-on pulses (invented datasheet)
+melting_i2t = "{s.branch_fuse_i2t}"  # melting I²t, for its time-current and cyclic duty (invented datasheet)
 resistance = "0.3 mohm"  # (optional; invented)
+# cyclic_factor = "45 %"  # the maker's cyclic derating, judged instead of the shipped default (optional)
+# cyclic_cycles = 100000  # the switchings that derating is rated for (optional, with cyclic_factor)
 zone = "retarder_box"
 
 [[harness]]

@@ -1082,6 +1082,9 @@ def _window(bench: Bench, part: Part, base: dict, series: tuple[str, ...], extra
                             f"breaking capacity at least {v.value / 1e3:.2f} kA (today {v.limit / 1e3:.2f} kA)",
                         )
                     )
+                elif _status(v) == "warn":  # rated exactly at the highest bus: no headroom
+                    words = f"voltage rating above {v.limit:g} V (the next rated voltage up)"
+                    type_needs.append(("voltage", v.limit, words))
                 else:
                     type_needs.append(("voltage", v.limit, f"voltage rating at least {v.limit:g} V"))
             elif _status(v) == "not checked" and k[0] == "fuse.breaking_capacity":
@@ -1289,6 +1292,10 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
                 sv = tuple(format_value(_qty(v, "A")) for v in ser)
                 extra = (((part.index, "type"), format_value(t)),)
                 tw = _window(bench, part, base, sv, extra)
+                if tw.type_needs:
+                    # the type as the drawing states it (a voltage rating or breaking capacity of its
+                    # own) still fails the type rules: no window of this type answers them
+                    continue
                 if tw.ok:
                     options.append((t, sv, extra, None, None, tw))
                     break

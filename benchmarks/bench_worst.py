@@ -8,7 +8,9 @@
 3. ``coilstage check`` of the demo as a whole process (wall time, median of runs).
 
 Targets: worst-case analysis of every rule with sensitivities under 0.5 s compute; the whole check
-process under 1 s (on a 2-core machine).
+process under 1 s (on a 2-core machine). The batched solves are many small matrix products: on a
+shared machine the BLAS library's threads can wait on each other for longer than the work takes, so
+run it also with ``OPENBLAS_NUM_THREADS=1`` (one thread) to see the compute alone.
 
 Run: python benchmarks/bench_worst.py [--runs N]
 """
@@ -71,7 +73,7 @@ def main() -> None:
     with_sens = [v for v in verdicts if v.worst is not None and v.worst.sensitivities]
     print(f"  verdicts decided at a worst case with sensitivities: {len(with_sens)}")
     for v in with_sens:
-        if v.subject in ("F-MAIN", "bus", "F1", "S4", "W-ALT", "K1"):
+        if v.subject in ("F-MAIN", "bus", "F1", "S4", "W-ALT", "K1", "F-MAIN → W-MAIN"):
             top = "; ".join(
                 f"{s.words} {s.change:+.3g} takes {-s.margin_change * 100:.1f} points"
                 for s in v.worst.sensitivities[:3]

@@ -332,3 +332,182 @@ def test_duty_currents_against_a_network_assembled_by_hand(coach):
 def test_evaluate_rejects_a_wrong_column_count(coach):
     with pytest.raises(ValueError, match="columns"):
         evaluate(coach, np.zeros((2, 3)))
+
+
+# ---------------------------------------------------------------- the smallest fault and the relay coils
+
+#: the rule's own worst case of each parameter it sets (analysis.worst: the smallest fault and the lowest
+#: bus), every other parameter nominal
+RULE_CASE = {
+    "supply.battery.state_of_charge": "low",
+    "supply.battery.age_factor": "high",
+    "environment.ambient": "low",
+    "tolerances.cable_length": "high",
+    "tolerances.fault_resistance": "high",
+    "supply.alternator.hot_derating": "high",
+}
+
+
+def _rule_case(ps):
+    x = nominal(ps)
+    for j, p in enumerate(ps):
+        end = RULE_CASE.get(p.key, "high" if p.key.startswith("cables.") else None)
+        if end is not None:
+            x[j] = getattr(p, end)
+    return x
+
+
+@pytest.mark.parametrize(
+    "path", ["configs/coach-24v-4stage.toml", "configs/light-truck-12v-2stage.toml", "configs/flawed-retrofit-24v.toml"]
+)
+def test_new_rules_at_the_rules_own_case_equal_the_rules_verdicts(path):
+    """At the point of the parameter box the rules are decided at (the smallest fault: low charge, aged,
+    coldest ambient for the battery, harness long, the fault's own resistance; the lowest bus likewise
+    with the alternator hot-derated) the model gives each verdict's own value, margin and status."""
+    d = load_drawing(path)
+    ps = parameters(d)
+    got = evaluate(d, _rule_case(ps)[None])
+    a = analyse(d, switching=False, heating=False)
+    seen = 0
+    for rule in RULES:
+        if rule.id not in ("fuse.cable_short_circuit", "relay.coil_pickup"):
+            continue
+        for v in rule.evaluate(a):
+            if v.margin is None:
+                continue
+            e = got[(v.rule, v.subject)]
+            assert e.value[0] == pytest.approx(v.value, rel=1e-9), (v.rule, v.subject)
+            assert e.margin[0] == pytest.approx(v.margin, rel=1e-9, abs=1e-12), (v.rule, v.subject)
+            assert e.status[0] == STATUS[v.status.value], (v.rule, v.subject)
+            seen += 1
+    assert seen >= 2
+
+
+def test_gate_reading_equals_the_rules_interpolation():
+    """gate_t_max against tables.FuseGates.t_max (the rule's reading) at every point, between points,
+    below the first finite time and beyond the last, on the shipped ISO 8820 gates of the coach's fuses
+    and on gates written here with a zero time (linear segment) and an unbounded first point."""
+    from coilstage.analysis.params import gate_t_max
+    from coilstage.analysis.ratings import fuse_gates
+    from coilstage.tables import FuseGates
+
+    coach = load_drawing(COACH)
+    gates = [fuse_gates(f) for f in coach.of_kind(Fuse)]
+    gates.append(FuseGates(((1.0, 0.0, math.inf), (2.0, 0.0, 10.0), (4.0, 0.0, 0.0), (8.0, 0.0, 0.0)), "written here"))
+    for g in gates:
+        pts = [p[0] for p in g.points]
+        m = np.unique(np.concatenate([pts, np.geomspace(0.5, 40.0, 301), np.array(pts) * (1 + 1e-9)]))
+        got = gate_t_max(g.points, m)
+        want = np.array([g.t_max(float(v)) for v in m])
+        assert np.array_equal(np.isinf(got), np.isinf(want))
+        fin = np.isfinite(want)
+        assert got[fin] == pytest.approx(want[fin], rel=1e-12, abs=1e-15)
+
+
+def _battery_by_hand(d, col):
+    """EMF on the published OCV line and R = R_25 · e^{b (25 − θ)} · [1 + 0.4 (1 − SOC)] · age (as the
+    lowest-bus test above)."""
+    cells = 12 if d.supply.system_voltage == 24 else 6
+    soc = col["supply.battery.state_of_charge"]
+    emf = cells / 6 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
+    b = 0.008447
+    r = (
+        d.supply.battery.internal_resistance
+        * math.exp(b * (25.0 - col["environment.ambient"]))
+        * (1 + 0.4 * (1 - soc))
+        * col["supply.battery.age_factor"]
+    )
+    return emf, r
+
+
+def test_short_circuit_rows_equal_the_scalar_far_end_short():
+    """Each sample through the scalar path on the drawing changed to it: the far-end short by
+    Circuit.fault_currents (one factorisation, Thévenin) with the battery worked by hand, the alternator
+    off, cables at their zones and coils at the cold corner, the other loads connected; the fault's own
+    resistance in series with Z_kk = U_oc / I_bolted; the clearing time and the final temperature by
+    analysis.ratings.far_end_short (the rule's figures), the margin on the kelvin scale
+    (checks.base.ceiling_temperature). On the light truck, where the main feed's short falls in its fuse's
+    time-lag region (the margin moves with every battery parameter)."""
+    from coilstage.analysis.conditions import cold_temperatures
+    from coilstage.analysis.params import MELTING_POINT
+    from coilstage.analysis.ratings import far_end_short
+    from coilstage.analysis.topology import protected_cables
+    from coilstage.checks.base import ceiling_temperature
+
+    truck = load_drawing("configs/light-truck-12v-2stage.toml")
+    ps = parameters(truck)
+    xs = _samples(ps, 6, 5)
+    xs[3] = _rule_case(ps)
+    got = evaluate(truck, xs)
+    protected = protected_cables(truck)
+    seen = 0
+    for i, x in enumerate(xs):
+        d, col = _at(truck, ps, x)
+        emf, r = _battery_by_hand(d, col)
+        s = d.supply
+        d = dataclasses.replace(
+            d, supply=dataclasses.replace(s, battery=dataclasses.replace(s.battery, internal_resistance=r))
+        )
+        t = cold_temperatures(d)
+        t.update({c.id: c.zone_temperature for c in d.of_kind(Cable)})
+        src = SourceState(emf, None, None, alt_fixed=True)
+        c_ = Circuit(d)
+        cables = {c.id: c for c in d.of_kind(Cable)}
+        far = [cables[cid].b for ids in protected.values() for cid in ids]
+        bolted = c_.fault_currents(t, src, far)
+        pre = c_.solve(t, src)
+        rf = col["tolerances.fault_resistance"]
+        for f in d.of_kind(Fuse):
+            for cid in protected.get(f.id, []):
+                node = cables[cid].b
+                u = pre.v[node] - pre.v[s.chassis_node]
+                i_sc = u / (u / bolted[node] + rf) if rf > 0 else bolted[node]
+                sh = far_end_short(f, cables[cid], i_sc)
+                theta = sh.theta_final if sh.theta_final is not None else math.inf
+                theta = min(theta, MELTING_POINT[cables[cid].material])
+                e = got[("fuse.cable_short_circuit", f"{f.id} → {cid}")]
+                assert e.value[i] == pytest.approx(theta, rel=1e-9), (f.id, cid, i)
+                limit = e.limit
+                assert e.margin[i] == pytest.approx(ceiling_temperature(theta, limit), rel=1e-9, abs=1e-12)
+                assert e.status[i] == (PASS if theta <= limit else FAIL)
+                seen += 1
+    assert seen == 6 * 3
+
+
+def test_short_circuit_of_a_branch_cleared_at_constant_i2t_by_hand(coach):
+    """The coach's F1 (100 A, shipped ISO 8820 gates: 1 s at 6 × rating at the latest) clears its 16 mm²
+    branch cable's far-end short beyond the gates' last point, where the gates follow a constant I²t:
+    I²t = 1 s × (600 A)² = 3.6e5 A²s whatever the current. IEC 60949:1988 clause 3, equation (1), with
+    K = √(Qc (β + 20)/ρ20) from Table I (Qc = 3.45e6 J/(K·m³), β = 234.5 K, ρ20 = 1/58e6 Ω·m):
+    θf = (125 + 234.5) · exp(3.6e5 / (K · 16e-6)²) − 234.5 = 135.07 °C from the class-C conductor's
+    125 °C, against its 250 °C short-circuit limit; margin (523.15 − 408.22)/523.15 = 0.2197. Worked by
+    hand with the constants of the standard."""
+    k = math.sqrt(3.45e6 * (234.5 + 20.0) / (1 / 58e6))
+    theta = (125.0 + 234.5) * math.exp(3.6e5 / (k * 16e-6) ** 2) - 234.5
+    assert theta == pytest.approx(135.07, abs=0.01)
+    ps = parameters(coach)
+    got = evaluate(coach, np.array([nominal(ps), _rule_case(ps)]))[("fuse.cable_short_circuit", "F1 → W1")]
+    assert got.value == pytest.approx([theta, theta], rel=1e-6)  # flat in the current: both cases
+    assert got.margin == pytest.approx([(250.0 - theta) / (250.0 + 273.15)] * 2, rel=1e-6)
+
+
+def test_relay_pickup_by_hand(coach):
+    """The coach's contactor coils (120 Ω at 20 °C, must operate at 16.8 V, 1.5 Ω of control wiring,
+    70 °C zone + 25 K rise) at 95 °C: R = 120 (1 + 0.00393 × 75) = 155.37 Ω (IEC 60028 copper α), so they
+    need 16.8 × 155.37/120 = 21.75 V and pass at 110 % of it, 23.93 V (Caltrans Electric-08); they get
+    V_bus × 155.37/156.87 of the low bus. Worked by hand; the bus is the model's own supply.bus_minimum
+    figure of each sample (held to the scalar solve by test_lowest_bus_equals_the_scalar_solve)."""
+    r_hot = 120.0 * (1 + 0.00393 * 75.0)
+    need = 16.8 * r_hot / 120.0
+    assert need == pytest.approx(21.75, abs=0.01)
+    ps = parameters(coach)
+    xs = _samples(ps, 6, 6)
+    got = evaluate(coach, xs)
+    bus = got[("supply.bus_minimum", "bus")].value
+    for rid in ("K1", "K2", "K3", "K4"):
+        e = got[("relay.coil_pickup", rid)]
+        have = bus * r_hot / (r_hot + 1.5)
+        assert e.value == pytest.approx(have, rel=1e-12)
+        assert e.limit == pytest.approx(1.1 * need, rel=1e-12)
+        assert e.margin == pytest.approx((have - 1.1 * need) / (1.1 * need), rel=1e-9, abs=1e-12)
+        assert list(e.status) == [PASS if h >= 1.1 * need else WARN if h >= need else FAIL for h in have]

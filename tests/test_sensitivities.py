@@ -271,3 +271,103 @@ def test_a_margin_not_monotone_in_a_parameter_is_said_and_searched(coach, monkey
     assert vs.corner.margin == pytest.approx(0.1 - 0.1)
     words = sens.corner_words(vs)
     assert any(w.startswith("not monotone in ambient") and "inside the range, at 5 degC" in w for w in words)
+
+
+def _far_end_by_scalar_path(d, col, fuse_id, cable_id):
+    """The far-end short's final temperature through the scalar path (Circuit.fault_currents, Thévenin
+    with the fault's own resistance, analysis.ratings.far_end_short) with the battery worked by hand:
+    EMF on the OCV line of 2 × (11.89 … 12.65 V) per 12 V block (the published table of test_params),
+    R = R_25 e^{0.008447 (25 − θ)} [1 + 0.4 (1 − SOC)] · age; cable lengths scaled by their tolerance."""
+    from coilstage.analysis.conditions import cold_temperatures
+    from coilstage.analysis.ratings import far_end_short
+    from coilstage.drawing.schema import Fuse
+
+    scale = 1 + col["tolerances.cable_length"]
+    els = tuple(dataclasses.replace(e, length=e.length * scale) if isinstance(e, Cable) else e for e in d.elements)
+    soc = col["supply.battery.state_of_charge"]
+    cells = 12 if d.supply.system_voltage == 24 else 6
+    emf = cells / 6 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], (11.89, 12.06, 12.24, 12.45, 12.65))
+    s = d.supply
+    r = (
+        s.battery.internal_resistance
+        * np.exp(0.008447 * (25.0 - col["environment.ambient"]))
+        * (1 + 0.4 * (1 - soc))
+        * col["supply.battery.age_factor"]
+    )
+    d = dataclasses.replace(
+        d, elements=els, supply=dataclasses.replace(s, battery=dataclasses.replace(s.battery, internal_resistance=r))
+    )
+    t = cold_temperatures(d)
+    t.update({c.id: c.zone_temperature for c in d.of_kind(Cable)})
+    src = SourceState(emf, None, None, alt_fixed=True)
+    cable = next(c for c in d.of_kind(Cable) if c.id == cable_id)
+    fuse = next(f for f in d.of_kind(Fuse) if f.id == fuse_id)
+    c = Circuit(d)
+    bolted = c.fault_currents(t, src, [cable.b])[cable.b]
+    pre = c.solve(t, src)
+    u = pre.v[cable.b] - pre.v[d.supply.chassis_node]
+    i_sc = u / (u / bolted + col["tolerances.fault_resistance"])
+    return far_end_short(fuse, cable, i_sc).theta_final
+
+
+def test_short_circuit_gradient_against_differences_of_the_scalar_path():
+    """The light truck's main-feed short sits in its fuse's time-lag region at the smallest fault, so its
+    margin m = (θ_lim − θf)/(θ_lim + 273.15 K) moves with the battery, the harness and the fault's own
+    resistance. dm/dp of params (central differences through the vectorised model, STEP 1e-3 of each
+    range) against central differences of the scalar path written out in the test (a step of 1e-4 of
+    each range: truncation O(h²) ~1e-8 relative; each side a fresh scalar solve). The gate's log-log
+    segments are smooth inside a segment, so agreement to 1e-5 relative catches a wrong term, sign or
+    law while allowing both differences' truncation."""
+    d = load_drawing("configs/light-truck-12v-2stage.toml")
+    ps = parameters(d)
+    k = {p.key: j for j, p in enumerate(ps)}
+    x = nominal(ps)
+    x[k["supply.battery.state_of_charge"]] = 0.6
+    x[k["supply.battery.age_factor"]] = 1.3
+    x[k["environment.ambient"]] = -10.0
+    x[k["tolerances.cable_length"]] = 0.05
+    x[k["tolerances.fault_resistance"]] = 0.002
+    key = ("fuse.cable_short_circuit", "F-MAIN → W-MAIN")
+    g, m0 = gradients(d, at=x)
+    limit = float(evaluate(d, x[None])[key].limit)
+    col = {p.key: float(v) for p, v in zip(ps, x, strict=True)}
+    theta0 = _far_end_by_scalar_path(d, col, "F-MAIN", "W-MAIN")
+    assert m0[key] == pytest.approx((limit - theta0) / (limit + 273.15), rel=1e-9)
+    for name in (
+        "supply.battery.state_of_charge",
+        "supply.battery.age_factor",
+        "environment.ambient",
+        "tolerances.cable_length",
+        "tolerances.fault_resistance",
+    ):
+        p = ps[k[name]]
+        h = 1e-4 * (p.high - p.low)
+        up, down = dict(col), dict(col)
+        up[name] += h
+        down[name] -= h
+        dtheta = (
+            _far_end_by_scalar_path(d, up, "F-MAIN", "W-MAIN") - _far_end_by_scalar_path(d, down, "F-MAIN", "W-MAIN")
+        ) / (2 * h)
+        want = -dtheta / (limit + 273.15)
+        assert want != 0.0
+        assert g[key][k[name]] == pytest.approx(want, rel=1e-5), name
+
+
+def test_a_short_flat_at_nominal_is_searched_from_the_smallest_fault():
+    """The flawed retrofit's F2 clears its cable's far-end short at nominal beyond its gates' last point
+    (constant I²t: the margin does not move with any parameter there, so the sensitivity signs give no
+    direction); the search starts from the rule's own way to its worst case instead (each parameter at
+    the end that lowers the fault current) and finds a corner at least as bad as the rule's smallest
+    fault, which fails the cable."""
+    d = load_drawing("configs/flawed-retrofit-24v.toml")
+    key = ("fuse.cable_short_circuit", "F2 → W2")
+    g, m0 = gradients(d)
+    ps = parameters(d)
+    width = np.array([p.high - p.low for p in ps])
+    assert np.max(np.abs(g[key] * width)) < 1e-9  # flat at nominal
+    vs = analyse_sensitivities(d, [key])[key]
+    verdict = next(v for v in run_checks(analyse(d, switching=False, heating=False)) if (v.rule, v.subject) == key)
+    assert vs.corner.status == 2
+    assert vs.corner.margin < m0[key]
+    assert verdict.status.value == "fail"
+    assert verdict.margin <= vs.corner.margin + 1e-12

@@ -237,7 +237,9 @@ def test_duty_rules_mean_on_the_nominal_for_the_set_point(coach):
     ps = _pinned(params.parameters(coach), "supply.alternator.tolerance")
     res = sweep.run(ps, lambda x: params.evaluate(coach, x), 5000, seed=4)
     duty = [r for r in res.rules if r.rule.split(".")[0] in ("fuse", "cable", "relay", "circuit")]
-    duty = [r for r in duty if r.rule != "fuse.breaking_capacity" and r.std > 1e-9]  # moved by the set-point
+    # moved by the set-point; the coil pick-up is fed from the low bus, where the alternator's state
+    # (regulating or current-limited) changes with the set-point, so it is not affine there
+    duty = [r for r in duty if r.rule not in ("fuse.breaking_capacity", "relay.coil_pickup") and r.std > 1e-9]
     assert len(duty) >= 10
     for r in duty:
         assert abs(r.mean - r.nominal_margin) < 4 * r.standard_error + 1e-12, (r.rule, r.subject)

@@ -11,7 +11,7 @@ laid over them).
 :func:`evaluate` takes N parameter vectors (rows of X, columns in the order of :func:`parameters`) and
 returns, for each steady-state rule and subject, the margin and status of every sample, with the same
 limits and thresholds as the rules in ``coilstage.checks``. It is pure in X, so a sweep can feed it
-in chunks. Each sample is one consistent state of the vehicle, solved in three networks:
+in chunks. Each sample is one consistent state of the vehicle, solved in four networks:
 
 * **duty** (``fuse.continuous``, ``cable.ampacity``, ``relay.contact_rating``,
   ``circuit.voltage_drop``): coils and cables at the ambient, the bus held at the regulator's
@@ -25,10 +25,27 @@ in chunks. Each sample is one consistent state of the vehicle, solved in three n
   output less its hot derating (regulating, current-limited or off, decided per sample as
   ``physics.network.solve_with_limited_source`` does), cables at their zone temperatures and
   windings at the hot corner's temperatures (the nominal drawing's: held, not re-solved per sample).
+  The same bus feeds each relay's coil (``relay.coil_pickup``): it gets U_bus·R/(R + R_feed) against
+  :data:`~coilstage.analysis.relay_coil.PICKUP_MARGIN` × the voltage it needs, the coil at its zone
+  plus its own rise (as the rule).
 * **largest fault** (``fuse.breaking_capacity``): a surface-charged battery at its low-end
   resistance, the alternator a current source of its rated output plus its cold excess, coils and
   cables at the ambient, the other loads disconnected, a bolted short from each fuse's load
   terminal to chassis (Thévenin: U_oc / Z_kk, as ``physics.network.short_circuit_currents``).
+* **smallest fault** (``fuse.cable_short_circuit``): the battery as in the low bus (EMF on its
+  open-circuit line at the sample's charge, resistance raised for charge, ambient and age), the
+  alternator off, cables at their zone temperatures and coils at the cold corner's (held, as
+  ``analysis.worst``), the other loads connected, a short at the far end of each protected cable
+  through the fault's own resistance (Thévenin: U_oc / (Z_kk + R_f)); the fuse's latest clearing time
+  at that current from its time-current gates (:func:`gate_t_max`, the interpolation of
+  ``tables.FuseGates.t_max`` over arrays) and the conductor's adiabatic final temperature
+  (``physics.fault.adiabatic_final_temperature``, IEC 60949) against its insulation's short-circuit
+  limit, on the kelvin scale. A short the fuse need not clear, or one that heats the conductor past
+  its melting point, is given :data:`MELTING_POINT` (the rule fails it with no figure).
+
+Where the drawing states the battery's resistance as a range (``supply.battery.internal_resistance``)
+its low end serves the largest fault and its high end the low bus and the smallest fault, as in
+``analysis.worst``.
 
 Every network is assembled by stamping the element conductances of all samples at once
 (``A[N] = G[N, R] · S[R, n²]`` with S the modified-nodal stamps of [1]_) and solved by one batched
@@ -45,6 +62,7 @@ References
 from __future__ import annotations
 
 import dataclasses
+import math
 import weakref
 from dataclasses import dataclass
 
@@ -52,11 +70,16 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, element_resistance
-from coilstage.analysis.conditions import hot_alternator_limit, hot_temperatures, zone_at_ambient
-from coilstage.analysis.ratings import cable_rating
+from coilstage.analysis.conditions import cold_temperatures, hot_alternator_limit, hot_temperatures, zone_at_ambient
+from coilstage.analysis.insulation import short_circuit_limit
+from coilstage.analysis.materials import metal
+from coilstage.analysis.ratings import cable_rating, fuse_gates
+from coilstage.analysis.relay_coil import PICKUP_MARGIN, coil_at, hot_temperature
 from coilstage.analysis.tolerances import effective, element_key, lookup
+from coilstage.analysis.topology import protected_cables
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
+from coilstage.physics.fault import adiabatic_final_temperature
 from coilstage.physics.supply_limits import regulator_setpoint
 
 #: status codes of :class:`Evaluated`
@@ -70,7 +93,16 @@ RULES = (
     "circuit.voltage_drop",
     "supply.bus_minimum",
     "fuse.breaking_capacity",
+    "fuse.cable_short_circuit",
+    "relay.coil_pickup",
 )
+
+#: A conductor's melting point [°C] (CRC Handbook of Chemistry and Physics: copper 1084.62 °C,
+#: aluminium 660.32 °C; from memory). Where a far-end short is not cleared within the fuse's gates, or
+#: heats the conductor past this point, the rule fails with no figure to compare (the conductor is
+#: destroyed); the model gives those samples this figure instead, so that every margin is finite for the
+#: corner search, the sweep and the corner decision (status FAIL, as the rule's).
+MELTING_POINT = {"copper": 1084.62, "aluminium": 660.32}
 
 #: relay contacts warn above this share of their rating (as ``checks.protection``: common practice)
 RELAY_WARN_SHARE = 0.9
@@ -116,13 +148,18 @@ class Parameter:
 class Evaluated:
     """One rule and subject over N samples: ``margin`` (as the rule's: headroom over its limit, a
     fraction, positive on the safe side), ``status`` (0 pass, 1 warn, 2 fail), ``value`` (the figure
-    the rule compares, in ``unit``) and the ``limit`` it is compared with."""
+    the rule compares, in ``unit``) and the ``limit`` it is compared with; ``toward_worst`` (optional)
+    a read-out whose fall the rule itself takes as the way to its worst case (a far-end short's current:
+    the rule is decided at the smallest fault), which seeds the corner search where the margin does not
+    move at the nominal point (a fuse clearing at constant I²t leaves the conductor's heating flat in
+    the current)."""
 
     margin: np.ndarray
     status: np.ndarray
     value: np.ndarray
     limit: float | np.ndarray  # (N,) where it follows the sample's ambient
     unit: str
+    toward_worst: np.ndarray | None = None
 
 
 def _cells(d: Drawing) -> int:
@@ -433,6 +470,26 @@ class Model:
         self.stages = [k for k, e in enumerate(d.elements) if isinstance(e, Stage)]
         self.hot_t = hot_temperatures(d)
         self.hot_limit = hot_alternator_limit(d)
+        self.rb_range = self.tol.get("supply.battery.internal_resistance")  # only where the drawing states it
+        # the smallest fault: cables at their zones, coils at the cold corner (analysis.worst)
+        self.zone_t = dict(cold_temperatures(d))
+        self.zone_t.update({c.id: c.zone_temperature for c in d.of_kind(Cable)})
+        cables = {c.id: c for c in d.of_kind(Cable)}
+        protected = protected_cables(d)
+        self.shorts: list[tuple[Fuse, Cable]] = [
+            (f, cables[cid])
+            for f in d.of_kind(Fuse)
+            for cid in protected.get(f.id, [])
+            if cid in cables and fuse_gates(f) is not None and cables[cid].material in MELTING_POINT
+        ]
+        self.far_nodes = sorted({self.net.nd[c.b] for _f, c in self.shorts})
+        # each relay coil at its hot temperature: (share of the bus it gets, the voltage it needs) [-, V]
+        self.pickups: dict[str, tuple[float, float]] = {}
+        for r in d.of_kind(Relay):
+            if r.coil is not None:
+                at = coil_at(r, 1.0, hot_temperature(r))
+                if at.need > 0:
+                    self.pickups[r.id] = (at.have, at.need)
         net = self.net
         # resistor rows of the three networks: the elements, then the battery's resistance (Norton
         # networks) and the alternator's source resistance (the regulating low-bus network)
@@ -559,6 +616,8 @@ class Model:
         soc = self.column(x, "supply.battery.state_of_charge", self.fixed("supply.battery.state_of_charge"))
         age = self.column(x, "supply.battery.age_factor", self.fixed("supply.battery.age_factor"))
         emf = open_circuit_voltage(soc, cells=_cells(self.d))
+        if self.rb_range is not None:  # the drawing's stated high end, as analysis.worst
+            return np.asarray(emf, dtype=float) * np.ones(x.shape[0]), np.full(x.shape[0], float(self.rb_range["high"]))
         rb = internal_resistance(
             self.d.supply.battery.internal_resistance,
             soc,
@@ -627,6 +686,8 @@ class Model:
         rb = d.supply.battery.internal_resistance * self.column(
             x, "supply.battery.resistance_min_factor", self.fixed("supply.battery.resistance_min_factor", "low")
         )
+        if self.rb_range is not None:  # the drawing's stated low end, as analysis.worst
+            rb = np.full(n, float(self.rb_range["low"]))
         size = net.size(False)
         cols = 1 + len(fuses)
         rhs = np.zeros((n, cols, size))
@@ -652,6 +713,91 @@ class Model:
             z = at(sol[:, :, 1 + j], k) - at(sol[:, :, 1 + j], net.chassis)
             out[f.id] = np.abs(np.where(z > 0, u / np.where(z > 0, z, 1.0), np.inf))
         return out
+
+    def smallest_fault(self, x: np.ndarray) -> dict[int, np.ndarray]:
+        """Node index -> (N,) current of a short from each protected cable's far end to chassis through
+        the fault's own resistance at the smallest fault [A] (U_oc / (Z_kk + R_f), as
+        ``analysis.worst``: 0 where the open-circuit voltage is not positive)."""
+        net = self.net
+        d = self.d
+        n = x.shape[0]
+        if not self.far_nodes:
+            return {}
+        r = self.resistances(x, self.zone_t)
+        emf, rb = self.battery_low(x)
+        size = net.size(False)
+        rhs = np.zeros((n, 1 + len(self.far_nodes), size))
+        net.inject(rhs[:, 0], net.bat, emf / rb)
+        base = d.supply.base_load
+        if base > 0:
+            net.inject(rhs[:, 0], net.base_node, np.full(n, -base))
+        for j, k in enumerate(self.far_nodes):
+            net.inject(rhs[:, 1 + j], k, np.ones(n))
+            net.inject(rhs[:, 1 + j], net.chassis, -np.ones(n))
+        g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
+        sol = net.solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
+        rf = self.column(x, "tolerances.fault_resistance", self.fixed("tolerances.fault_resistance", "high"))
+
+        def at(vec: np.ndarray, node: int) -> np.ndarray:
+            return vec[:, node - 1] if node > 0 else np.zeros(vec.shape[0])
+
+        out = {}
+        for j, k in enumerate(self.far_nodes):
+            u = at(sol[:, :, 0], k) - at(sol[:, :, 0], net.chassis)
+            z = at(sol[:, :, 1 + j], k) - at(sol[:, :, 1 + j], net.chassis)
+            zs = np.where(z > 0, z, 1.0)
+            bolted = np.where(z > 0, np.abs(u) / zs, np.inf)
+            through = np.where((u > 0) & (z > 0), u / (zs + rf), 0.0)
+            out[k] = np.where(rf > 0, through, bolted)
+        return out
+
+
+def gate_t_max(points: tuple[tuple[float, float, float], ...], m: np.ndarray) -> np.ndarray:
+    """The latest clearing time [s] of a fuse at ``m`` (N,) × its rating from its gates (multiple, min
+    time, max time): the interpolation of :meth:`coilstage.tables.FuseGates.t_max` over an array (log-log
+    between points, linear in time where a gate is zero, constant I²t beyond the last point, inf below
+    the first point with a finite time: the fuse need not open). ``tests/test_params.py`` holds the two
+    equal point by point."""
+    m = np.asarray(m, dtype=float)
+    first = next((i for i, q in enumerate(points) if math.isfinite(q[2])), None)
+    if first is None:
+        return np.full(m.shape, np.inf)
+    xs = np.array([q[0] for q in points[first:]])
+    ys = np.array([q[2] for q in points[first:]])
+    live = m >= xs[0]
+    beyond = m >= xs[-1]
+    out = np.full(m.shape, np.inf)
+    safe = np.where(live, m, xs[0])
+    out = np.where(beyond, ys[-1] * (xs[-1] / safe) ** 2, out)
+    if len(xs) >= 2:
+        j = np.clip(np.searchsorted(xs, safe, side="left") - 1, 0, len(xs) - 2)
+        x0, x1, y0, y1 = xs[j], xs[j + 1], ys[j], ys[j + 1]
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            f = np.log(safe / x0) / np.log(x1 / x0)
+            loglog = np.exp(np.log(y0) + f * (np.log(y1) - np.log(y0)))
+            lin = y0 + f * (y1 - y0)
+        val = np.where((y0 > 0) & (y1 > 0), loglog, lin)
+        infs = np.isinf(y0) | np.isinf(y1)
+        val = np.where(infs, np.where(safe < x1, np.maximum(y0, y1), y1), val)
+        out = np.where(live & ~beyond, val, out)
+    return out
+
+
+def short_circuit_figures(f: Fuse, c: Cable, current: np.ndarray) -> tuple[np.ndarray, np.ndarray, float]:
+    """The far-end short of cable ``c`` behind fuse ``f`` at ``current`` (N,) [A]: the conductor's final
+    temperature [°C] (:data:`MELTING_POINT` where the fuse need not clear it or it melts), the fuse's
+    latest clearing time [s] (inf: need not open) and the insulation's short-circuit limit [°C]; the
+    figures of ``analysis.ratings.far_end_short`` and ``checks.fuse_timing`` over an array."""
+    gates = fuse_gates(f)
+    assert gates is not None
+    t = gate_t_max(gates.points, current / f.rating)
+    opened = np.isfinite(t)
+    mt = metal(c.material)
+    i2t = current * current * np.where(opened, t, 0.0)
+    theta = np.asarray(adiabatic_final_temperature(i2t, c.area, mt.k, mt.beta, c.class_max))
+    melt = MELTING_POINT[c.material]
+    value = np.where(opened & (theta < melt), theta, melt)
+    return value, t, short_circuit_limit(c).limit
 
 
 _CACHE: dict[int, tuple[weakref.ref, Model]] = {}
@@ -741,4 +887,17 @@ def evaluate(d: Drawing, X: np.ndarray) -> dict[tuple[str, str], Evaluated]:
         if fid in lim.breaking:
             bc = lim.breaking[fid]
             out[("fuse.breaking_capacity", fid)] = Evaluated(_ceiling(i, bc), np.where(i <= bc, PASS, FAIL), i, bc, "A")
+    for rid, (share, need) in m.pickups.items():
+        have = vb * share
+        limit = PICKUP_MARGIN * need
+        st = np.where(have >= limit, PASS, np.where(have >= need, WARN, FAIL))
+        out[("relay.coil_pickup", rid)] = Evaluated((have - limit) / limit, st, have, limit, "V")
+    if m.shorts:
+        fault = m.smallest_fault(x)
+        for f, c in m.shorts:
+            i = fault[net.nd[c.b]]
+            theta, _t, limit = short_circuit_figures(f, c, i)
+            out[("fuse.cable_short_circuit", f"{f.id} → {c.id}")] = Evaluated(
+                _ceiling(theta + 273.15, limit + 273.15), np.where(theta <= limit, PASS, FAIL), theta, limit, "degC", i
+            )
     return out

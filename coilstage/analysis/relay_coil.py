@@ -24,6 +24,12 @@ from coilstage.analysis.materials import metal
 from coilstage.drawing.schema import Drawing, Relay
 from coilstage.physics.conductor import resistance_at_temperature
 
+#: Energise a relay at no less than 110 % of its must-operate voltage (California Department of
+#: Transportation, electrical quality standards, Electric-08 "Relays"): the margin of the pick-up rule
+#: (``relay.coil_pickup`` passes at it and warns between 100 % and it), shared with the tolerance model
+#: of :mod:`coilstage.analysis.params`.
+PICKUP_MARGIN = 1.10
+
 
 @dataclass(frozen=True)
 class CoilAt:

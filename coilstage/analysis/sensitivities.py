@@ -38,6 +38,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from coilstage.analysis.params import Parameter, evaluate, model, nominal
+from coilstage.analysis.relay_coil import PICKUP_MARGIN
 from coilstage.drawing.schema import Drawing
 from coilstage.physics.sensitivity import all_vertices
 
@@ -121,6 +122,20 @@ def gradients(d: Drawing, at: np.ndarray | None = None) -> tuple[dict[tuple[str,
     ev = evaluate(d, rows)
     out = {k: (e.margin[1 : p + 1] - e.margin[p + 1 :]) / (2 * h) for k, e in ev.items()}
     return out, {k: float(e.margin[0]) for k, e in ev.items()}
+
+
+def toward_worst_gradients(d: Drawing) -> dict[tuple[str, str], np.ndarray]:
+    """d/dp at nominal of each modelled verdict's ``toward_worst`` read-out (where it has one), by
+    central differences as :func:`gradients`."""
+    ps = model(d).params
+    x0 = nominal(ps)
+    h = _steps(ps)
+    p = len(ps)
+    rows = np.tile(x0, (2 * p, 1))
+    rows[:p] += np.diag(h)
+    rows[p:] -= np.diag(h)
+    ev = evaluate(d, rows)
+    return {k: (e.toward_worst[:p] - e.toward_worst[p:]) / (2 * h) for k, e in ev.items() if e.toward_worst is not None}
 
 
 def _towards_worse(p: Parameter, g: float) -> float:
@@ -228,6 +243,7 @@ def analyse_sensitivities(
     seeds = {}
     flags: dict[tuple[str, str], tuple[int, ...]] = {}
     active_any = np.zeros(p, dtype=bool)
+    towards = None
     for k in keys:
         g = grads[k]
         mm = ev_ends[k].margin
@@ -237,6 +253,13 @@ def analyse_sensitivities(
         flip = (np.abs(g_lo) > big) & (np.abs(g_hi) > big) & (np.sign(g_lo) != np.sign(g_hi))
         flags[k] = tuple(int(j) for j in np.flatnonzero(flip))
         signed = np.where(np.abs(g * width) >= NEGLIGIBLE, -np.sign(g), 0.0)
+        if not signed.any() and ev_ends[k].toward_worst is not None:
+            # the margin is flat at nominal (no parameter moves it): start from the rule's own way to
+            # its worst case instead, each parameter at the end that lowers that read-out
+            towards = toward_worst_gradients(d) if towards is None else towards
+            t = towards[k]
+            scale = np.max(np.abs(t * width))
+            signed = np.where(np.abs(t * width) > 1e-9 * scale, -np.sign(t), 0.0) if scale > 0 else signed
         signed[list(flags[k])] = np.where(signed[list(flags[k])] == 0, 1.0, signed[list(flags[k])])
         seeds[k] = signed
         active_any |= signed != 0
@@ -328,7 +351,8 @@ LAW_STEP = 1e-6
 def exact_gradients(d: Drawing, at: np.ndarray | None = None) -> dict[tuple[str, str], np.ndarray]:
     r"""dm/dp of the margins that come from a linear solve, exactly on the network's factorisation:
     the duty network (fuse.continuous, cable.ampacity, relay.contact_rating, circuit.voltage_drop) by
-    the direct method, the low-bus network (supply.bus_minimum) by the adjoint method
+    the direct method, the low-bus network (supply.bus_minimum, and relay.coil_pickup: a fixed share of
+    that bus) by the adjoint method
     (:mod:`coilstage.physics.sensitivity`), each in the state the sample is in (the stage state that
     gives an element its largest current; the alternator's present state).
 
@@ -422,8 +446,9 @@ def exact_gradients(d: Drawing, at: np.ndarray | None = None) -> dict[tuple[str,
         e = d_.elements[sj]
         df = (dv[:, net.bat] - (dv[:, net.ea[sj]] - dv[:, net.eb[sj]])) / d_.supply.system_voltage
         out[("circuit.voltage_drop", e.id)] = -df / lim.drop_pass
-    # ---- low bus, in the alternator's present state
-    if lim.v_min > 0:
+    # ---- low bus, in the alternator's present state (supply.bus_minimum; relay.coil_pickup, the coil
+    # fed from that bus)
+    if lim.v_min > 0 or m.pickups:
         _x, mode = m.low_bus(x0[None])
         r = m.resistances(rows, m.hot_t)
         emf, rb = m.battery_low(rows)
@@ -446,5 +471,9 @@ def exact_gradients(d: Drawing, at: np.ndarray | None = None) -> dict[tuple[str,
         c = np.zeros(size)
         c[net.bat - 1] = 1.0
         dy = adjoint_sensitivities(a0, x, c, da, diff(b))
-        out[("supply.bus_minimum", "bus")] = dy / lim.v_min
+        if lim.v_min > 0:
+            out[("supply.bus_minimum", "bus")] = dy / lim.v_min
+        # relay.coil_pickup: m = (s·V − L)/L with the coil's share s of the bus and its limit L fixed
+        for rid, (share, need) in m.pickups.items():
+            out[("relay.coil_pickup", rid)] = dy * share / (PICKUP_MARGIN * need)
     return out

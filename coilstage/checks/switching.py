@@ -7,7 +7,7 @@ import math
 
 from coilstage import tables
 from coilstage.analysis.load_dump import applicable_test, contact_dump, stage_dumps
-from coilstage.analysis.relay_coil import arc_at_contact, coil_at, coil_circuit, hot_temperature, opening
+from coilstage.analysis.relay_coil import PICKUP_MARGIN, arc_at_contact, coil_at, coil_circuit, hot_temperature, opening
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     _RANK,
@@ -22,10 +22,6 @@ from coilstage.checks.base import (
     not_checked,
 )
 from coilstage.drawing.schema import Relay, Stage
-
-#: Energise a relay at no less than 110 % of its must-operate voltage (California Department of
-#: Transportation, electrical quality standards, Electric-08 "Relays"): the margin of the pick-up rule.
-PICKUP_MARGIN = 1.10
 
 
 def category_for(tau: float, rated_power: float | None = None) -> str | None:

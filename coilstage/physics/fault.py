@@ -12,6 +12,8 @@ from __future__ import annotations
 import math
 import sys
 
+import numpy as np
+
 #: Largest argument of math.exp that stays finite (ln of the largest double, 709.78).
 _EXP_MAX = math.log(sys.float_info.max)
 
@@ -90,7 +92,9 @@ def k_factor(k_material: float, beta: float, theta_i: float, theta_f: float) -> 
     return k_material * math.sqrt(math.log((beta + theta_f) / (beta + theta_i)))
 
 
-def adiabatic_final_temperature(i2t: float, area: float, k_material: float, beta: float, theta_i: float) -> float:
+def adiabatic_final_temperature(
+    i2t: float | np.ndarray, area: float, k_material: float, beta: float, theta_i: float
+) -> float | np.ndarray:
     r"""Conductor temperature after a Joule integral ``i2t`` with no heat lost [°C].
 
     Inverting the adiabatic equation I²t = K²S² ln((θf + β)/(θi + β)) of IEC 60949:1988, clause 3
@@ -100,8 +104,8 @@ def adiabatic_final_temperature(i2t: float, area: float, k_material: float, beta
 
     Parameters
     ----------
-    i2t : float
-        Joule integral of the fault current [A²·s].
+    i2t : float or array
+        Joule integral of the fault current (an array: one final temperature per entry) [A²·s].
     area : float
         Conductor cross-section S [m²].
     k_material : float
@@ -113,10 +117,11 @@ def adiabatic_final_temperature(i2t: float, area: float, k_material: float, beta
 
     Returns
     -------
-    float
-        Final temperature θf [°C]; ``math.inf`` where the exponent is beyond what a float can
-        hold (I²t above about 709·K²S²: a thin conductor behind a large fuse, far past melting).
-        A caller reports that as "exceeds" the limit, never as a figure.
+    float or array
+        Final temperature θf [°C] (an array for an array ``i2t``); ``math.inf`` where the exponent
+        or the product with θi + β is beyond what a float can hold (I²t above about 709·K²S²: a
+        thin conductor behind a large fuse, far past melting). A caller reports that as "exceeds"
+        the limit, never as a figure.
 
     Notes
     -----
@@ -135,10 +140,20 @@ def adiabatic_final_temperature(i2t: float, area: float, k_material: float, beta
     >>> adiabatic_final_temperature(1500**2 * 5.0, 0.5e-6, 226e6, 234.5, 105)
     inf
 
+    An array of Joule integrals gives each its own figure (the same law, element by element):
+
+    >>> import numpy as np
+    >>> adiabatic_final_temperature(np.array([0.0, 1500**2 * 5.0]), 0.5e-6, 226e6, 234.5, 105).tolist()
+    [105.0, inf]
+
     References
     ----------
     IEC 60949:1988, clause 3, equation (1).
     """
+    if isinstance(i2t, np.ndarray):
+        x = i2t / (k_material * area) ** 2
+        with np.errstate(over="ignore"):
+            return (theta_i + beta) * np.exp(np.minimum(x, _EXP_MAX)) - beta + np.where(x > _EXP_MAX, np.inf, 0.0)
     x = i2t / (k_material * area) ** 2
     if x > _EXP_MAX:
         return math.inf

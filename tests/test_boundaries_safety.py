@@ -1,0 +1,247 @@
+"""The safety-relevant rules pinned at their limits: the far-end short against the insulation's
+short-circuit temperature, a cable's current against its ampacity, the winding against its class less
+the hot-spot allowance and its time to that limit, the bus against the supply code's minimum, and the
+relay coil's pick-up margin.
+
+Each test finds, by bisection on one input of a generated drawing, the point where the rule's own
+figure reaches the limit, places the drawing 1 % (or 1 K) either side of it and asserts the verdicts;
+and it asserts that the limit lies where a hand calculation from the standard's constant or the
+shipped table value puts it (named beside it), so that a changed constant or table value fails here.
+The rules are judged on their own verdicts (``rule.evaluate(analysis)``), before the tolerance
+corner decision of ``run_checks``."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from coilstage import check
+from coilstage.checks import Status
+from coilstage.checks.cables import AMPACITY
+from coilstage.checks.fuse_timing import SHORT
+from coilstage.checks.supply import BUS_MINIMUM
+from coilstage.checks.switching import PICKUP
+from coilstage.checks.thermal import TIME_TO_LIMIT, WINDING
+from coilstage.drawing.load import parse_drawing
+
+from .conftest import drawing_text
+
+
+def _analysis(text: str):
+    a, _ = check(parse_drawing(text, "pin"))
+    return a
+
+
+def _verdict(rule, a, subject: str):
+    (v,) = [v for v in rule.evaluate(a) if v.subject == subject]
+    return v
+
+
+def _bisect(figure, lo: float, hi: float, target: float, *, steps: int = 60, tol: float = 1e-7) -> float:
+    """The input x in [lo, hi] where ``figure(x)`` (monotone) crosses ``target``."""
+    f_lo = figure(lo) - target
+    f_hi = figure(hi) - target
+    assert f_lo * f_hi < 0, (lo, hi, f_lo + target, f_hi + target, target)
+    for _ in range(steps):
+        mid = 0.5 * (lo + hi)
+        f_mid = figure(mid) - target
+        if (f_mid < 0) == (f_lo < 0):
+            lo, f_lo = mid, f_mid
+        else:
+            hi = mid
+        if hi - lo < tol * max(abs(hi), 1.0):
+            break
+    return 0.5 * (lo + hi)
+
+
+# ------------------------------------------------------------------ fuse.cable_short_circuit
+
+#: IEC 60949:1988 Table I, copper: K = 226 A s^1/2 / mm^2, beta = 234.5 K (published).
+K_COPPER = 226.0
+BETA_COPPER = 234.5
+#: IEC 60364-4-43:2008 Table 43A: thermosetting (XLPE/EPR) insulation, final temperature 250 degC
+#: (published); the usual material of ISO 6722 class C (the shipped insulation_materials table).
+XLPE_LIMIT = 250.0
+#: ISO 6722-1 class C: 125 degC, the conductor's temperature when the short begins (from memory).
+CLASS_C = 125.0
+
+
+def _short(length: float):
+    a = _analysis(drawing_text(stages=1, feed_length=f"{length:.9f} m"))
+    v = _verdict(SHORT, a, "FM → WM")
+    sh = a.ratings.far_end_worst[("FM", "WM")]
+    return v, sh
+
+
+def _hand_final_temperature(i2t: float, area_mm2: float, theta_i: float) -> float:
+    # IEC 60949 adiabatic equation: I^2 t = K^2 S^2 ln((theta_f + beta)/(theta_i + beta)).
+    return (theta_i + BETA_COPPER) * math.exp(i2t / (K_COPPER * area_mm2) ** 2) - BETA_COPPER
+
+
+def test_short_circuit_pinned_at_the_adiabatic_limit_iec60949():
+    # 35 mm^2 copper feed WM behind the 300 A fuse FM, short at its far end (DIST) at the smallest fault:
+    # a longer feed lowers the fault current, the fuse clears later and the let-through I^2t grows. By hand
+    # (IEC 60949), the I^2t that takes the conductor from 125 degC to 250 degC is
+    # K^2 S^2 ln((250 + 234.5)/(125 + 234.5)) = 226^2 x 35^2 x ln(484.5/359.5) = 18.67e6 A^2 s.
+    i2t_limit = (K_COPPER * 35.0) ** 2 * math.log((XLPE_LIMIT + BETA_COPPER) / (CLASS_C + BETA_COPPER))
+    assert i2t_limit == pytest.approx(18.67e6, rel=1e-3)
+    v3, sh3 = _short(3.0)
+    assert v3.limit == pytest.approx(XLPE_LIMIT)
+    assert sh3.theta_initial == pytest.approx(CLASS_C)
+    # the rule's figure is the adiabatic final temperature of the worst case's own I^2t (the 226 rounds
+    # the 225.7 that IEC 60949's copper constants give: 0.3 K at most here)
+    assert v3.value == pytest.approx(_hand_final_temperature(sh3.i2t, 35.0, CLASS_C), abs=1.0)
+    for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
+        length = _bisect(lambda x: _short(x)[1].i2t, 3.0, 40.0, k * i2t_limit)
+        v, sh = _short(length)
+        assert sh.i2t == pytest.approx(k * i2t_limit, rel=1e-4)
+        assert v.value == pytest.approx(_hand_final_temperature(sh.i2t, 35.0, CLASS_C), abs=1.0)
+        assert (v.value < XLPE_LIMIT) is (k < 1)
+        assert v.status is status, (k, v.value, v.note)
+
+
+# ------------------------------------------------------------------ cable.ampacity
+
+
+def _awg_area_mm2(n: int) -> float:
+    # ASTM B258: d = 0.127 mm x 92^((36 - n)/39) (the definition of the gauge).
+    d = 0.127 * 92.0 ** ((36 - n) / 39)
+    return math.pi / 4 * d * d
+
+
+def _ampacity(coil_r: float):
+    a = _analysis(drawing_text(stages=1, coil_r=[coil_r]))
+    return _verdict(AMPACITY, a, "W0")
+
+
+def test_ampacity_pinned_at_the_33cfr183_table_by_hand():
+    # 10 mm^2 class C branch W0: 33 CFR 183.425 Table 5, 125 degC column, 8 AWG 90 A and 6 AWG 125 A
+    # (published; the shipped ampacity_33cfr183_425 rows), interpolated log-log in area between the
+    # ASTM B258 areas (8.367 and 13.30 mm^2): 90 x (10/8.367)^(ln(125/90)/ln(13.30/8.367)) = 102.1 A.
+    # The largest current is at the coldest ambient (-30 degC: zone at -10 degC, ambient factor capped at
+    # 1 below 30 degC) with one cable in its bundle (factor 1), so the ampacity is that table value.
+    a8, a6 = _awg_area_mm2(8), _awg_area_mm2(6)
+    hand = 90.0 * (10.0 / a8) ** (math.log(125.0 / 90.0) / math.log(a6 / a8))
+    assert hand == pytest.approx(102.1, abs=0.05)
+    assert _ampacity(1.0).limit == pytest.approx(hand, rel=1e-3)
+    for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
+        # a smaller coil resistance draws more current through W0 (the ampacity does not depend on it)
+        r = _bisect(lambda x: -_ampacity(x).value, 0.15, 1.0, -k * hand)
+        v = _ampacity(r)
+        assert v.value == pytest.approx(k * hand, rel=1e-5)
+        assert v.limit == pytest.approx(hand, rel=1e-3)
+        assert v.status is status, (k, v.value, v.limit, v.note)
+
+
+# ------------------------------------------------------------------ winding.temperature, winding.time_to_limit
+
+#: IEC 60085 class H: 180 degC (published); hot-spot allowance for the average (by-resistance)
+#: temperature of a class H winding 15 K (the shipped insulation_classes_iec60085 row, "published").
+CLASS_H_LIMIT = 180.0 - 15.0
+#: The shipped "endurance" duty: 12 min of full retardation (duty_profiles.toml; from memory).
+ENDURANCE_MIN = 12.0
+
+
+def _thermal(rth: float):
+    text = drawing_text(stages=1, extra='[duty]\nprofile = "endurance"\nstate_of_charge = "85 %"\n')
+    text = text.replace(
+        'hot_temperature = "150 degC"\n', f'thermal_resistance = "{rth:.9f} K/W"\nconductor_mass = "5 kg"\n', 1
+    )
+    a = _analysis(text)
+    return _verdict(WINDING, a, "S0"), _verdict(TIME_TO_LIMIT, a, "S0")
+
+
+def test_winding_temperature_pinned_at_class_h_less_its_allowance_iec60085():
+    # The coil's thermal resistance to its surroundings sets its temperature at the end of the 12 min
+    # duty; the thermal resistance where the peak lies 1 K below / above 165 degC.
+    assert _thermal(0.3)[0].limit == pytest.approx(CLASS_H_LIMIT)
+    for dt, status in ((-1.0, Status.PASS), (1.0, Status.FAIL)):
+        rth = _bisect(lambda x: _thermal(x)[0].value, 0.1, 2.0, CLASS_H_LIMIT + dt)
+        v, _ = _thermal(rth)
+        assert v.value == pytest.approx(CLASS_H_LIMIT + dt, abs=0.01)
+        assert v.limit == pytest.approx(CLASS_H_LIMIT)
+        assert v.status is status, (dt, v.value, v.note)
+
+
+def test_winding_time_to_limit_pinned_at_the_duty_duration():
+    # Continuous full retardation from the coil's hot surroundings: the time to 165 degC against the
+    # 12 min endurance duty. A larger thermal resistance reaches the limit sooner; the thermal
+    # resistance where the time is 1 % above / below 12 min.
+    _, v = _thermal(1.0)
+    assert v.limit == pytest.approx(ENDURANCE_MIN)
+    assert v.value < ENDURANCE_MIN
+    assert "165 °C limit" in v.note  # the same limit as winding.temperature (IEC 60085 class H less 15 K)
+
+    def minutes(x: float) -> float:
+        t = _thermal(x)[1].value
+        return 1e9 if t is None else t
+
+    for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
+        rth = _bisect(minutes, 0.25, 1.0, k * ENDURANCE_MIN)
+        _, v = _thermal(rth)
+        assert v.value == pytest.approx(k * ENDURANCE_MIN, rel=1e-4)
+        assert v.status is status, (k, v.value, v.note)
+
+
+# ------------------------------------------------------------------ supply.bus_minimum
+
+#: ISO 16750-2:2010 Table 2, code G (24 V system): minimum operating voltage 22 V (published; the
+#: shipped supply_codes_iso16750-2 row).
+CODE_G_MIN = 22.0
+
+
+def _bus(base_load: float):
+    text = drawing_text(stages=1, base_load=f"{base_load:.9f} A").replace('code = "F"', 'code = "G"', 1)
+    return _verdict(BUS_MINIMUM, _analysis(text), "bus")
+
+
+def test_bus_minimum_pinned_at_the_code_g_minimum_iso16750_2():
+    # A larger base load pulls the bus down at the lowest-bus case (the battery half-discharged, cold and
+    # aged, the alternator hot and current-limited); the base load where the bus lies 1 % above / below
+    # the 22 V code G minimum.
+    assert _bus(20.0).limit == pytest.approx(CODE_G_MIN)
+    for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
+        load = _bisect(lambda x: -_bus(x).value, 20.0, 400.0, -k * CODE_G_MIN)
+        v = _bus(load)
+        assert v.value == pytest.approx(k * CODE_G_MIN, rel=1e-5)
+        assert v.limit == pytest.approx(CODE_G_MIN)
+        assert v.status is status, (k, v.value, v.note)
+
+
+# ------------------------------------------------------------------ relay.coil_pickup
+
+#: IEC 60028: copper alpha20 = 0.00393 /K (published).
+ALPHA_CU = 0.00393
+#: Pick-up at least 110 % of the must-operate voltage (the rule's clause: transport-agency relay rules).
+PICKUP_MARGIN = 1.10
+
+
+def _pickup_text(operate: float) -> str:
+    coil = (
+        f'coil = {{ voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "{operate:.9f} V", '
+        'feed_resistance = "5 ohm", rise = "25 K" }\n'
+    )
+    return drawing_text(stages=1).replace('id = "K0"\nkind = "relay"\n', 'id = "K0"\nkind = "relay"\n' + coil, 1)
+
+
+def test_relay_coil_pickup_pinned_at_110_percent_by_hand():
+    # By hand: the coil hot at its 60 degC zone + 25 K rise = 85 degC has 120 x (1 + 0.00393 x 65) =
+    # 150.65 ohm (IEC 60028), needs the must-operate voltage x 150.65/120 (same ampere-turns) and gets
+    # bus x 150.65/(150.65 + 5) through its 5 ohm feed; the bus is the lowest bus the analysis found
+    # (the coil is not part of the stage network, so it does not depend on the operate voltage).
+    a = _analysis(_pickup_text(16.8))
+    bus = a.worst.lowest_bus.bus_voltage
+    rc = 120.0 * (1 + ALPHA_CU * (85.0 - 20.0))
+    have = bus * rc / (rc + 5.0)
+    v = _verdict(PICKUP, a, "K0")
+    assert v.value == pytest.approx(have, rel=1e-9)
+    assert v.limit == pytest.approx(PICKUP_MARGIN * 16.8 * rc / 120.0, rel=1e-9)
+    boundary = have / (PICKUP_MARGIN * rc / 120.0)  # the operate voltage where have = 110 % of need
+    for k, status in ((0.99, Status.PASS), (1.01, Status.WARN), (PICKUP_MARGIN * 1.01, Status.FAIL)):
+        v = _verdict(PICKUP, _analysis(_pickup_text(k * boundary)), "K0")
+        assert v.value == pytest.approx(have, rel=1e-9)
+        assert v.status is status, (k, v.value, v.limit, v.note)
+    # just inside the need itself (1 % below it): still a warning, not a failure
+    v = _verdict(PICKUP, _analysis(_pickup_text(PICKUP_MARGIN * 0.99 * boundary)), "K0")
+    assert v.status is Status.WARN

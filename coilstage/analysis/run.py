@@ -44,7 +44,7 @@ class Analysis:
     duty_state: dict[str, str]  # element id -> "all stages" or "<stage> alone"
     switched: dict[str, list[str]]  # relay id -> the stages it switches
     unfused: list[str]  # feed cables no fuse cuts off
-    ratings: Ratings  # cables' ampacity, fuses' heating of their cables, pulse I²t, relay pick-up
+    ratings: Ratings  # cables' ampacity, fuses' heating of their cables and peak currents, relay pick-up
     switching: SwitchingResult | None
     field: FieldResult
     descent: DutyResult | None  # the drawing's duty profile

@@ -70,6 +70,123 @@ UNCHANGEABLE = {
 }
 
 
+#: What no part sizing may change can clear, by rule: (what the subject is, what its figure says, what
+#: sizing does not change, what would have to change). The words a fitter reads beside a failing or
+#: warning verdict that no suggested part answers (:func:`cannot_change_text`).
+CANNOT_CHANGE: dict[str, tuple[str, str, str, str]] = {
+    "winding.temperature": (
+        "coil",
+        "winding reaches",
+        "the coils",
+        "a coil with more cooling or a lower duty is needed",
+    ),
+    "winding.time_to_limit": (
+        "coil",
+        "winding reaches its limit after",
+        "the coils",
+        "a coil with more cooling or a lower duty is needed",
+    ),
+    "battery.charge": ("", "the duty asks", "the battery", "a larger battery or more charging current is needed"),
+    "supply.alternator": (
+        "",
+        "demand",
+        "the alternator",
+        "a larger alternator, or fewer stages on at once at that speed, is needed",
+    ),
+    "supply.bus_minimum": (
+        "",
+        "bus falls to",
+        "the battery or alternator",
+        "a stronger supply (battery, alternator) or a shorter, heavier feed is needed",
+    ),
+    "field.saturation": ("coil", "iron at", "the coils", "a coil with fewer ampere-turns or more iron is needed"),
+    "field.inductance_crosscheck": ("coil", "inductance", "the coils", "the coil data need checking with the maker"),
+    "field.braking_retained": ("coil", "braking retained", "the coils", "a coil with more cooling is needed"),
+    "overvoltage.coil": (
+        "coil",
+        "on a failed regulator it reaches its limit after",
+        "the coils",
+        "an overvoltage cut-out in the controller, or a coil with more cooling, is needed",
+    ),
+    "overvoltage.fuse": (
+        "fuse",
+        "on a failed regulator it carries",
+        "the regulator's protection",
+        "a fuse that opens on that current, or an overvoltage cut-out, is needed",
+    ),
+    "overvoltage.cable": (
+        "cable",
+        "on a failed regulator it carries",
+        "the regulator-failure case (sizing designs for the regulated bus)",
+        "a fuse that opens on that current, or an overvoltage cut-out, is needed",
+    ),
+    "ground.lost_return": (
+        "return",
+        "with one return lost it carries",
+        "the layout of the returns",
+        "returns that can carry a lost neighbour's current, or fewer shared returns, are needed",
+    ),
+    "ground.return_offset": (
+        "stage",
+        "ground offset",
+        "the returns for the ground offset",
+        "a shorter or heavier return path to the battery negative is needed",
+    ),
+    "relay.coil_circuit": (
+        "relay",
+        "coil circuit",
+        "the relay coil circuit",
+        "a coil feed with its own fuse and wire is needed",
+    ),
+    "relay.coil_pickup": (
+        "relay",
+        "coil gets",
+        "relay coils",
+        "a coil that operates at a lower voltage, or a heavier coil feed, is needed",
+    ),
+    "cable.ahead_of_fuse": (
+        "cable",
+        "unfused run",
+        "the routing",
+        "a fuse closer to the source (a shorter run ahead of the first protective device) is needed",
+    ),
+    "joint.current": ("joint", "carries", "the joints and lugs", "a joint or lug rated for the current is needed"),
+    "joint.heat": ("joint", "heat", "the joints and lugs", "a joint of lower resistance is needed"),
+    "joint.lug_size": ("joint", "lug", "the joints and lugs", "a lug that fits the conductor is needed"),
+}
+
+_UNIT_WORDS = {"degC": "°C", "A*h": "A·h", "1": "", "%": "%"}
+
+
+def _figure(x: float | None, unit: str | None) -> str:
+    if x is None:
+        return ""
+    u = _UNIT_WORDS.get(unit or "", unit or "")
+    n = f"{x:.0f}" if abs(x) >= 100 else f"{x:.3g}"
+    return f"{n} {u}".strip()
+
+
+def cannot_change_text(rule: str, subject: str, status: str, value=None, limit=None, unit=None) -> str | None:
+    """What a failing or warning verdict that no part sizing may change can clear says to a fitter:
+    which part it is, its figure against its limit, that sizing does not change it, and what would
+    have to change. E.g. ``"coil S2: winding reaches 186 °C against 165 °C — sizing does not change
+    the coils; a coil with more cooling or a lower duty is needed"``. None for a rule sizing answers
+    with a part (or a status other than fail and warn)."""
+    if status not in ("fail", "warn"):
+        return None
+    row = CANNOT_CHANGE.get(rule)
+    if row is None:
+        return None
+    what, says, not_changed, needed = row
+    head = f"{what} {subject}" if what else subject
+    fig = ""
+    if value is not None:
+        fig = f" {says} {_figure(value, unit)}"
+        if limit is not None:
+            fig += f" against {_figure(limit, unit)}"
+    return f"{head}:{fig} ({rule}, {status}) — sizing does not change {not_changed}; {needed}"
+
+
 #: What a rule or analysis may raise on a candidate far from any sensible design (an exponential out of
 #: range for a thin cable behind a large fuse, a solver that does not converge): such a candidate is
 #: taken as failing, never as passing.
@@ -1691,6 +1808,11 @@ def action_list(verdicts, suggestions_list) -> dict:
     for subj, vs in rest_fail.items():
         rules = sorted({v.rule for v in vs})
         what = sorted({UNCHANGEABLE.get(r, "") for r in rules} - {""})
+        said = [
+            t
+            for t in (cannot_change_text(v.rule, v.subject, _status(v), v.value, v.limit, v.unit) for v in vs)
+            if t is not None
+        ]
         cannot.append(
             {
                 "part": subj,
@@ -1702,6 +1824,7 @@ def action_list(verdicts, suggestions_list) -> dict:
                     if what
                     else " (no part sizing changes answers it)"
                 ),
+                "statements": said,
             }
         )
     seen_missing: set[str] = set()

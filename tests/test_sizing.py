@@ -579,3 +579,52 @@ def test_a_relay_rating_judged_on_the_analysis_already_made_equals_a_fresh_check
         for k, x in fast.items():  # the check adds sensitivities; every figure and word is the same
             y = fresh[k]
             assert (x.status, x.value, x.limit, x.margin, x.note) == (y.status, y.value, y.limit, y.margin, y.note)
+
+
+def test_what_sizing_cannot_change_says_so_in_every_format(tmp_path):
+    """Every failing verdict of the flawed demo that no part answers (the coils, the battery, the
+    alternator, the returns' layout) carries a statement in the action list and the JSON: which part,
+    its figure against its limit (the verdict's own), that sizing does not change it, and what would
+    have to change; the text and Markdown reports show the same words."""
+    import json
+
+    from coilstage.cli import main
+
+    out = tmp_path / "r.json"
+    main(["check", str(FLAWED), "-f", "json", "-o", str(out)])
+    doc = json.loads(out.read_text(encoding="utf-8"))
+    unanswered = [v for v in doc["verdicts"] if v["status"] == "fail" and v["suggested"] is None]
+    assert {v["rule"] for v in unanswered} >= {"winding.temperature", "battery.charge"}
+    for v in unanswered:
+        s = v["suggestion"]
+        assert s is not None and v["subject"] in s and "sizing does not change" in s and "needed" in s, v["rule"]
+    coil = next(v for v in unanswered if v["rule"] == "winding.temperature" and v["subject"] == "S2")
+    hot, limit = coil["value"]["value"], coil["limit"]["value"]
+    assert coil["suggestion"].startswith(
+        f"coil S2: winding reaches {hot:.0f} °C against {limit:.0f} °C (winding.temperature, fail) — "
+        "sizing does not change the coils; a coil with more cooling or a lower duty is needed"
+    )
+    battery = next(v for v in unanswered if v["rule"] == "battery.charge")
+    assert "sizing does not change the battery" in battery["suggestion"]
+    # the action list of the JSON carries the same statement beside the verdict
+    items = [x for g in doc["actions"]["failures"] for x in g["items"]]
+    assert (
+        next(x for x in items if x["rule"] == "winding.temperature" and x["subject"] == "S2")["suggestion"]
+        == (coil["suggestion"])
+    )
+    # with --no-suggest nothing is said (no suggestion was asked for)
+    plain = tmp_path / "p.json"
+    main(["check", str(FLAWED), "--no-suggest", "-f", "json", "-o", str(plain)])
+    assert all(v["suggestion"] is None for v in json.loads(plain.read_text(encoding="utf-8"))["verdicts"])
+    for fmt in ("text", "markdown"):
+        f = tmp_path / f"r.{fmt}"
+        main(["check", str(FLAWED), "-f", fmt, "-o", str(f)])
+        body = " ".join(f.read_text(encoding="utf-8").split())
+        assert "sizing does not change the coils; a coil with more cooling or a lower duty is needed" in body, fmt
+    # sizing's own action list: the same statements, by part
+    text = FLAWED.read_text(encoding="utf-8")
+    d = coilstage.load_drawing(FLAWED)
+    a, verdicts = coilstage.check(d)
+    al = sizing.action_list(verdicts, sizing.suggestions(text, str(FLAWED), FLAWED.parent, checked=(d, a, verdicts)))
+    s2 = next(x for x in al["cannot_change"] if x["part"] == "S2")
+    assert coil["suggestion"] in s2["statements"]

@@ -30,9 +30,25 @@ def build(doc: dict[str, Any]) -> dict[str, list[dict[str, Any]]]:
                 continue
             p = part_of(v["subject"])
             g = groups.setdefault(p, {"part": p, "items": []})
-            g["items"].append({**v, "suggestion": v.get("suggestion")})
+            g["items"].append({**v, "suggestion": suggestion_of(v)})
         out[name] = list(groups.values())
     return out
+
+
+def suggestion_of(v: dict[str, Any]) -> str | None:
+    """The verdict's suggestion; where suggestions were asked for (the verdict carries ``suggested``)
+    and no part answers a failing or warning verdict, what sizing cannot change says so instead:
+    which part, that sizing does not change it, what would have to change
+    (:func:`coilstage.sizing.cannot_change_text`)."""
+    if v.get("suggestion") or "suggested" not in v:
+        return v.get("suggestion")
+    from coilstage.sizing import cannot_change_text
+
+    def fig(q: Any) -> tuple[float | None, str | None]:
+        return (q.get("value"), q.get("unit")) if isinstance(q, dict) else (q, v.get("unit"))
+
+    (value, unit), (limit, _) = fig(v.get("value")), fig(v.get("limit"))
+    return cannot_change_text(v["rule"], v["subject"], v["status"], value, limit, unit)
 
 
 def count(actions: dict[str, list[dict[str, Any]]], name: str) -> int:

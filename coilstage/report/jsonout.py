@@ -42,7 +42,7 @@ def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dic
         {
             **v,
             "sensitivities": v.get("sensitivities", []),
-            "suggestion": v.get("suggestion"),
+            "suggestion": actions.suggestion_of(v),
             "suggested": v.get("suggested"),
         }
         for v in doc["verdicts"]

@@ -19,6 +19,7 @@ import pytest
 from coilstage import check
 from coilstage.checks import Status
 from coilstage.checks.cables import AMPACITY
+from coilstage.checks.field import RETAINED
 from coilstage.checks.fuse_timing import SHORT
 from coilstage.checks.supply import ALTERNATOR, BUS_MINIMUM
 from coilstage.checks.switching import LOAD_DUMP, PICKUP, RELEASE, SUPPRESSOR
@@ -377,6 +378,39 @@ def test_load_dump_blocking_pinned_at_the_pulse_peak_iso16750_2(central, peak):
         _, v2 = _sup(_suppressed(reverse=k * peak, central=central), "S0 load dump", LOAD_DUMP)
         assert v2.limit == pytest.approx(peak)
         assert v2.status is status, (central, k, v2.note)
+
+
+# ------------------------------------------------------------------ field.braking_retained
+
+
+def _retained(ratio: float):
+    a = _analysis(drawing_text(stages=1, extra=f'[retarder]\nmin_braking_ratio = "{100 * ratio:.9f} %"\n'))
+    return a, _verdict(RETAINED, a, "retarder")
+
+
+def test_braking_retained_pinned_at_the_hand_worked_ratio():
+    # No magnetic circuit: effort (N I)^2 (the low-speed eddy-current law T ~ sigma B^2 omega with B
+    # proportional to N I, unsaturated). At the lowest bus the coil is at its stated 150 degC and at the
+    # high end of its resistance tolerance (+5 %, the shipped tolerance default): by hand
+    # R = 1.0 x (1 + 0.00393 x 130) x 1.05 = 1.586 ohm (IEC 60028 alpha20), and the current is the bus
+    # over R plus the path (6.6 m of 35 mm^2 and 3.3 m of 10 mm^2 copper at 60 degC, rho20 = 1/58 ohm
+    # mm^2/m, IEC 60028; 0.7 mohm of fuse and contact: 11 mohm in all). The ratio (I_low/I_cold)^2 is
+    # then the boundary; the drawing's minimum 1 % below / above it passes / fails.
+    a, v = _retained(0.3)
+    b = a.worst.braking
+    (i_cold,) = [s.current for s in a.corners["cold"].stages if s.id == "S0"]
+    r_hot = 1.0 * (1 + ALPHA_CU * (150.0 - 20.0)) * 1.05
+    hot60 = 1 + ALPHA_CU * (60.0 - 20.0)
+    r_path = (6.6 / (58 * 35.0) + 3.3 / (58 * 10.0)) * hot60 + 0.7e-3
+    hand = (b.bus_voltage / (r_hot + r_path) / i_cold) ** 2
+    # 0.3 %: the ISO 6722 conductor resistances differ from rho/A by a few %, on 0.7 % of the resistance
+    assert b.ratio == pytest.approx(hand, rel=3e-3)
+    assert v.value == pytest.approx(b.ratio, rel=1e-9)
+    for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
+        _, v2 = _retained(k * b.ratio)
+        assert v2.value == pytest.approx(b.ratio, rel=1e-9)
+        assert v2.limit == pytest.approx(k * b.ratio, rel=1e-9)
+        assert v2.status is status
 
 
 # ------------------------------------------------------------------ supply.alternator

@@ -1408,10 +1408,21 @@ def _suggest_fuse(bench: Bench, part: Part, base: dict, fixed: set[str] | None =
                     continue
                 sv = tuple(format_value(_qty(v, "A")) for v in ser)
                 extra = (((part.index, "type"), format_value(t)),)
+                # the type rules (breaking capacity against the fault at the fuse, voltage rating
+                # against the highest bus) do not depend on the rating: judged at the type's largest
+                # rating (the window's first candidate, so the screen is shared), a type that still
+                # fails them as the drawing states it (a voltage rating or breaking capacity of its
+                # own) opens no window that answers them, and its window is not searched
+                at_top = bench.screen(
+                    _with(base, ((part.index, part.key), sv[-1]), *extra), switching=False, rules=part.rules
+                )
+                if any(
+                    k[0] in _TYPE_RULES and rank(v) < 2 and _status(v) != "not checked"
+                    for k, v in involved(part, at_top or {}).items()
+                ):
+                    continue
                 tw = _window(bench, part, base, sv, extra)
                 if tw.type_needs:
-                    # the type as the drawing states it (a voltage rating or breaking capacity of its
-                    # own) still fails the type rules: no window of this type answers them
                     continue
                 if tw.ok:
                     options.append((t, sv, extra, None, None, tw))

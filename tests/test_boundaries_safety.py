@@ -18,11 +18,12 @@ import pytest
 
 from coilstage import check
 from coilstage.checks import Status
-from coilstage.checks.cables import AMPACITY
+from coilstage.checks.cables import AMPACITY, TEMPERATURE_CLASS
+from coilstage.checks.field import INDUCTANCE as INDUCTANCE_CROSSCHECK
 from coilstage.checks.field import RETAINED
 from coilstage.checks.fuse_timing import SHORT
 from coilstage.checks.supply import ALTERNATOR, BUS_MINIMUM
-from coilstage.checks.switching import LOAD_DUMP, PICKUP, RELEASE, SUPPRESSOR
+from coilstage.checks.switching import COIL_CIRCUIT, LOAD_DUMP, PICKUP, RELEASE, SUPPRESSOR
 from coilstage.checks.thermal import TIME_TO_LIMIT, WINDING
 from coilstage.drawing.load import parse_drawing
 
@@ -411,6 +412,105 @@ def test_braking_retained_pinned_at_the_hand_worked_ratio():
         assert v2.value == pytest.approx(b.ratio, rel=1e-9)
         assert v2.limit == pytest.approx(k * b.ratio, rel=1e-9)
         assert v2.status is status
+
+
+# ------------------------------------------------------------------ relay.coil_circuit
+
+
+def _coil_circuit(fuse: float) -> dict:
+    coil = (
+        'coil = { voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "16.8 V", '
+        f'feed_resistance = "5 ohm", fuse = "{fuse:.9f} A", wire_size = "1 mm^2" }}\n'
+    )
+    text = drawing_text(stages=1).replace('id = "K0"\nkind = "relay"\n', 'id = "K0"\nkind = "relay"\n' + coil, 1)
+    return {v.subject: v for v in COIL_CIRCUIT.evaluate(_analysis(text))}
+
+
+def test_relay_coil_fuse_pinned_at_75_percent_by_hand():
+    # By hand: the coil cold at the lowest ambient, 120 x (1 + 0.00393 x (-30 - 20)) = 96.42 ohm (IEC
+    # 60028), on the 32 V supply maximum (ISO 16750-2 Table 2, code F; above the regulator's 29.4 V end)
+    # through 5 ohm: 32/101.42 = 0.3155 A. Its fuse carries at most 75 % continuously (common practice, no
+    # source): pass up to 75 % of the rating, warn up to the rating, fail above.
+    i = 32.0 / (120.0 * (1 + ALPHA_CU * (-30.0 - 20.0)) + 5.0)
+    v = _coil_circuit(1.0)["K0 coil fuse"]
+    assert v.value == pytest.approx(i, rel=1e-9)
+    for rating, status in (
+        (i / (0.75 * 0.99), Status.PASS),
+        (i / (0.75 * 1.01), Status.WARN),
+        (i / 0.99, Status.WARN),
+        (i / 1.01, Status.FAIL),
+    ):
+        v = _coil_circuit(rating)["K0 coil fuse"]
+        assert v.value == pytest.approx(i, rel=1e-9)
+        assert v.status is status, (rating, v.note)
+
+
+def test_relay_coil_wire_pinned_at_its_ampacity_and_150_percent():
+    # The 1 mm^2 coil wire, ISO 6722 class A (85 degC) assumed: the 33 CFR 183.425 Table 5 80 degC column
+    # (the highest not above 85 degC; 18 AWG 15 A, 16 AWG 20 A, published, the shipped rows) interpolated
+    # log-log between the ASTM B258 areas, times sqrt((80 - 60)/(80 - 30)) for the 60 degC zone:
+    # 16.92 A x 0.632 = 10.70 A. The fuse up to it passes, up to 150 % of it warns (ABYC E-11 next size
+    # up), beyond fails.
+    a18, a16 = _awg_area_mm2(18), _awg_area_mm2(16)
+    amp = 15.0 * (1.0 / a18) ** (math.log(20.0 / 15.0) / math.log(a16 / a18)) * math.sqrt(20.0 / 50.0)
+    assert amp == pytest.approx(10.70, abs=0.01)
+    assert _coil_circuit(1.0)["K0 coil wire"].limit == pytest.approx(amp, rel=1e-3)
+    for k, status in ((0.99, Status.PASS), (1.01, Status.WARN), (1.49, Status.WARN), (1.51, Status.FAIL)):
+        v = _coil_circuit(k * amp)["K0 coil wire"]
+        assert v.limit == pytest.approx(amp, rel=1e-3)
+        assert v.status is status, (k, v.note)
+
+
+# ------------------------------------------------------------------ cable.temperature_class
+
+
+@pytest.mark.parametrize(("zone", "status"), [(124.0, Status.PASS), (125.0, Status.FAIL), (126.0, Status.FAIL)])
+def test_temperature_class_pinned_at_class_c_iso6722(zone, status):
+    # ISO 6722-1 class C: 125 degC (from memory, the shipped cable_classes_iso6722 row). A zone that
+    # reaches the class leaves nothing for self-heating: 1 K below passes, at it and above fails.
+    text = drawing_text(stages=1).replace('chassis = "60 degC"', f'chassis = "{zone:g} degC"', 1)
+    v = _verdict(TEMPERATURE_CLASS, _analysis(text), "W0")
+    assert v.limit == pytest.approx(125.0)
+    assert v.value == pytest.approx(zone)
+    assert v.status is status
+
+
+# ------------------------------------------------------------------ field.inductance_crosscheck
+
+MAGNETIC = (
+    'pole_area = "60 cm^2"\ngaps = 2\ngap_length = "1.5 mm"\niron_length = "0.25 m"\niron_area = "60 cm^2"\n'
+    'bh_curve = "steel-1010"\n'
+)
+
+
+def _inductance(stated_mh: float):
+    text = drawing_text(stages=1).replace(
+        'inductance = "50 mH"\n', f'inductance = "{stated_mh:.9f} mH"\n' + MAGNETIC, 1
+    )
+    a = _analysis(text)
+    return a, _verdict(INDUCTANCE_CROSSCHECK, a, "C0")
+
+
+def test_inductance_crosscheck_pinned_at_25_percent():
+    # The stated inductance against the magnetic circuit's N^2/R (unsaturated) agree within 25 % (common
+    # practice, no source): deviation |L_geo - L|/L. By hand the two 1.5 mm gaps alone give
+    # mu0 N^2 A/(2 g) = 4 pi 1e-7 x 150^2 x 60e-4/3e-3 = 56.5 mH, and the iron's reluctance can only lower
+    # it; the boundaries are then L = L_geo/1.25 (below) and L_geo/0.75 (above): 1 % either side.
+    a, _ = _inductance(50.0)
+    geo = a.field.inductance_check["C0"][1]
+    gaps_only = 4e-7 * math.pi * 150**2 * 60e-4 / 3e-3
+    assert gaps_only == pytest.approx(0.05655, rel=1e-3)
+    assert 0.8 * gaps_only < geo < gaps_only
+    for stated, status in (
+        (geo / 1.25 * 1.01, Status.PASS),
+        (geo / 1.25 * 0.99, Status.WARN),
+        (geo / 0.75 * 0.99, Status.PASS),
+        (geo / 0.75 * 1.01, Status.WARN),
+    ):
+        a2, v2 = _inductance(stated * 1e3)
+        assert a2.field.inductance_check["C0"][1] == pytest.approx(geo, rel=1e-9)
+        assert v2.limit == pytest.approx(0.25)
+        assert v2.status is status, (stated, v2.value, v2.note)
 
 
 # ------------------------------------------------------------------ supply.alternator

@@ -163,9 +163,15 @@ def main() -> None:
         "(target < 300 ms)"
     )
     n_ans = sum(1 for v in failing if (v.rule, v.subject) in answered)
+    said = sum(
+        1
+        for v in failing
+        if (v.rule, v.subject) not in answered
+        and sizing.cannot_change_text(v.rule, v.subject, v.status.value, v.value, v.limit, v.unit) is not None
+    )
     print(
-        f"  {len(sug)} parts with a suggestion; {n_ans} of {len(failing)} failing verdicts answered by a part "
-        "(the rest are the coils, battery and alternator, listed as not changed by sizing)"
+        f"  {len(sug)} parts with a suggestion; {n_ans} of {len(failing)} failing verdicts answered by a part, "
+        f"{said} by a statement of what sizing does not change, {len(failing) - n_ans - said} by neither"
     )
     t_size, r = _median(lambda: sizing.size_drawing(text, str(FLAWED), FLAWED.parent), 3)
     print(

@@ -23,7 +23,7 @@ def variant(k: int, stages: int = 4, system: int = 24) -> str:
 
 
 #: the 24 V starter's branch cable, as coilstage init writes it
-BRANCH = 'size = "20 mm^2"'
+BRANCH = 'size = "25 mm^2"'
 
 
 def _batch(folder, n_good=4, bad=True, failing=True):

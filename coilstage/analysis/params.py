@@ -62,6 +62,7 @@ References
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 import weakref
 from dataclasses import dataclass
@@ -409,6 +410,34 @@ def _grid(d: Drawing) -> np.ndarray:
     return np.unique(np.array(pts, dtype=float))
 
 
+@functools.lru_cache(maxsize=4096)
+def _cable_row(c: Cable, grid: tuple[float, ...], amb_max: float) -> tuple[float, ...] | None:
+    """A cable's ampacity at each grid ambient (its zone following the ambient), or None where some
+    ambient leaves it none. Cached on the (frozen) cable: sizing's candidates share all but one part."""
+    vals = []
+    for t in grid:
+        amp = cable_rating(dataclasses.replace(c, zone_temperature=zone_at_ambient(c.zone_temperature, t, amb_max)))
+        if isinstance(amp.ampacity, str) or amp.ampacity.value <= 0:
+            return None
+        vals.append(float(amp.ampacity.value))
+    return tuple(vals)
+
+
+@functools.lru_cache(maxsize=4096)
+def _relay_row(
+    r: Relay, grid: tuple[float, ...], amb_max: float, system: int
+) -> tuple[tuple[float, ...], tuple[bool, ...]] | None:
+    """A relay's contact limit and warn-only flag at each grid ambient, or None where some ambient
+    leaves it no limit (cached as :func:`_cable_row`)."""
+    lims = [
+        _relay_limit(dataclasses.replace(r, zone_temperature=zone_at_ambient(r.zone_temperature, t, amb_max)), system)
+        for t in grid
+    ]
+    if not all(lim is not None and lim[0] > 0 for lim in lims):
+        return None
+    return tuple(lim[0] for lim in lims), tuple(lim[1] for lim in lims)
+
+
 def _limits(d: Drawing) -> _Limits:
     """The duty limits of every fuse, cable and relay on the ambient grid. A cable or relay that has no
     limit at some ambient of the range (no ampacity left, no rating for the system, a zone above its
@@ -417,27 +446,17 @@ def _limits(d: Drawing) -> _Limits:
     grid = _grid(d)
     amb_max = d.environment.ambient_max
     fuses = d.of_kind(Fuse)
+    key = tuple(float(t) for t in grid)
     cab = {}
     for c in d.of_kind(Cable):
-        vals = []
-        for t in grid:
-            amp = cable_rating(dataclasses.replace(c, zone_temperature=zone_at_ambient(c.zone_temperature, t, amb_max)))
-            if isinstance(amp.ampacity, str) or amp.ampacity.value <= 0:
-                break
-            vals.append(float(amp.ampacity.value))
-        else:
-            cab[c.id] = np.array(vals)
+        row = _cable_row(c, key, amb_max)
+        if row is not None:
+            cab[c.id] = np.array(row)
     rel = {}
     for r in d.of_kind(Relay):
-        lims = [
-            _relay_limit(
-                dataclasses.replace(r, zone_temperature=zone_at_ambient(r.zone_temperature, t, amb_max)),
-                d.supply.system_voltage,
-            )
-            for t in grid
-        ]
-        if all(lim is not None and lim[0] > 0 for lim in lims):
-            rel[r.id] = (np.array([lim[0] for lim in lims]), np.array([lim[1] for lim in lims]))
+        row = _relay_row(r, key, amb_max, d.supply.system_voltage)
+        if row is not None:
+            rel[r.id] = (np.array(row[0]), np.array(row[1]))
     return _Limits(
         grid,
         {

@@ -139,7 +139,10 @@ PINNED = {
     "field.inductance_crosscheck": ["test_boundaries_safety::test_inductance_crosscheck_pinned_at_25_percent"],
     "fuse.no_nuisance_opening": ["test_boundaries_safety::test_no_nuisance_opening_pinned_at_the_first_gate_rerated"],
     "field.saturation": ["test_boundaries_safety::test_saturation_pinned_at_the_knee_of_steel_1010"],
-    "overvoltage.cable": ["test_boundaries_safety::test_overvoltage_cable_pinned_at_its_ampacity_and_1_45_iz"],
+    "overvoltage.cable": [
+        "test_boundaries_safety::test_overvoltage_cable_pinned_at_its_ampacity_and_1_45_iz",
+        "test_boundaries_safety::test_overvoltage_cable_pinned_where_its_fuse_opens",
+    ],
     "overvoltage.coil": [
         "test_boundaries_safety::test_overvoltage_coil_pinned_at_its_class_limit_in_steady_state",
         "test_boundaries_safety::test_overvoltage_coil_pinned_at_the_duty_by_its_time_to_limit",

@@ -611,6 +611,20 @@ def test_overvoltage_cable_pinned_at_its_ampacity_and_1_45_iz(fuse, cases):
         assert v.status is status, (fuse, k, v.note)
 
 
+def test_overvoltage_cable_pinned_where_its_fuse_opens():
+    # Above Iz (1.01 Iz) the verdict turns on whether the fuse opens: above 1.35 x its rating rerated for
+    # its 60 degC zone (0.94), the shipped gates' 30 min point (from memory). The rating placed so that the
+    # current (the fuse carries the branch's current alone) lies 1 % above / below that: WARN / FAIL.
+    a8, a6 = _awg_area_mm2(8), _awg_area_mm2(6)
+    iz = 90.0 * (10.0 / a8) ** (math.log(125.0 / 90.0) / math.log(a6 / a8)) * math.sqrt(65.0 / 95.0)
+    r = _bisect(lambda x: -_ov_cable(x, 300.0).value, 0.1, 1.0, -1.01 * iz)
+    i = _ov_cable(r, 300.0).value
+    for k, status in ((1.01, Status.WARN), (0.99, Status.FAIL)):
+        v = _ov_cable(r, i / (k * 1.35 * RERATE_60))
+        assert v.value == pytest.approx(i, rel=1e-6)
+        assert v.status is status, (k, v.note)
+
+
 # ------------------------------------------------------------------ overvoltage.coil
 
 
@@ -653,6 +667,8 @@ def test_overvoltage_coil_pinned_at_the_duty_by_its_time_to_limit():
     # t = -R_th C ln(1 - (165 - 20)/(P0 R_th)) with C = m x 385 J/(kg K) (copper, CRC Handbook, from
     # memory); the mass where t is 1 % above / below 720 s.
     c, _ = _ov_coil(0.2, 5.0)
+    assert c.coil_voltage == pytest.approx(36.0 / (1.0 + 8.83e-3), rel=1e-3)  # Ohm's law, as above
+    assert c.start_temperature == pytest.approx(20.0)  # T_max 40 degC less 20 K, the rule's start
     p0 = c.coil_voltage**2 / 1.0
     hand = -0.2 * 5.0 * 385.0 * math.log(1 - (CLASS_H_LIMIT - 20.0) / (p0 * 0.2))
     assert c.time_to_limit == pytest.approx(hand, rel=1e-6)

@@ -25,8 +25,9 @@ from typing import Any
 from coilstage.report import actions, safe
 
 #: the version of the JSON report's layout (1.1: record, parts and actions at the top level; 1.2: the
-#: suggestion and the sensitivities beside each verdict)
-SCHEMA_VERSION = "1.2"
+#: suggestion and the sensitivities beside each verdict; 1.3: a verdict no sized part clears says what
+#: would have to change)
+SCHEMA_VERSION = "1.3"
 
 
 def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dict[str, Any] | None = None) -> str:

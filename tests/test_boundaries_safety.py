@@ -23,6 +23,7 @@ from coilstage.checks.cables import AMPACITY, TEMPERATURE_CLASS
 from coilstage.checks.field import INDUCTANCE as INDUCTANCE_CROSSCHECK
 from coilstage.checks.field import RETAINED, SATURATION
 from coilstage.checks.fuse_timing import NUISANCE, SHORT
+from coilstage.checks.joints import JOINT_CURRENT, JOINT_LUG
 from coilstage.checks.overvoltage import OV_CABLE, OV_COIL
 from coilstage.checks.supply import ALTERNATOR, BUS_MINIMUM
 from coilstage.checks.switching import COIL_CIRCUIT, LOAD_DUMP, PICKUP, RELEASE, SUPPRESSOR
@@ -678,6 +679,54 @@ def test_overvoltage_coil_pinned_at_the_duty_by_its_time_to_limit():
         c, v = _ov_coil(0.2, mass)
         assert c.time_to_limit == pytest.approx(k * ENDURANCE_MIN * 60.0, rel=1e-6)
         assert v.status is status, (k, v.note)
+
+
+# ------------------------------------------------------------------ joint.current, joint.lug_size
+
+
+def _with_joint(rating: float = 100.0, low: float = 10.0, high: float = 16.0):
+    """The generated drawing with a lug J0 at the stage end of W0 (W0 ends on it), in the 60 degC zone."""
+    text = drawing_text(stages=1).replace('to = "S0+"', 'to = "J0A"', 1)
+    text += (
+        '\n[[harness]]\nid = "J0"\nkind = "joint"\nfrom = "J0A"\nto = "S0+"\njoint = "lug"\n'
+        f'resistance = "0.2 mohm"\nrating = "{rating:.9f} A"\nrated_ambient = "25 degC"\nzone = "chassis"\n'
+        f'conductor_range = ["{low:.9f} mm^2", "{high:.9f} mm^2"]\ncable = "W0"\n'
+    )
+    a = _analysis(text)
+    return _verdict(JOINT_CURRENT, a, "J0"), _verdict(JOINT_LUG, a, "J0")
+
+
+def test_joint_current_pinned_at_its_rating_derated_by_hand():
+    # No derating given: rise proportional to I^2 (Joule) up to a tin contact's 105 degC upper limiting
+    # temperature (IEC 60512-5-2 Test 5b reading; the ULT from memory, the shipped joints table): rated
+    # at 25 degC, it holds sqrt((105 - 60)/(105 - 25)) = 0.75 of its rating in the 60 degC zone. Its
+    # current (the stage's, at the largest current) does not depend on the rating, so the rating is set
+    # to put the current 1 % inside / outside the derated figure.
+    share = math.sqrt((105.0 - 60.0) / (105.0 - 25.0))
+    v, _ = _with_joint()
+    assert v.limit == pytest.approx(100.0 * share, rel=1e-9)
+    i = v.value
+    for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
+        v2, _ = _with_joint(rating=i / (k * share))
+        assert v2.value == pytest.approx(i, rel=1e-9)
+        assert v2.status is status, (k, v2.note)
+
+
+@pytest.mark.parametrize(
+    ("low", "high", "status"),
+    [
+        # the 10 mm^2 conductor of W0 against the lug's marked range (DIN 46235 marks the size it takes;
+        # common practice): 1 % inside either end passes, 1 % outside fails
+        (9.9, 16.0, Status.PASS),
+        (10.1, 16.0, Status.FAIL),
+        (6.0, 10.1, Status.PASS),
+        (6.0, 9.9, Status.FAIL),
+    ],
+)
+def test_lug_size_pinned_at_its_cable_area(low, high, status):
+    _, v = _with_joint(low=low, high=high)
+    assert v.value == pytest.approx(10.0)
+    assert v.status is status
 
 
 # ------------------------------------------------------------------ supply.alternator

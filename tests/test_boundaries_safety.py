@@ -805,10 +805,27 @@ def test_fuse_duty_thermal_state_pinned_where_the_gate_time_is_used_up():
     hand = i / (RERATE_60 * m)
     rating = _bisect(lambda x: -used(x), 0.9 * hand, 1.1 * hand, -1.0)
     assert rating == pytest.approx(hand, rel=5e-3)
+
+    def hand_used(a, fuse: float) -> float:
+        # the same sum by hand over the simulated current: dt / t_min at the mean current of each step,
+        # t_min log-log between the two gate points above (only that segment is reached here)
+        t, cur = a.descent.t, abs(a.descent.device_current["FM"])
+        total = 0.0
+        for j in range(len(t) - 1):
+            mj = 0.5 * (cur[j] + cur[j + 1]) / (RERATE_60 * fuse)
+            assert mj < 1.35
+            if mj > 1.10:
+                total += (t[j + 1] - t[j]) / (
+                    360000.0 * (mj / 1.10) ** (math.log(60.0 / 360000.0) / math.log(1.35 / 1.10))
+                )
+        return total
+
     for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
         f = _bisect(lambda x: -used(x), 0.9 * hand, 1.1 * hand, -k)
-        v = _verdict(FUSE_DUTY, _continuous(0.25, f), "FM")
+        a = _continuous(0.25, f)
+        v = _verdict(FUSE_DUTY, a, "FM")
         assert v.value == pytest.approx(k, rel=1e-4)
+        assert hand_used(a, f) == pytest.approx(k, rel=1e-3)
         assert v.status is status
 
 

@@ -156,13 +156,14 @@ PINNED = {
     "fuse.duty_thermal_state": [
         "test_boundaries_safety::test_fuse_duty_thermal_state_pinned_where_the_gate_time_is_used_up"
     ],
+    "ground.lost_return": [
+        "test_boundaries_safety::test_lost_return_pinned_at_the_ampacity_of_the_path_that_takes_over"
+    ],
 }
 
 #: registered rules without a just-inside / just-outside pin yet (a known gap, listed so that it stays
 #: visible: a rule leaves this list when a pin is written for it, and a new rule must enter one of the two)
-NOT_YET_PINNED = {
-    "ground.lost_return",
-}
+NOT_YET_PINNED: set[str] = set()
 
 
 def test_every_rule_is_pinned_or_listed_as_a_gap():

@@ -23,6 +23,7 @@ from coilstage.checks.cables import AMPACITY, TEMPERATURE_CLASS
 from coilstage.checks.field import INDUCTANCE as INDUCTANCE_CROSSCHECK
 from coilstage.checks.field import RETAINED, SATURATION
 from coilstage.checks.fuse_timing import NUISANCE, SHORT
+from coilstage.checks.ground import LOST_RETURN
 from coilstage.checks.joints import JOINT_CURRENT, JOINT_LUG
 from coilstage.checks.overvoltage import OV_CABLE, OV_COIL
 from coilstage.checks.supply import ALTERNATOR, BUS_MINIMUM
@@ -827,6 +828,36 @@ def test_fuse_duty_thermal_state_pinned_where_the_gate_time_is_used_up():
         assert v.value == pytest.approx(k, rel=1e-4)
         assert hand_used(a, f) == pytest.approx(k, rel=1e-3)
         assert v.status is status
+
+
+# ------------------------------------------------------------------ ground.lost_return
+
+
+def _lost_return(coil_r: float):
+    """The generated drawing with a second, thinner return WB (2.5 mm^2) beside W0R; W0R lost."""
+    text = drawing_text(stages=1, coil_r=[coil_r]) + (
+        '\n[[harness]]\nid = "WB"\nkind = "ground"\nfrom = "S0-"\nto = "GSTUD"\nsize = "2.5 mm^2"\n'
+        'length = "1 m"\ninsulation = "C"\nzone = "chassis"\n'
+    )
+    return _verdict(LOST_RETURN, _analysis(text), "W0R")
+
+
+def test_lost_return_pinned_at_the_ampacity_of_the_path_that_takes_over():
+    # With W0R lost its current moves to WB. WB's ampacity by hand: 33 CFR 183.425 Table 5, 125 degC
+    # column, 14 AWG 40 A and 12 AWG 50 A (published, the shipped rows), log-log in the ASTM B258 areas
+    # at 2.5 mm^2, times sqrt((125 - 60)/(125 - 30)) for the 60 degC zone: 36.14 A. The stage current
+    # where WB then carries 1 % less / more: a warning (the stage loses a little current and the rest is
+    # rerouted) / a failure (the loss pushes WB above its ampacity).
+    a14, a12 = _awg_area_mm2(14), _awg_area_mm2(12)
+    amp = 40.0 * (2.5 / a14) ** (math.log(50.0 / 40.0) / math.log(a12 / a14)) * math.sqrt(65.0 / 95.0)
+    assert amp == pytest.approx(36.14, abs=0.01)
+    assert _lost_return(1.0).limit == pytest.approx(amp, rel=1e-3)
+    for k, status in ((0.99, Status.WARN), (1.01, Status.FAIL)):
+        r = _bisect(lambda x: -_lost_return(x).value, 0.5, 2.0, -k * amp)
+        v = _lost_return(r)
+        assert v.value == pytest.approx(k * amp, rel=1e-5)
+        assert v.limit == pytest.approx(amp, rel=1e-3)
+        assert v.status is status, (k, v.note)
 
 
 # ------------------------------------------------------------------ supply.alternator

@@ -1,14 +1,16 @@
-"""The safety-relevant rules pinned at their limits: the far-end short against the insulation's
+"""Rules pinned at their limits, most safety-relevant first: the far-end short against the insulation's
 short-circuit temperature, a cable's current against its ampacity, the winding against its class less
-the hot-spot allowance and its time to that limit, the bus against the supply code's minimum, and the
-relay coil's pick-up margin.
+the hot-spot allowance and its time to that limit, the suppressor's ratings and the load dump, the bus
+against the supply code's minimum, the relay coil's pick-up, the braking left at the lowest bus; then
+the other rules the earlier pins left open (fuse gates and duty, relay voltage and coil circuit, joints
+and lugs, the lost return, the regulator-failure overvoltage, the field rules, the alternator).
 
-Each test finds, by bisection on one input of a generated drawing, the point where the rule's own
-figure reaches the limit, places the drawing 1 % (or 1 K) either side of it and asserts the verdicts;
-and it asserts that the limit lies where a hand calculation from the standard's constant or the
-shipped table value puts it (named beside it), so that a changed constant or table value fails here.
-The rules are judged on their own verdicts (``rule.evaluate(analysis)``), before the tolerance
-corner decision of ``run_checks``."""
+Each test finds, by bisection on one input of a generated drawing (or by direct placement where the
+rule's figure does not depend on that input), the point where the rule's own figure reaches the limit,
+places the drawing 1 % (or 1 K) either side of it and asserts the verdicts; and it asserts that the
+limit lies where a hand calculation from the standard's constant or the shipped table value puts it
+(named beside it), so that a changed constant or table value fails here. The rules are judged on their
+own verdicts (``rule.evaluate(analysis)``), before the tolerance corner decision of ``run_checks``."""
 
 from __future__ import annotations
 

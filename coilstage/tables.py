@@ -406,8 +406,10 @@ def cable_class_rows() -> dict[str, dict[str, Any]]:
 
 
 def load_dump_clamped(system: int) -> float:
-    """Clamped load-dump supply voltage of ISO 16750-2 Test B for a 12 or 24 V system [V]."""
-    return float(dict(shipped("supply_codes_iso16750-2.toml")["table"]["load_dump_clamped"])[system])
+    """Clamped load-dump supply voltage of ISO 16750-2 Test B for a 12 or 24 V system [V]: the clamp of
+    the Test B row of ``load_dump_iso16750-2.toml`` (one copy, read by every load-dump rule)."""
+    rows = shipped("load_dump_iso16750-2.toml")["table"]["rows"]
+    return float(next(r["clamp"] for r in rows if r["test"] == "B" and r["system"] == system))
 
 
 @cache

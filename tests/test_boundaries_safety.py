@@ -277,9 +277,9 @@ def test_relay_coil_pickup_pinned_at_110_percent_by_hand():
 # ------------------------------------------------------------------ suppressor.rating, stage.release_time
 
 #: ISO 16750-2:2010 4.6.4 Test B, 24 V system: load dump clamped at 58 V ("as specified by the customer,
-#: typically 58 V"; published through a DC source's manual). Shipped twice: supply_codes_iso16750-2
-#: (load_dump_clamped, read by suppressor.rating) and load_dump_iso16750-2 (the Test B row's clamp, read
-#: by suppressor.load_dump); each rule is pinned on its own below.
+#: typically 58 V"; published through a DC source's manual). Shipped once, as the Test B row's clamp of
+#: load_dump_iso16750-2 (suppressor.rating reads it through tables.load_dump_clamped,
+#: suppressor.load_dump through the row); each rule is pinned on its own below.
 TEST_B_24V = 58.0
 ZENER, FORWARD = 24.0, 0.9  # the drawing's diode and zener: U0 = U_Z + U_F = 24.9 V
 INDUCTANCE = 0.050

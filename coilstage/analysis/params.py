@@ -105,7 +105,7 @@ RULES = (
 #: corner search, the sweep and the corner decision (status FAIL, as the rule's).
 MELTING_POINT = {"copper": 1084.62, "aluminium": 660.32}
 
-#: relay contacts warn above this share of their rating (as ``checks.protection``: common practice)
+#: relay contacts warn above this share of their rating (common practice; checks.protection reads it too)
 RELAY_WARN_SHARE = 0.9
 
 

@@ -7,6 +7,7 @@ import math
 from collections.abc import Callable
 
 from coilstage import tables
+from coilstage.analysis.params import RELAY_WARN_SHARE
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -285,7 +286,7 @@ def _relay_contact_at(a: Analysis, r: Relay, i: float, corner: str, state: str |
     if k is None:
         return Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, corner)
     limit = rating * k
-    status = Status.PASS if i <= 0.9 * limit else Status.WARN if i <= limit else Status.FAIL
+    status = Status.PASS if i <= RELAY_WARN_SHARE * limit else Status.WARN if i <= limit else Status.FAIL
     if status is Status.PASS and r.derated is None and r.zone_temperature > r.rated_ambient:
         status = Status.WARN
     return Verdict(

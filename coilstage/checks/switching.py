@@ -719,6 +719,6 @@ LOAD_DUMP = Rule(
     ("load_dump.worst_clamp_energy", "load_dump.clamp_energy"),
 )
 RULES = [RELAY_BREAKING, SUPPRESSOR, LOAD_DUMP, RELEASE, PICKUP]
-#: Rules of this module not yet in the report: ``relay.voltage_rating`` replaces the one in
-#: checks/protection.py (same id: register one of them only), ``relay.coil_circuit`` is new.
+#: The opening contact's voltage rating and the relay coil circuit, registered after the fuse and relay
+#: rules (coilstage.checks.RULES keeps the report's order).
 NEW_RULES = [RELAY_VOLTAGE, COIL_CIRCUIT]

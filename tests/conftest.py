@@ -216,3 +216,26 @@ def del_key(text: str, elem_id: str, key: str) -> str:
     """The drawing text with ``key`` removed from the harness element ``elem_id``."""
     s, e = _block(text, elem_id)
     return text[:s] + re.sub(rf"^{key} = .*\n", "", text[s:e], flags=re.M) + text[e:]
+
+
+def drawing_at_sample(d, ps, x):
+    """The drawing changed to one sample ``x`` of its declared parameters ``ps`` (in their order), by
+    hand: each coil's reference resistance and each cable's length scaled by its tolerance (R is
+    proportional to both). Returns the drawing and the sample as parameter key -> value."""
+    import dataclasses
+
+    from coilstage.drawing.schema import Cable, Stage
+
+    col = {p.key: v for p, v in zip(ps, x, strict=True)}
+    scale = {}
+    for p, v in zip(ps, x, strict=True):
+        for eid in p.elements:
+            scale[eid] = 1.0 + v
+    els = []
+    for e in d.elements:
+        if isinstance(e, Stage) and e.id in scale:
+            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * scale[e.id]))
+        elif isinstance(e, Cable) and e.id in scale:
+            e = dataclasses.replace(e, length=e.length * scale[e.id])
+        els.append(e)
+    return dataclasses.replace(d, elements=tuple(els)), col

@@ -17,6 +17,7 @@ from coilstage.analysis.run import analyse
 from coilstage.checks import RULES
 from coilstage.drawing.load import load_drawing
 from coilstage.drawing.schema import Cable, Fuse, Relay, Stage
+from tests.conftest import drawing_at_sample
 
 COACH = "configs/coach-24v-4stage.toml"
 STATUS = {"pass": PASS, "warn": WARN, "fail": FAIL}
@@ -40,24 +41,6 @@ def _samples(ps, n, seed):
     x[1] = lo
     x[2] = hi
     return x
-
-
-def _at(d, ps, x):
-    """The drawing changed to one sample: each coil's reference resistance and each cable's length
-    scaled by its tolerance (R is proportional to both)."""
-    col = {p.key: v for p, v in zip(ps, x, strict=True)}
-    scale = {}
-    for p, v in zip(ps, x, strict=True):
-        for eid in p.elements:
-            scale[eid] = 1.0 + v
-    els = []
-    for e in d.elements:
-        if isinstance(e, Stage) and e.id in scale:
-            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * scale[e.id]))
-        elif isinstance(e, Cable) and e.id in scale:
-            e = dataclasses.replace(e, length=e.length * scale[e.id])
-        els.append(e)
-    return dataclasses.replace(d, elements=tuple(els)), col
 
 
 def _regulator(d, col):
@@ -117,7 +100,7 @@ def test_duty_rules_equal_the_scalar_analysis_row_by_row(coach):
     ids = {"fuse.continuous", "cable.ampacity", "relay.contact_rating"}
     seen = 0
     for i, x in enumerate(xs):
-        d, col = _at(coach, ps, x)
+        d, col = drawing_at_sample(coach, ps, x)
         d = _zones_at(d, col["environment.ambient"])
         alt = d.supply.alternator
         d = dataclasses.replace(
@@ -189,7 +172,7 @@ def test_lowest_bus_equals_the_scalar_solve(coach):
     b = 0.008447  # ln(1.5)/48 K rounded as the shipped row states it (a 50 % rise from +30 to -18 °C)
     modes = set()
     for i, x in enumerate(xs):
-        d, col = _at(coach, ps, x)
+        d, col = drawing_at_sample(coach, ps, x)
         soc = col["supply.battery.state_of_charge"]
         emf = 2 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
         r = (
@@ -221,7 +204,7 @@ def test_a_regulating_and_an_off_alternator_in_one_batch(coach):
     got = evaluate(coach, x)[("supply.bus_minimum", "bus")]
     temps = hot_temperatures(coach)
     for i in range(3):
-        d, col = _at(coach, ps, x[i])
+        d, col = drawing_at_sample(coach, ps, x[i])
         soc = col["supply.battery.state_of_charge"]
         emf = 2 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
         r = d.supply.battery.internal_resistance * (1 + 0.4 * (1 - soc))  # ambient 25 °C: no rise
@@ -250,7 +233,7 @@ def test_largest_fault_equals_the_scalar_thevenin_solve(coach):
 
     fuses = coach.of_kind(Fuse)
     for i, x in enumerate(xs):
-        d, col = _at(coach, ps, x)
+        d, col = drawing_at_sample(coach, ps, x)
         s = d.supply
         d = dataclasses.replace(
             d,
@@ -284,7 +267,7 @@ def test_duty_currents_against_a_network_assembled_by_hand(coach):
     ps = parameters(coach)
     x = _samples(ps, 3, 4)[2]
     got = evaluate(coach, x[None])
-    d, col = _at(coach, ps, x)
+    d, col = drawing_at_sample(coach, ps, x)
     t = col["environment.ambient"]
     bus = _regulator(d, col)
     alt_i = d.supply.alternator.limit_rated * (1 + col["supply.alternator.cold_excess"])
@@ -442,7 +425,7 @@ def test_short_circuit_rows_equal_the_scalar_far_end_short():
     protected = protected_cables(truck)
     seen = 0
     for i, x in enumerate(xs):
-        d, col = _at(truck, ps, x)
+        d, col = drawing_at_sample(truck, ps, x)
         emf, r = _battery_by_hand(d, col)
         s = d.supply
         d = dataclasses.replace(

@@ -16,7 +16,7 @@ from coilstage.checks import RULES, run_checks, with_worst_corners
 from coilstage.checks.base import Status
 from coilstage.checks.tolerance_corner import CONDITIONS, corners_of
 from coilstage.drawing.load import load_drawing
-from coilstage.drawing.schema import Cable, Stage
+from tests.conftest import drawing_at_sample
 
 COACH = "configs/coach-24v-4stage.toml"
 
@@ -52,24 +52,14 @@ def test_the_corner_figure_equals_the_scalar_analysis_of_the_drawing_at_that_cor
     found = analyse_sensitivities(d, [("circuit.voltage_drop", "S4")])
     col = corners_of(found)[("circuit.voltage_drop", "S4")]
     ps = model(d).params
-    scale = {}
-    for p in ps:
-        for eid in p.elements:
-            scale[eid] = 1.0 + col[p.key]
-    els = []
-    for e in d.elements:
-        if isinstance(e, Stage) and e.id in scale:
-            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * scale[e.id]))
-        elif isinstance(e, Cable) and e.id in scale:
-            e = dataclasses.replace(e, length=e.length * scale[e.id])
-        els.append(e)
+    changed, _ = drawing_at_sample(d, ps, [col[p.key] for p in ps])
     alt = d.supply.alternator
     bus = alt.setpoint * (1 + col["supply.alternator.tolerance"]) + col["supply.alternator.compensation_24v"] * (
         col["supply.alternator.regulator_temperature"] - 25.0
     )
     at = dataclasses.replace(
         d,
-        elements=tuple(els),
+        elements=changed.elements,
         corners=dataclasses.replace(d.corners, cold_ambient=col["environment.ambient"], cold_bus=bus),
         supply=dataclasses.replace(
             d.supply,

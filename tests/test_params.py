@@ -494,3 +494,20 @@ def test_relay_pickup_by_hand(coach):
         assert e.limit == pytest.approx(1.1 * need, rel=1e-12)
         assert e.margin == pytest.approx((have - 1.1 * need) / (1.1 * need), rel=1e-9, abs=1e-12)
         assert list(e.status) == [PASS if h >= 1.1 * need else WARN if h >= need else FAIL for h in have]
+
+
+def test_the_sparse_block_solve_equals_the_dense_batched_solve(coach, monkeypatch):
+    """Above BATCH_SPARSE_ABOVE unknowns the samples are solved as one block-diagonal sparse system
+    (scipy.sparse.linalg.splu); forced on the coach, every margin equals the batched dense solve
+    (numpy.linalg.solve) to round-off."""
+    from coilstage.analysis import params
+
+    ps = parameters(coach)
+    xs = _samples(ps, 40, 7)
+    dense = evaluate(coach, xs)
+    monkeypatch.setattr(params, "BATCH_SPARSE_ABOVE", 0)
+    sparse = evaluate(coach, xs)
+    assert set(sparse) == set(dense)
+    for k in dense:
+        assert sparse[k].margin == pytest.approx(dense[k].margin, rel=1e-9, abs=1e-12), k
+        assert (sparse[k].status == dense[k].status).all(), k

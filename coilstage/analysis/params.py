@@ -283,6 +283,57 @@ def nominal(params: list[Parameter]) -> np.ndarray:
 # ---------------------------------------------------------------------------------------- the model
 
 
+#: above this many unknowns the batched networks are solved sparse (block-diagonal LU); below it one
+#: batched dense solve is faster (measured with benchmarks/bench_growth.py)
+BATCH_SPARSE_ABOVE = 60
+
+
+class _Stamps:
+    """The modified-nodal conductance stamps of R resistor rows in a ``size`` × ``size`` matrix, held as
+    the U distinct entries they touch (``pos``, flat indices) and the (R, U) map from conductances to
+    those entries (±1): ``g @ stamps`` assembles the flat matrices (…, size²) of conductances g (…, R)
+    in O(R·U) per sample instead of O(R·size²)."""
+
+    __array_ufunc__ = None  # ndarray @ _Stamps defers to __rmatmul__
+
+    def __init__(self, rows: list[tuple[int, int]], size: int):
+        entries: dict[int, int] = {}
+        coef: list[tuple[int, int, float]] = []
+        for r, (a, b) in enumerate(rows):
+            for i, j, v in ((a, a, 1.0), (b, b, 1.0), (a, b, -1.0), (b, a, -1.0)):
+                if i > 0 and j > 0:
+                    k = entries.setdefault((i - 1) * size + (j - 1), len(entries))
+                    coef.append((r, k, v))
+        self.size = size
+        self.pos = np.array(list(entries), dtype=np.int64)
+        self.map = np.zeros((len(rows), len(entries)))
+        for r, k, v in coef:
+            self.map[r, k] += v
+
+    def __rmatmul__(self, g: np.ndarray) -> np.ndarray:
+        out = np.zeros((*g.shape[:-1], self.size * self.size))
+        out[..., self.pos] = g @ self.map
+        return out
+
+    def solve_blocks(self, g: np.ndarray, const: np.ndarray, b: np.ndarray) -> np.ndarray:
+        """x (N, size, k) of the N systems (g[s] · stamps + const) x = b[s] at once: one block-diagonal
+        sparse matrix, one sparse LU (scipy.sparse.linalg.splu), one solve of every right-hand side."""
+        from scipy.sparse import csc_matrix
+        from scipy.sparse.linalg import splu
+
+        n, size = g.shape[0], self.size
+        ci, cj = np.nonzero(const)
+        vals = np.concatenate([g @ self.map, np.broadcast_to(const[ci, cj], (n, len(ci)))], axis=1)
+        r0 = np.concatenate([self.pos // size, ci])
+        c0 = np.concatenate([self.pos % size, cj])
+        off = (np.arange(n) * size)[:, None]
+        m = csc_matrix(
+            (vals.ravel(), ((r0[None, :] + off).ravel(), (c0[None, :] + off).ravel())), shape=(n * size, n * size)
+        )
+        x = splu(m).solve(np.ascontiguousarray(b.reshape(n * size, -1)))
+        return x.reshape(n, size, -1)
+
+
 class _Net:
     """The drawing's network with a fixed structure (resistor rows, 0 V parts, sources), assembled
     and solved for many samples at once."""
@@ -307,14 +358,9 @@ class _Net:
     def size(self, held: bool) -> int:
         return self.n + len(self.zero_el) + (1 if held else 0)
 
-    def stamps(self, rows: list[tuple[int, int]], size: int) -> np.ndarray:
-        """(R, size²) conductance stamps of resistor rows (a, b)."""
-        out = np.zeros((len(rows), size, size))
-        for r, (a, b) in enumerate(rows):
-            for i, j, v in ((a, a, 1.0), (b, b, 1.0), (a, b, -1.0), (b, a, -1.0)):
-                if i > 0 and j > 0:
-                    out[r, i - 1, j - 1] += v
-        return out.reshape(len(rows), size * size)
+    def stamps(self, rows: list[tuple[int, int]], size: int) -> _Stamps:
+        """The conductance stamps of resistor rows (a, b), held by the entries they touch."""
+        return _Stamps(rows, size)
 
     def vsource_block(self, held: bool, size: int) -> np.ndarray:
         """The constant part of A: the rows and columns of the 0 V parts (and of the held bus)."""
@@ -337,15 +383,22 @@ class _Net:
         if node > 0:
             rhs[..., node - 1] += current
 
-    def solve(self, g_rows: np.ndarray, stamps: np.ndarray, const: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    def solve(self, g_rows: np.ndarray, stamps: _Stamps, const: np.ndarray, rhs: np.ndarray) -> np.ndarray:
         """x of ``A x = rhs`` for every sample: A = g_rows · stamps + const; ``rhs`` (..., size) or
-        (..., size, k)."""
+        (..., size, k). Up to :data:`BATCH_SPARSE_ABOVE` unknowns one batched dense solve; above it the
+        samples' matrices as the blocks of one block-diagonal sparse matrix, factorised once by sparse
+        LU (scipy.sparse.linalg.splu): the cost then grows with the number of entries, not with n³."""
         size = const.shape[0]
         lead = g_rows.shape[:-1]
         flat = np.ascontiguousarray(g_rows).reshape(-1, g_rows.shape[-1])
+        vec = rhs.ndim == len(lead) + 1
+        if size > BATCH_SPARSE_ABOVE:
+            b = rhs.reshape(flat.shape[0], size, -1)
+            x = stamps.solve_blocks(flat, const, b)
+            return x.reshape(rhs.shape)
         a = (flat @ stamps).reshape((*lead, size, size))
         a += const
-        if rhs.ndim == a.ndim - 1:
+        if vec:
             return np.linalg.solve(a, rhs[..., None])[..., 0]
         return np.linalg.solve(a, rhs)
 

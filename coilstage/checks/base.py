@@ -150,6 +150,25 @@ def not_checked(rule: Rule, subject: str, reason: str, unit: str = "", corner: s
 _RANK = {Status.PASS: 0, Status.NOT_CHECKED: 1, Status.WARN: 2, Status.FAIL: 3}
 
 
+def worst_over_sweep(verdict_at: Callable[[int, str], Verdict], sweep, corner: str) -> tuple[Verdict, int]:
+    """The verdict at an ambient sweep's worst point (``analysis.worst.DutySweep``): ``verdict_at(j,
+    corner)`` at each ambient j, the lowest margin chosen (a failure with no margin first, a point not
+    checked last), with that ambient named in its note; and that ambient's index."""
+    vs = [verdict_at(j, corner) for j in range(len(sweep.ambients))]
+
+    def margin(j: int) -> float | None:
+        v = vs[j]
+        if v.status is Status.NOT_CHECKED:
+            return math.inf
+        if v.margin is None:
+            return None if v.status is Status.FAIL else math.inf
+        return v.margin
+
+    j = sweep.worst(margin)
+    v = vs[j]
+    return dataclasses.replace(v, note=v.note + f" (ambient {sweep.ambients[j]:g} °C, the worst of the sweep)"), j
+
+
 def decided_at_worst(worst: Verdict, nominal: Verdict, conditions: str, deciding: tuple[str, ...] = ()) -> Verdict:
     """The verdict at the worst case, carrying the nominal status, value and margin beside it.
 

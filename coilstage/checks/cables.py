@@ -2,9 +2,6 @@
 
 from __future__ import annotations
 
-import dataclasses
-import math
-
 from coilstage.analysis.corners import stage_results
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
@@ -16,6 +13,7 @@ from coilstage.checks.base import (
     ceiling_temperature,
     decided_at_worst,
     not_checked,
+    worst_over_sweep,
 )
 from coilstage.drawing.schema import Cable
 
@@ -34,34 +32,26 @@ def _ampacity(a: Analysis) -> list[Verdict]:
                 _ampacity_at(c, a.ratings.cables[c.id], a.duty[c.id], c.zone_temperature, a.duty_state[c.id], "cold")
             )
             continue
-        nominal, _ = _ampacity_swept(c, rates, sn, "")
+        nominal, _ = worst_over_sweep(
+            lambda j, corner, c=c, rates=rates: _ampacity_at(
+                c, rates[j], sn.currents[c.id][j], sn.zone(c.zone_temperature, j), sn.states[c.id][j], corner
+            ),
+            sn,
+            "",
+        )
         if nominal.status is Status.NOT_CHECKED:
             out.append(nominal)
             continue
-        worst, j = _ampacity_swept(c, rates, sw, "largest current")
+        worst, j = worst_over_sweep(
+            lambda j, corner, c=c, rates=rates: _ampacity_at(
+                c, rates[j], sw.currents[c.id][j], sw.zone(c.zone_temperature, j), sw.states[c.id][j], corner
+            ),
+            sw,
+            "largest current",
+        )
         deciding = (sw.point_words(j), *(f"{k} {v}" for k, v in sw.words))
         out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
-
-
-def _ampacity_swept(c: Cable, rates, sweep, corner: str) -> tuple[Verdict, int]:
-    """The verdict at the sweep's worst ambient for this cable, and that ambient's index."""
-
-    def verdict(j: int) -> Verdict:
-        return _ampacity_at(
-            c, rates[j], sweep.currents[c.id][j], sweep.zone(c.zone_temperature, j), sweep.states[c.id][j], corner
-        )
-
-    def margin(j: int) -> float | None:
-        amp = rates[j].ampacity
-        if isinstance(amp, str):
-            return math.inf  # not checked at this ambient: the others decide
-        return None if amp.value <= 0 else (amp.value - sweep.currents[c.id][j]) / amp.value
-
-    j = sweep.worst(margin)
-    v = verdict(j)
-    note = v.note + f" (ambient {sweep.ambients[j]:g} °C, the worst of the sweep)"
-    return dataclasses.replace(v, note=note), j
 
 
 def _ampacity_at(c: Cable, rating, i: float, zone_t: float, state: str, corner: str) -> Verdict:

@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import dataclasses
-import math
-from collections.abc import Callable
 
 from coilstage import tables
 from coilstage.analysis.params import RELAY_WARN_SHARE
@@ -18,6 +16,7 @@ from coilstage.checks.base import (
     decided_at_worst,
     floor,
     not_checked,
+    worst_over_sweep,
 )
 from coilstage.drawing.schema import Cable, Fuse, Relay
 
@@ -54,29 +53,11 @@ def _fuse_continuous(a: Analysis) -> list[Verdict]:
         def at(j: int, corner: str, s, f=f, verdict=verdict) -> Verdict:
             return verdict(s.currents[f.id][j], s.zone(f.zone_temperature, j), s.states[f.id][j], corner)
 
-        nominal, _ = _swept(lambda j, c: at(j, c, sn), sn, "")
-        worst, j = _swept(lambda j, c: at(j, c, sw), sw, "largest current")
+        nominal, _ = worst_over_sweep(lambda j, c: at(j, c, sn), sn, "")
+        worst, j = worst_over_sweep(lambda j, c: at(j, c, sw), sw, "largest current")
         deciding = (sw.point_words(j), *(f"{k} {v}" for k, v in sw.words))
         out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
-
-
-def _swept(verdict_at: Callable[[int, str], Verdict], sweep, corner: str) -> tuple[Verdict, int]:
-    """The verdict at the sweep's worst ambient (the lowest margin; a failure with no margin first), and
-    that ambient's index."""
-    vs = [verdict_at(j, corner) for j in range(len(sweep.ambients))]
-
-    def margin(j: int) -> float | None:
-        v = vs[j]
-        if v.status is Status.NOT_CHECKED:
-            return math.inf
-        if v.margin is None:
-            return None if v.status is Status.FAIL else math.inf
-        return v.margin
-
-    j = sweep.worst(margin)
-    v = vs[j]
-    return dataclasses.replace(v, note=v.note + f" (ambient {sweep.ambients[j]:g} °C, the worst of the sweep)"), j
 
 
 def _fuse_protects(a: Analysis) -> list[Verdict]:
@@ -267,11 +248,11 @@ def _relay_contact(a: Analysis) -> list[Verdict]:
             rz = dataclasses.replace(r, zone_temperature=z)
             return _relay_contact_at(a, rz, s.currents[r.id][j], corner, s.states[r.id][j])
 
-        nominal, _ = _swept(lambda j, c: at(j, c, sn), sn, "")
+        nominal, _ = worst_over_sweep(lambda j, c: at(j, c, sn), sn, "")
         if nominal.limit is None:
             out.append(nominal)
             continue
-        worst, j = _swept(lambda j, c: at(j, c, sw), sw, "largest current")
+        worst, j = worst_over_sweep(lambda j, c: at(j, c, sw), sw, "largest current")
         deciding = (sw.point_words(j), *(f"{k} {v}" for k, v in sw.words))
         out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out

@@ -1,6 +1,6 @@
 r"""Lead-acid starter batteries: open-circuit voltage against state of charge, internal resistance
-against charge and temperature, resistance bounds from a rated cranking or short-circuit current,
-usable charge at a discharge current (Peukert's law) and capacity against temperature.
+against charge and temperature, usable charge at a discharge current (Peukert's law) and capacity
+against temperature.
 
 Pure functions on SI floats: voltages [V], resistances [Ω], currents [A], charge [C] (A·h × 3600),
 times [s], temperatures [°C], state of charge as a fraction 0…1. A 24 V system is two 12 V blocks
@@ -98,131 +98,6 @@ def open_circuit_voltage(
     return float(u) if np.ndim(u) == 0 else u
 
 
-def ocv_per_cell_from_specific_gravity(specific_gravity: float | np.ndarray) -> float | np.ndarray:
-    r"""Rest voltage of a lead-acid cell from its acid's specific gravity [V].
-
-    .. math:: u_{cell} \approx SG + 0.84
-
-    Parameters
-    ----------
-    specific_gravity : float or array
-        Specific gravity of the electrolyte at about 25 °C, 1.10 … 1.30. [–]
-
-    Returns
-    -------
-    float or array
-        Rest voltage of one cell. [V]
-
-    Notes
-    -----
-    A trade rule of thumb (from memory, no single source); it reproduces the published OCV–SOC table
-    of :func:`open_circuit_voltage` within 0.02 V per cell (SG 1.265 → 2.105 V against 2.108 V).
-
-    References
-    ----------
-    .. [1] OCV and specific gravity against state of charge, realexposer.com/2009/11/what-does-terminal-
-       voltage-tell.html (stored public page): the table the rule is checked against.
-
-    Examples
-    --------
-    >>> round(ocv_per_cell_from_specific_gravity(1.265), 3)
-    2.105
-    """
-    return specific_gravity + 0.84
-
-
-def resistance_bound_from_cranking_current(
-    i_cranking: float, standard: str = "SAE J537", u0: float = 12.7, blocks: int = 1
-) -> float:
-    r"""Upper bound of a battery's effective internal resistance implied by its cold-cranking rating [Ω].
-
-    A battery rated ``i_cranking`` under a standard keeps at least the standard's end voltage
-    :math:`U_{end}` at that current (at −18 °C, fully charged), so
-
-    .. math:: R \le \frac{U_0 - U_{end}}{I_{cc}}
-
-    per 12 V block, times the number of blocks in series.
-
-    Parameters
-    ----------
-    i_cranking : float
-        Rated cold-cranking current of one 12 V block under ``standard``. [A]
-    standard : str
-        ``"SAE J537"`` (7.2 V after 30 s), ``"EN 50342-1"`` (7.5 V after 10 s), ``"DIN 43539-2"``
-        (9.0 V after 30 s) or ``"IEC 60095-1"`` (8.4 V after 60 s); see :data:`CRANKING_TESTS`. [–]
-    u0 : float
-        Open-circuit voltage of the charged block at the start of the test. [V]
-    blocks : int
-        12 V blocks in series (2 for a 24 V pair). [–]
-
-    Returns
-    -------
-    float
-        Effective resistance bound at −18 °C, fully charged. [Ω]
-
-    Notes
-    -----
-    The bound is an *effective* resistance that includes 10–60 s of polarisation; the ohmic
-    resistance (1 kHz or a 10 ms pulse) is lower, typically 0.4–0.7 of it (from memory). It is the
-    right end for sag and pick-up (a high resistance), not for the largest fault current.
-
-    References
-    ----------
-    .. [1] SAE J537 (revised SEP2023), Storage batteries: cold cranking test.
-    .. [2] EN 50342-1, Lead-acid starter batteries, Part 1: general requirements and methods of test
-       (cold cranking test).
-
-    Examples
-    --------
-    >>> round(resistance_bound_from_cranking_current(1000.0) * 1e3, 2)
-    5.5
-    """
-    if standard not in CRANKING_TESTS:
-        raise ValueError(f"unknown cranking standard {standard!r}; one of {', '.join(CRANKING_TESTS)}")
-    if i_cranking <= 0:
-        raise ValueError("the cranking current must be positive")
-    u_end = CRANKING_TESTS[standard][0]
-    return blocks * (u0 - u_end) / i_cranking
-
-
-def resistance_from_short_circuit_current(ocv: float, i_short_circuit: float) -> float:
-    r"""Internal resistance from a stated short-circuit current [Ω].
-
-    .. math:: R_i = U_0 / I_{sc}
-
-    Parameters
-    ----------
-    ocv : float
-        Open-circuit voltage the short-circuit current was stated at (the full battery's). [V]
-    i_short_circuit : float
-        The maker's short-circuit current. [A]
-
-    Returns
-    -------
-    float
-        Internal resistance. [Ω]
-
-    Notes
-    -----
-    The low end of the resistance range (a new, full, warm battery): the end the breaking-capacity
-    check needs. The same parameterisation (Ri = OCVmax/Isc) is used by the battery model of the
-    Modelica Standard Library's electrical examples.
-
-    References
-    ----------
-    .. [1] IEC 60896-11, Stationary lead-acid batteries, Part 11: vented types, the short-circuit
-       current and d.c. internal resistance determination (Isc = U0/Ri; clause from memory).
-
-    Examples
-    --------
-    >>> round(resistance_from_short_circuit_current(12.7, 2540.0) * 1e3, 3)
-    5.0
-    """
-    if i_short_circuit <= 0:
-        raise ValueError("the short-circuit current must be positive")
-    return ocv / i_short_circuit
-
-
 def internal_resistance(
     r_reference: float,
     soc: float | np.ndarray = 1.0,
@@ -288,52 +163,6 @@ def internal_resistance(
     return float(r) if np.ndim(r) == 0 else r
 
 
-def peukert_discharge_time(
-    current: float | np.ndarray, capacity: float, rated_time: float, exponent: float
-) -> float | np.ndarray:
-    r"""Time a battery takes to reach its end voltage at a constant discharge current [s] (Peukert).
-
-    .. math:: t = H \left(\frac{C_H}{I\,H}\right)^k
-
-    Parameters
-    ----------
-    current : float or array
-        Constant discharge current, > 0. [A]
-    capacity : float
-        Rated capacity C_H at the rated discharge time (C20 for H = 20 h). [C]
-    rated_time : float
-        H, the rated discharge time. [s]
-    exponent : float
-        Peukert exponent k: AGM 1.05–1.15, gel 1.10–1.25, flooded 1.20–1.60 (a battery retailer's
-        published table); it grows with age. [–]
-
-    Returns
-    -------
-    float or array
-        Discharge time. [s]
-
-    Notes
-    -----
-    k is fitted between two rates: the law is inaccurate above about 1C and knows no temperature or
-    recovery in rest. At I = C_H/H it returns H.
-
-    References
-    ----------
-    .. [1] W. Peukert, "Über die Abhängigkeit der Kapazität von der Entladestromstärke bei
-       Bleiakkumulatoren", Elektrotechnische Zeitschrift 18 (1897) 287–288 (citation from memory).
-
-    Examples
-    --------
-    >>> round(peukert_discharge_time(11.25, 225 * 3600.0, 20 * 3600.0, 1.25) / 3600, 6)
-    20.0
-    """
-    i = np.asarray(current, dtype=float)
-    if np.any(i <= 0):
-        raise ValueError("the discharge current must be positive")
-    t = rated_time * (capacity / (i * rated_time)) ** exponent
-    return float(t) if np.ndim(t) == 0 else t
-
-
 def peukert_usable_charge(
     current: float | np.ndarray,
     capacity: float,
@@ -366,11 +195,14 @@ def peukert_usable_charge(
 
     Notes
     -----
-    Same law and validity as :func:`peukert_discharge_time`.
+    Peukert's law in its charge form (the discharge time is t = C_I / I = H (C_H/(I H))^k). k is
+    fitted between two rates: the law is inaccurate above about 1C and knows no temperature or
+    recovery in rest. At I = I_H it returns C_H.
 
     References
     ----------
-    .. [1] W. Peukert (1897), as :func:`peukert_discharge_time`.
+    .. [1] W. Peukert, "Über die Abhängigkeit der Kapazität von der Entladestromstärke bei
+       Bleiakkumulatoren", Elektrotechnische Zeitschrift 18 (1897) 287–288 (citation from memory).
 
     Examples
     --------

@@ -16,12 +16,8 @@ from coilstage.physics.battery import (
     FLOODED_OCV_LINE,
     capacity_temperature_factor,
     internal_resistance,
-    ocv_per_cell_from_specific_gravity,
     open_circuit_voltage,
-    peukert_discharge_time,
     peukert_usable_charge,
-    resistance_bound_from_cranking_current,
-    resistance_from_short_circuit_current,
 )
 
 AH = 3600.0  # coulombs per ampere-hour
@@ -79,15 +75,6 @@ def test_ocv_linear_fit_per_cell():
     assert np.max(np.abs(open_circuit_voltage(soc, cells=1) - (1.982 + 0.126 * soc))) < 0.012
 
 
-def test_ocv_from_specific_gravity_rule_of_thumb():
-    # From memory (trade rule of thumb SG + 0.84) against the published table's SG column: within
-    # 25 mV per cell at every row (the rule is coarsest at the flat end: 1.960 against 1.982 V).
-    for row in _data()["table"]["rows"]:
-        assert abs(ocv_per_cell_from_specific_gravity(row["specific_gravity"]) - row["ocv_12v"] / 6) < 0.025
-    # Same rule, check value: 1.265 -> 2.105 V.
-    assert ocv_per_cell_from_specific_gravity(1.265) == pytest.approx(2.105)
-
-
 def test_agm_option_shifts_the_line():
     # From memory, not confirmed: an AGM block reads about 2.15 V per cell full (2.17 V published by
     # one maker). The offset option moves the whole line by the difference at full charge.
@@ -112,48 +99,11 @@ def test_shipped_table_and_code_hold_the_same_line():
 # ---------------------------------------------------------------- internal resistance
 
 
-@pytest.mark.parametrize(
-    ("standard", "bound_mohm"),
-    # Derived from the end voltages of the standards (SAE J537 7.2 V / 30 s; EN 50342-1 7.5 V / 10 s;
-    # DIN 43539-2 9.0 V): R <= (12.7 V - U_end)/1000 A -> 5.50 / 5.20 / 3.70 mOhm; IEC 60095-1 8.4 V -> 4.30.
-    [("SAE J537", 5.50), ("EN 50342-1", 5.20), ("DIN 43539-2", 3.70), ("IEC 60095-1", 4.30)],
-)
-def test_cranking_bound_check_values(standard, bound_mohm):
-    assert resistance_bound_from_cranking_current(1000.0, standard) * 1e3 == pytest.approx(bound_mohm, abs=1e-9)
-
-
-@pytest.mark.parametrize(
-    # Derived (SAE J537 bound 5.5 V / I_cc): 600 / 800 / 1 100 A -> 9.17 / 6.88 / 5.00 mOhm per block.
-    ("i_cc", "bound_mohm"),
-    [(600.0, 9.167), (800.0, 6.875), (1100.0, 5.0)],
-)
-def test_cranking_bound_scales_inversely(i_cc, bound_mohm):
-    assert resistance_bound_from_cranking_current(i_cc) * 1e3 == pytest.approx(bound_mohm, abs=5e-4)
-
-
-def test_cranking_bound_of_a_24v_pair_and_errors():
-    # Hand-worked: two 1 000 A blocks in series -> 2 x 5.5 = 11 mOhm at -18 degC.
-    assert resistance_bound_from_cranking_current(1000.0, blocks=2) == pytest.approx(0.011)
-    with pytest.raises(ValueError, match="unknown cranking standard"):
-        resistance_bound_from_cranking_current(1000.0, "JIS")
-    with pytest.raises(ValueError, match="positive"):
-        resistance_bound_from_cranking_current(0.0)
-
-
 def test_cranking_table_in_data_matches_code():
     rows = {r["standard"]: (r["end_voltage"], r["time"]) for r in _data()["cranking_tests"]}
     assert rows == CRANKING_TESTS
     for r in _data()["cranking_tests"]:
         assert r["temperature"] == -18.0  # every cold-cranking test runs at -18 degC (0 degF)
-
-
-def test_resistance_from_short_circuit_current():
-    # Hand-worked: Ri = OCV / Isc; 12.7 V and 2 540 A -> 5.0 mOhm; a 24 V pair 25.4 V / 2 540 A -> 10 mOhm
-    # (so 25.4 V behind 10 mOhm gives about 2.5 kA at the terminals).
-    assert resistance_from_short_circuit_current(12.7, 2540.0) == pytest.approx(0.005)
-    assert resistance_from_short_circuit_current(25.4, 2540.0) == pytest.approx(0.010)
-    with pytest.raises(ValueError):
-        resistance_from_short_circuit_current(12.7, -1.0)
 
 
 def test_resistance_rises_fifty_percent_from_30_to_minus_18():
@@ -209,13 +159,14 @@ def test_peukert_usable_share_check_values(k, share):
     assert q / (225 * AH) == pytest.approx((11.25 / 109.0) ** (k - 1), rel=1e-12)
 
 
-def test_peukert_time_and_charge_are_one_law():
-    # Published form t = H (C/(I H))^k; the usable charge is I t (Peukert 1897).
+def test_peukert_charge_is_current_times_the_published_time():
+    # Independent form: Peukert's law as published, t = H (C/(I H))^k, written out here; the usable
+    # charge is I t (Peukert 1897).
     for i in (20.0, 109.0, 400.0):
-        t = peukert_discharge_time(i, 225 * AH, 20 * H, 1.25)
+        t = 20 * H * (225 * AH / (i * 20 * H)) ** 1.25
         assert i * t == pytest.approx(peukert_usable_charge(i, 225 * AH, 20 * H, 1.25), rel=1e-12)
-    # At the rated current the rated time comes back: 11.25 A -> 20 h.
-    assert peukert_discharge_time(11.25, 225 * AH, 20 * H, 1.3) == pytest.approx(20 * H)
+    # At the rated current (11.25 A for C20 = 225 Ah) the rated capacity comes back, whatever k.
+    assert peukert_usable_charge(11.25, 225 * AH, 20 * H, 1.3) == pytest.approx(225 * AH)
 
 
 def test_peukert_limits():
@@ -230,7 +181,7 @@ def test_peukert_limits():
     with pytest.raises(ValueError):
         peukert_usable_charge(10.0, 225 * AH, 20 * H, 0.9)
     with pytest.raises(ValueError):
-        peukert_discharge_time(0.0, 225 * AH, 20 * H, 1.2)
+        peukert_usable_charge(0.0, 225 * AH, 20 * H, 1.2)
 
 
 def test_peukert_exponent_ranges_in_data():

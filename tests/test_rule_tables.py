@@ -11,11 +11,17 @@ import pytest
 
 from coilstage import tables
 from coilstage.analysis.materials import metal
-from coilstage.physics.fault import k_factor
 from coilstage.physics.transient import LN20
 
 #: IEC 60949 reciprocal temperature coefficients, from the one data copy (coilstage/data/materials.toml)
 BETA_CU, BETA_AL = metal("copper").beta, metal("aluminium").beta
+
+
+def k_factor(k_material: float, beta: float, theta_i: float, theta_f: float) -> float:
+    """The reference: IEC 60949:1988 clause 3, k = K sqrt(ln((beta + theta_f)/(beta + theta_i))), written
+    out (the program uses the same equation inverted, physics.fault.adiabatic_final_temperature)."""
+    return k_material * math.sqrt(math.log((beta + theta_f) / (beta + theta_i)))
+
 
 NEW = [
     "insulation_materials.toml",

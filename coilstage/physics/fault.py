@@ -54,44 +54,6 @@ def material_k(qc: float, beta: float, rho20: float) -> float:
     return math.sqrt(qc * (beta + 20.0) / rho20)
 
 
-def k_factor(k_material: float, beta: float, theta_i: float, theta_f: float) -> float:
-    r"""Short-circuit factor k of a conductor heated from θi to θf [A·s^½/m²].
-
-    .. math:: k = K\sqrt{\ln\frac{β + θ_f}{β + θ_i}}
-
-    Parameters
-    ----------
-    k_material : float
-        Material constant K (:func:`material_k`). [A·s^½/m²]
-    beta : float
-        Reciprocal temperature coefficient of resistance at 0 °C. [K]
-    theta_i : float
-        Conductor temperature at the start of the fault. [°C]
-    theta_f : float
-        Final temperature allowed. [°C]
-
-    Returns
-    -------
-    float
-        k, so that the permissible I²t is k²S². [A·s^½/m²]
-
-    Notes
-    -----
-    Valid for adiabatic faults up to about 5 s; PVC 70 → 160 °C gives 115, XLPE 90 → 250 °C gives 143
-    (IEC 60364-4-43 table 43A).
-
-    References
-    ----------
-    IEC 60949:1988, clause 3; IEC 60364-4-43, table 43A.
-
-    Examples
-    --------
-    >>> round(k_factor(226e6, 234.5, 70, 160) / 1e6, 1)
-    115.0
-    """
-    return k_material * math.sqrt(math.log((beta + theta_f) / (beta + theta_i)))
-
-
 def adiabatic_final_temperature(
     i2t: float | np.ndarray, area: float, k_material: float, beta: float, theta_i: float
 ) -> float | np.ndarray:

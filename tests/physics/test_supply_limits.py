@@ -1,5 +1,5 @@
-"""Supply ends (alternator hot derating, regulator range, bus voltage) against published and hand-worked
-values, and the shipped tolerance defaults (source beside each check)."""
+"""Supply ends (regulator set-point and range) against published and hand-worked values, and the shipped
+tolerance defaults (alternator hot derating among them; source beside each check)."""
 
 from __future__ import annotations
 
@@ -12,30 +12,11 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from coilstage.physics.supply_limits import (
-    ISO8854_RATING_AMBIENT,
-    alternator_output_factor,
-    bus_voltage,
-    largest_bus,
     regulated_bus_range,
     regulator_setpoint,
 )
 
 # ---------------------------------------------------------------- alternator
-
-
-def test_rating_ambient_is_iso8854():
-    # Source: ISO 8854:2012 test ambient (23 ± 5) degC.
-    assert ISO8854_RATING_AMBIENT == 23.0
-    assert alternator_output_factor(23.0, 105.0, 0.25) == pytest.approx(1.0)
-
-
-def test_hot_derating_line():
-    # Hand-worked: 25 % lost at 105 degC, linear from 23 degC: at 64 degC (halfway) 12.5 % lost.
-    assert alternator_output_factor(105.0, 105.0, 0.25) == pytest.approx(0.75)
-    assert alternator_output_factor(64.0, 105.0, 0.25) == pytest.approx(0.875)
-    # Held beyond the hot point (no data there) and at 1 below the rating without a cold excess.
-    assert alternator_output_factor(140.0, 105.0, 0.25) == pytest.approx(0.75)
-    assert alternator_output_factor(-30.0, 105.0, 0.25) == pytest.approx(1.0)
 
 
 def test_published_hot_and_cold_curves_lie_in_the_default_range():
@@ -45,26 +26,6 @@ def test_published_hot_and_cold_curves_lie_in_the_default_range():
     row = rows["supply.alternator.hot_derating"]
     for hot, cold in [(16.0, 24.0), (41.0, 50.0)]:
         assert row["low"] <= 1 - hot / cold <= row["high"]
-
-
-def test_cold_excess():
-    # Hand-worked: +10 % at -30 degC, linear to 1 at 23 degC: at -3.5 degC (halfway) +5 %.
-    f = alternator_output_factor(
-        np.array([-30.0, -3.5, 23.0, 105.0]), 105.0, 0.25, cold_temperature=-30.0, cold_excess=0.1
-    )
-    assert f == pytest.approx([1.10, 1.05, 1.0, 0.75])
-    with pytest.raises(ValueError):
-        alternator_output_factor(0.0, 105.0, 0.25, cold_temperature=30.0, cold_excess=0.1)
-    with pytest.raises(ValueError):
-        alternator_output_factor(0.0, 20.0, 0.25)
-    with pytest.raises(ValueError):
-        alternator_output_factor(0.0, 105.0, 1.2)
-
-
-@given(t1=st.floats(-40, 150), dt=st.floats(0, 100), d=st.floats(0, 0.9))
-def test_output_never_rises_with_temperature(t1, dt, d):
-    # Property (common practice: a hotter machine gives less).
-    assert alternator_output_factor(t1 + dt, 105.0, d) <= alternator_output_factor(t1, 105.0, d) + 1e-12
 
 
 # ---------------------------------------------------------------- regulator
@@ -118,49 +79,6 @@ def test_regulator_ceiling_and_bad_range():
     assert regulated_bus_range(28.2, 0.4, -0.035, -40.0, 80.0, ceiling=30.0).high == 30.0
     with pytest.raises(ValueError):
         regulated_bus_range(28.2, 0.4, -0.02, 50.0, 20.0)
-
-
-# ---------------------------------------------------------------- bus
-
-
-def test_bus_with_a_current_limited_alternator():
-    # Hand-worked: hot alternator 100 A x 0.75 = 75 A; 250 A demand; half-charged 24 V pair 24.48 V
-    # (published OCV table) at 30 mOhm: the battery gives 175 A, 24.48 - 175 x 0.030 = 19.23 V.
-    assert bus_voltage(250.0, 24.48, 0.030, 75.0, 27.6) == pytest.approx(19.23)
-    # No alternator output: the battery alone, 24.48 - 250 x 0.030.
-    assert bus_voltage(250.0, 24.48, 0.030, 0.0, 27.6) == pytest.approx(16.98)
-
-
-def test_bus_regulating_against_numpy_linalg():
-    # Independent reference: the two-source network (battery E behind Rb, alternator U behind Ra,
-    # constant-current load I at the bus node) solved as a 1-node nodal equation by numpy.linalg.
-    e, rb, u, ra, i = 25.2, 0.009, 28.2, 0.025, 120.0
-    g = np.array([[1 / rb + 1 / ra]])
-    v = np.linalg.solve(g, np.array([e / rb + u / ra - i]))[0]
-    assert (u - v) / ra < 500.0  # inside the 500 A limit: regulating
-    assert bus_voltage(i, e, rb, 500.0, u, ra) == pytest.approx(v, rel=1e-12)
-    # Ideal regulation: the bus is the set-point.
-    assert bus_voltage(i, e, rb, 500.0, u) == pytest.approx(u)
-
-
-def test_bus_with_a_regulated_voltage_below_the_emf_is_the_battery_alone():
-    # A regulated voltage below the battery's EMF: the rectifier blocks, the battery holds the bus.
-    assert bus_voltage(10.0, 25.3, 0.01, 100.0, 24.0, 0.025) == pytest.approx(25.3 - 0.1)
-
-
-def test_bus_is_continuous_and_falls_with_demand():
-    # Property of the piecewise characteristic (Ho, Ruehli, Brennan MNA; the source model of
-    # coilstage.physics.network): continuous at the state changes and non-increasing in demand.
-    i = np.linspace(0.0, 600.0, 6001)
-    u = bus_voltage(i, 24.9, 0.02, 150.0, 28.2, 0.025)
-    assert np.all(np.diff(u) <= 1e-12)
-    assert np.max(np.abs(np.diff(u))) < 0.01  # no jump larger than the 0.1 A step would give
-
-
-def test_largest_bus():
-    # Derived: the surface-charged pair, 12 x 2.2 = 26.4 V, holds without an alternator.
-    assert largest_bus(29.7, True, 26.4) == 29.7
-    assert largest_bus(29.7, False, 26.4) == 26.4
 
 
 # ---------------------------------------------------------------- shipped defaults

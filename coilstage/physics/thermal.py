@@ -116,8 +116,7 @@ def conductor_temperature(
     -------
     float
         Conductor temperature; ``inf`` beyond thermal runaway (I²R'20α ≥ G': heating grows faster
-        with temperature than cooling does, so no steady state exists; use
-        :func:`conductor_time_to_temperature` for when it passes a given temperature). [°C]
+        with temperature than cooling does, so no steady state exists). [°C]
 
     Notes
     -----
@@ -140,81 +139,6 @@ def conductor_temperature(
         return math.inf
     theta_inf = -k0 / k1
     return theta_inf + (theta_start - theta_inf) * math.exp(k1 * t)
-
-
-def conductor_time_to_temperature(
-    theta: float,
-    current: float,
-    r20_per_m: float,
-    alpha20: float,
-    g_loss: float,
-    c_per_m: float,
-    theta_zone: float,
-    theta_start: float,
-) -> float:
-    r"""Time a conductor at a constant current takes to reach a temperature, closed form [s].
-
-    .. math:: t = \frac{1}{k_1}\ln\frac{θ - θ_\infty}{θ_0 - θ_\infty}\ (k_1 \ne 0),\qquad
-              t = \frac{θ - θ_0}{k_0 + k_1 θ_0}\ (k_1 = 0)
-
-    with k0, k1 and θ∞ as in :func:`conductor_temperature`. It holds on both sides of thermal
-    runaway: with k1 > 0 the temperature grows exponentially away from θ∞ and every temperature is
-    reached in a finite time.
-
-    Parameters
-    ----------
-    theta : float
-        The temperature to reach, above ``theta_start``. [°C]
-    current : float
-        The constant current I. [A]
-    r20_per_m : float
-        Conductor resistance per metre at 20 °C. [Ω/m]
-    alpha20 : float
-        Temperature coefficient of resistance at 20 °C. [1/K]
-    g_loss : float
-        Heat shed per metre per kelvin G'. [W/(m·K)]
-    c_per_m : float
-        Heat capacity of the conductor per metre C'. [J/(m·K)]
-    theta_zone : float
-        Temperature of the surroundings θz. [°C]
-    theta_start : float
-        Conductor temperature at t = 0. [°C]
-
-    Returns
-    -------
-    float
-        Time to ``theta``; 0 if the conductor starts there or above; ``inf`` if it settles below it. [s]
-
-    Notes
-    -----
-    Same model as :func:`conductor_temperature`; above the metal's melting point
-    (:data:`MELTING_POINT`) the conductor has opened and the figure means only that it melted first.
-
-    Examples
-    --------
-    >>> g = cable_loss_coefficient(100.0, 1e-3, 0.00393, 105.0, 30.0)
-    >>> t = conductor_time_to_temperature(100.0, 100.0, 1e-3, 0.00393, g, 300.0, 30.0, 30.0)
-    >>> round(conductor_temperature(t, 100.0, 1e-3, 0.00393, g, 300.0, 30.0, 30.0), 9)
-    100.0
-
-    References
-    ----------
-    The first-order solution of Incropera et al. §5.3 [1]_, solved for t.
-    """
-    if theta <= theta_start:
-        return 0.0
-    i2r = current * current * r20_per_m
-    k1 = (i2r * alpha20 - g_loss) / c_per_m
-    k0 = (i2r * (1 - 20.0 * alpha20) + g_loss * theta_zone) / c_per_m
-    if k1 == 0:
-        rate = k0 + k1 * theta_start
-        return (theta - theta_start) / rate if rate > 0 else math.inf
-    theta_inf = -k0 / k1
-    ratio = (theta - theta_inf) / (theta_start - theta_inf)
-    if ratio <= 0:  # settles below theta (k1 < 0 and theta beyond the steady state)
-        return math.inf
-    t = math.log(ratio) / k1
-    return t if t >= 0 else math.inf
 
 
 def winding_steady_temperature(
@@ -272,7 +196,13 @@ def winding_steady_temperature(
     return t_surroundings + x
 
 
-def winding_heating_rate(power, theta, theta_surroundings, r_th, heat_capacity):
+def winding_heating_rate(
+    power: float | np.ndarray,
+    theta: float | np.ndarray,
+    theta_surroundings: float | np.ndarray,
+    r_th: float | np.ndarray,
+    heat_capacity: float | np.ndarray,
+) -> float | np.ndarray:
     r"""Rate of change of a lumped winding's temperature: its heat balance [K/s].
 
     .. math:: C \frac{dθ}{dt} = P - \frac{θ - θ_a}{R_{th}}
@@ -317,7 +247,13 @@ def winding_heating_rate(power, theta, theta_surroundings, r_th, heat_capacity):
     return (power - (theta - theta_surroundings) / r_th) / heat_capacity
 
 
-def rotor_zone_rate(theta_zone, theta_stated, rise, retarding, time_constant):
+def rotor_zone_rate(
+    theta_zone: float | np.ndarray,
+    theta_stated: float | np.ndarray,
+    rise: float,
+    retarding: bool,
+    time_constant: float,
+) -> float | np.ndarray:
     r"""Rate of change of the temperature of a retarder coil's surroundings heated by its rotors [K/s].
 
     .. math:: \frac{dθ_z}{dt} = \frac{θ_{z0} + Δθ\,[\text{retarding}] - θ_z}{τ}

@@ -1,4 +1,4 @@
-r"""Exact sensitivities of a linear network solve, central differences, and the vertices of a tolerance box.
+r"""Exact sensitivities of a linear network solve, and the vertices of a tolerance box.
 
 For a linear system :math:`A(p)\,x = b(p)` (a modified-nodal network: x holds the node voltages and
 the currents of the voltage sources), differentiating gives the *direct* sensitivity
@@ -44,7 +44,7 @@ References
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 
 import numpy as np
 
@@ -60,7 +60,7 @@ class Factors:
     not import scipy.linalg); larger ones a sparse LU (``scipy.sparse.linalg.splu``, which solves
     with Aᵀ from the same factors)."""
 
-    def __init__(self, a: np.ndarray | Sequence | object):
+    def __init__(self, a: np.ndarray | Sequence | object) -> None:
         if hasattr(a, "tocsc"):  # a scipy.sparse matrix
             from scipy.sparse.linalg import splu
 
@@ -239,59 +239,6 @@ def adjoint_sensitivities(
     if xh.ndim == 1:
         return np.einsum("i,pi...->p...", xh, r)
     return np.einsum("ik,pi...->pk...", xh, r)
-
-
-def central_difference(
-    func: Callable[[np.ndarray], np.ndarray | float], p: np.ndarray, step: float | np.ndarray = 1e-5
-) -> np.ndarray:
-    r"""∂f/∂p by central differences, one pair of evaluations per parameter [units of f per unit of p].
-
-    .. math:: \frac{\partial f}{\partial p_k} \approx \frac{f(p + h_k e_k) - f(p - h_k e_k)}{2 h_k},
-              \qquad h_k = \text{step}\cdot|p_k|
-
-    Parameters
-    ----------
-    func : callable
-        The function f of the parameter vector (a float or an array out). [units of f]
-    p : array (P,)
-        The point to differentiate at. [units of p]
-    step : float or array (P,)
-        Step relative to |p_k| (absolute where p_k is 0 or below 1e-30). [-]
-
-    Returns
-    -------
-    array (P,) + shape of f
-        The gradient, one row per parameter. [units of f per unit of p]
-
-    Notes
-    -----
-    Truncation error O(h²), round-off about ε|f|/h: the default 1e-5 is near ε^(1/3), where the two
-    balance. Used for what has no exact derivative (coupled heating, a change of source state) and to
-    check the exact ones.
-
-    Examples
-    --------
-    Central differences are exact for a quadratic (the O(h²) term vanishes): the gradient of
-    p0² + 3 p0 p1 at (2, 5) is, by hand, (2 p0 + 3 p1, 3 p0) = (19, 6).
-
-    >>> g = central_difference(lambda q: q[0] ** 2 + 3 * q[0] * q[1], np.array([2.0, 5.0]), 1e-3)
-    >>> np.round(g, 6).tolist()
-    [19.0, 6.0]
-
-    References
-    ----------
-    The central-difference formula and its error balance: W. H. Press et al., *Numerical Recipes*,
-    3rd ed., Cambridge University Press, 2007, §5.7 (numerical derivatives).
-    """
-    p = np.asarray(p, dtype=float)
-    h = np.asarray(step, dtype=float) * np.where(np.abs(p) > 1e-30, np.abs(p), 1.0)
-    h = np.broadcast_to(h, p.shape)
-    out = []
-    for k in range(p.size):
-        e = np.zeros_like(p)
-        e.flat[k] = h.flat[k]
-        out.append((np.asarray(func(p + e), dtype=float) - np.asarray(func(p - e), dtype=float)) / (2 * h.flat[k]))
-    return np.array(out)
 
 
 def all_vertices(n: int) -> np.ndarray:

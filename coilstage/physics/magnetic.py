@@ -17,6 +17,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -44,19 +45,13 @@ class BHCurve:
             return s * float(np.interp(x, self.b, self.h))
         return s * float(self.h[-1] + (x - self.b[-1]) / MU0)
 
-    def b_of_h(self, h: float) -> float:
-        s = 1.0 if h >= 0 else -1.0
-        x = abs(h)
-        if x <= self.h[-1]:
-            return s * float(np.interp(x, self.h, self.b))
-        return s * float(self.b[-1] + MU0 * (x - self.h[-1]))
-
     def h_of_b_array(self, b: np.ndarray) -> np.ndarray:
         """:meth:`h_of_b` for an array of non-negative flux densities."""
         b = np.asarray(b, dtype=float)
         return np.where(b <= self.b[-1], np.interp(b, self.b, self.h), self.h[-1] + (b - self.b[-1]) / MU0)
 
     def b_of_h_array(self, h: np.ndarray) -> np.ndarray:
+        """Flux density [T] at an array of non-negative field strengths ``h`` [A/m]."""
         h = np.asarray(h, dtype=float)
         return np.where(h <= self.h[-1], np.interp(h, self.h, self.b), self.b[-1] + MU0 * (h - self.h[-1]))
 
@@ -120,7 +115,7 @@ def modelica_mu_r(b: float, mu_i: float, b_mumax: float, c_a: float, c_b: float,
     return 1 + (mu_i - 1 + c_a * bn) / (1 + c_b * bn + bn**n)
 
 
-def curve_from_mu_r(name: str, mu_r, b_max: float = 2.4, points: int = 600) -> BHCurve:
+def curve_from_mu_r(name: str, mu_r: Callable[[float], float], b_max: float = 2.4, points: int = 600) -> BHCurve:
     r"""A B-H point table from a μr(B) law, on a dense grid of B.
 
     .. math:: H_k = \frac{B_k}{μ_0\,μ_r(B_k)}, \qquad B_k = k\,B_{max}/(points - 1)

@@ -146,10 +146,10 @@ def test_saturating_switch_on_against_solve_ivp():
     a, _ = check(d)
     so = next(x for x in a.field.switch_on if x.stage == "S1")
     from coilstage.analysis.conditions import corner_sources
-    from coilstage.analysis.linear import build_linear
+    from coilstage.analysis.linear import CaseNetwork
 
     temps, src = corner_sources(d)["cold"]
-    lin = build_linear(a.circuit, temps, src, ("S1",), "fixed")
+    lin = CaseNetwork(a.circuit, temps, src).linear(("S1",), "fixed")
     k, c = float(lin.rl.k[0, 0]), float(lin.rl.c[0])
     s = d.stages[0]
     circ = circuit_of(s.coil)

@@ -184,13 +184,6 @@ class CaseNetwork:
         return mode
 
 
-def build_linear(
-    circuit: Circuit, temps: dict[str, float], src: SourceState, stages: tuple[str, ...], mode: str
-) -> Linear:
-    """One-off :meth:`CaseNetwork.linear` (builds and factorises the network for this call alone)."""
-    return CaseNetwork(circuit, temps, src).linear(stages, mode)
-
-
 def case_networks(circuit: Circuit, cases: dict[str, Conditions]) -> dict[str, CaseNetwork]:
     """The network of each corner (every case but the fault, which is solved by
     :meth:`coilstage.analysis.circuit.Circuit.fault_currents`)."""

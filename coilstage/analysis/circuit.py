@@ -4,8 +4,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numpy as np
-
 from coilstage.drawing.schema import Cable, Drawing, Element, Fuse, Joint, Relay, Resistor, Stage
 from coilstage.physics.conductor import resistance_at_temperature
 from coilstage.physics.network import (
@@ -46,6 +44,9 @@ class Solution:
     fault_current: float | None = None  # current in an added short, where one was asked for [A]
 
 
+#: Rows of a network: (node a, node b, value) per resistor [Ω], voltage source [V] or current source [A].
+Rows = list[tuple[int, int, float]]
+
 #: Elements whose resistance does not depend on temperature in the model: fuses, relay contacts, joints
 #: and lugs, measured grounds and busbars.
 FIXED_RESISTANCE = (Fuse, Relay, Resistor, Joint)
@@ -67,7 +68,7 @@ def element_resistance(e: Element, temperature: float) -> float:
 class Circuit:
     """Node numbering and element list of one drawing, reused for every solve."""
 
-    def __init__(self, drawing: Drawing):
+    def __init__(self, drawing: Drawing) -> None:
         self.drawing = drawing
         s = drawing.supply
         names = [s.negative_node, s.battery.node]
@@ -87,7 +88,7 @@ class Circuit:
         sources: SourceState,
         overrides: dict[str, float] | None,
         exclude: set[str] | frozenset[str] = frozenset(),
-    ):
+    ) -> tuple[Rows, Rows, list[str], Rows, dict[str, float], bool, bool]:
         """Rows of the network for one solve, and which voltage source belongs to which element
         (elements in ``exclude`` are left out: the switching analysis puts its stages in itself)."""
         d = self.drawing
@@ -210,21 +211,3 @@ class Circuit:
             nd[self.drawing.supply.chassis_node],
         )
         return {x: abs(float(i)) for x, i in zip(nodes, out, strict=True)}
-
-
-def kcl_residuals(circuit: Circuit, sol: Solution) -> np.ndarray:
-    """Sum of currents leaving each node [A], sources included: zero at every node where KCL holds."""
-    d = circuit.drawing
-    s = d.supply
-    out = dict.fromkeys(circuit.nodes, 0.0)
-    for e in d.elements:
-        out[e.a] += sol.current[e.id]
-        out[e.b] -= sol.current[e.id]
-    out[s.battery.node] -= sol.battery_current
-    out[s.negative_node] += sol.battery_current
-    if s.alternator is not None:
-        out[s.alternator.node] -= sol.alternator_current
-        out[s.negative_node] += sol.alternator_current
-    out[s.base_load_node] += s.base_load
-    out[s.negative_node] -= s.base_load
-    return np.array(list(out.values()))

@@ -49,7 +49,9 @@ class DCSolution:
     i_vsource: np.ndarray
 
 
-def mna_matrix(n_nodes: int, resistors: Branches, vsources: Branches, isources: Branches):
+def mna_matrix(
+    n_nodes: int, resistors: Branches, vsources: Branches, isources: Branches
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, int]:
     r"""The MNA system ``A x = rhs`` of a network (node 0 dropped), as COO triplets and a dense rhs.
 
     Stamps of [1]_: each conductance g adds g to (a,a) and (b,b) and −g to (a,b) and (b,a); each
@@ -113,7 +115,7 @@ class Factorized:
     """A factorised MNA matrix: dense for small systems, sparse LU above SPARSE_THRESHOLD.
     ``solve(b)`` takes one right-hand side or a matrix of them (one per column)."""
 
-    def __init__(self, rows, cols, vals, size):
+    def __init__(self, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray, size: int) -> None:
         self.size = size
         if size > SPARSE_THRESHOLD:
             from scipy.sparse import csc_matrix

@@ -3,7 +3,11 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # numpy is imported where it is used (the annotations are only names here)
+    import numpy as np
 
 
 def bracketed_root(f: Callable[[float], float], a: float, b: float, xtol: float = 1e-13, maxiter: int = 200) -> float:
@@ -93,17 +97,17 @@ _E = (71 / 57600, 0.0, -71 / 16695, 71 / 1920, -17253 / 339200, 22 / 525, -1 / 4
 
 
 def integrate_dopri(
-    f,
+    f: Callable[[float, np.ndarray], np.ndarray],
     t0: float,
     t1: float,
-    y0,
+    y0: np.ndarray | Sequence[float],
     rtol: float = 1e-6,
     atol: float = 1e-6,
     h0: float | None = None,
     max_step: float = float("inf"),
     max_steps: int = 100_000,
     source: str = "integration",
-):
+) -> tuple[list[float], list[np.ndarray]]:
     r"""Integrate y' = f(t, y) from t0 to t1 with the adaptive Dormand–Prince 5(4) pair.
 
     .. math:: y_{n+1} = y_n + h \sum_i b_i k_i,\qquad

@@ -23,6 +23,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -83,7 +84,9 @@ class Decay:
     u_suppressor_peak: float  # voltage across the suppressor (and the coil) at the break [V]
 
 
-def clamp_decay(i0: float, r: float, inductance: float, u0: float, r_series: float = 0.0, fraction: float = 0.05):
+def clamp_decay(
+    i0: float, r: float, inductance: float, u0: float, r_series: float = 0.0, fraction: float = 0.05
+) -> tuple[Decay, Callable[[float | np.ndarray], np.ndarray]]:
     r"""Decay of a stage current through a clamp after its contact opens.
 
     The suppressor across the coil holds a voltage U0 + R_s·i (a diode: U0 = U_F; a diode and zener:
@@ -153,7 +156,7 @@ def clamp_decay(i0: float, r: float, inductance: float, u0: float, r_series: flo
     e_sup = u0 * int_i + r_series * int_i2
     e_coil = r * int_i2
 
-    def current(t):
+    def current(t: float | np.ndarray) -> np.ndarray:
         t = np.asarray(t, dtype=float)
         out = (i0 + a) * np.exp(-t / tau) - a
         return np.where((t >= 0) & (t < t0), out, np.where(t < 0, i0, 0.0))
@@ -193,12 +196,12 @@ class ExactSolution:
     phi: np.ndarray  # (n, n)
     w: np.ndarray  # (n,)
 
-    def at(self, t) -> np.ndarray:
+    def at(self, t: float | np.ndarray) -> np.ndarray:
         """Currents at times ``t`` [s] (0 = start of the segment): shape (len(t), n)."""
         t = np.atleast_1d(np.asarray(t, dtype=float))
         return self.i_inf[None, :] + (np.exp(np.outer(t, self.lam)) * self.w[None, :]) @ self.phi.T
 
-    def linear(self, g: np.ndarray, h: float, t) -> np.ndarray:
+    def linear(self, g: np.ndarray, h: float, t: float | np.ndarray) -> np.ndarray:
         """g·i(t) + h at times ``t``, for any linear read-out g of the currents (bus voltage …)."""
         t = np.atleast_1d(np.asarray(t, dtype=float))
         return g @ self.i_inf + h + np.exp(np.outer(t, self.lam)) @ (self.w * (g @ self.phi))
@@ -207,7 +210,7 @@ class ExactSolution:
         """Current ``k`` at one time ``t`` [s] (one row of :meth:`at`, in O(n))."""
         return float(self.i_inf[k] + self.phi[k] @ (np.exp(self.lam * t) * self.w))
 
-    def linear_many(self, g: np.ndarray, h: np.ndarray, t) -> np.ndarray:
+    def linear_many(self, g: np.ndarray, h: np.ndarray, t: float | np.ndarray) -> np.ndarray:
         """Several read-outs at once: ``g`` (k, n), ``h`` (k,); returns shape (len(t), k), column j
         equal to ``linear(g[j], h[j], t)`` (one table of exponentials serves them all)."""
         t = np.atleast_1d(np.asarray(t, dtype=float))

@@ -172,13 +172,9 @@ def test_joint_defaults_ordered():
     for r in t["rows"]:
         if "resistance" in r:
             assert 0 < r["resistance"] < r["degraded"], r["kind"]
-    # ISO 8820-5 (SF 30) and ISO 8820-10 (type L) fixture connection resistances: 1.0 and 0.5 mohm.
+    # ISO 8820-5 (SF 30) fixture connection resistance: 1.0 mohm.
     rows = {r["kind"]: r for r in t["rows"]}
     assert rows["fuse_holder_strip"]["resistance"] == 1.0e-3
-    assert rows["fuse_holder_blade"]["resistance"] == 0.5e-3
-    threads = [d for d, _i in t["stud_current"]]
-    amps = [i for _d, i in t["stud_current"]]
-    assert threads == sorted(threads) and amps == sorted(amps)
 
 
 def test_cyclic_factors_fall_with_cycles():

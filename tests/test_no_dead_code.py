@@ -44,7 +44,7 @@ class Definition:
 
 def _definitions(physics: Path) -> list[Definition]:
     """Top-level functions and classes of each physics module and the methods of those classes
-    (private ones too: a private helper carries a use of a public law only while it is used itself;
+    (private ones too: a private function carries a use of a public law only while it is used itself;
     dunder methods other than ``__init__`` are the language's, not the program's)."""
     out: list[Definition] = []
     for path in sorted(physics.glob("*.py")):
@@ -238,10 +238,10 @@ def _package(tmp_path: Path, physics: dict[str, str], program: dict[str, str]) -
 LAWS = '''
 def used(x: float) -> float:
     """A law the program calls; :func:`dead` in a docstring is no use."""
-    return helper(x)
+    return inner(x)
 
 
-def helper(x: float) -> float:
+def inner(x: float) -> float:
     return 2 * x
 
 
@@ -253,11 +253,11 @@ def dead(x: float) -> float:
     return only_for_dead(x)
 
 
-def _helper_nobody_calls(x: float) -> float:
-    return kept_by_a_dead_helper(x)
+def _private_nobody_calls(x: float) -> float:
+    return kept_by_a_dead_private_one(x)
 
 
-def kept_by_a_dead_helper(x: float) -> float:
+def kept_by_a_dead_private_one(x: float) -> float:
     return x
 
 
@@ -290,11 +290,11 @@ TEXT = "laws.dead is named here only in a string"
 def test_the_unused_detector_finds_dead_laws(tmp_path):
     pkg = _package(tmp_path, {"laws": LAWS}, {"program": PROGRAM})
     # dead is imported but never called; only_for_dead is called only by dead; never has no caller;
-    # kept_by_a_dead_helper only by a private helper nothing calls.
-    assert unused(pkg) == ["laws.Curve.never", "laws.dead", "laws.kept_by_a_dead_helper", "laws.only_for_dead"]
+    # kept_by_a_dead_private_one only by a private function nothing calls.
+    assert unused(pkg) == ["laws.Curve.never", "laws.dead", "laws.kept_by_a_dead_private_one", "laws.only_for_dead"]
     # Called through the module alias, dead comes alive (and with it only_for_dead).
     (pkg / "other.py").write_text("from coilstage.physics import laws as L\n\nX = L.dead(1.0)\n")
-    assert unused(pkg) == ["laws.Curve.never", "laws.kept_by_a_dead_helper"]
+    assert unused(pkg) == ["laws.Curve.never", "laws.kept_by_a_dead_private_one"]
 
 
 def test_the_annotation_detector_finds_bare_parameters_and_returns(tmp_path):

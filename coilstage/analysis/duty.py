@@ -22,6 +22,7 @@ its metal's melting point, the battery at flat; the times they get there are fou
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import lru_cache
 
@@ -61,7 +62,7 @@ class CableThermal:
     shed: np.ndarray  # [W/m]
     source: str
 
-    def q_shed(self, theta: np.ndarray | float):
+    def q_shed(self, theta: np.ndarray | float) -> np.ndarray | float:
         return np.interp(theta, self.grid, self.shed, right=None)
 
 
@@ -380,7 +381,7 @@ class DutyResult:
 def simulate(
     d: Drawing,
     duty: Duty | None = None,
-    progress=None,
+    progress: Callable[[float, float], object] | None = None,
     rtol: float = 1e-6,
     conditions: DutyConditions | None = None,
 ) -> DutyResult:

@@ -23,7 +23,7 @@ class QuasiStatic:
     unknowns, sparse LU above).
     """
 
-    def __init__(self, d: Drawing, battery_emf: float, alt_setpoint: float | None):
+    def __init__(self, d: Drawing, battery_emf: float, alt_setpoint: float | None) -> None:
         self.d = d
         c = Circuit(d)
         self.nodes = nd = c.nodes
@@ -82,7 +82,9 @@ class QuasiStatic:
             np.concatenate([self.r0, r]), np.concatenate([self.c0, c]), np.concatenate([self.v0, v]), self.size
         ).solve
 
-    def solve(self, t_cables: np.ndarray, t_stages: np.ndarray, on: np.ndarray, alt_limit: float | None):
+    def solve(
+        self, t_cables: np.ndarray, t_stages: np.ndarray, on: np.ndarray, alt_limit: float | None
+    ) -> tuple[np.ndarray, np.ndarray, float, float, np.ndarray]:
         """(cable currents, stage currents, battery current, alternator current, node vector).
 
         The alternator's state is kept from the call before and changed where the solution leaves it

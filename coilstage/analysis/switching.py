@@ -239,7 +239,9 @@ def scenario_events(d: Drawing) -> dict[str, list[tuple[float, tuple[str, ...]]]
     return out
 
 
-def analyse_switching(d: Drawing, nets: dict[str, CaseNetwork], corners=("cold", "hot")) -> SwitchingResult:
+def analyse_switching(
+    d: Drawing, nets: dict[str, CaseNetwork], corners: tuple[str, ...] = ("cold", "hot")
+) -> SwitchingResult:
     """Every scenario in the cold and hot corners (``nets``: corner -> its network), and the
     per-stage switching figures."""
     scen: dict[str, Scenario] = {}

@@ -463,11 +463,10 @@ class Bench:
             d = self.drawing(edits)
             out = None
             if d is not None:
-                from coilstage.analysis.run import analyse
                 from coilstage.checks import RULES, with_worst_corners
 
                 try:
-                    a = analyse(d)
+                    a = duty_analysis(d, rules)
                     out = _by_key(
                         with_worst_corners(
                             a,
@@ -480,6 +479,26 @@ class Bench:
             self._duty[(k, rules)] = out
             self.evaluations["full"] += 1
         return self._duty[(k, rules)]
+
+
+#: the rules that read the simulation of continuous full retardation (``Analysis.continuous``); the
+#: other rules read the duty profile's simulation (``Analysis.descent``) at most
+_CONTINUOUS_RULES = ("winding.time_to_limit",)
+
+
+def duty_analysis(d, rules: tuple[str, ...] = ()):
+    """The full analysis of ``d`` as far as the rules whose ids start with one of ``rules`` read it (all
+    when empty): where none of them reads the simulation of continuous full retardation, that
+    simulation (half the cost of a full analysis) is left out (``continuous`` is None) and every other
+    field is what :func:`coilstage.analysis.run.analyse` makes; tests/test_sizing.py holds the verdicts
+    of those rules equal to the ones on a fresh full analysis."""
+    from coilstage.analysis.run import analyse
+
+    if not rules or any(r.startswith(rules) for r in _CONTINUOUS_RULES) or d.duty is None:
+        return analyse(d)
+    from coilstage.analysis.duty import simulate
+
+    return replace(analyse(d, heating=False), descent=simulate(d))
 
 
 def _by_key(verdicts) -> dict:
@@ -906,6 +925,10 @@ def _smallest(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key
     key = key or part.key
     today = _verdicts(bench, part, base) or {}
     inv_today = involved(part, today)
+    if key == part.key and series == part.series and part.kind == "relay":
+        found = _gallop(bench, part, base, inv_today)
+        if found is not None:
+            return found
     series = series[: _top(bench, part, base, series, key, inv_today) + 1]
     vs = _verdicts(bench, part, _with(base, ((part.index, key), series[-1])))
     if vs is None:
@@ -962,6 +985,66 @@ def _smallest(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key
         if ok_s:  # not monotone here: say so rather than claim the boundary
             smaller = (Finding("(none)", part.id, "pass", "the next smaller part also passes"),)
     return _Boundary(j, targets, blocked, smaller, True, improves)
+
+
+def _gallop(bench: Bench, part: Part, base: dict, inv_today: dict) -> _Boundary | None:
+    """The boundary of :func:`_smallest` found from today's position up, where a member above today
+    passes every verdict the part takes part in: members today + 1, + 2, + 4, … until one passes,
+    then bisection between the last that failed and it. A member that passes everything reaches
+    every target a reference member could set (a target is at most a pass), so the references
+    (the largest member, the one at three quarters, the end of the judged series) are not needed:
+    the targets are a pass on every verdict of the part. Today failing and the member below the
+    boundary failing are what prove it, as in :func:`_smallest`; the series is taken to be monotone
+    above today (a larger conductor or contact rating never fails what a smaller one passes). None
+    (then :func:`_smallest` searches the whole series as before) where today passes what it takes
+    part in, no member above today passes everything on the screen, or the boundary fails the full
+    check."""
+    if not inv_today or all(rank(v) >= 2 for v in inv_today.values()):
+        return None
+    series = part.series
+    n = len(series) - 1
+    start = max(math.floor(part.today_pos) + 1, 0)
+    if start > n:
+        return None
+
+    def cand(j: int) -> dict:
+        return _with(base, ((part.index, part.key), series[j]))
+
+    def passes(j: int) -> dict | None:
+        vs = _verdicts(bench, part, cand(j))
+        inv = {} if vs is None else involved(part, vs)
+        return inv if inv and all(rank(v) >= 2 for v in inv.values()) else None
+
+    lo, hi, step, j = start - 1, None, 1, start  # lo: the last member known (or taken) to fail
+    while hi is None:
+        inv = passes(j)
+        if inv is not None:
+            hi = j
+        elif j == n:
+            return None
+        else:
+            lo, j, step = j, min(j + step, n), 2 * step
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        if passes(mid) is not None:
+            hi = mid
+        else:
+            lo = mid
+    j = hi
+    inv = passes(j) or {}
+    targets = {k: rank(v) for k, v in inv.items()}
+    full = part.kind in ("cable", "fuse")
+    if not _ok(bench, part, cand(j), targets, full=full)[0]:
+        return None
+    smaller: tuple = ()
+    if j > 0:
+        ok_s, bad = _ok(bench, part, cand(j - 1), targets)
+        if ok_s and full:
+            ok_s, bad = _ok(bench, part, cand(j - 1), targets, full=True)
+        smaller = tuple(Finding.of(v) for v in bad)
+        if ok_s:  # not monotone here: say so rather than claim the boundary
+            smaller = (Finding("(none)", part.id, "pass", "the next smaller part also passes"),)
+    return _Boundary(j, targets, (), smaller, True, True)
 
 
 def _top(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key: str, inv_today: dict) -> int:

@@ -628,3 +628,28 @@ def test_what_sizing_cannot_change_says_so_in_every_format(tmp_path):
     al = sizing.action_list(verdicts, sizing.suggestions(text, str(FLAWED), FLAWED.parent, checked=(d, a, verdicts)))
     s2 = next(x for x in al["cannot_change"] if x["part"] == "S2")
     assert coil["suggestion"] in s2["statements"]
+
+
+def test_the_duty_rules_of_a_candidate_without_the_continuous_simulation_equal_a_fresh_check():
+    """Sizing judges a cable's or a fuse's duty rules on an analysis without the simulation of
+    continuous full retardation, which only winding.time_to_limit reads; each verdict of the part's
+    rules on it equals that of the public check of the edited text, figure for figure."""
+    text = FLAWED.read_text(encoding="utf-8")
+    d = parse_drawing(text, str(FLAWED), FLAWED.parent)
+    parts = {p.id: p for p in sizing.parts_of(d, None, text)}
+    part = parts["W-FEED"]
+    value = part.series[math.floor(part.today_pos) + 2]
+    doc = TomlText(text)
+    doc.set("harness", part.index, part.key, value)
+    edited = parse_drawing(doc.text, str(FLAWED), FLAWED.parent)
+    light = sizing.duty_analysis(edited, part.rules)
+    assert light.continuous is None and light.descent is not None  # the lighter analysis was made
+    assert sizing.duty_analysis(edited, ("winding.",)).continuous is not None  # not where a rule reads it
+    fresh = {(x.rule, x.subject): x for x in coilstage.check(edited)[1]}
+    bench = sizing.Bench(text, str(FLAWED), FLAWED.parent)
+    got = bench.duty({(part.index, part.key): value}, part.rules)
+    duty = [k for k in got if k[0] in ("cable.conductor_temperature", "fuse.duty_thermal_state")]
+    assert any(got[k].status.value != "not checked" for k in duty)  # the simulation is read
+    for k, x in got.items():  # the check adds sensitivities; every figure and word is the same
+        y = fresh[k]
+        assert (x.status, x.value, x.limit, x.margin, x.note) == (y.status, y.value, y.limit, y.margin, y.note)

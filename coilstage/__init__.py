@@ -10,6 +10,15 @@ The small public API::
 from __future__ import annotations
 
 import os
+from collections.abc import Iterable
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from pathlib import Path
+
+    from coilstage.analysis.run import Analysis
+    from coilstage.checks.base import Verdict
+    from coilstage.drawing.schema import Drawing
 
 # One BLAS thread unless the user says otherwise: the matrices here are small (hundreds of unknowns) and
 # a thread pool costs more than it gives; measured with benchmarks/bench_growth.py, a 64-stage check
@@ -24,7 +33,7 @@ __version__ = "0.1.0"
 __all__ = ["__version__", "check", "load_drawing"]
 
 
-def load_drawing(path, parts_dirs=()):
+def load_drawing(path: str | Path, parts_dirs: Iterable[str | Path] = ()) -> Drawing:
     """Read a drawing file (with parts libraries ``parts_dirs`` beside those it names itself); see
     :func:`coilstage.drawing.load.load_drawing`."""
     from coilstage.drawing.load import load_drawing as _load
@@ -32,7 +41,7 @@ def load_drawing(path, parts_dirs=()):
     return _load(path, parts_dirs=tuple(parts_dirs))
 
 
-def check(drawing):
+def check(drawing: Drawing) -> tuple[Analysis, list[Verdict]]:
     """Analyse a drawing and run every rule: returns ``(analysis, verdicts)``."""
     from coilstage.analysis.run import analyse
     from coilstage.checks import run_checks

@@ -34,7 +34,7 @@ class CoilstageError(Exception):
 class DrawingError(CoilstageError):
     """A drawing that cannot be used; ``problems`` lists everything wrong with it."""
 
-    def __init__(self, source: str, problems: list[Problem]):
+    def __init__(self, source: str, problems: list[Problem]) -> None:
         self.source = source
         self.problems = list(problems)
         super().__init__(f"{source}: {len(self.problems)} problem(s)\n" + "\n".join(map(str, self.problems)))
@@ -43,7 +43,7 @@ class DrawingError(CoilstageError):
 class DataError(CoilstageError):
     """A shipped or user-supplied data table that is malformed."""
 
-    def __init__(self, source: str, problems: list[Problem]):
+    def __init__(self, source: str, problems: list[Problem]) -> None:
         self.source = source
         self.problems = list(problems)
         super().__init__(f"table {source}: " + "; ".join(map(str, self.problems)))
@@ -55,7 +55,7 @@ class AnalysisError(CoilstageError):
     happened and, where one exists, which limit to raise or which value to change. The CLI reports it
     like bad input (exit 2), never as an internal error."""
 
-    def __init__(self, source: str, reason: str):
+    def __init__(self, source: str, reason: str) -> None:
         self.source = source
         self.reason = reason
         super().__init__(f"{source}: {reason}")

@@ -28,8 +28,10 @@ import math
 import os
 import sys
 import time
+from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
+from typing import TextIO
 
 EXIT_OK, EXIT_FAIL, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 REPORT_EXT = {"text": "txt", "json": "json", "markdown": "md"}
@@ -204,7 +206,7 @@ def check_all(
     fmt: str = "text",
     reports: list[Path] | None = None,
     jobs: int | None = None,
-    progress=None,
+    progress: Callable[[int, int, Row], object] | None = None,
     run: dict | None = None,
 ) -> list[Row]:
     """Check every drawing, ``jobs`` at a time in worker processes; rows in the drawings' order.
@@ -347,8 +349,8 @@ def run_many(
     out_dir: str | None = None,
     jobs: int | None = None,
     summary_format: str = "text",
-    stdout=None,
-    stderr=None,
+    stdout: TextIO | None = None,
+    stderr: TextIO | None = None,
     progress: bool = True,
     parts_dirs: tuple = (),
 ) -> int:

@@ -29,7 +29,7 @@ class Graph:
     ['B+', 'F1']
     """
 
-    def __init__(self, edges: Iterable[Edge], nodes: Iterable[Hashable] = ()):
+    def __init__(self, edges: Iterable[Edge], nodes: Iterable[Hashable] = ()) -> None:
         self.adjacency: dict[Hashable, list[tuple[Hashable, Hashable]]] = defaultdict(list)
         for node in nodes:
             self.adjacency.setdefault(node, [])

@@ -34,7 +34,7 @@ class OutputError(CoilstageError):
     """An output that cannot be written: ``reason`` says which file and why. The CLI prints it and
     exits 2 (like bad input); nothing is left behind."""
 
-    def __init__(self, path: str | os.PathLike, reason: str):
+    def __init__(self, path: str | os.PathLike, reason: str) -> None:
         self.path = str(path)
         self.reason = reason
         super().__init__(f"{self.path}: {reason}")
@@ -123,7 +123,7 @@ def _mode_for(target: Path) -> int:
 class Staging:
     """Temporary files for a set of targets, committed together (see :func:`staged`)."""
 
-    def __init__(self, targets: list[Path]):
+    def __init__(self, targets: list[Path]) -> None:
         self.targets = targets
         self.temps: list[Path] = []
         self._streams: list[bool] = []

@@ -178,7 +178,7 @@ class Histogram:
     in which the values came, nor on how they were split into chunks (division by a power of two is
     exact in binary floating point, so no value changes cell by rounding)."""
 
-    def __init__(self, bins: int = HIST_BINS):
+    def __init__(self, bins: int = HIST_BINS) -> None:
         if bins < 2:
             raise ValueError("expected at least two bins")
         self.bins = bins

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from functools import cache
 from importlib import resources
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from coilstage.errors import DataError, Problem
 from coilstage.physics.conductor import (
@@ -25,6 +25,9 @@ from coilstage.physics.conductor import (
     resistance_per_length,
 )
 from coilstage.units import awg_label
+
+if TYPE_CHECKING:
+    from coilstage.physics.magnetic import BHCurve
 
 #: Conductor table used for a metric size when the drawing names none.
 DEFAULT_MM2_TABLE = "iso6722-1"
@@ -511,7 +514,7 @@ def bh_curve_names() -> list[str]:
 
 
 @cache
-def bh_curve(name: str):
+def bh_curve(name: str) -> BHCurve:
     """A shipped B-H curve as a point table (an analytic curve is tabulated densely)."""
     import numpy as np
 
@@ -525,7 +528,7 @@ def bh_curve(name: str):
     return curve_from_mu_r(name, lambda b: modelica_mu_r(b, *args))
 
 
-def user_bh_curve(path: Path):
+def user_bh_curve(path: Path) -> BHCurve:
     """A user's B-H table: ``[table] kind = "bh_curve"`` with ``points = [[H A/m, B T], ...]``."""
     import numpy as np
 

@@ -175,7 +175,7 @@ def format_value(value: Any) -> str:
 class TomlText:
     """A drawing's text with edits by (array name, index, key)."""
 
-    def __init__(self, text: str):
+    def __init__(self, text: str) -> None:
         self.text = text
         self._blocks = scan(text)
 

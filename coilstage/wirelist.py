@@ -116,9 +116,12 @@ import tomllib
 from collections import defaultdict
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from coilstage.errors import DataError, DrawingError, Problem
+
+if TYPE_CHECKING:
+    from coilstage.drawing.schema import Drawing
 
 EXIT_OK, EXIT_BAD_INPUT = 0, 2
 
@@ -1137,7 +1140,7 @@ class BuildLine:
     ids: tuple[str, ...]
 
 
-def build_list(drawing) -> list[BuildLine]:
+def build_list(drawing: Drawing) -> list[BuildLine]:
     """Cable lengths per size, class and metal; parts per type and rating (from a loaded Drawing)."""
     from coilstage.drawing.schema import Cable, Fuse, Joint, Relay, Resistor, Stage
 

@@ -16,6 +16,7 @@ from coilstage.units import (
 from .defaults import default
 from .environment import read_zone
 from .reader import Reader
+from .schema import Environment
 
 CABLE_KEYS = {
     "size",
@@ -102,7 +103,7 @@ def _cable_diameters(r: Reader, e: dict, where: str, size) -> dict:
     }
 
 
-def read_cable_fields(r: Reader, e: dict, where: str, env, default_mm2: str) -> dict | None:
+def read_cable_fields(r: Reader, e: dict, where: str, env: Environment | None, default_mm2: str) -> dict | None:
     size = r.value(e, "size", where, parse_cable_size, expected="a conductor size")
     length = r.quantity(e, "length", where, "length", positive=True)
     ins = r.text(e, "insulation", where, choices=sorted(tables.cable_classes()))

@@ -248,7 +248,7 @@ def curve_source(name: str) -> str:
     )
 
 
-def read_retarder(r: Reader, raw: dict):
+def read_retarder(r: Reader, raw: dict) -> tuple[Retarder, ACComparison | None]:
     rt = r.table(raw, "retarder", "retarder", required=False) or {}
     r.unknown(rt, KEYS["retarder"], "retarder")
     torque = r.quantity(rt, "rated_torque", "retarder", "torque", default=None, positive=True)

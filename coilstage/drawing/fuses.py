@@ -16,6 +16,7 @@ from .defaults import default
 from .environment import read_zone
 from .reader import Reader
 from .schema import (
+    Environment,
     Fuse,
 )
 
@@ -25,7 +26,7 @@ KEYS = {
 }
 
 
-def read_fuse(r, e, where, env, common) -> Fuse | None:
+def read_fuse(r: Reader, e: dict, where: str, env: Environment | None, common: dict) -> Fuse | None:
     ftype = r.text(e, "type", where, choices=sorted(tables.fuse_types()))
     rating = r.quantity(e, "rating", where, "current", positive=True)
     zone, zt = read_zone(r, e, where, env)

@@ -7,13 +7,16 @@ from dataclasses import dataclass
 from .cables import CABLE_KEYS, read_cable_fields
 from .fuses import read_fuse
 from .joints import check_joint_cables, read_joint
-from .reader import MISSING, suggest
+from .reader import MISSING, Reader, suggest
 from .relays import read_relay
 from .schema import (
     Cable,
+    CoilType,
     Element,
+    Environment,
     Resistor,
     Stage,
+    Supply,
 )
 from .stages import read_suppression
 
@@ -78,7 +81,15 @@ class Link:
     role_given: bool = False  # a cable whose drawing states its role
 
 
-def read_harness(r, raw, env, coils, default_mm2, supply, links: list[Link]) -> list[Element] | None:
+def read_harness(
+    r: Reader,
+    raw: dict,
+    env: Environment | None,
+    coils: dict[str, CoilType] | None,
+    default_mm2: str,
+    supply: Supply | None,
+    links: list[Link],
+) -> list[Element] | None:
     h = raw.get("harness", MISSING)
     if h is MISSING or not isinstance(h, list) or not h:
         r.problem("harness", MISSING if h is MISSING else h, "one or more [[harness]] elements")

@@ -11,7 +11,7 @@ from .defaults import default
 from .environment import read_zone
 from .reader import Reader
 from .relays import _fraction_at
-from .schema import Cable, Element, Joint
+from .schema import Cable, Element, Environment, Joint
 
 #: what a joint is
 JOINT_KINDS = ("connector", "fuse_holder", "lug", "splice", "stud")
@@ -44,7 +44,7 @@ def _default_resistance(kind: str) -> tuple[float, str] | None:
     return None
 
 
-def read_joint(r: Reader, e: dict, where: str, env, common: dict) -> Joint | None:
+def read_joint(r: Reader, e: dict, where: str, env: Environment | None, common: dict) -> Joint | None:
     kind = r.text(e, "joint", where, default=None, choices=list(JOINT_KINDS))
     bad = "joint" in e and kind is None
     fallback = _default_resistance(kind) if kind is not None and "resistance" not in e else None

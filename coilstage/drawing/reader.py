@@ -5,6 +5,7 @@ number gate, and collects every problem with its key path.
 from __future__ import annotations
 
 import difflib
+from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -40,7 +41,7 @@ MAX_NAME = 2000
 class Reader:
     """Walks the raw TOML dict, turning values into SI floats and collecting problems."""
 
-    def __init__(self, path: str, base_dir: Path):
+    def __init__(self, path: str, base_dir: Path) -> None:
         self.path = path
         self.base_dir = base_dir
         self.problems: list[Problem] = []
@@ -71,7 +72,15 @@ class Reader:
                     path, MISSING, f"no such key here{suggest(key, allowed)}; allowed: {', '.join(sorted(allowed))}"
                 )
 
-    def value(self, raw: dict, key: str, where: str, parse, expected: str | None = None, default=MISSING):
+    def value(
+        self,
+        raw: dict,
+        key: str,
+        where: str,
+        parse: Callable[[Any], Any],
+        expected: str | None = None,
+        default: Any = MISSING,
+    ) -> Any:
         """Parse ``raw[key]`` with ``parse``; a missing key gives ``default`` (or a problem)."""
         path = f"{where}.{key}"
         if key not in raw:
@@ -91,7 +100,16 @@ class Reader:
             self.problem(path, raw[key], expected or str(exc))
         return None
 
-    def quantity(self, raw, key, where, dim, default=MISSING, positive=False, nonnegative=False):
+    def quantity(
+        self,
+        raw: dict,
+        key: str,
+        where: str,
+        dim: str,
+        default: Any = MISSING,
+        positive: bool = False,
+        nonnegative: bool = False,
+    ) -> Any:
         v = self.value(raw, key, where, lambda t: parse_quantity(t, dim), default=default)
         if isinstance(v, float):
             noun = article(dim.replace("_", " "))
@@ -103,7 +121,7 @@ class Reader:
                 return None
         return v
 
-    def difference(self, raw, key, where, default=MISSING, nonnegative=True):
+    def difference(self, raw: dict, key: str, where: str, default: Any = MISSING, nonnegative: bool = True) -> Any:
         """A temperature difference [K]; a temperature on a scale with an offset ("40 degC") is
         refused, since "40 degC" as a difference would read as 313.15 K."""
         value = raw.get(key)
@@ -112,10 +130,17 @@ class Reader:
             return None
         return self.quantity(raw, key, where, "temperature_difference", default=default, nonnegative=nonnegative)
 
-    def temperature(self, raw, key, where, default=MISSING):
+    def temperature(self, raw: dict, key: str, where: str, default: Any = MISSING) -> Any:
         return self.value(raw, key, where, parse_temperature, default=default)
 
-    def text(self, raw, key, where, default=MISSING, choices=None):
+    def text(
+        self,
+        raw: dict,
+        key: str,
+        where: str,
+        default: Any = MISSING,
+        choices: Sequence[str] | None = None,
+    ) -> Any:
         """A text; with ``choices``, one of them (a wrong value is answered with the list)."""
         allowed = None if choices is None else "one of " + ", ".join(f'"{c}"' for c in choices)
 
@@ -130,7 +155,9 @@ class Reader:
 
         return self.value(raw, key, where, parse, expected=allowed or "a text", default=default)
 
-    def integer(self, raw, key, where, default=MISSING, minimum=1, maximum=1_000_000):
+    def integer(
+        self, raw: dict, key: str, where: str, default: Any = MISSING, minimum: int = 1, maximum: int = 1_000_000
+    ) -> Any:
         def parse(t):
             if isinstance(t, bool) or not isinstance(t, int) or not minimum <= t <= maximum:
                 raise ValueError(f"a whole number of at least {minimum} (and at most {maximum:,})")
@@ -138,7 +165,16 @@ class Reader:
 
         return self.value(raw, key, where, parse, default=default)
 
-    def share(self, raw, key, where, default=MISSING, low=0.0, high=1.0, low_open=False):
+    def share(
+        self,
+        raw: dict,
+        key: str,
+        where: str,
+        default: Any = MISSING,
+        low: float = 0.0,
+        high: float = 1.0,
+        low_open: bool = False,
+    ) -> Any:
         """A ratio between ``low`` and ``high`` (a number or text such as "75 %")."""
         v = self.value(raw, key, where, parse_dimensionless, default=default)
         inside = isinstance(v, float) and ((low < v) if low_open else (low <= v)) and v <= high

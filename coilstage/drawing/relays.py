@@ -18,6 +18,7 @@ from .defaults import default
 from .environment import read_zone
 from .reader import MISSING, Reader
 from .schema import (
+    Environment,
     Relay,
     RelayCoil,
 )
@@ -39,7 +40,9 @@ KEYS = {
 COIL_SUPPRESSION = ("none", "diode", "diode_zener", "resistor", "varistor")
 
 
-def read_relay(r, e, where, env, common, system) -> Relay | None:
+def read_relay(
+    r: Reader, e: dict, where: str, env: Environment | None, common: dict, system: int | None
+) -> Relay | None:
     r12 = r.quantity(e, "rating_12v", where, "current", default=None, positive=True)
     r24 = r.quantity(e, "rating_24v", where, "current", default=None, positive=True)
     if "rating_12v" not in e and "rating_24v" not in e:

@@ -5,13 +5,20 @@ from __future__ import annotations
 import csv
 import json
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
+
+    from coilstage.analysis.duty import DutyResult
+    from coilstage.drawing.schema import Drawing
 
 DESCENT_SCHEMA = "coilstage-descent-1"
 
 
-def write_csv(r, path: Path) -> None:
+def write_csv(r: DutyResult, path: Path) -> None:
     with path.open("w", newline="", encoding="utf-8") as fh:
         w = csv.writer(fh)
         w.writerow(
@@ -49,7 +56,7 @@ def write_csv(r, path: Path) -> None:
             )
 
 
-def write_json(r, path: Path, title: str) -> None:
+def write_json(r: DutyResult, path: Path, title: str) -> None:
     doc = {
         "schema": DESCENT_SCHEMA,
         "drawing": title,
@@ -80,7 +87,7 @@ def write_json(r, path: Path, title: str) -> None:
     path.write_text(json.dumps(doc, allow_nan=False) + "\n", encoding="utf-8")
 
 
-def state_of_charge(r, d) -> np.ndarray | None:
+def state_of_charge(r: DutyResult, d: Drawing) -> np.ndarray | None:
     """Battery state of charge over the duty [fraction], as the battery rule takes it: the simulated
     one (charge used weighted for its rate, held at 0 once flat) where the run carries it, else the
     start value less the charge drawn over the capacity; None without a capacity."""
@@ -93,7 +100,7 @@ def state_of_charge(r, d) -> np.ndarray | None:
     return start - np.asarray(r.charge_drawn) / cap
 
 
-def figure(r, d, title: str):
+def figure(r: DutyResult, d: Drawing, title: str) -> Figure:
     """Four panels against time: winding and hottest cable temperatures with the winding limit and
     those cables' class temperatures; currents; the bus voltage with its lowest operating value; the
     battery's state of charge with its floor. Equal curves are drawn once and named together."""
@@ -228,7 +235,7 @@ def figure(r, d, title: str):
     return fig
 
 
-def plot(r, d, paths: list[Path], title: str) -> None:
+def plot(r: DutyResult, d: Drawing, paths: list[Path], title: str) -> None:
     """:func:`figure` written to each of ``paths`` (PNG, SVG by suffix)."""
     from coilstage.report import svgplot
 

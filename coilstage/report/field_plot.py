@@ -3,13 +3,19 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from coilstage.analysis.field import circuit_of
 
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
-def figure(a, title: str):
+    from coilstage.analysis.run import Analysis
+
+
+def figure(a: Analysis, title: str) -> Figure | None:
     """One curve per coil type with a magnetic circuit, the knee, and each corner's operating
     points (stages at the same point are named together); None if no coil has a circuit."""
     from coilstage.report import svgplot
@@ -84,7 +90,7 @@ def figure(a, title: str):
     return fig
 
 
-def plot(a, paths: list[Path], title: str) -> bool:
+def plot(a: Analysis, paths: list[Path], title: str) -> bool:
     """:func:`figure` written to each of ``paths``; False if there is none to draw."""
     from coilstage.report import svgplot
 

@@ -33,7 +33,7 @@ _NONFINITE_WORD = re.compile(r"(?<![A-Za-z0-9_])[+-]?(?:nan|inf(?:inity)?)(?![A-
 class NonFiniteError(RuntimeError):
     """A NaN or inf on its way into a report (a bug); raised in strict mode only."""
 
-    def __init__(self, where: list[str]):
+    def __init__(self, where: list[str]) -> None:
         self.where = where
         super().__init__("not finite on the report at " + ", ".join(where))
 

@@ -10,6 +10,7 @@ import io
 import re
 import textwrap
 from pathlib import Path
+from types import ModuleType
 from typing import Any
 
 import numpy as np
@@ -19,7 +20,7 @@ STYLES = ("-", "--", "-.", ":")
 MARKERS = ("o", "s", "^", "v", "D", "x", "+", "*")
 
 
-def pyplot():
+def pyplot() -> ModuleType:
     """matplotlib.pyplot on the Agg backend, SVG text as text (not glyph outlines), no timestamps."""
     import matplotlib
 

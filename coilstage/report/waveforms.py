@@ -5,12 +5,15 @@ from __future__ import annotations
 import csv
 import json
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from coilstage.analysis.run import Analysis
 from coilstage.errors import AnalysisError
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 WAVEFORM_SCHEMA = "coilstage-waveforms-1"
 
@@ -105,7 +108,7 @@ def write_json(rows: list[dict[str, Any]], path: Path, step: float, title: str) 
     path.write_text(json.dumps(doc, allow_nan=False) + "\n", encoding="utf-8")
 
 
-def figure(rows: list[dict[str, Any]], title: str):
+def figure(rows: list[dict[str, Any]], title: str) -> Figure:
     """One column per scenario; stage currents above, bus voltage below; cold solid, hot dashed.
 
     Stages whose curves are equal are drawn once and named together ("S1 = S3 = S4"), with a note;

@@ -368,23 +368,15 @@ def _descent(args: argparse.Namespace) -> int:
     drawing_path = Path(args.drawing)
     outputs.check_folder(args.out)
     drawing, _ = _load(drawing_path)
-    import dataclasses
-
-    from coilstage import tables
-    from coilstage.analysis.duty import continuous_duty, simulate
+    from coilstage.analysis.duty import shipped_duty, simulate
 
     duty = drawing.duty
-    if args.profile:
-        if args.profile not in tables.duty_profiles():
-            _err(f"coilstage: --profile: expected one of {', '.join(tables.duty_profiles())}")
+    if args.profile is not None:
+        try:
+            duty = shipped_duty(drawing, args.profile)
+        except ValueError as exc:
+            _err(f"coilstage: --profile: {exc}")
             return EXIT_BAD_INPUT
-        duty = continuous_duty(drawing)
-        if args.profile != "continuous":
-            from coilstage.drawing.switching import shipped_steps
-
-            row = tables.duty_profiles()[args.profile]
-            steps = shipped_steps(args.profile, [s.id for s in drawing.stages], drawing.switching)
-            duty = dataclasses.replace(duty, name=args.profile, description=row["description"], steps=steps)
         total = sum(st.duration for st in duty.steps)
         if total > drawing.limits.max_duty:
             _err(

@@ -33,6 +33,7 @@ from coilstage.analysis.materials import metal
 from coilstage.analysis.quasistatic import QuasiStatic, stage_thermal_resistance
 from coilstage.analysis.tolerances import effective
 from coilstage.drawing.schema import Cable, Drawing, Duty, Fuse, Relay
+from coilstage.drawing.switching import shipped_steps
 from coilstage.physics.battery import (
     FLOODED_OCV_LINE,
     capacity_temperature_factor,
@@ -555,16 +556,23 @@ def simulate(
     )
 
 
-def continuous_duty(d: Drawing) -> Duty:
-    """The shipped continuous profile (all stages on, driving, until thermal steady state), with the
-    drawing's battery figures."""
-    from coilstage.drawing.schema import DutyStep
-    from coilstage.units import parse_quantity
-
-    row = tables.duty_profiles()["continuous"]
-    steps = tuple(
-        DutyStep(parse_quantity(dur, "time"), tuple(s.id for s in d.stages), eng, mov, f"step {k + 1}")
-        for k, (dur, _stg, eng, mov) in enumerate(row["steps"])
-    )
+def shipped_duty(d: Drawing, name: str) -> Duty:
+    """The shipped duty profile ``name`` for this drawing, with the drawing's battery figures; its steps
+    are :func:`coilstage.drawing.switching.shipped_steps` (the loader's expansion, stage column
+    included). Raises ValueError where ``name`` is no shipped profile or a step names no stage or
+    switching position of the drawing."""
+    steps = shipped_steps(name, [s.id for s in d.stages], d.switching)
     du = d.duty
-    return Duty("continuous", row["description"], steps, du.start_soc if du else 1.0, du.min_soc if du else 0.5)
+    return Duty(
+        name,
+        tables.duty_profiles()[name]["description"],
+        steps,
+        du.start_soc if du else 1.0,
+        du.min_soc if du else 0.5,
+    )
+
+
+def continuous_duty(d: Drawing) -> Duty:
+    """The shipped continuous profile (full retardation, driving, until thermal steady state; the stages
+    its stage column names), with the drawing's battery figures."""
+    return shipped_duty(d, "continuous")

@@ -99,13 +99,22 @@ def _step_stages(spec: Any, stage_ids: list[str], switching: Switching | None) -
 def shipped_steps(name: str, stage_ids: list[str], switching: Switching | None) -> tuple[DutyStep, ...]:
     """The steps of the shipped duty profile ``name`` (coilstage/data/duty_profiles.toml) for a drawing
     with these stages and switching positions: the one expansion of a shipped profile, used by the
-    loader and by the ``descent --profile`` command. Raises ValueError where a step's stage column
-    names no stage or position of the drawing."""
-    row = tables.duty_profiles()[name]
-    return tuple(
-        DutyStep(parse_quantity(dur, "time"), _step_stages(stg, stage_ids, switching), eng, mov, f"step {k + 1}")
-        for k, (dur, stg, eng, mov) in enumerate(row["steps"])
-    )
+    loader, by the check's continuous duty (:func:`coilstage.analysis.duty.shipped_duty`) and by the
+    ``descent --profile`` command. Raises ValueError, its message saying what was expected, where
+    ``name`` is no shipped profile or a step's stage column names no stage or position of the drawing."""
+    profiles = tables.duty_profiles()
+    if name not in profiles:
+        raise ValueError(f"{name!r} is no shipped profile; expected one of {', '.join(profiles)}")
+    steps = []
+    for k, (dur, stg, eng, mov) in enumerate(profiles[name]["steps"]):
+        try:
+            on = _step_stages(stg, stage_ids, switching)
+        except ValueError as exc:
+            raise ValueError(
+                f"step {k + 1} of the shipped profile {name} runs {stg!r}, which this drawing lacks; expected {exc}"
+            ) from None
+        steps.append(DutyStep(parse_quantity(dur, "time"), on, eng, mov, f"step {k + 1}"))
+    return tuple(steps)
 
 
 def read_duty(r: Reader, raw: dict, stage_ids: list[str], switching: Switching | None) -> Duty | None:
@@ -158,7 +167,11 @@ def read_duty(r: Reader, raw: dict, stage_ids: list[str], switching: Switching |
             return None
         row = profiles[name]
         desc = f"{row['description']} ({row['status']})"
-        steps.extend(shipped_steps(name, stage_ids, switching))
+        try:
+            steps.extend(shipped_steps(name, stage_ids, switching))
+        except ValueError as exc:
+            r.problem("duty.profile", name, f"a shipped profile this drawing can run ({exc})")
+            return None
     if soc is None or min_soc is None:
         return None
     if not 0 <= min_soc < soc <= 1:

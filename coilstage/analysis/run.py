@@ -49,7 +49,7 @@ class Analysis:
     field: FieldResult
     descent: DutyResult | None  # the drawing's duty profile
     continuous: DutyResult | None  # continuous full retardation
-    worst: WorstCases | None = None  # each rule's worst case (largest / smallest fault, lowest bus, largest current)
+    worst: WorstCases  # each rule's worst case (largest / smallest fault, lowest bus, largest current)
 
 
 def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:

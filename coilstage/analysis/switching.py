@@ -9,6 +9,7 @@ the exact solution. A stage switched off leaves the network and decays through i
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -40,7 +41,7 @@ class Break:
     stage: str
     t: float
     decay: Decay
-    current: object  # callable: time after the break -> current
+    current: Callable[[np.ndarray], np.ndarray]  # times after the break [s] -> the stage's current [A]
 
 
 @dataclass

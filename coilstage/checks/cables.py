@@ -23,8 +23,8 @@ def _ampacity(a: Analysis) -> list[Verdict]:
     the drawing's range with the zone, the coils and the bus following it (analysis.worst.DutySweep),
     decided at the worst ambient with tolerances, the same sweep with nominal parts beside it."""
     out = []
-    sw = a.worst.duty_sweep if a.worst is not None else None
-    sn = a.worst.duty_sweep_nominal if a.worst is not None else None
+    sw = a.worst.duty_sweep
+    sn = a.worst.duty_sweep_nominal
     for c in a.drawing.of_kind(Cable):
         rates = a.ratings.cables_sweep.get(c.id)
         if sw is None or sn is None or not rates:
@@ -112,7 +112,7 @@ def _voltage_drop(a: Analysis) -> list[Verdict]:
     d = a.drawing
     lim = d.limits
     nominal = d.supply.system_voltage
-    big = a.worst.largest_current_solution if a.worst is not None else None
+    big = a.worst.largest_current_solution
     at_big = {s.id: s for s in stage_results(d, big, a.corners["cold"].temperatures)} if big is not None else {}
 
     def verdict(sid: str, f: float, drop: float, corner: str, how: str) -> Verdict:

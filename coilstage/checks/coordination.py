@@ -86,10 +86,7 @@ def _coordination(a: Analysis) -> list[Verdict]:
             out.append(not_checked(FUSE_COORDINATION, f.id, f"ampacity of {cid} unknown: {amp}", "A"))
             continue
         iz, cid = min(amps)
-        if a.worst is not None:
-            ib, ib_words = a.worst.largest_current[f.id], "largest-current worst case"
-        else:
-            ib, ib_words = a.duty[f.id], "duty"
+        ib, ib_words = a.worst.largest_current[f.id], "largest-current worst case"
         k2, k2_words = conventional_factor(f)
         if k2 != k2:  # NaN: no conventional current for this type
             out.append(not_checked(FUSE_COORDINATION, f.id, k2_words, "A"))

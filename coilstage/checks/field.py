@@ -86,7 +86,7 @@ def _retained(a: Analysis) -> list[Verdict]:
     )
     if f.torque:
         note += f"; estimated torque {f.torque['cold']:.0f} N·m cold, {f.torque['hot']:.0f} N·m hot"
-    b = a.worst.braking if a.worst is not None else None
+    b = a.worst.braking
     if lim is None:
         if b is not None:
             note += f"; at the lowest bus ({b.bus_voltage:.2f} V) {b.ratio:.0%}"

@@ -42,7 +42,7 @@ def _nuisance(a: Analysis) -> list[Verdict]:
             continue
         nominal = _nuisance_at(f, g, a.ratings.fuses[f.id].peak_current, "cold", "")
         w = a.ratings.fuses_worst.get(f.id)
-        if a.worst is None or w is None:
+        if w is None:
             out.append(nominal)
             continue
         worst = _nuisance_at(f, g, w.peak_current, "largest current", " scaled to the largest continuous current")
@@ -120,7 +120,7 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
     and, in the fuse's time-lag region, the largest let-through I²t) with the nominal fault beside it."""
     out = []
     cables = {c.id: c for c in a.drawing.of_kind(Cable)}
-    sf = a.worst.smallest_fault if a.worst is not None else None
+    sf = a.worst.smallest_fault
     for f in a.drawing.of_kind(Fuse):
         for cid in a.protected.get(f.id, []):
             c = cables.get(cid)
@@ -133,7 +133,7 @@ def _short_circuit(a: Analysis) -> list[Verdict]:
                 continue
             nominal = _short_at(f, c, sh, subject, "cold")
             sw = a.ratings.far_end_worst.get((f.id, cid))
-            if sf is None or sw is None or isinstance(sw, str):
+            if sw is None or isinstance(sw, str):
                 out.append(nominal)
                 continue
             worst = _short_at(f, c, sw, subject, sf.name)

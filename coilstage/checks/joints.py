@@ -11,12 +11,12 @@ from coilstage.drawing.schema import Joint
 
 
 def _words(a: Analysis) -> tuple[str, ...]:
-    return tuple(f"{k} {v}" for k, v in a.worst.largest_current_words) if a.worst is not None else ()
+    return tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
 
 
 def _current(a: Analysis) -> list[Verdict]:
     out = []
-    worst = a.worst.largest_current if a.worst is not None else None
+    worst = a.worst.largest_current
     for j in a.drawing.of_kind(Joint):
         if j.rating is None:
             continue
@@ -38,17 +38,14 @@ def _current(a: Analysis) -> list[Verdict]:
             )
 
         nominal = at(cur.nominal, "cold")
-        if worst is None:
-            out.append(nominal)
-        else:
-            out.append(decided_at_worst(at(cur.worst, "largest current"), nominal, "largest current", _words(a)))
+        out.append(decided_at_worst(at(cur.worst, "largest current"), nominal, "largest current", _words(a)))
     return out
 
 
 def _heat(a: Analysis) -> list[Verdict]:
     out = []
     lim = limits()
-    worst = a.worst.largest_current if a.worst is not None else None
+    worst = a.worst.largest_current
     for j in a.drawing.of_kind(Joint):
         cur = joint_current(j, a.duty, worst)
         if cur is None:
@@ -80,11 +77,7 @@ def _heat(a: Analysis) -> list[Verdict]:
             )
 
         nominal = at(cur.nominal, "cold")
-        out.append(
-            nominal
-            if worst is None
-            else decided_at_worst(at(cur.worst, "largest current"), nominal, "largest current", _words(a))
-        )
+        out.append(decided_at_worst(at(cur.worst, "largest current"), nominal, "largest current", _words(a)))
     return out
 
 

@@ -28,8 +28,8 @@ def _fuse_continuous(a: Analysis) -> list[Verdict]:
     same sweep with nominal parts beside it; the cold corner where no sweep was made."""
     out = []
     frac = float(tables.fuse_rules()["continuous_fraction"])
-    sw = a.worst.duty_sweep if a.worst is not None else None
-    sn = a.worst.duty_sweep_nominal if a.worst is not None else None
+    sw = a.worst.duty_sweep
+    sn = a.worst.duty_sweep_nominal
     for f in a.drawing.of_kind(Fuse):
 
         def verdict(i: float, zone_t: float, state: str, corner: str, f=f) -> Verdict:
@@ -129,11 +129,11 @@ def _fuse_protects(a: Analysis) -> list[Verdict]:
 def highest_bus(a: Analysis) -> tuple[float, str]:
     """The highest voltage the bus can reach [V] with words: the larger of the supply code's maximum
     (ISO 16750-2 Tables 1-2, or the drawing's limit corner) and the regulator's highest end
-    (``a.worst.bus_high``: set-point plus its tolerance, where the worst cases were computed)."""
+    (``a.worst.bus_high``: set-point plus its tolerance)."""
     d = a.drawing
     code = max(d.supply.v_max, d.corners.limit_bus)
     code_words = f"{code:g} V code maximum ({d.supply.limits_source or 'drawing'})"
-    if a.worst is not None and a.worst.bus_high > code:
+    if a.worst.bus_high > code:
         return a.worst.bus_high, f"{a.worst.bus_high:.2f} V regulator's highest end (above the {code_words})"
     return code, code_words
 
@@ -173,7 +173,7 @@ def _fuse_voltage(a: Analysis) -> list[Verdict]:
 
 def _fuse_breaking(a: Analysis) -> list[Verdict]:
     out = []
-    lf = a.worst.largest_fault if a.worst is not None else None
+    lf = a.worst.largest_fault
     for f in a.drawing.of_kind(Fuse):
         i = a.fault_current[f.id]
         nominal = at_most(
@@ -187,9 +187,6 @@ def _fuse_breaking(a: Analysis) -> list[Verdict]:
             f"and alternator feeding; breaking capacity {f.breaking_capacity:g} A ({f.breaking_source})",
             "cold",
         )
-        if lf is None:
-            out.append(nominal)
-            continue
         iw = lf.at_fuse[f.id]
         worst = at_most(
             FUSE_BREAKING,
@@ -236,8 +233,8 @@ def _relay_contact(a: Analysis) -> list[Verdict]:
     """Each relay's contact current against its rating derated to its zone, in one consistent vehicle
     state swept over the ambient range (as fuse.continuous); the cold corner where no sweep was made."""
     out = []
-    sw = a.worst.duty_sweep if a.worst is not None else None
-    sn = a.worst.duty_sweep_nominal if a.worst is not None else None
+    sw = a.worst.duty_sweep
+    sn = a.worst.duty_sweep_nominal
     for r in a.drawing.of_kind(Relay):
         if sw is None or sn is None:
             out.append(_relay_contact_at(a, r, a.duty[r.id], "cold"))

@@ -46,8 +46,6 @@ def _bus_minimum(a: Analysis) -> list[Verdict]:
         f"{hot.alternator_current:.1f} A {hot.alternator_mode}) against the {s.limits_source} minimum",
         "hot",
     )
-    if a.worst is None:
-        return [nominal]
     low = a.worst.lowest_bus
     sol = low.solution
     worst = at_least(

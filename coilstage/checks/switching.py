@@ -41,7 +41,7 @@ def _highest_bus(a: Analysis) -> tuple[float, str]:
     higher of the two."""
     d = a.drawing
     code = max(d.supply.v_max, d.corners.limit_bus)
-    reg = a.worst.bus_high if a.worst is not None else None
+    reg = a.worst.bus_high
     if reg is not None and reg > code:
         return reg, f"the regulator's highest end {reg:.2f} V (above the supply maximum {code:g} V)"
     extra = f"; the regulator's highest end is {reg:.2f} V" if reg is not None else ""
@@ -572,9 +572,6 @@ def _pickup(a: Analysis) -> list[Verdict]:
             )
             continue
         nominal = _pickup_at(r, a.corners["hot"].bus_voltage, "hot-corner bus", "hot")
-        if a.worst is None:
-            out.append(nominal)
-            continue
         low = a.worst.lowest_bus
         worst = _pickup_at(r, low.bus_voltage, "lowest bus", "lowest bus")
         out.append(decided_at_worst(worst, nominal, "lowest bus", tuple(f"{k} {v}" for k, v in low.words)))

@@ -7,10 +7,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from coilstage.analysis.circuit import Circuit, Solution
+from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_resistance
 from coilstage.analysis.conditions import Conditions
 from coilstage.analysis.linear import CaseNetwork
 from coilstage.drawing.schema import Drawing, Fuse
+from coilstage.physics.network import SPARSE_THRESHOLD, Branches, mna_matrix
 
 
 @dataclass(frozen=True)
@@ -110,9 +111,6 @@ def cold_duty(net: CaseNetwork) -> tuple[dict[str, float], dict[str, str]]:
     d = net.circuit.drawing
     ids = net.stage_ids
     lin = net.linear(ids, "fixed")
-    k, c = lin.rl.k, lin.rl.c
-    i_all = np.linalg.solve(k, c)
-    i_alone = c / np.diag(k)  # stage j alone: c_j / K_jj
     elems = d.elements
     n = len(ids)
     g = np.zeros((len(elems), n))
@@ -122,6 +120,14 @@ def cold_duty(net: CaseNetwork) -> tuple[dict[str, float], dict[str, str]]:
             g[r, lin.stages.index(e.id)] = 1.0
         else:
             g[r], h[r] = lin.readout[f"element:{e.id}"]
+    return _duty_table(elems, ids, lin.rl.k, lin.rl.c, g, h)
+
+
+def _duty_table(elems, ids, k: np.ndarray, c: np.ndarray, g: np.ndarray, h: np.ndarray):
+    """:func:`cold_duty` from the stages' ``K``, ``c`` and every element's read-out ``(g, h)``."""
+    n = len(ids)
+    i_all = np.linalg.solve(k, c)
+    i_alone = c / np.diag(k)  # stage j alone: c_j / K_jj
     all_on = np.abs(g @ i_all + h)  # (elements,)
     names = ["all stages"]
     if n > 1:
@@ -135,6 +141,92 @@ def cold_duty(net: CaseNetwork) -> tuple[dict[str, float], dict[str, str]]:
     duty = {e.id: float(table[r, best[r]]) for r, e in enumerate(elems)}
     where = {e.id: names[best[r]] for r, e in enumerate(elems)}
     return duty, where
+
+
+def cold_duties(
+    circuit: Circuit, cases: list[tuple[dict[str, float], SourceState]]
+) -> list[tuple[dict[str, float], dict[str, str]]]:
+    """:func:`cold_duty` of ``CaseNetwork(circuit, temperatures, sources)`` for each case of ``cases``
+    (the ambient sweep: one network, its resistances and bus changed), the same figures to the last
+    bit: each stage-free network assembled as :class:`coilstage.analysis.linear.CaseNetwork` assembles
+    it, the dense systems of all cases solved in one stacked call (the same LAPACK solve per case),
+    the read-outs of all elements at once instead of one by one. Falls back to a network per case
+    where a case is not a fixed-alternator one, a network is above the dense size, or the cases
+    differ in their zero-ohm parts."""
+    d = circuit.drawing
+    stages = d.stages
+    ids = tuple(s.id for s in stages)
+    nd = circuit.nodes
+    ns = len(ids)
+
+    def one_by_one():
+        return [cold_duty(CaseNetwork(circuit, t, src)) for t, src in cases]
+
+    if not cases or ns == 0:
+        return one_by_one()
+    built = []
+    for temps, src in cases:
+        res_rows, vs_rows, vs_owner, is_rows, res, alt_on, fixed = circuit.network_rows(
+            temps, src, None, exclude=set(ids)
+        )
+        if alt_on and not fixed:  # the alternator may change state: the piecewise network
+            return one_by_one()
+        rr, cc, xx, rhs, nn = mna_matrix(len(nd), Branches.of(res_rows), Branches.of(vs_rows), Branches.of(is_rows))
+        built.append((rr, cc, xx, rhs, nn, vs_owner, res))
+    size = len(built[0][3])
+    if size > SPARSE_THRESHOLD or any(len(b[3]) != size or b[5] != built[0][5] for b in built):
+        return one_by_one()
+    dense = np.stack(
+        [
+            np.bincount(
+                np.asarray(rr, dtype=np.int64) * size + np.asarray(cc, dtype=np.int64),
+                weights=xx,
+                minlength=size * size,
+            ).reshape(size, size)
+            for rr, cc, xx, _, _, _, _ in built
+        ]
+    )
+    rhs = np.stack([b[3] for b in built])
+    inject = np.zeros((size, ns))
+    for j, e in enumerate(stages):
+        ia, ib = nd[e.a], nd[e.b]
+        if ib > 0:
+            inject[ib - 1, j] += 1.0  # the stage delivers its current into node b ...
+        if ia > 0:
+            inject[ia - 1, j] -= 1.0  # ... taking it from node a
+    x0s = np.linalg.solve(dense, rhs[:, :, None])[:, :, 0]
+    zxs = np.linalg.solve(dense, np.broadcast_to(inject, (len(built), size, ns)))
+    nn = built[0][4]
+    vs_owner = built[0][5]
+    ia_ = np.array([nd[e.a] for e in stages], dtype=int)
+    ib_ = np.array([nd[e.b] for e in stages], dtype=int)
+    elems = d.elements
+    col = {sid: j for j, sid in enumerate(ids)}
+    through_vs = [(r, nn + vs_owner.index(e.id)) for r, e in enumerate(elems) if e.id not in col and e.id in vs_owner]
+    resistive = [r for r, e in enumerate(elems) if e.id not in col and e.id not in vs_owner]
+    ea = np.array([nd[elems[r].a] for r in resistive], dtype=int)
+    eb = np.array([nd[elems[r].b] for r in resistive], dtype=int)
+    out = []
+    for (temps, _src), x0, zx, b in zip(cases, x0s, zxs, built, strict=True):
+        zpad = np.vstack([np.zeros((1, ns)), zx[:nn, :]])  # node 0 is the reference
+        xpad = np.concatenate(([0.0], x0[:nn]))
+        dmat = zpad[ia_, :] - zpad[ib_, :]
+        c = xpad[ia_] - xpad[ib_]
+        r_own = np.array([element_resistance(e, temps[e.id]) for e in stages])
+        k = np.diag(r_own) - dmat
+        g = np.zeros((len(elems), ns))
+        h = np.zeros(len(elems))
+        for r, e in enumerate(elems):
+            if e.id in col:
+                g[r, col[e.id]] = 1.0
+        for r, kb in through_vs:
+            g[r], h[r] = zx[kb, :], x0[kb]
+        if resistive:
+            res = np.array([b[6][elems[r].id] for r in resistive])
+            g[resistive] = (zpad[ea, :] - zpad[eb, :]) / res[:, None]
+            h[resistive] = (xpad[ea] - xpad[eb]) / res
+        out.append(_duty_table(elems, ids, k, c, g, h))
+    return out
 
 
 def fault_currents(circuit: Circuit, fault: Conditions, protected: dict[str, list[str]]):

@@ -38,9 +38,8 @@ import numpy as np
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_resistance
 from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_temperatures, zone_at_ambient
-from coilstage.analysis.corners import cold_duty
+from coilstage.analysis.corners import cold_duties
 from coilstage.analysis.field import circuit_of
-from coilstage.analysis.linear import CaseNetwork
 from coilstage.analysis.tolerances import DRAWING_STATUS, effective, lookup
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
@@ -509,6 +508,7 @@ def duty_sweep(
     currents: dict[str, list[float]] = {e.id: [] for e in d.elements}
     states: dict[str, list[str]] = {e.id: [] for e in d.elements}
     buses = []
+    nets = []
     for t in ambients:
         if alt is not None and g != 0.0:
             bus = regulated_bus_range(alt.setpoint, reg_tol, g, t, t).high
@@ -523,7 +523,8 @@ def duty_sweep(
         src = dataclasses.replace(
             cold, battery_emf=bus, hold_bus=bus, alt_setpoint=bus if cold.alt_setpoint is not None else None
         )
-        duty, where = cold_duty(CaseNetwork(circuit, temps, src))
+        nets.append((temps, src))
+    for duty, where in cold_duties(circuit, nets):  # every ambient's network solved in one stacked call
         for k in currents:
             currents[k].append(duty[k])
             states[k].append(where[k])

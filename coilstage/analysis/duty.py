@@ -41,6 +41,7 @@ from coilstage.physics.battery import (
     open_circuit_voltage,
     peukert_usable_charge,
 )
+from coilstage.physics.conductor import resistance_at_temperature
 from coilstage.physics.network import Branches, Factorized, mna_matrix
 from coilstage.physics.numeric import bracketed_root, integrate_dopri
 from coilstage.physics.thermal import (
@@ -462,7 +463,9 @@ def simulate(
             _rc, rs = net.resistances(tc, ts)
             p = i_s * i_s * rs
             dts = np.where(modelled, winding_heating_rate(p, ts, tz, np.where(modelled, rth, 1.0), st_cap), 0.0)
-            q = i_c * i_c * r20c * (1 + net.cable_alpha * (tc - 20.0))
+            # heat per metre: I^2 R'(T), R'(T) = R'20 times the R(T) law's ratio R(T)/R20 (written so, the
+            # product keeps the order of its factors and the figures stay the same to the last bit)
+            q = i_c * i_c * r20c * resistance_at_temperature(1.0, 20.0, tc, net.cable_alpha)
             dtc = np.where(has_cab, (q - q_shed(tc)) / cab_c, 0.0)
             # a conductor cannot heat past its melting point: it is held there (and would open)
             dtc = np.where(tc >= cab_melt, np.minimum(dtc, 0.0), dtc)

@@ -10,6 +10,7 @@ import numpy as np
 
 from coilstage.analysis.circuit import FIXED_RESISTANCE, Circuit
 from coilstage.drawing.schema import Cable, Drawing, Stage
+from coilstage.physics.conductor import resistance_at_temperature
 from coilstage.physics.network import Branches, Factorized, charging_source_state, mna_matrix
 
 
@@ -57,17 +58,21 @@ class QuasiStatic:
         self._none = Branches.of([])
         self.cable_r20 = np.array([e.r20_per_m * e.length for e in self.cables])
         self.cable_alpha = np.array([e.alpha20 for e in self.cables])
-        st_r20 = []
-        for e in self.stages:
-            co = e.coil
-            st_r20.append(co.r_ref / (1 + co.alpha20 * (co.t_ref - 20.0)) * e.r_factor)
-        self.stage_r20 = np.array(st_r20)
+        # each stage's resistance at 20 degC (its coil's stated resistance referred by the one R(T) law)
+        self.stage_r20 = np.array(
+            [
+                resistance_at_temperature(e.coil.r_ref, e.coil.t_ref, 20.0, e.coil.alpha20) * e.r_factor
+                for e in self.stages
+            ]
+        )
         self.stage_alpha = np.array([e.coil.alpha20 for e in self.stages])
         self.mode = "regulating"
 
     def resistances(self, t_cables: np.ndarray, t_stages: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        rc = self.cable_r20 * (1 + self.cable_alpha * (t_cables - 20.0))
-        rs = self.stage_r20 * (1 + self.stage_alpha * (t_stages - 20.0))
+        """(cable resistances, stage resistances) [ohm] at these temperatures [degC]: the R(T) law of
+        :func:`coilstage.physics.conductor.resistance_at_temperature` on arrays, from 20 degC."""
+        rc = resistance_at_temperature(self.cable_r20, 20.0, t_cables, self.cable_alpha)
+        rs = resistance_at_temperature(self.stage_r20, 20.0, t_stages, self.stage_alpha)
         return rc, rs
 
     def _solver(self, g: np.ndarray, extra: float):

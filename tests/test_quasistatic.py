@@ -1,0 +1,37 @@
+"""The quasi-static network's element resistances follow the one R(T) law
+(coilstage.physics.conductor.resistance_at_temperature) on arrays, as the DC solve's element
+resistances do one element at a time."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from coilstage.analysis.circuit import element_resistance
+from coilstage.analysis.quasistatic import QuasiStatic
+from coilstage.drawing.load import load_drawing
+from coilstage.drawing.schema import Cable
+
+CONFIGS = ["coach-24v-4stage", "light-truck-12v-2stage", "flawed-retrofit-24v"]
+
+
+@pytest.mark.parametrize("name", CONFIGS)
+def test_resistances_equal_the_element_law_at_every_temperature(name, coach_path):
+    d = load_drawing(coach_path.parent / f"{name}.toml")
+    net = QuasiStatic(d, 25.2, None)
+    cables = d.of_kind(Cable)
+    rng = np.random.default_rng(7)
+    for _ in range(5):
+        tc = rng.uniform(-40.0, 250.0, len(cables))
+        ts = rng.uniform(-40.0, 250.0, len(d.stages))
+        rc, rs = net.resistances(tc, ts)
+        want_c = [element_resistance(c, float(t)) for c, t in zip(cables, tc, strict=True)]
+        want_s = [element_resistance(s, float(t)) for s, t in zip(d.stages, ts, strict=True)]
+        # the same law on arrays, a coil referred to 20 degC first: a few ulps of a double (rel 1e-13)
+        assert rc == pytest.approx(want_c, rel=1e-13)
+        assert rs == pytest.approx(want_s, rel=1e-13)
+    # the law written out (IEC 60287-1-1 clause 2.1.1: R = R20 [1 + alpha20 (theta - 20)]) at 105 degC
+    c0 = cables[0]
+    rc, _ = net.resistances(np.full(len(cables), 105.0), np.full(len(d.stages), 20.0))
+    # floating round-off only (rel 1e-13)
+    assert rc[0] == pytest.approx(c0.r20_per_m * c0.length * (1 + c0.alpha20 * 85.0), rel=1e-13)

@@ -150,6 +150,46 @@ def test_every_default_the_loader_applies_is_a_sourced_row():
         defaults.default(key)  # parses
 
 
+def test_the_schema_keeps_no_literal_of_a_default_the_loader_applies():
+    """A value a drawing may leave out comes from its row of drawing_defaults.toml, not from a literal
+    in drawing/schema.py: the fields the loader always sets carry no default of their own, and a
+    drawing that leaves the keys out gets the rows' values."""
+    import dataclasses
+
+    from coilstage.drawing import defaults, schema
+
+    always_set = {
+        schema.Drawing: {"switching"},
+        schema.Limits: {"max_stages", "max_elements", "max_duty"},
+        schema.Joint: {"joint_kind", "rating", "rated_ambient", "derated", "zone", "zone_temperature"},
+        schema.CoilType: {"zone_temperature"},
+    }
+    for cls, names in always_set.items():
+        fields = {f.name: f for f in dataclasses.fields(cls)}
+        for name in names:
+            f = fields[name]
+            assert f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING, (cls, name)
+
+    text = drawing_text()
+    assert "[limits]" not in text and "[switching]" not in text  # the generated drawing leaves both out
+    d = parse_drawing(text, "x")
+    assert (d.limits.max_stages, d.limits.max_elements) == (
+        defaults.default("limits.max_stages"),
+        defaults.default("limits.max_elements"),
+    )
+    assert d.limits.max_duty == defaults.default("limits.max_duty") == 24 * 3600.0  # "24 h" in seconds
+    sw = d.switching
+    assert (sw.positions, sw.release_limit) == ((), None)
+    assert sw.duration == defaults.default("switching.duration")
+    assert sw.off_at == sw.duration * defaults.default("switching.off_share")
+    assert (sw.release_fraction, sw.cycles) == (
+        defaults.default("switching.release_fraction"),
+        defaults.default("switching.cycles"),
+    )
+    coil = next(iter(d.coils.values()))
+    assert coil.zone_temperature == d.environment.ambient_max  # no zone named: the highest ambient
+
+
 # ------------------------------------------------------------------ parts, fixed, "auto", defaults
 
 

@@ -52,7 +52,7 @@ def read_relay(
     if ra is None and "rated_ambient" not in e:
         ra = default("relay.rated_ambient")
         r.assume(
-            f"{where}.rated_ambient not given: the contact ratings are taken as stated at 23 °C "
+            f"{where}.rated_ambient not given: the contact ratings are taken as stated at {ra:g} °C "
             "(usual datasheet reference)"
         )
     derated = None

@@ -114,7 +114,9 @@ class CoilType:
     heat_capacity: float | None = None  # [J/K]
     heat_capacity_source: str = ""
     zone: str = "ambient"
-    zone_temperature: float = 40.0  # surroundings of the winding [°C]
+    #: surroundings of the winding [°C]: the zone's temperature, or the highest ambient where the drawing
+    #: names no zone (always set by the loader, so no default here)
+    zone_temperature: float = field(kw_only=True)
     magnetic: MagneticSpec | None = None
 
     @property
@@ -298,12 +300,12 @@ class Joint(Resistor):
     ("file.toml#NAME", "" where typed in); for a lug, ``conductor_range`` is the smallest and
     largest conductor area it takes [m²] and ``cable`` the id of the cable it terminates."""
 
-    joint_kind: str = ""
-    rating: float | None = None  # [A]
-    rated_ambient: float = 23.0  # [°C]
-    derated: tuple[float, float] | None = None
-    zone: str = "ambient"
-    zone_temperature: float = 40.0  # [°C]
+    joint_kind: str
+    rating: float | None  # [A]
+    rated_ambient: float  # [°C]; where the drawing leaves it out, data/drawing_defaults.toml joint.rated_ambient
+    derated: tuple[float, float] | None
+    zone: str
+    zone_temperature: float  # [°C]
     part: str = ""
     conductor_range: tuple[float, float] | None = None  # [m²]
     cable: str | None = None  # id of the cable a lug terminates
@@ -362,9 +364,10 @@ class CornerSettings:
 class Limits:
     drop_pass: float  # fraction of nominal system voltage
     drop_warn: float
-    max_stages: int = 512  # largest drawing analysed ([limits] max_stages)
-    max_elements: int = 4096  # ([limits] max_elements)
-    max_duty: float = 86400.0  # longest duty or descent simulated [s] ([limits] max_duty)
+    #: the defaults of these three are rows of data/drawing_defaults.toml (limits.max_stages, ...)
+    max_stages: int  # largest drawing analysed ([limits] max_stages)
+    max_elements: int  # ([limits] max_elements)
+    max_duty: float  # longest duty or descent simulated [s] ([limits] max_duty)
 
 
 @dataclass(frozen=True)
@@ -388,7 +391,7 @@ class Drawing:
     elements: tuple[Element, ...]
     corners: CornerSettings
     limits: Limits
-    switching: Switching = Switching((), 3.0, 1.5, None, 0.05, 100_000)
+    switching: Switching  # where [switching] leaves a key out, its row of data/drawing_defaults.toml
     duty: Duty | None = None
     retarder: Retarder = Retarder()
     ac_comparison: ACComparison | None = None

@@ -1269,7 +1269,7 @@ def _window(bench: Bench, part: Part, base: dict, series: tuple[str, ...], extra
     keys = set(bot) | set(top)
     type_needs, missing = [], []
     floor_rules, ceil_rules = set(), set()
-    for k in keys:
+    for k in sorted(keys):  # in a fixed order: the needs and missing data are listed in it
         v_top, v_bot = top.get(k), bot.get(k)
         v = v_top or v_bot
         if k[0] in _TYPE_RULES:

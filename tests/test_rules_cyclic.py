@@ -8,6 +8,7 @@ import math
 import pytest
 
 from coilstage import check
+from coilstage.analysis.cyclic import all_fuses
 from coilstage.checks import Status
 from coilstage.checks.cyclic import FUSE_CYCLIC
 from coilstage.drawing.load import parse_drawing
@@ -45,13 +46,26 @@ I_MELT_5S = I_MIN / math.sqrt(1.0 - math.exp(-5.0 / (3000.0 / I_MIN**2)))
 
 
 def test_hand_worked_melting_current():
-    assert I_MELT_5S == pytest.approx(62.09, abs=0.01)  # the figure worked by hand above
+    # FM's element as the rule takes it (analysis.cyclic.all_fuses, what fuse.cyclic_duty reads) against
+    # the hand-worked figures above: I_min, τ and I_melt over each of the twelve 5 s on-periods
+    a, _ = check(parse_drawing(_text(), "cyclic"))
+    fm = all_fuses(a.drawing, a.descent)["FM"]
+    assert fm.i_min == pytest.approx(62.04, abs=0.005)  # worked to 0.01 A
+    assert fm.tau == pytest.approx(0.7794, abs=5e-5)  # worked to 4 significant figures
+    assert len(fm.periods) == 12
+    for period in fm.periods:
+        assert period.duration == pytest.approx(5.0, abs=1e-9)  # step boundaries summed in floating point
+        assert period.melting_current == pytest.approx(62.09, abs=0.005)  # worked to 0.01 A
+        # the same expression as I_MELT_5S, evaluated by the program: round-off only
+        assert period.melting_current == pytest.approx(I_MELT_5S, rel=1e-9)
 
 
 def test_shipped_default_named_and_warns():
     # Without the maker's figure: B'2 = 0.31 at 10^6 switchings (the shipped default,
     # fuse_cyclic_derating.toml), limit 0.31 x 62.09 = 19.25 A; the on-current lies above it: WARN.
     v = _verdict(_text())
+    # B'2 x I_melt is the same product in the program as in the hand calculation: 0.1 % is a loose bound
+    # (they agree to round-off), it stands for the 4 figures the hand calculation was worked to
     assert v.limit == pytest.approx(0.31 * I_MELT_5S, rel=1e-3)
     assert v.value > v.limit
     assert v.status is Status.WARN
@@ -73,8 +87,10 @@ def test_makers_factor_changes_the_verdict_as_hand_worked(factor, status):
     base = _verdict(_text())
     v = _verdict(_text(f"cyclic_factor = {factor}"))
     f = float(factor.strip('"% ')) / (100.0 if "%" in factor else 1.0)
-    assert v.limit == pytest.approx(f * I_MELT_5S, rel=1e-3)  # hand-worked above
-    assert v.value == pytest.approx(base.value, rel=1e-12)  # the current is the duty's, unchanged
+    # hand-worked above, to the 4 figures the hand calculation was worked to (0.1 %)
+    assert v.limit == pytest.approx(f * I_MELT_5S, rel=1e-3)
+    # the current is the duty's, unchanged: the same simulation run twice, round-off only
+    assert v.value == pytest.approx(base.value, rel=1e-12)
     assert v.status is status
     assert f"maker's cyclic derating {f:.2f}" in v.note
     assert "shipped default" not in v.note

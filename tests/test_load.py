@@ -163,6 +163,9 @@ def test_the_schema_keeps_no_literal_of_a_default_the_loader_applies():
         schema.Limits: {"max_stages", "max_elements", "max_duty"},
         schema.Joint: {"joint_kind", "rating", "rated_ambient", "derated", "zone", "zone_temperature"},
         schema.CoilType: {"zone_temperature"},
+        schema.Battery: {"chemistry", "cranking_standard"},
+        schema.Supply: {"load_dump_suppression"},
+        schema.RelayCoil: {"suppression"},
     }
     for cls, names in always_set.items():
         fields = {f.name: f for f in dataclasses.fields(cls)}
@@ -188,6 +191,12 @@ def test_the_schema_keeps_no_literal_of_a_default_the_loader_applies():
     )
     coil = next(iter(d.coils.values()))
     assert coil.zone_temperature == d.environment.ambient_max  # no zone named: the highest ambient
+    battery = d.supply.battery
+    assert (battery.chemistry, battery.cranking_standard, d.supply.load_dump_suppression) == (
+        defaults.default("supply.battery.chemistry"),
+        defaults.default("supply.battery.cranking_standard"),
+        defaults.default("supply.load_dump_suppression"),
+    )
 
 
 # ------------------------------------------------------------------ parts, fixed, "auto", defaults

@@ -17,11 +17,15 @@ class Battery:
     internal_resistance: float  # [Ω]
     node: str
     capacity: float | None = None  # [C] (A·h × 3600)
-    chemistry: str = "flooded"  # flooded | agm | gel (open-circuit voltage line and resistance rise)
+    #: flooded | agm | gel (open-circuit voltage line and resistance rise); where the drawing leaves it out,
+    #: the supply.battery.chemistry row of data/drawing_defaults.toml (always set by the loader)
+    chemistry: str = field(kw_only=True)
     cranking_current: float | None = None  # rated cold-cranking current of one 12 V block [A] (bounds R)
     short_circuit_current: float | None = None  # maker's rated short-circuit current [A]
     peukert: float | None = None  # Peukert exponent for usable charge; None: the shipped default
-    cranking_standard: str = "SAE J537"  # the test cranking_current is rated to (physics.battery.CRANKING_TESTS)
+    #: the test cranking_current is rated to (physics.battery.CRANKING_TESTS); default: the
+    #: supply.battery.cranking_standard row (always set by the loader)
+    cranking_standard: str = field(kw_only=True)
 
 
 @dataclass(frozen=True)
@@ -47,8 +51,9 @@ class Supply:
     base_load_node: str
     negative_node: str
     chassis_node: str  # where a short to the vehicle body lands
-    #: central load-dump suppression at the alternator: "yes", "no" or "not known" (ISO 16750-2 Test B / A)
-    load_dump_suppression: str = "not known"
+    #: central load-dump suppression at the alternator: "yes", "no" or "not known" (ISO 16750-2 Test B / A);
+    #: default: the supply.load_dump_suppression row (always set by the loader)
+    load_dump_suppression: str = field(kw_only=True)
     #: the bus voltage above which the retarder's controller switches its stages off (its supply
     #: protection) [V]; None: the drawing states none, so the stages stay on in a regulator failure
     overvoltage_cutout: float | None = None
@@ -162,7 +167,7 @@ class RelayCoil:
     #: the coil circuit: its own suppression ("none" | "diode" | "diode_zener" | "resistor" | "varistor";
     #: a plain diode slows the armature's opening several times), its feed fuse rating [A] and its
     #: wire's conducting area [m²] (None: not stated)
-    suppression: str = "none"
+    suppression: str = field(kw_only=True)  # default: the relay.coil.suppression row (always set by the loader)
     fuse_rating: float | None = None
     wire_area: float | None = None
 

@@ -513,3 +513,92 @@ def test_the_sparse_block_solve_equals_the_dense_batched_solve(coach, monkeypatc
     for k in dense:
         assert sparse[k].margin == pytest.approx(dense[k].margin, rel=1e-9, abs=1e-12), k
         assert (sparse[k].status == dense[k].status).all(), k
+
+
+@pytest.fixture(scope="module")
+def large():
+    """A generated 20-stage drawing: above BATCH_SPARSE_ABOVE unknowns, so evaluate takes its sparse
+    path (block LU, stamps through the sparse map, the stages as ports read by their terminals)."""
+    from coilstage.analysis import params
+    from coilstage.drawing.load import parse_drawing
+    from tests.conftest import drawing_text
+
+    lengths = [1.0 + 0.15 * k for k in range(20)]
+    coils = [0.9 + 0.02 * k for k in range(20)]
+    d = parse_drawing(drawing_text(stages=20, branch_lengths=lengths, coil_r=coils), "generated-20")
+    assert model(d).net.size(True) > params.BATCH_SPARSE_ABOVE
+    return d
+
+
+def test_large_duty_currents_equal_a_dense_solve_of_every_stage_state(large):
+    """Each element's largest current over the stage states (all on, each stage alone) on the sparse
+    path equals the full network of every state assembled densely and solved by numpy.linalg.solve
+    one sample and one state at a time (no ports, no block LU)."""
+    m = model(large)
+    net = m.net
+    xs = _samples(m.params, 5, 11)
+    duty, x_on, _bus = m.duty(xs)
+    r = m.resistances(xs, m.ambient(xs))
+    g = np.divide(1.0, r, out=np.zeros_like(r), where=r > 0)
+    size = net.size(True)
+    for s, row in enumerate(xs):
+        rhs = np.zeros(size)
+        alt = large.supply.alternator
+        exc = m.column(row[None], "supply.alternator.cold_excess", 0.0)[0]
+        rhs[net.alt_node - 1] += alt.limit_rated * (1.0 + exc)
+        rhs[net.base_node - 1] -= large.supply.base_load
+        rhs[size - 1] = m.regulated(row[None])[0]
+        states = [np.ones(len(m.stages))] + [np.eye(len(m.stages))[k] for k in range(len(m.stages))]
+        best = np.zeros(len(large.elements))
+        for q, st in enumerate(states):
+            on = np.ones(len(large.elements))
+            on[m.stages] = st
+            gq = g[s] * on
+            a = (gq[net.res_el] @ m.st_duty.map) @ np.eye(size * size)[m.st_duty.pos]
+            a = a.reshape(size, size) + m.c_duty
+            x = np.linalg.solve(a, rhs)
+            v = np.concatenate([[0.0], x[: net.n]])
+            cur = (v[net.ea] - v[net.eb]) * gq
+            for qq, k in enumerate(net.zero_el):
+                cur[k] = x[net.n + qq]
+            best = np.maximum(best, np.abs(cur))
+            if q == 0:
+                assert x_on[s] == pytest.approx(x, rel=1e-9, abs=1e-9)
+        assert duty[s] == pytest.approx(best, rel=1e-9, abs=1e-9)
+
+
+def test_large_sparse_path_equals_the_dense_batched_path(large, monkeypatch):
+    """On a drawing above the threshold, every margin of the sparse path equals the batched dense path
+    (numpy.linalg.solve, forced by raising BATCH_SPARSE_ABOVE) to round-off."""
+    from coilstage.analysis import params
+
+    xs = _samples(model(large).params, 30, 5)
+    sparse = evaluate(large, xs)
+    monkeypatch.setattr(params, "BATCH_SPARSE_ABOVE", 10**9)
+    dense = evaluate(large, xs)
+    assert set(sparse) == set(dense)
+    for k in dense:
+        assert sparse[k].margin == pytest.approx(dense[k].margin, rel=1e-9, abs=1e-12), k
+        assert (sparse[k].status == dense[k].status).all(), k
+
+
+@pytest.mark.parametrize(
+    "rules",
+    [
+        ("fuse.continuous",),
+        ("supply.bus_minimum", "relay.coil_pickup"),
+        ("fuse.breaking_capacity",),
+        ("fuse.cable_short_circuit", "cable.ampacity"),
+    ],
+)
+def test_evaluate_of_some_rules_equals_the_whole_evaluation(coach, rules):
+    """Asked for some rules, evaluate solves only their networks and gives exactly the figures of the
+    whole evaluation for them (and nothing else)."""
+    xs = _samples(parameters(coach), 25, 3)
+    whole = evaluate(coach, xs)
+    some = evaluate(coach, xs, rules)
+    assert set(some) == {k for k in whole if k[0] in rules}
+    assert some
+    for k, e in some.items():
+        assert np.array_equal(e.margin, whole[k].margin), k
+        assert np.array_equal(e.status, whole[k].status), k

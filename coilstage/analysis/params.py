@@ -65,6 +65,7 @@ import dataclasses
 import functools
 import math
 import weakref
+from collections.abc import Collection
 from dataclasses import dataclass
 
 import numpy as np
@@ -97,6 +98,14 @@ RULES = (
     "fuse.cable_short_circuit",
     "relay.coil_pickup",
 )
+
+#: the network each modelled rule reads (:func:`evaluate` solves only those a call asks for)
+NETWORKS = {
+    "duty": ("fuse.continuous", "cable.ampacity", "relay.contact_rating", "circuit.voltage_drop"),
+    "low bus": ("supply.bus_minimum", "relay.coil_pickup"),
+    "largest fault": ("fuse.breaking_capacity",),
+    "smallest fault": ("fuse.cable_short_circuit",),
+}
 
 #: A conductor's melting point [°C] (CRC Handbook of Chemistry and Physics: copper 1084.62 °C,
 #: aluminium 660.32 °C; from memory). Where a far-end short is not cleared within the fuse's gates, or
@@ -309,6 +318,45 @@ class _Stamps:
         self.map = np.zeros((len(rows), len(entries)))
         for r, k, v in coef:
             self.map[r, k] += v
+        self.ab = np.array(rows, dtype=np.int64).reshape(-1, 2)  # (R, 2) node numbers, 0 the reference
+        self._map_t = None
+        self._const: tuple | None = None  # the constant part last assembled, and its nonzero entries
+
+    def entries(self, g: np.ndarray) -> np.ndarray:
+        """The U stamped entries (..., U) of conductances g (..., R), through the map held sparse (each
+        resistor touches at most four entries: O(R) per sample, where the dense (R, U) map is O(R·U))."""
+        if self._map_t is None:
+            from scipy.sparse import csr_matrix
+
+            self._map_t = csr_matrix(self.map.T)
+        flat = g.reshape(-1, g.shape[-1])
+        return np.asarray((self._map_t @ flat.T).T).reshape((*g.shape[:-1], len(self.pos)))
+
+    def matrix(self, g: np.ndarray, const: np.ndarray):
+        """The sparse matrix (CSC) g · stamps + const of one sample's conductances g (R,)."""
+        from scipy.sparse import csc_matrix
+
+        size = self.size
+        if self._const is None or self._const[0] is not const:
+            ci, cj = np.nonzero(const)
+            self._const = (const, ci, cj)
+        _c, ci, cj = self._const
+        vals = np.concatenate([self.entries(g[None])[0], const[ci, cj]])
+        rows = np.concatenate([self.pos // size, ci])
+        cols = np.concatenate([self.pos % size, cj])
+        return csc_matrix((vals, (rows, cols)), shape=(size, size))
+
+    def times(self, dg: np.ndarray, x: np.ndarray) -> np.ndarray:
+        """(∂A/∂p) x for every p: dg (P, R) the conductances' derivatives, x (size,) -> (P, size). A
+        resistor row (a, b) adds dg·(x_a − x_b) at a and its negative at b (the stamp times x), O(P·R)."""
+        v = np.concatenate([[0.0], x])
+        a, b = self.ab[:, 0], self.ab[:, 1]
+        w = dg * (v[a] - v[b])  # (P, R)
+        out = np.zeros((dg.shape[0], self.size + 1))
+        np.add.at(out.T, a, w.T)
+        np.add.at(out.T, b, -w.T)
+        out[:, 0] = 0.0
+        return out[:, 1:]
 
     def __rmatmul__(self, g: np.ndarray) -> np.ndarray:
         out = np.zeros((*g.shape[:-1], self.size * self.size))
@@ -323,7 +371,7 @@ class _Stamps:
 
         n, size = g.shape[0], self.size
         ci, cj = np.nonzero(const)
-        vals = np.concatenate([g @ self.map, np.broadcast_to(const[ci, cj], (n, len(ci)))], axis=1)
+        vals = np.concatenate([self.entries(g), np.broadcast_to(const[ci, cj], (n, len(ci)))], axis=1)
         r0 = np.concatenate([self.pos // size, ci])
         c0 = np.concatenate([self.pos % size, cj])
         off = (np.arange(n) * size)[:, None]
@@ -406,7 +454,7 @@ class _Net:
         """Current of every element from a to b (..., E), from the solution and the element
         conductances (..., E) (0 V parts: their source current)."""
         v = np.concatenate([np.zeros((*x.shape[:-1], 1)), x[..., : self.n]], axis=-1)
-        out = (v[..., self.ea] - v[..., self.eb]) * g_el
+        out = (np.take(v, self.ea, axis=-1) - np.take(v, self.eb, axis=-1)) * g_el
         for q, k in enumerate(self.zero_el):
             out[..., k] = x[..., self.n + q]
         return out
@@ -577,6 +625,8 @@ class Model:
         others = {int(v) for j in range(len(d.elements)) if j not in self.stages for v in (net.ea[j], net.eb[j])}
         touched = {int(v) for j in self.stages for v in (net.ea[j], net.eb[j])}
         self.ports = None
+        self._port_a = np.array([int(net.ea[j]) for j in self.stages], dtype=np.int64)
+        self._port_b = np.array([int(net.eb[j]) for j in self.stages], dtype=np.int64)
         if touched <= others | {0}:
             self.ports = np.zeros((net.size(True), len(self.stages)))
             for q, j in enumerate(self.stages):
@@ -628,8 +678,9 @@ class Model:
 
     # ---- the three networks
     def duty(self, x: np.ndarray):
-        """(element currents (N, Q, E) over the stage states, the bus (N,), element resistances (N, E)).
-        State 0 has every stage on; state k ≥ 1 stage k alone (only where there are two or more)."""
+        """(each element's largest current over the stage states (N, E) [A] (magnitude), the solution
+        with every stage on (N, size), the bus (N,)). The states: every stage on, and each stage alone
+        (only where there are two or more)."""
         net = self.net
         n = x.shape[0]
         r = self.resistances(x, self.ambient(x))
@@ -655,11 +706,11 @@ class Model:
         if base > 0:
             net.inject(rhs, net.base_node, np.full(n, -base))
         rhs[:, size - 1] = bus
-        g_el = g[:, None, :] * on[None, :, :]  # (N, Q, E)
         if self.ports is None or s_count < 2:
+            g_el = g[:, None, :] * on[None, :, :]  # (N, Q, E)
             rhs_q = np.broadcast_to(rhs[:, None, :], (n, len(states), size))
             xs = net.solve(g_el[..., net.res_el], self.st_duty, self.c_duty, rhs_q)
-            return net.element_currents(xs, g_el), xs, bus
+            return np.max(np.abs(net.element_currents(xs, g_el)), axis=1), xs[:, 0], bus
         # Stages as ports of the stage-free network (one solve per sample with 1 + S right-hand sides):
         # A0 v = b − P i, stage k: R_k i_k = p_kᵀ v, so (diag R + K) i = c with Z = A0⁻¹P, K = PᵀZ,
         # c = Pᵀ A0⁻¹ b (the RL reduction of analysis.linear, here at DC and for every sample at once)
@@ -672,16 +723,38 @@ class Model:
             np.concatenate([rhs[:, :, None], np.broadcast_to(self.ports, (n, *self.ports.shape))], axis=2),
         )
         xb, z = sol[:, :, 0], sol[:, :, 1:]
-        c = xb @ self.ports  # (N, S)
-        k = np.einsum("zs,nzt->nst", self.ports, z)  # (N, S, S)
+        # pᵀ y of each port by its two terminals (a port column holds +1 and −1 only: the same sums as
+        # the product with the port matrix, without its O(size·S) zeros per read-out)
+        c = self._port_read(xb)  # (N, S)
+        k = self._port_read(np.swapaxes(z, 1, 2))  # (N, S, S): k[:, s, t] = p_tᵀ z_s
+        k = np.swapaxes(k, 1, 2)
         rs = r[:, self.stages]
         i_all = np.linalg.solve(k + rs[:, :, None] * np.eye(s_count), c[:, :, None])[:, :, 0]
         i_alone = c / (rs + np.einsum("nss->ns", k))
-        i_q = np.concatenate([i_all[:, None, :], i_alone[:, :, None] * np.eye(s_count)[None]], axis=1)
-        xs = xb[:, None, :] - np.einsum("nqs,nzs->nqz", i_q, z)
-        cur = net.element_currents(xs, g_el)
-        cur[:, :, self.stages] = i_q
-        return cur, xs, bus
+        # all on: x_b − Z i_all; stage k alone: x_b − i_k z_k (one column each: O(S·size) per sample,
+        # where the product with the diagonal i_q would be O(S²·size)); each element's largest current
+        # over the states is reduced a block of states at a time (no (N, states, E) array)
+        x_all = xb - np.einsum("ns,nzs->nz", i_all, z)
+        duty = np.abs(net.element_currents(x_all, g))
+        step = max(1, 4096 // max(1, len(self.d.elements)))
+        for q0 in range(0, s_count, step):
+            q1 = min(s_count, q0 + step)
+            xq = xb[:, None, :] - np.swapaxes(z[:, :, q0:q1] * i_alone[:, None, q0:q1], 1, 2)
+            np.maximum(duty, np.max(np.abs(net.element_currents(xq, g[:, None, :])), axis=1), out=duty)
+        # the stages' own currents: all on, and alone (zero in the other states)
+        duty[:, self.stages] = np.maximum(np.abs(i_all), np.abs(i_alone))
+        return duty, x_all, bus
+
+    def _port_read(self, y: np.ndarray) -> np.ndarray:
+        """p_kᵀ y for every stage port k: y (..., size) -> (..., S), from the ports' two terminals."""
+        out = np.zeros((*y.shape[:-1], len(self.stages)))
+        pos = self._port_a > 0
+        if pos.any():
+            out[..., pos] += y[..., self._port_a[pos] - 1]
+        pos = self._port_b > 0
+        if pos.any():
+            out[..., pos] -= y[..., self._port_b[pos] - 1]
+        return out
 
     def battery_low(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(EMF, resistance) of the battery for the low bus (N,) each."""
@@ -889,7 +962,7 @@ def _ceiling(value: np.ndarray, limit: float) -> np.ndarray:
     return (limit - value) / limit
 
 
-def evaluate(d: Drawing, X: np.ndarray) -> dict[tuple[str, str], Evaluated]:
+def evaluate(d: Drawing, X: np.ndarray, rules: Collection[str] | None = None) -> dict[tuple[str, str], Evaluated]:
     """Margins and statuses of the steady-state rules for N samples of the declared parameters.
 
     Parameters
@@ -897,6 +970,9 @@ def evaluate(d: Drawing, X: np.ndarray) -> dict[tuple[str, str], Evaluated]:
     d : Drawing
     X : array (N, P)
         One row per sample, columns in the order of ``parameters(d)``, in each parameter's unit.
+    rules : collection of str, optional
+        Only these rules (of :data:`RULES`), solving only the networks they read (:data:`NETWORKS`);
+        each sample's figures are those of the whole evaluation. Default: every rule.
 
     Returns
     -------
@@ -912,59 +988,67 @@ def evaluate(d: Drawing, X: np.ndarray) -> dict[tuple[str, str], Evaluated]:
     lim = m.limits
     out: dict[tuple[str, str], Evaluated] = {}
     el = {e.id: j for j, e in enumerate(d.elements)}
-    cur, xs, _bus = m.duty(x)
-    duty = np.max(np.abs(cur), axis=1)  # (N, E)
-    amb = m.ambient(x)
+    want = None if rules is None else frozenset(rules)
 
-    def at_ambient(table: np.ndarray) -> np.ndarray:
-        return np.interp(amb, lim.grid, table)
+    def wanted(network: str) -> bool:  # a network is solved only where a rule asked for reads it
+        return want is None or not want.isdisjoint(NETWORKS[network])
 
-    for f in d.of_kind(Fuse):
-        i = duty[:, el[f.id]]
-        limit = at_ambient(lim.fuse_limit[f.id])
-        st = np.where(i <= limit, PASS, np.where(i <= limit / lim.fuse_frac, WARN, FAIL))
-        out[("fuse.continuous", f.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
-    for c in d.of_kind(Cable):
-        if c.id in lim.cable_limit:
-            i = duty[:, el[c.id]]
-            limit = at_ambient(lim.cable_limit[c.id])
-            out[("cable.ampacity", c.id)] = Evaluated(
-                _ceiling(i, limit), np.where(i <= limit, PASS, FAIL), i, limit, "A"
-            )
-    for r in d.of_kind(Relay):
-        if r.id in lim.relay_limit:
-            i = duty[:, el[r.id]]
-            table, held_at = lim.relay_limit[r.id]
-            limit = at_ambient(table)
-            held = np.interp(amb, lim.grid, held_at.astype(float)) > 0.5
-            st = np.where(i <= RELAY_WARN_SHARE * limit, np.where(held, WARN, PASS), np.where(i <= limit, WARN, FAIL))
-            out[("relay.contact_rating", r.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
     net = m.net
-    v0 = np.concatenate([np.zeros((x.shape[0], 1)), xs[:, 0, : net.n]], axis=1)  # all stages on
-    for s in d.of_kind(Stage):
-        j = el[s.id]
-        vt = v0[:, net.ea[j]] - v0[:, net.eb[j]]
-        f = (v0[:, net.bat] - vt) / d.supply.system_voltage
-        st = np.where(f <= lim.drop_pass, PASS, np.where(f <= lim.drop_warn, WARN, FAIL))
-        out[("circuit.voltage_drop", s.id)] = Evaluated(
-            _ceiling(f, lim.drop_pass), st, f * 100, lim.drop_pass * 100, "%"
-        )
-    xl, _mode = m.low_bus(x)
-    vb = xl[:, net.bat - 1] if net.bat > 0 else np.zeros(x.shape[0])
-    if lim.v_min > 0:
+    if wanted("duty"):
+        duty, x_on, _bus = m.duty(x)  # (N, E) largest over the stage states; (N, size) all stages on
+        amb = m.ambient(x)
+
+        def at_ambient(table: np.ndarray) -> np.ndarray:
+            return np.interp(amb, lim.grid, table)
+
+        for f in d.of_kind(Fuse):
+            i = duty[:, el[f.id]]
+            limit = at_ambient(lim.fuse_limit[f.id])
+            st = np.where(i <= limit, PASS, np.where(i <= limit / lim.fuse_frac, WARN, FAIL))
+            out[("fuse.continuous", f.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
+        for c in d.of_kind(Cable):
+            if c.id in lim.cable_limit:
+                i = duty[:, el[c.id]]
+                limit = at_ambient(lim.cable_limit[c.id])
+                out[("cable.ampacity", c.id)] = Evaluated(
+                    _ceiling(i, limit), np.where(i <= limit, PASS, FAIL), i, limit, "A"
+                )
+        for r in d.of_kind(Relay):
+            if r.id in lim.relay_limit:
+                i = duty[:, el[r.id]]
+                table, held_at = lim.relay_limit[r.id]
+                limit = at_ambient(table)
+                held = np.interp(amb, lim.grid, held_at.astype(float)) > 0.5
+                st = np.where(
+                    i <= RELAY_WARN_SHARE * limit, np.where(held, WARN, PASS), np.where(i <= limit, WARN, FAIL)
+                )
+                out[("relay.contact_rating", r.id)] = Evaluated(_ceiling(i, limit), st, i, limit, "A")
+        v0 = np.concatenate([np.zeros((x.shape[0], 1)), x_on[:, : net.n]], axis=1)  # all stages on
+        for s in d.of_kind(Stage):
+            j = el[s.id]
+            vt = v0[:, net.ea[j]] - v0[:, net.eb[j]]
+            f = (v0[:, net.bat] - vt) / d.supply.system_voltage
+            st = np.where(f <= lim.drop_pass, PASS, np.where(f <= lim.drop_warn, WARN, FAIL))
+            out[("circuit.voltage_drop", s.id)] = Evaluated(
+                _ceiling(f, lim.drop_pass), st, f * 100, lim.drop_pass * 100, "%"
+            )
+    if wanted("low bus"):
+        xl, _mode = m.low_bus(x)
+        vb = xl[:, net.bat - 1] if net.bat > 0 else np.zeros(x.shape[0])
+    if lim.v_min > 0 and wanted("low bus"):
         out[("supply.bus_minimum", "bus")] = Evaluated(
             (vb - lim.v_min) / lim.v_min, np.where(vb >= lim.v_min, PASS, FAIL), vb, lim.v_min, "V"
         )
-    for fid, i in m.largest_fault(x).items():
+    for fid, i in (m.largest_fault(x) if wanted("largest fault") else {}).items():
         if fid in lim.breaking:
             bc = lim.breaking[fid]
             out[("fuse.breaking_capacity", fid)] = Evaluated(_ceiling(i, bc), np.where(i <= bc, PASS, FAIL), i, bc, "A")
-    for rid, (share, need) in m.pickups.items():
+    for rid, (share, need) in m.pickups.items() if wanted("low bus") else ():
         have = vb * share
         limit = PICKUP_MARGIN * need
         st = np.where(have >= limit, PASS, np.where(have >= need, WARN, FAIL))
         out[("relay.coil_pickup", rid)] = Evaluated((have - limit) / limit, st, have, limit, "V")
-    if m.shorts:
+    if m.shorts and wanted("smallest fault"):
         fault = m.smallest_fault(x)
         for f, c in m.shorts:
             i = fault[net.nd[c.b]]
@@ -972,4 +1056,6 @@ def evaluate(d: Drawing, X: np.ndarray) -> dict[tuple[str, str], Evaluated]:
             out[("fuse.cable_short_circuit", f"{f.id} → {c.id}")] = Evaluated(
                 _ceiling(theta + 273.15, limit + 273.15), np.where(theta <= limit, PASS, FAIL), theta, limit, "degC", i
             )
+    if want is not None:
+        out = {k: v for k, v in out.items() if k[0] in want}
     return out

@@ -37,7 +37,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from coilstage.analysis.params import Parameter, evaluate, model, nominal
+from coilstage.analysis.params import BATCH_SPARSE_ABOVE, NETWORKS, Parameter, evaluate, model, nominal
 from coilstage.analysis.relay_coil import PICKUP_MARGIN
 from coilstage.drawing.schema import Drawing
 from coilstage.physics.sensitivity import all_vertices
@@ -48,8 +48,12 @@ STEP = 1e-3
 FULL_CORNERS = 8
 #: points of the scan across a non-monotone parameter's range
 SCAN = 11
-#: above this many unknowns the sensitivities are not computed (dense batched solves: cost ∝ n³ per sample)
-MAX_UNKNOWNS = 150
+#: above this many unknowns the sensitivities are not computed. Above
+#: :data:`~coilstage.analysis.params.BATCH_SPARSE_ABOVE` the samples are solved sparse and the number of
+#: samples does not grow with the drawing, so the search costs O(n²) (n right-hand sides of O(n) per
+#: sample); this bound (256 stages of ``benchmarks/bench_growth.py``'s drawing) keeps a sweep of many
+#: samples on a very large drawing from running for minutes (its command reads it too)
+MAX_UNKNOWNS = 1100
 #: how a gradient was found
 EXACT = "exact: direct or adjoint method on the network's factorisation (physics.sensitivity)"
 DIFFERENCED = "central differences through params.evaluate"
@@ -124,9 +128,9 @@ def gradients(d: Drawing, at: np.ndarray | None = None) -> tuple[dict[tuple[str,
     return out, {k: float(e.margin[0]) for k, e in ev.items()}
 
 
-def toward_worst_gradients(d: Drawing) -> dict[tuple[str, str], np.ndarray]:
+def toward_worst_gradients(d: Drawing, rules=None) -> dict[tuple[str, str], np.ndarray]:
     """d/dp at nominal of each modelled verdict's ``toward_worst`` read-out (where it has one), by
-    central differences as :func:`gradients`."""
+    central differences as :func:`gradients` (of ``rules`` only, where given)."""
     ps = model(d).params
     x0 = nominal(ps)
     h = _steps(ps)
@@ -134,7 +138,7 @@ def toward_worst_gradients(d: Drawing) -> dict[tuple[str, str], np.ndarray]:
     rows = np.tile(x0, (2 * p, 1))
     rows[:p] += np.diag(h)
     rows[p:] -= np.diag(h)
-    ev = evaluate(d, rows)
+    ev = evaluate(d, rows, rules)
     return {k: (e.toward_worst[:p] - e.toward_worst[p:]) / (2 * h) for k, e in ev.items() if e.toward_worst is not None}
 
 
@@ -159,7 +163,9 @@ def _flips(s: np.ndarray, idx: np.ndarray) -> list[np.ndarray]:
 
 def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
     """Worst corner per key: every corner of the active parameters (``exhaustive``) or a
-    steepest-descent search over the corners from each key's seed signs, all keys batched."""
+    steepest-descent search over the corners from each key's seed signs, all keys batched. Only the
+    networks the keys' rules read are solved."""
+    rules = {k[0] for k in keys}
     lo = np.array([p.low for p in ps])
     hi = np.array([p.high for p in ps])
 
@@ -171,7 +177,7 @@ def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
         v = all_vertices(len(idx)) if len(idx) else np.zeros((1, 0))
         signs = np.zeros((len(v), len(ps)))
         signs[:, idx] = v
-        ev = evaluate(d, rows_of(signs))
+        ev = evaluate(d, rows_of(signs), rules)
         out = {}
         for k in keys:
             j = int(np.argmin(ev[k].margin))
@@ -186,7 +192,7 @@ def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
             cand.append(s)
             cand.extend(_flips(s, idx))
         cand = np.unique(np.array(cand), axis=0)
-        ev = evaluate(d, rows_of(cand))
+        ev = evaluate(d, rows_of(cand), rules)
         where = {tuple(s): r for r, s in enumerate(cand)}
         moved = False
         for k in keys:
@@ -204,6 +210,42 @@ def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
     return best
 
 
+def _by_network(keys: list[tuple[str, str]]) -> list[list[tuple[str, str]]]:
+    """The keys grouped by the network their rule reads (:data:`coilstage.analysis.params.NETWORKS`),
+    in the order of the keys."""
+    net_of = {rule: name for name, rules in NETWORKS.items() for rule in rules}
+    groups: dict[str, list[tuple[str, str]]] = {}
+    for k in keys:
+        groups.setdefault(net_of.get(k[0], k[0]), []).append(k)
+    return list(groups.values())
+
+
+def _scan(d, ps, keys, found, flags, interior, x0, lo, hi) -> None:
+    """Scan each non-monotone parameter across its range at each key's corner found (updating
+    ``found`` and ``interior`` where the worst lies inside)."""
+    scan_rows, scan_of = [], []
+    for k in keys:
+        s = found[k][0]
+        xc = np.where(s > 0, hi, np.where(s < 0, lo, x0))
+        for j in flags[k]:
+            for t in np.linspace(lo[j], hi[j], SCAN):
+                r = xc.copy()
+                r[j] = t
+                scan_rows.append(r)
+                scan_of.append((k, j, t))
+    if scan_rows:
+        # verdicts sharing a corner and a non-monotone parameter share their scan: the distinct rows
+        # only (their number follows the distinct corners, not the number of verdicts)
+        uniq_scan, row_scan = np.unique(np.array(scan_rows), axis=0, return_inverse=True)
+        row_scan = np.ravel(row_scan)
+        ev_scan = evaluate(d, uniq_scan, {k[0] for k in keys})
+        for r, (k, j, t) in zip(row_scan, scan_of, strict=True):
+            mr = float(ev_scan[k].margin[r])
+            if mr < found[k][1] - 1e-9:
+                found[k] = (found[k][0], mr, int(ev_scan[k].status[r]))
+                interior[k][ps[j].key] = float(t)
+
+
 def analyse_sensitivities(
     d: Drawing, keys: list[tuple[str, str]] | None = None, exhaustive: bool | None = None
 ) -> dict[tuple[str, str], VerdictSensitivity]:
@@ -214,7 +256,7 @@ def analyse_sensitivities(
     m = model(d)
     if m.net.size(True) > MAX_UNKNOWNS:
         raise ValueError(
-            f"the network has {m.net.size(True)} unknowns, above the {MAX_UNKNOWNS} the dense vectorised model takes"
+            f"the network has {m.net.size(True)} unknowns, above the {MAX_UNKNOWNS} the vectorised model takes"
         )
     ps = m.params
     p = len(ps)
@@ -244,6 +286,8 @@ def analyse_sensitivities(
     flags: dict[tuple[str, str], tuple[int, ...]] = {}
     active_any = np.zeros(p, dtype=bool)
     towards = None
+    # the rules with a read-out of their own way to the worst case (differenced only if one is flat)
+    flat_rules = {k[0] for k in keys if ev_ends[k].toward_worst is not None}
     for k in keys:
         g = grads[k]
         mm = ev_ends[k].margin
@@ -256,7 +300,7 @@ def analyse_sensitivities(
         if not signed.any() and ev_ends[k].toward_worst is not None:
             # the margin is flat at nominal (no parameter moves it): start from the rule's own way to
             # its worst case instead, each parameter at the end that lowers that read-out
-            towards = toward_worst_gradients(d) if towards is None else towards
+            towards = toward_worst_gradients(d, flat_rules) if towards is None else towards
             t = towards[k]
             scale = np.max(np.abs(t * width))
             signed = np.where(np.abs(t * width) > 1e-9 * scale, -np.sign(t), 0.0) if scale > 0 else signed
@@ -266,26 +310,16 @@ def analyse_sensitivities(
     active_any |= width > 0  # a parameter without effect at nominal may act through another
     n_active = int(active_any.sum())
     full = exhaustive if exhaustive is not None else n_active <= FULL_CORNERS
-    found = _corner_search(d, ps, keys, seeds, x0, active_any, full)
+    # each network's verdicts searched on their own: their seeds (and so the candidate corners) are
+    # few, and the other networks are not solved at their candidates (a key's search reads only its
+    # own margins, so the corners found are the same)
+    found: dict = {}
+    for group in _by_network(keys):
+        found.update(_corner_search(d, ps, group, seeds, x0, active_any, full))
     # scan each non-monotone parameter across its range at the corner found
     interior: dict[tuple[str, str], dict[str, float]] = {k: {} for k in keys}
-    scan_rows, scan_of = [], []
-    for k in keys:
-        s = found[k][0]
-        xc = np.where(s > 0, hi, np.where(s < 0, lo, x0))
-        for j in flags[k]:
-            for t in np.linspace(lo[j], hi[j], SCAN):
-                r = xc.copy()
-                r[j] = t
-                scan_rows.append(r)
-                scan_of.append((k, j, t))
-    if scan_rows:
-        ev_scan = evaluate(d, np.array(scan_rows))
-        for r, (k, j, t) in enumerate(scan_of):
-            mr = float(ev_scan[k].margin[r])
-            if mr < found[k][1] - 1e-9:
-                found[k] = (found[k][0], mr, int(ev_scan[k].status[r]))
-                interior[k][ps[j].key] = float(t)
+    for group in _by_network(keys):
+        _scan(d, ps, group, found, flags, interior, x0, lo, hi)
     corners = {}
     for k in keys:
         xc = np.where(found[k][0] > 0, hi, np.where(found[k][0] < 0, lo, x0))
@@ -295,19 +329,24 @@ def analyse_sensitivities(
     # the gradient at each verdict's own worst corner (2P samples per distinct corner, one call):
     # the effects are stated where the verdict is decided, so a parameter acting through another
     # (compensation through a cold regulator) shows its effect
-    uniq = np.unique(np.array(list(corners.values())), axis=0)
-    block = np.repeat(uniq, 2 * p, axis=0)
-    for u in range(len(uniq)):
-        block[u * 2 * p : u * 2 * p + p] += np.diag(h)
-        block[u * 2 * p + p : (u + 1) * 2 * p] -= np.diag(h)
-    ev_c = evaluate(d, block)
-    row_of = {tuple(c): u for u, c in enumerate(uniq)}
+    # (per network: the distinct corners of its own verdicts)
+    at_corner: dict[tuple[str, str], np.ndarray] = {}
+    for group in _by_network(keys):
+        uniq = np.unique(np.array([corners[k] for k in group]), axis=0)
+        block = np.repeat(uniq, 2 * p, axis=0)
+        for u in range(len(uniq)):
+            block[u * 2 * p : u * 2 * p + p] += np.diag(h)
+            block[u * 2 * p + p : (u + 1) * 2 * p] -= np.diag(h)
+        ev_c = evaluate(d, block, {k[0] for k in group})
+        row_of = {tuple(c): u for u, c in enumerate(uniq)}
+        for k in group:
+            u = row_of[tuple(corners[k])]
+            at_corner[k] = ev_c[k].margin[u * 2 * p : (u + 1) * 2 * p]
     out = {}
     for k in keys:
         _signs, m, st = found[k]
         xc = corners[k]
-        u = row_of[tuple(xc)]
-        mm = ev_c[k].margin[u * 2 * p : (u + 1) * 2 * p]
+        mm = at_corner[k]
         gc = (mm[:p] - mm[p:]) / (2 * h)
         eff = []
         for j, q in enumerate(ps):
@@ -342,6 +381,38 @@ def corner_words(vs: VerdictSensitivity) -> tuple[str, ...]:
         where = f"; its worst lies inside the range, at {at:g} {p.unit}" if at is not None else "; both ends searched"
         out.append(f"not monotone in {p.words}: its effect changes sign within {p.low:g} to {p.high:g} {p.unit}{where}")
     return tuple(out)
+
+
+def _factor(stamps, const: np.ndarray, g: np.ndarray):
+    """Sparse LU (scipy.sparse.linalg.splu) of one network g · stamps + const."""
+    from scipy.sparse.linalg import splu
+
+    try:
+        return splu(stamps.matrix(g, const))
+    except RuntimeError:
+        raise np.linalg.LinAlgError("singular network") from None
+
+
+def _sparse_direct(stamps, const, g, dg, b, db) -> tuple[np.ndarray, np.ndarray]:
+    r"""x and ∂x/∂p (P, size) of (g·S + C) x = b by the direct method on one sparse factorisation:
+    ∂x/∂p = −A⁻¹((∂A/∂p) x − ∂b/∂p), with (∂A/∂p) x formed from the resistor rows (O(P·R), no dense
+    ∂A/∂p): the arithmetic of :func:`coilstage.physics.sensitivity.direct_sensitivities` for networks
+    above :data:`~coilstage.analysis.params.BATCH_SPARSE_ABOVE` unknowns (held equal to it in
+    ``tests/test_sensitivities.py``)."""
+    lu = _factor(stamps, const, g)
+    x = lu.solve(np.asarray(b, dtype=float))
+    rhs = db - stamps.times(dg, x)
+    return x, lu.solve(np.ascontiguousarray(rhs.T)).T
+
+
+def _sparse_adjoint(stamps, const, g, dg, b, db, c) -> np.ndarray:
+    r"""dy/dp (P,) of y = cᵀx by the adjoint method on one sparse factorisation: Aᵀx̂ = c,
+    dy/dp = x̂ᵀ(∂b/∂p − (∂A/∂p) x) (:func:`coilstage.physics.sensitivity.adjoint_sensitivities`'
+    arithmetic, for the large networks)."""
+    lu = _factor(stamps, const, g)
+    x = lu.solve(np.asarray(b, dtype=float))
+    xh = lu.solve(np.asarray(c, dtype=float), trans="T")
+    return (db - stamps.times(dg, x)) @ xh
 
 
 #: relative step for differencing the element laws (closed forms, no solve: round-off ε/h only)
@@ -402,16 +473,20 @@ def exact_gradients(d: Drawing, at: np.ndarray | None = None) -> dict[tuple[str,
     if s_count > 1:
         states += [np.arange(s_count) == k for k in range(s_count)]
     cur_q, dcur_q, x_q, dx_q = [], [], [], []
+    sparse = size > BATCH_SPARSE_ABOVE
     for st in states:
         on = np.ones(len(d_.elements))
         on[m.stages] = st
         g_on = g * on
         # A is linear in the conductances: ∂A/∂p is the stamps of ∂g/∂p (differencing the assembled
         # matrix instead would lose digits where sub-milliohm parts sit beside ohm coils)
-        a0 = (g_on[0, net.res_el] @ m.st_duty).reshape(size, size) + m.c_duty
-        da = (diff(g_on[:, net.res_el]) @ m.st_duty).reshape(p, size, size)
-        x = np.linalg.solve(a0, b[0])
-        dx = direct_sensitivities(a0, x, da, diff(b))  # (P, size)
+        if sparse:
+            x, dx = _sparse_direct(m.st_duty, m.c_duty, g_on[0, net.res_el], diff(g_on[:, net.res_el]), b[0], diff(b))
+        else:
+            a0 = (g_on[0, net.res_el] @ m.st_duty).reshape(size, size) + m.c_duty
+            da = (diff(g_on[:, net.res_el]) @ m.st_duty).reshape(p, size, size)
+            x = np.linalg.solve(a0, b[0])
+            dx = direct_sensitivities(a0, x, da, diff(b))  # (P, size)
         v = np.concatenate([[0.0], x[: net.n]])
         dv = np.concatenate([np.zeros((p, 1)), dx[:, : net.n]], axis=1)
         i = (v[net.ea] - v[net.eb]) * g_on[0]
@@ -465,12 +540,15 @@ def exact_gradients(d: Drawing, at: np.ndarray | None = None) -> dict[tuple[str,
             else:
                 net.inject(b, net.alt_node, m.hot_limit * (1.0 - m.column(rows, "supply.alternator.hot_derating", 0.0)))
         g_rows = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None], g_alt[:, None]], axis=1)
-        a0 = (g_rows[0] @ m.st_low).reshape(size, size) + m.c_open
-        da = (diff(g_rows) @ m.st_low).reshape(p, size, size)
-        x = np.linalg.solve(a0, b[0])
         c = np.zeros(size)
         c[net.bat - 1] = 1.0
-        dy = adjoint_sensitivities(a0, x, c, da, diff(b))
+        if size > BATCH_SPARSE_ABOVE:
+            dy = _sparse_adjoint(m.st_low, m.c_open, g_rows[0], diff(g_rows), b[0], diff(b), c)
+        else:
+            a0 = (g_rows[0] @ m.st_low).reshape(size, size) + m.c_open
+            da = (diff(g_rows) @ m.st_low).reshape(p, size, size)
+            x = np.linalg.solve(a0, b[0])
+            dy = adjoint_sensitivities(a0, x, c, da, diff(b))
         if lim.v_min > 0:
             out[("supply.bus_minimum", "bus")] = dy / lim.v_min
         # relay.coil_pickup: m = (s·V − L)/L with the coil's share s of the bus and its limit L fixed

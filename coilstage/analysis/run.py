@@ -17,6 +17,7 @@ from dataclasses import dataclass
 
 from coilstage.analysis.circuit import Circuit
 from coilstage.analysis.conditions import Conditions, conditions
+from coilstage.analysis.contacts import Contacts, contacts
 from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, solve_corner
 from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
 from coilstage.analysis.field import FieldResult, analyse_field
@@ -50,6 +51,7 @@ class Analysis:
     descent: DutyResult | None  # the drawing's duty profile
     continuous: DutyResult | None  # continuous full retardation
     worst: WorstCases  # each rule's worst case (largest / smallest fault, lowest bus, largest current)
+    contacts: Contacts  # each relay's break, load dump, arc, coil pick-up and feed; the stages' load dumps
 
 
 def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:
@@ -75,6 +77,16 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         if sw_ is not None
         else None
     )
+    switched = switched_stages(d)
+    relays = contacts(
+        d,
+        switched,
+        sw,
+        corners["cold"].bus_voltage,
+        corners["hot"].bus_voltage,
+        worst.lowest_bus.bus_voltage,
+        worst.bus_high,
+    )
     return Analysis(
         d,
         circuit,
@@ -86,7 +98,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         far_end,
         duty,
         duty_state,
-        switched_stages(d),
+        switched,
         unfused_feed_cables(d),
         ratings(
             d, protected, far_end, duty, sw, corners["hot"], worst.smallest_fault.far_end, worst.largest_current, zones
@@ -96,4 +108,5 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         descent,
         continuous,
         worst,
+        relays,
     )

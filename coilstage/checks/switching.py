@@ -6,8 +6,8 @@ import dataclasses
 import math
 
 from coilstage import tables
-from coilstage.analysis.load_dump import applicable_test, contact_dump, stage_dumps
-from coilstage.analysis.relay_coil import PICKUP_MARGIN, arc_at_contact, coil_at, coil_circuit, hot_temperature, opening
+from coilstage.analysis.load_dump import applicable_test
+from coilstage.analysis.relay_coil import PICKUP_MARGIN, CoilAt
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     _RANK,
@@ -68,8 +68,8 @@ def _contact_voltages(a: Analysis, relay: Relay, ids: list[str]) -> list[Verdict
     rating = relay.voltage_rating
     stages = _stage_map(a)
     bare = [s for s in ids if stages[s].suppression.kind == "none"]
-    cold = a.switching.stages["cold"] if a.switching is not None else {}
-    u_sup = max((cold[s].decay.u_suppressor_peak for s in ids if s not in bare and s in cold), default=0.0)
+    fig = a.contacts.relays[relay.id]
+    u_sup = fig.suppressor_voltage
     kinds = ", ".join(sorted({stages[s].suppression.kind for s in ids if s not in bare})) or "none"
     central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
     test, assumed = applicable_test(central)
@@ -93,9 +93,8 @@ def _contact_voltages(a: Analysis, relay: Relay, ids: list[str]) -> list[Verdict
         out.append(at_least(RELAY_VOLTAGE, relay.id, rating, cv, "V", f"switching voltage rating: {what}", "limit"))
     if not ids or a.switching is None:
         return out
-    i_b = sum(cold[s].i_break for s in ids)
-    r_load = a.corners["cold"].bus_voltage / i_b if i_b > 0 else float("inf")
-    dm = contact_dump(a.drawing, ids[0], r_load, 0.0 if bare else u_sup, central)
+    dm, r_load = fig.dump, fig.load_resistance
+    assert dm is not None and r_load is not None  # made by analysis.contacts wherever the relay switches
     said = (
         "central load-dump suppression not stated: Test A (unclamped) assumed"
         if assumed
@@ -122,15 +121,13 @@ def _relay_voltage(a: Analysis) -> list[Verdict]:
     return [v for r in a.drawing.of_kind(Relay) for v in _contact_voltages(a, r, a.switched.get(r.id, []))]
 
 
-def _slowed_opening(a: Analysis, relay: Relay, i_break: float, stored: float) -> tuple[bool, str]:
+def _slowed_opening(a: Analysis, relay: Relay) -> tuple[bool, str]:
     """Whether the relay's own coil suppression slows its opening, and the arc figures at its contact
-    (duration and energy at the normal and the slowed release) for the break's note."""
-    op = opening(relay)
-    if not op.slowed or op.factor[1] <= 1.5:
+    (duration and energy at the normal and the slowed release, analysis.contacts) for the break's note."""
+    fig = a.contacts.relays[relay.id]
+    op, normal, slow = fig.opening, fig.arc_normal, fig.arc_slowed
+    if normal is None or slow is None:
         return False, ""
-    u_hi, _ = _highest_bus(a)
-    normal = arc_at_contact(i_break, u_hi, stored, op.release)
-    slow = arc_at_contact(i_break, u_hi, stored, op.release_slowest)
     return True, (
         f"the relay's own coil {op.suppression} slows its opening {op.factor[0]:g}-{op.factor[1]:g} x "
         f"({op.factor_source}): the contacts part in up to {slow.duration * 1e3:.0f} ms instead of "
@@ -152,10 +149,9 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
         if not ids:
             out.append(not_checked(RELAY_BREAKING, relay.id, "this relay switches no stage", "ms"))
             continue
-        i_break = sum(cold[s].i_break for s in ids)
-        stored = sum(cold[s].stored_energy for s in ids)
+        i_break = a.contacts.relays[relay.id].i_break
         bare = [s for s in ids if stages[s].suppression.kind == "none"]
-        slowed, slow_note = _slowed_opening(a, relay, i_break, stored)
+        slowed, slow_note = _slowed_opening(a, relay)
         if not bare:
             vs = _contact_voltages(a, relay, ids)
             w = _worst(vs)
@@ -459,8 +455,8 @@ def _load_dump(a: Analysis) -> list[Verdict]:
     Test B cannot be judged without knowing (not checked, with both figures); one that fails both fails."""
     central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
     out = []
-    a_dumps = stage_dumps(a.drawing, "none")
-    b_dumps = stage_dumps(a.drawing, "central")
+    a_dumps = a.contacts.stage_dumps["none"]
+    b_dumps = a.contacts.stage_dumps["central"]
     sups = {s.id: s.suppression for s in a.drawing.stages}
     for sid in a_dumps:
         sup = sups[sid]
@@ -536,11 +532,12 @@ def _release(a: Analysis) -> list[Verdict]:
     return out
 
 
-def _pickup_at(r: Relay, bus: float, where: str, corner: str) -> Verdict:
-    """The pick-up verdict of ``r`` fed from ``bus`` [V], its coil hot (zone + own rise)."""
+def _pickup_at(r: Relay, x: CoilAt | None, where: str, corner: str) -> Verdict:
+    """The pick-up verdict of ``r`` from its coil's figures ``x`` (analysis.contacts: hot coil, zone +
+    own rise, fed from the bus of ``where``)."""
     c = r.coil
-    assert c is not None
-    x = coil_at(r, bus, hot_temperature(r))
+    assert c is not None and x is not None
+    bus = x.bus
     limit = PICKUP_MARGIN * x.need
     status = Status.PASS if x.have >= limit else Status.WARN if x.have >= x.need else Status.FAIL
     return Verdict(
@@ -571,9 +568,10 @@ def _pickup(a: Analysis) -> list[Verdict]:
                 )
             )
             continue
-        nominal = _pickup_at(r, a.corners["hot"].bus_voltage, "hot-corner bus", "hot")
+        fig = a.contacts.relays[r.id]
+        nominal = _pickup_at(r, fig.pickup_hot, "hot-corner bus", "hot")
         low = a.worst.lowest_bus
-        worst = _pickup_at(r, low.bus_voltage, "lowest bus", "lowest bus")
+        worst = _pickup_at(r, fig.pickup_lowest, "lowest bus", "lowest bus")
         out.append(decided_at_worst(worst, nominal, "lowest bus", tuple(f"{k} {v}" for k, v in low.words)))
     return out
 
@@ -589,11 +587,12 @@ def _coil_circuit(a: Analysis) -> list[Verdict]:
     """A relay's own coil circuit: the coil's cold current against its feed fuse, the fuse against its
     wire's ampacity."""
     out = []
-    bus, hi_words = _highest_bus(a)
+    _bus, hi_words = _highest_bus(a)
     for r in a.drawing.of_kind(Relay):
         if r.coil is None:
             continue
-        cc = coil_circuit(a.drawing, r, bus)
+        cc = a.contacts.relays[r.id].coil
+        assert cc is not None  # made by analysis.contacts for every relay with coil data
         i = cc.cold.current
         base = (
             f"coil at the lowest ambient {cc.cold.temperature:g} °C ({cc.cold.resistance:.1f} ohm) on {hi_words} "

@@ -1,0 +1,87 @@
+"""The figures the switching, joint, cable and heating rules compare are made by the analysis, once,
+and read by the rules: here each is held to a value worked out independently of the code that made it
+(by hand from the law it rests on, or by numpy / scipy), on the demo drawings."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from coilstage.analysis.run import analyse
+from coilstage.drawing.load import load_drawing, parse_drawing
+from coilstage.drawing.schema import Relay
+
+from .conftest import COACH, FLAWED, TRUCK
+from .test_joints import with_lug
+
+#: copper's temperature coefficient of resistance at 20 °C, IEC 60028 (1/234.5 K)
+ALPHA_CU = 0.00393
+
+
+@pytest.fixture(scope="module", params=[COACH, TRUCK, FLAWED, "lug"], ids=["coach", "truck", "flawed", "lug"])
+def analysed(request):
+    """Each demo, and the coach with a 0.2 mohm lug J1 on W1 (a joint with a shipped degraded resistance)."""
+    if request.param == "lug":
+        return analyse(parse_drawing(with_lug(), "lug"))
+    return analyse(load_drawing(request.param))
+
+
+def test_the_load_a_contact_breaks_is_ohms_law_on_the_cold_bus(analysed):
+    """R_load = U_bus / I_break (Ohm's law), U_bus the cold corner's bus, I_break the sum of the
+    switched stages' cold break currents (summed here from the switching result)."""
+    a = analysed
+    cold = a.switching.stages["cold"]
+    for r in a.drawing.of_kind(Relay):
+        fig = a.contacts.relays[r.id]
+        ids = a.switched.get(r.id, [])
+        if not ids:
+            assert fig.load_resistance is None and fig.dump is None
+            continue
+        i_b = sum(cold[s].i_break for s in ids)
+        assert fig.i_break == pytest.approx(i_b, rel=1e-12)
+        assert fig.load_resistance == pytest.approx(a.corners["cold"].bus_voltage / i_b, rel=1e-12)
+        assert fig.dump.load_resistance == fig.load_resistance
+
+
+def test_the_coil_pickup_is_the_same_ampere_turns_at_the_hot_coil(analysed):
+    """Hand-worked: R(T) = R_ref (1 + α (T − 20)) / (1 + α (T_ref − 20)) with copper's α (IEC 60028);
+    U_need = U_op R(T)/R_ref; U_have = U_bus R(T)/(R(T) + R_feed) (a voltage divider)."""
+    a = analysed
+    for r in a.drawing.of_kind(Relay):
+        fig = a.contacts.relays[r.id]
+        if r.coil is None:
+            assert fig.pickup_hot is None and fig.coil is None
+            continue
+        c = r.coil
+        t = r.zone_temperature + c.rise
+        rt = c.r_ref * (1 + ALPHA_CU * (t - 20.0)) / (1 + ALPHA_CU * (c.t_ref - 20.0))
+        for x, bus in (
+            (fig.pickup_hot, a.corners["hot"].bus_voltage),
+            (fig.pickup_lowest, a.worst.lowest_bus.bus_voltage),
+        ):
+            assert x.temperature == t and x.bus == bus
+            assert x.resistance == pytest.approx(rt, rel=2e-3)  # α rounded to 3 figures here
+            assert x.need == pytest.approx(c.operate_voltage * rt / c.r_ref, rel=2e-3)
+            assert x.have == pytest.approx(bus * rt / (rt + c.feed_resistance), rel=2e-3)
+
+
+def test_the_arc_estimate_is_bus_power_over_the_opening_plus_the_stored_energy(analysed):
+    """E ≈ U_bus·I·t_open + ½LI² (common practice, an estimate) at the normal and the slowest release."""
+    a = analysed
+    for r in a.drawing.of_kind(Relay):
+        fig = a.contacts.relays[r.id]
+        if fig.arc_slowed is None:
+            continue
+        for arc, t in ((fig.arc_normal, fig.opening.release), (fig.arc_slowed, fig.opening.release_slowest)):
+            assert arc.energy == pytest.approx(a.contacts.highest_bus * fig.i_break * t + fig.stored_energy)
+
+
+def test_some_drawing_has_each_figure():
+    """The tests above are not empty: across the drawings there is a switched relay and a coil."""
+    seen = set()
+    for a in (analyse(load_drawing(p)) for p in (COACH, TRUCK, FLAWED)):
+        seen |= {"load" for f in a.contacts.relays.values() if f.load_resistance is not None}
+        seen |= {"coil" for f in a.contacts.relays.values() if f.pickup_hot is not None}
+        assert math.isfinite(a.contacts.highest_bus)
+    assert seen == {"load", "coil"}

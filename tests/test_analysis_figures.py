@@ -10,7 +10,7 @@ import pytest
 
 from coilstage.analysis.run import analyse
 from coilstage.drawing.load import load_drawing, parse_drawing
-from coilstage.drawing.schema import Relay
+from coilstage.drawing.schema import Joint, Relay
 
 from .conftest import COACH, FLAWED, TRUCK
 from .test_joints import with_lug
@@ -77,11 +77,29 @@ def test_the_arc_estimate_is_bus_power_over_the_opening_plus_the_stored_energy(a
             assert arc.energy == pytest.approx(a.contacts.highest_bus * fig.i_break * t + fig.stored_energy)
 
 
+def test_joint_heat_is_joules_law(analysed):
+    """P = I²R (Joule's law), at the nominal and the largest continuous current."""
+    a = analysed
+    for j in a.drawing.of_kind(Joint):
+        fig = a.joints[j.id]
+        if fig.current is None:
+            assert fig.heat_nominal is None
+            continue
+        assert fig.heat_nominal == pytest.approx(fig.current.nominal**2 * j.resistance, rel=1e-12)
+        assert fig.heat_worst == pytest.approx(fig.current.worst**2 * j.resistance, rel=1e-12)
+        if fig.degraded is not None:
+            assert fig.degraded[0] > j.resistance
+            assert fig.heat_degraded == pytest.approx(fig.current.worst**2 * fig.degraded[0], rel=1e-12)
+
+
 def test_some_drawing_has_each_figure():
-    """The tests above are not empty: across the drawings there is a switched relay and a coil."""
+    """The tests above are not empty: across the drawings there is a switched relay, a coil, a joint
+    with a current and a degraded resistance."""
     seen = set()
     for a in (analyse(load_drawing(p)) for p in (COACH, TRUCK, FLAWED)):
         seen |= {"load" for f in a.contacts.relays.values() if f.load_resistance is not None}
         seen |= {"coil" for f in a.contacts.relays.values() if f.pickup_hot is not None}
         assert math.isfinite(a.contacts.highest_bus)
+    lug = analyse(parse_drawing(with_lug(), "lug")).joints["J1"]
+    assert lug.heat_nominal is not None and lug.heat_degraded is not None
     assert seen == {"load", "coil"}

@@ -149,3 +149,38 @@ def lug_fit(d: Drawing, j: Joint) -> LugFit | None:
         return None
     lo, hi = j.conductor_range
     return LugFit(j.id, c.id, c.area, lo, hi, lug_fits(c.area, lo, hi), lug_mismatch(c.area, lo, hi))
+
+
+@dataclass(frozen=True)
+class JointFigures:
+    """A joint's figures for the joint rules, made once with the analysis: its current (nominal and at
+    the largest continuous current), its rating at its zone, its I²R heat at both currents (and, where
+    the kind has a shipped loosened or corroded resistance above its own, at that resistance and the
+    largest current), and a lug's fit on its cable. None where a figure cannot be made."""
+
+    joint: str
+    current: JointCurrent | None
+    rating: JointRating | None
+    heat_nominal: float | None  # [W]
+    heat_worst: float | None  # [W]
+    degraded: tuple[float, str] | None  # [Ω], its source; only where above the joint's own resistance
+    heat_degraded: float | None  # [W] at the largest continuous current
+    lug: LugFit | None
+    model: str = "physics.joints.joint_heat (Joule's law I²R); physics.joints.derated_current / derated_linear"
+
+
+def joint_figures(d: Drawing, duty: dict[str, float], worst: dict[str, float]) -> dict[str, JointFigures]:
+    """Every joint's figures (``duty``: element id -> nominal current [A]; ``worst``: element id ->
+    current at the largest-current case [A])."""
+    out = {}
+    for j in d.of_kind(Joint):
+        cur = joint_current(j, duty, worst)
+        deg = degraded_resistance(j)
+        if deg is not None and not deg[0] > j.resistance:
+            deg = None
+        h_nom = h_worst = h_deg = None
+        if cur is not None:
+            h_nom, h_worst = heat(cur.nominal, j.resistance), heat(cur.worst, j.resistance)
+            h_deg = heat(cur.worst, deg[0]) if deg is not None else None
+        out[j.id] = JointFigures(j.id, cur, joint_rating(j), h_nom, h_worst, deg, h_deg, lug_fit(d, j))
+    return out

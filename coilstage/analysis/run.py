@@ -21,6 +21,7 @@ from coilstage.analysis.contacts import Contacts, contacts
 from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, solve_corner
 from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
 from coilstage.analysis.field import FieldResult, analyse_field
+from coilstage.analysis.joints import JointFigures, joint_figures
 from coilstage.analysis.linear import case_networks
 from coilstage.analysis.ratings import Ratings, ratings
 from coilstage.analysis.switching import SwitchingResult, analyse_switching
@@ -52,6 +53,7 @@ class Analysis:
     continuous: DutyResult | None  # continuous full retardation
     worst: WorstCases  # each rule's worst case (largest / smallest fault, lowest bus, largest current)
     contacts: Contacts  # each relay's break, load dump, arc, coil pick-up and feed; the stages' load dumps
+    joints: dict[str, JointFigures]  # joint id -> its current, rating, I²R heat and lug fit
 
 
 def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:
@@ -109,4 +111,5 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         continuous,
         worst,
         relays,
+        joint_figures(d, duty, worst.largest_current),
     )

@@ -4,7 +4,7 @@ at the regulator's highest end), with the cold corner's largest current as nomin
 
 from __future__ import annotations
 
-from coilstage.analysis.joints import degraded_resistance, heat, joint_current, joint_rating, limits, lug_fit
+from coilstage.analysis.joints import limits
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import Rule, Status, Verdict, at_most, ceiling, decided_at_worst, not_checked
 from coilstage.drawing.schema import Joint
@@ -16,12 +16,11 @@ def _words(a: Analysis) -> tuple[str, ...]:
 
 def _current(a: Analysis) -> list[Verdict]:
     out = []
-    worst = a.worst.largest_current
     for j in a.drawing.of_kind(Joint):
         if j.rating is None:
             continue
-        cur = joint_current(j, a.duty, worst)
-        rt = joint_rating(j)
+        fig = a.joints[j.id]
+        cur, rt = fig.current, fig.rating
         if cur is None or rt is None:
             out.append(not_checked(JOINT_CURRENT, j.id, "its current is not known (not in the network, no cable)", "A"))
             continue
@@ -45,22 +44,21 @@ def _current(a: Analysis) -> list[Verdict]:
 def _heat(a: Analysis) -> list[Verdict]:
     out = []
     lim = limits()
-    worst = a.worst.largest_current
     for j in a.drawing.of_kind(Joint):
-        cur = joint_current(j, a.duty, worst)
-        if cur is None:
+        fig = a.joints[j.id]
+        cur = fig.current
+        if cur is None or fig.heat_nominal is None or fig.heat_worst is None:
             out.append(not_checked(JOINT_HEAT, j.id, "its current is not known (not in the network, no cable)", "W"))
             continue
-        deg = degraded_resistance(j)
+        deg = fig.degraded
         extra = ""
-        if deg is not None and deg[0] > j.resistance:
+        if deg is not None and fig.heat_degraded is not None:
             extra = (
                 f"; loosened or corroded ({deg[0] * 1e3:g} mohm, {deg[1]}) it would make "
-                f"{heat(cur.worst, deg[0]):.1f} W: inspect and torque it to the maker's figure"
+                f"{fig.heat_degraded:.1f} W: inspect and torque it to the maker's figure"
             )
 
-        def at(i: float, corner: str, j=j, cur=cur, extra=extra) -> Verdict:
-            p = heat(i, j.resistance)
+        def at(i: float, p: float, corner: str, j=j, cur=cur, extra=extra) -> Verdict:
             status = Status.PASS if p <= lim.heat_pass else Status.WARN if p <= lim.heat_fail else Status.FAIL
             return Verdict(
                 JOINT_HEAT.id,
@@ -76,8 +74,10 @@ def _heat(a: Analysis) -> list[Verdict]:
                 corner,
             )
 
-        nominal = at(cur.nominal, "cold")
-        out.append(decided_at_worst(at(cur.worst, "largest current"), nominal, "largest current", _words(a)))
+        nominal = at(cur.nominal, fig.heat_nominal, "cold")
+        out.append(
+            decided_at_worst(at(cur.worst, fig.heat_worst, "largest current"), nominal, "largest current", _words(a))
+        )
     return out
 
 
@@ -86,7 +86,7 @@ def _lug(a: Analysis) -> list[Verdict]:
     for j in a.drawing.of_kind(Joint):
         if j.joint_kind != "lug" and j.conductor_range is None:
             continue
-        fit = lug_fit(a.drawing, j)
+        fit = a.joints[j.id].lug
         if fit is None:
             out.append(
                 not_checked(

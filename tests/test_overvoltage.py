@@ -116,3 +116,28 @@ def test_cable_over_its_ampacity_while_the_fuse_holds_fails():
 def test_rules_list_their_clause():
     for r in (OV_COIL, OV_FUSE, OV_CABLE):
         assert "ISO 16750-2 4.3.1" in r.clause
+
+
+def test_the_three_rules_read_one_overvoltage_case(monkeypatch):
+    """The regulator-failure case is solved once per analysis (a solve per fuse) and the coil, fuse and
+    cable rules read that one case; its figures are those of a fresh overvoltage_case."""
+    import coilstage.analysis.overvoltage as ov
+
+    from coilstage.analysis.run import analyse
+
+    a = analyse(parse_drawing(COACH_TEXT, "coach-once"))  # the analysis only: no rule has run yet
+    calls = []
+    real = ov.overvoltage_case
+
+    def counted(d, circuit):
+        calls.append(1)
+        return real(d, circuit)
+
+    monkeypatch.setattr(ov, "overvoltage_case", counted)
+    verdicts = [v for rule in (OV_COIL, OV_FUSE, OV_CABLE) for v in rule.evaluate(a)]
+    assert len(calls) == 1
+    assert {v.rule for v in verdicts} == {OV_COIL.id, OV_FUSE.id, OV_CABLE.id}
+    assert ov.overvoltage_case_of(a.drawing, a.circuit) is ov.overvoltage_case_of(a.drawing, a.circuit)
+    assert len(calls) == 1
+    fresh = real(a.drawing, a.circuit)
+    assert ov.overvoltage_case_of(a.drawing, a.circuit) == fresh

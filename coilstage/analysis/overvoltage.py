@@ -11,6 +11,7 @@ time to reach it at the starting power (constant resistance, so the safe side: e
 from __future__ import annotations
 
 import math
+import weakref
 from dataclasses import dataclass
 
 from coilstage.analysis.circuit import Circuit, SourceState, element_resistance
@@ -120,3 +121,19 @@ def overvoltage_case(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
         opened = circuit.solve(temps, SourceState(u, u if alt else None, rated, hold_bus=u), overrides={f.id: 1e9})
         cuts[f.id] = tuple(s.id for s in d.of_kind(Stage) if abs(opened.current[s.id]) < 0.01 * max(cur[s.id], 1e-12))
     return OvervoltageCase(u, normal, t, cur, cur_n, coils, words, cuts)
+
+
+_CASES: dict[int, tuple[weakref.ref, weakref.ref, OvervoltageCase | None]] = {}
+
+
+def overvoltage_case_of(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
+    """:func:`overvoltage_case` made once per (drawing, circuit) and kept while both live: the three
+    overvoltage rules of one analysis read the same case (it costs a solve per fuse)."""
+    hit = _CASES.get(id(circuit))
+    if hit is not None and hit[0]() is circuit and hit[1]() is d:
+        return hit[2]
+    case = overvoltage_case(d, circuit)
+    for k in [k for k, v in _CASES.items() if v[0]() is None or v[1]() is None]:
+        del _CASES[k]
+    _CASES[id(circuit)] = (weakref.ref(circuit), weakref.ref(d), case)
+    return case

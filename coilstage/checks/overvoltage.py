@@ -10,7 +10,7 @@ within the 60 min while nothing opens.
 from __future__ import annotations
 
 from coilstage import tables
-from coilstage.analysis.overvoltage import DURATION, overvoltage_case
+from coilstage.analysis.overvoltage import DURATION, overvoltage_case_of
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import Rule, Status, Verdict, not_checked
 from coilstage.drawing.schema import Cable, Fuse, Stage
@@ -20,7 +20,7 @@ OPENS_AT = 1.35
 
 
 def _case(a: Analysis):
-    return overvoltage_case(a.drawing, a.circuit)
+    return overvoltage_case_of(a.drawing, a.circuit)  # made once, read by the three rules
 
 
 def _fuse_of(a: Analysis) -> dict[str, Fuse]:

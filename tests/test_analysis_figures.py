@@ -103,3 +103,20 @@ def test_some_drawing_has_each_figure():
     lug = analyse(parse_drawing(with_lug(), "lug")).joints["J1"]
     assert lug.heat_nominal is not None and lug.heat_degraded is not None
     assert seen == {"load", "coil"}
+
+
+def test_the_drop_at_the_largest_current_is_read_off_its_solution(analysed):
+    """Each stage's drop at the largest continuous current: the battery terminals' voltage less the
+    stage's terminal voltage, read here straight off that network solution (node voltages), and as a
+    share of the nominal system voltage."""
+    a = analysed
+    d = a.drawing
+    sol = a.worst.largest_current_solution
+    assert sol is not None
+    v_bus = sol.v[d.supply.battery.node] - sol.v[d.supply.negative_node]
+    assert set(a.largest_current_stages.stages) == {s.id for s in d.stages}
+    for s in d.stages:
+        x = a.largest_current_stages.stages[s.id]
+        drop = v_bus - (sol.v[s.a] - sol.v[s.b])
+        assert x.drop == pytest.approx(drop, rel=1e-12, abs=1e-12)
+        assert x.drop_fraction == pytest.approx(drop / d.supply.system_voltage, rel=1e-12, abs=1e-12)

@@ -19,6 +19,7 @@ from coilstage.analysis.circuit import Circuit
 from coilstage.analysis.conditions import Conditions, conditions
 from coilstage.analysis.contacts import Contacts, contacts
 from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, solve_corner
+from coilstage.analysis.drops import StageDrops, largest_current_stages
 from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
 from coilstage.analysis.field import FieldResult, analyse_field
 from coilstage.analysis.joints import JointFigures, joint_figures
@@ -54,6 +55,7 @@ class Analysis:
     worst: WorstCases  # each rule's worst case (largest / smallest fault, lowest bus, largest current)
     contacts: Contacts  # each relay's break, load dump, arc, coil pick-up and feed; the stages' load dumps
     joints: dict[str, JointFigures]  # joint id -> its current, rating, I²R heat and lug fit
+    largest_current_stages: StageDrops  # each stage's drop at the largest continuous current
 
 
 def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:
@@ -112,4 +114,5 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         worst,
         relays,
         joint_figures(d, duty, worst.largest_current),
+        largest_current_stages(d, worst.largest_current_solution, corners["cold"].temperatures),
     )

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from coilstage.analysis.corners import stage_results
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -112,8 +111,7 @@ def _voltage_drop(a: Analysis) -> list[Verdict]:
     d = a.drawing
     lim = d.limits
     nominal = d.supply.system_voltage
-    big = a.worst.largest_current_solution
-    at_big = {s.id: s for s in stage_results(d, big, a.corners["cold"].temperatures)} if big is not None else {}
+    at_big = a.largest_current_stages.stages
 
     def verdict(sid: str, f: float, drop: float, corner: str, how: str) -> Verdict:
         status = Status.PASS if f <= lim.drop_pass else Status.WARN if f <= lim.drop_warn else Status.FAIL

@@ -120,3 +120,37 @@ def test_the_drop_at_the_largest_current_is_read_off_its_solution(analysed):
         drop = v_bus - (sol.v[s.a] - sol.v[s.b])
         assert x.drop == pytest.approx(drop, rel=1e-12, abs=1e-12)
         assert x.drop_fraction == pytest.approx(drop / d.supply.system_voltage, rel=1e-12, abs=1e-12)
+
+
+def test_the_fuse_duty_is_miners_sum_and_follows_the_duty():
+    """Miner's linear sum Σ dt / t_min(I) (common practice, no source): under a constant current I the
+    share used is the duration over t_min(I) (hand-worked from the sum); a copy of the analysis with
+    another duty simulation (as sizing makes one) carries the figures of that simulation."""
+    import dataclasses
+
+    import numpy as np
+
+    from coilstage import tables
+    from coilstage.analysis.fuse_duty import FuseDuty
+    from coilstage.drawing.schema import Fuse
+
+    a = analyse(load_drawing(COACH))
+    r = a.descent
+    assert r is not None
+    fuses = [f for f in a.drawing.of_kind(Fuse) if f.gates]
+    assert fuses and all(isinstance(a.fuse_duty[f.id], FuseDuty) for f in fuses)
+    currents = dict(r.device_current)
+    expect = {}
+    for f in fuses:
+        g = tables.FuseGates(f.gates, f.gates_source)
+        carry = f.rating * tables.fuse_rerating(f.zone_temperature)
+        m = next(x for x in (1.5, 2.0, 3.0, 5.0) if np.isfinite(g.t_min(x)))  # a current on the gate
+        currents[f.id] = np.full_like(r.t, m * carry)
+        expect[f.id] = (float(r.t[-1] - r.t[0]) / g.t_min(m), m * carry)
+    b = dataclasses.replace(a, descent=dataclasses.replace(r, device_current=currents))
+    for f in fuses:
+        fd = b.fuse_duty[f.id]
+        assert fd.used == pytest.approx(expect[f.id][0], rel=1e-9)
+        assert fd.peak == pytest.approx(expect[f.id][1], rel=1e-12)
+        assert a.fuse_duty[f.id].used != pytest.approx(fd.used)  # the original keeps its own
+    assert dataclasses.replace(a, descent=None).fuse_duty == {}

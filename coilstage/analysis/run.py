@@ -13,7 +13,7 @@ Layers (each module imports only from the lines above it)::
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from coilstage.analysis.circuit import Circuit
 from coilstage.analysis.conditions import Conditions, conditions
@@ -22,6 +22,7 @@ from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, 
 from coilstage.analysis.drops import StageDrops, largest_current_stages
 from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
 from coilstage.analysis.field import FieldResult, analyse_field
+from coilstage.analysis.fuse_duty import FuseDuty, fuse_duty
 from coilstage.analysis.joints import JointFigures, joint_figures
 from coilstage.analysis.linear import case_networks
 from coilstage.analysis.ratings import Ratings, ratings
@@ -56,6 +57,13 @@ class Analysis:
     contacts: Contacts  # each relay's break, load dump, arc, coil pick-up and feed; the stages' load dumps
     joints: dict[str, JointFigures]  # joint id -> its current, rating, I²R heat and lug fit
     largest_current_stages: StageDrops  # each stage's drop at the largest continuous current
+    #: fuse id -> its share of the must-not-open time along ``descent`` (or why none); made from
+    #: ``descent`` whenever an Analysis is built, so a copy with another descent
+    #: (``dataclasses.replace(a, descent=...)``) carries its own
+    fuse_duty: dict[str, FuseDuty | str] = field(init=False)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "fuse_duty", fuse_duty(self.drawing, self.descent))
 
 
 def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:

@@ -7,7 +7,6 @@ import math
 
 import numpy as np
 
-from coilstage import tables
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -229,22 +228,11 @@ def _fuse_duty(a: Analysis) -> list[Verdict]:
         if r is None:
             out.append(not_checked(FUSE_DUTY, f.id, "no duty was simulated"))
             continue
-        if not f.gates:
-            out.append(not_checked(FUSE_DUTY, f.id, f"no time-current gates for type {f.fuse_type}"))
+        fd = a.fuse_duty[f.id]
+        if isinstance(fd, str):
+            out.append(not_checked(FUSE_DUTY, f.id, fd))
             continue
-        g = tables.FuseGates(f.gates, f.gates_source)
-        carry = f.rating * tables.fuse_rerating(f.zone_temperature)
-        i = np.abs(r.device_current[f.id])
-        dt = np.diff(r.t)
-        im = 0.5 * (i[1:] + i[:-1])
-        used = float(
-            sum(
-                d / g.t_min(x / carry)
-                for d, x in zip(dt, im, strict=True)
-                if math.isfinite(g.t_min(x / carry)) and g.t_min(x / carry) > 0
-            )
-        )
-        peak = float(np.max(i)) if len(i) else 0.0
+        used, peak, carry = fd.used, fd.peak, fd.carry
         out.append(
             at_most(
                 FUSE_DUTY,

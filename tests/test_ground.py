@@ -134,3 +134,40 @@ def test_lost_return_boundary_at_a_relays_rating():
             e = t.index("[[harness]]", s)
             t = t[:s] + t[s:e].replace('rating_24v = "60 A"', f'rating_24v = "{k * i:.4f} A"') + t[e:]
         assert one(analysed(t), "W2R").status is want, k
+
+
+def test_returns_lost_by_rank_one_updates_equal_a_fresh_dense_solve():
+    """Above LOW_RANK_ABOVE unknowns every return is lost on one factorisation of the intact network
+    (Sherman–Morrison, refined): each broken network's node voltages and element currents equal the
+    broken network assembled afresh (mna_matrix with the return at OPEN_RESISTANCE) and solved by
+    numpy.linalg.solve, and the verdict's figures those of a fresh Circuit.solve (lose_return)."""
+    from coilstage.analysis import ground
+    from coilstage.analysis.circuit import Circuit
+    from coilstage.physics.network import Branches, mna_matrix
+
+    a = analysed(drawing_text(stages=20, coil_r=[0.9 + 0.02 * k for k in range(20)]))
+    d = a.drawing
+    cold = a.conditions["cold"]
+    circuit = Circuit(d)
+    ids = [g.id for g in returns(d)]
+    vs = circuit.network_rows(cold.temperatures, cold.sources, None)[1]
+    assert len(circuit.nodes) - 1 + len(vs) > ground.LOW_RANK_ABOVE
+    got = ground.lose_returns(d, ids, cold.temperatures, cold.sources, a.corners["cold"].solution)
+    for i in ids:
+        lr = got[i]
+        rows = circuit.network_rows(cold.temperatures, cold.sources, {i: OPEN_RESISTANCE})
+        r, c, v, rhs, n = mna_matrix(
+            len(circuit.nodes), Branches.of(rows[0]), Branches.of(rows[1]), Branches.of(rows[3])
+        )
+        dense = np.zeros((len(rhs), len(rhs)))
+        np.add.at(dense, (r, c), v)
+        x = np.linalg.solve(dense, rhs)
+        volts = np.concatenate(([0.0], x[:n]))
+        for name, k in circuit.nodes.items():
+            assert lr.solution.v[name] == pytest.approx(volts[k], rel=1e-9, abs=1e-9), (i, name)
+        fresh = lose_return(d, i, cold.temperatures, cold.sources, a.corners["cold"].solution)
+        for e in d.elements:
+            assert lr.solution.current[e.id] == pytest.approx(fresh.solution.current[e.id], rel=1e-9, abs=1e-9)
+        assert lr.gap_voltage == pytest.approx(fresh.gap_voltage, rel=1e-9)
+        assert [x.element for x in lr.rerouted] == [x.element for x in fresh.rerouted]
+        assert [x.element for x in lr.stages] == [x.element for x in fresh.stages]

@@ -6,7 +6,7 @@ overheats. Judged at the cold corner (the largest currents the corners give)."""
 from __future__ import annotations
 
 from coilstage import tables
-from coilstage.analysis.ground import lose_return, offset_limit, return_offsets, returns
+from coilstage.analysis.ground import lose_returns, offset_limit, return_offsets, returns
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import Rule, Status, Verdict, at_most, ceiling, not_checked
 from coilstage.drawing.schema import Cable, Fuse, Relay
@@ -18,11 +18,11 @@ def _lost_return(a: Analysis) -> list[Verdict]:
     intact = a.corners["cold"].solution
     out = []
     by_id = {e.id: e for e in d.elements}
+    by_return = lose_returns(d, [g.id for g in returns(d)], cold.temperatures, cold.sources, intact)
     for g in returns(d):
-        try:
-            lr = lose_return(d, g.id, cold.temperatures, cold.sources, intact)
-        except (ValueError, ArithmeticError) as exc:  # a network that cannot be solved (reported, not hidden)
-            out.append(not_checked(LOST_RETURN, g.id, f"the network without {g.id} could not be solved: {exc}"))
+        lr = by_return[g.id]
+        if isinstance(lr, Exception):  # a network that cannot be solved (reported, not hidden)
+            out.append(not_checked(LOST_RETURN, g.id, f"the network without {g.id} could not be solved: {lr}"))
             continue
         over, already, unrated, parts = [], [], [], []
         worst: tuple[float, float, float] | None = None  # (ratio, current, limit)

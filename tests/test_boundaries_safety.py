@@ -106,6 +106,7 @@ def test_short_circuit_pinned_at_the_adiabatic_limit_iec60949():
         length = _bisect(lambda x: _short(x)[1].i2t, 3.0, 40.0, k * i2t_limit)
         v, sh = _short(length)
         assert sh.i2t == pytest.approx(k * i2t_limit, rel=1e-4)
+        # abs 1 K: the rule's adiabatic constants round IEC 60949's (226 for 225.7, above): about 0.4 K here
         assert v.value == pytest.approx(_hand_final_temperature(sh.i2t, 35.0, CLASS_C), abs=1.0)
         assert (v.value < XLPE_LIMIT) is (k < 1)
         assert v.status is status, (k, v.value, v.note)
@@ -147,12 +148,15 @@ def test_ampacity_pinned_at_the_33cfr183_table_by_hand(ambient_min, factor):
     table = 90.0 * (10.0 / a8) ** (math.log(125.0 / 90.0) / math.log(a6 / a8))
     assert table == pytest.approx(102.1, abs=0.05)
     hand = table * factor
+    # rel 1e-3: the same log-log interpolation of the same shipped rows (equal to round-off); 0.1 % is
+    # the 4 figures of 102.1 A
     assert _ampacity(1.0, ambient_min).limit == pytest.approx(hand, rel=1e-3)
     for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
         # a smaller coil resistance draws more current through W0 (the ampacity does not depend on it)
         r = _bisect(lambda x: -_ampacity(x, ambient_min).value, 0.15, 1.0, -k * hand)
         v = _ampacity(r, ambient_min)
         assert v.value == pytest.approx(k * hand, rel=1e-5)
+        # rel 1e-3: as above (the ampacity does not move with the coil resistance)
         assert v.limit == pytest.approx(hand, rel=1e-3)
         assert v.status is status, (k, v.value, v.limit, v.note)
 
@@ -184,6 +188,7 @@ def test_winding_temperature_pinned_at_class_h_less_its_allowance_iec60085():
     for dt, status in ((-1.0, Status.PASS), (1.0, Status.FAIL)):
         rth = _bisect(lambda x: _thermal(x)[0].value, 0.1, 2.0, CLASS_H_LIMIT + dt)
         v, _ = _thermal(rth)
+        # abs 0.01 K: the bisection on the thermal resistance stops at 1e-7 relative (1e-6 K here)
         assert v.value == pytest.approx(CLASS_H_LIMIT + dt, abs=0.01)
         assert v.limit == pytest.approx(CLASS_H_LIMIT)
         assert v.status is status, (dt, v.value, v.note)
@@ -349,6 +354,7 @@ def test_suppressor_energy_pinned_at_the_hand_worked_clamp_energy():
     i0 = a.switching.stages["cold"]["S0"].i_break
     r, energy, _ = _hand_decay(i0)
     assert a.switching.stages["cold"]["S0"].tau == pytest.approx(INDUCTANCE / r, rel=1e-6)
+    # abs 0.01 J: 17.85 J is the hand-worked figure to 4 significant figures
     assert energy == pytest.approx(17.85, abs=0.01)
     assert v.value == pytest.approx(energy, rel=1e-6)
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
@@ -460,9 +466,12 @@ def test_relay_coil_wire_pinned_at_its_ampacity_and_150_percent():
     a18, a16 = _awg_area_mm2(18), _awg_area_mm2(16)
     amp = 15.0 * (1.0 / a18) ** (math.log(20.0 / 15.0) / math.log(a16 / a18)) * math.sqrt(20.0 / 50.0)
     assert amp == pytest.approx(10.70, abs=0.01)
+    # rel 1e-3: the same log-log interpolation of the shipped rows (equal to round-off); 0.1 % is the
+    # 4 figures of 10.70 A
     assert _coil_circuit(1.0)["K0 coil wire"].limit == pytest.approx(amp, rel=1e-3)
     for k, status in ((0.99, Status.PASS), (1.01, Status.WARN), (1.49, Status.WARN), (1.51, Status.FAIL)):
         v = _coil_circuit(k * amp)["K0 coil wire"]
+        # rel 1e-3: as above (the limit does not move with the fuse rating)
         assert v.limit == pytest.approx(amp, rel=1e-3)
         assert v.status is status, (k, v.note)
 
@@ -505,6 +514,7 @@ def test_inductance_crosscheck_pinned_at_25_percent():
     a, _ = _inductance(50.0)
     geo = a.field.inductance_check["C0"][1]
     gaps_only = 4e-7 * math.pi * 150**2 * 60e-4 / 3e-3
+    # rel 1e-3: 56.55 mH, the gaps-only inductance worked to 4 figures
     assert gaps_only == pytest.approx(0.05655, rel=1e-3)
     assert 0.8 * gaps_only < geo < gaps_only
     for stated, status in (
@@ -568,12 +578,15 @@ def test_saturation_pinned_at_the_knee_of_steel_1010():
     above = 1591.5 / 1.302 * (1.4028 - 1.302) / (2228.2 - 1591.5)
     assert below > 0.2 > above
     knee = 1.302
+    # rel 1e-3: the rule finds the knee on its curve between the points, the hand figure is the table
+    # point 1.302 T (0.08 % apart)
     assert _saturation(1.0).limit == pytest.approx(knee, rel=1e-3)
     for k, status in ((0.99, Status.PASS), (1.01, Status.WARN)):
         # a larger coil resistance draws fewer ampere-turns, so less flux
         r = _bisect(lambda x: -_saturation(x).value, 0.5, 10.0, -k * knee)
         v = _saturation(r)
         assert v.value == pytest.approx(k * knee, rel=1e-5)
+        # rel 1e-3: as above (the knee does not move with the coil resistance)
         assert v.limit == pytest.approx(knee, rel=1e-3)
         assert v.status is status, (k, v.note)
 
@@ -606,11 +619,13 @@ def test_overvoltage_cable_pinned_at_its_ampacity_and_1_45_iz(fuse, cases):
     assert _ov_cable(1.0, fuse).value == pytest.approx(36.0 / (1.0 + path), rel=1e-3)
     a8, a6 = _awg_area_mm2(8), _awg_area_mm2(6)
     iz = 90.0 * (10.0 / a8) ** (math.log(125.0 / 90.0) / math.log(a6 / a8)) * math.sqrt(65.0 / 95.0)
+    # abs 0.01 A: Iz worked by hand to 0.01 A
     assert iz == pytest.approx(84.48, abs=0.01)
     for k, status in cases:
         r = _bisect(lambda x: -_ov_cable(x, fuse).value, 0.1, 1.0, -k * iz)
         v = _ov_cable(r, fuse)
         assert v.value == pytest.approx(k * iz, rel=1e-5)
+        # rel 1e-3: the same interpolation as iz above (equal to round-off); 0.1 % is the 4 figures of 84.48 A
         assert v.limit == pytest.approx(iz, rel=1e-3)
         assert v.status is status, (fuse, k, v.note)
 
@@ -660,6 +675,7 @@ def test_overvoltage_coil_pinned_at_its_class_limit_in_steady_state():
     for dt, status in ((-1.0, Status.PASS), (1.0, Status.FAIL)):
         rth = _bisect(lambda x: _ov_coil(x, 0.5)[0].steady_temperature, 0.05, 0.2, CLASS_H_LIMIT + dt)
         c, v = _ov_coil(rth, 0.5)
+        # abs 0.01 K: the bisection on the thermal resistance stops at 1e-7 relative (3e-5 K here)
         assert c.steady_temperature == pytest.approx(CLASS_H_LIMIT + dt, abs=0.01)
         assert _hand_steady(c.coil_voltage, rth) == pytest.approx(CLASS_H_LIMIT + dt, abs=0.01)
         assert v.status is status, (dt, v.note)
@@ -784,10 +800,13 @@ def test_cable_conductor_temperature_pinned_at_class_c():
         r = _bisect(lambda x: -peak(x), 0.1, 0.5, -(125.0 + dt))
         a = _continuous(r)
         v = _verdict(CABLE_TEMP, a, "W0")
+        # abs 0.01 K: the bisection on the coil resistance stops at 1e-7 relative (3e-5 K here)
         assert v.value == pytest.approx(125.0 + dt, abs=0.01)
         assert v.limit == pytest.approx(125.0)
         assert v.status is status, (dt, v.note)
     i_end = abs(a.descent.device_current["FM"][-1])
+    # rel 1 %: two models of one steady state (the duty's transient against the still-air heat
+    # balance): 0.8 % apart here
     assert i_end == pytest.approx(a.ratings.cables["W0"].heat_balance, rel=0.01)
 
 
@@ -807,6 +826,7 @@ def test_fuse_duty_thermal_state_pinned_where_the_gate_time_is_used_up():
     i = abs(_continuous(0.25).descent.device_current["FM"][-1])
     hand = i / (RERATE_60 * m)
     rating = _bisect(lambda x: -used(x), 0.9 * hand, 1.1 * hand, -1.0)
+    # rel 0.5 %: the hand figure takes the current before the cables warm (it falls 0.4 % as they do, above)
     assert rating == pytest.approx(hand, rel=5e-3)
 
     def hand_used(a, fuse: float) -> float:
@@ -828,6 +848,7 @@ def test_fuse_duty_thermal_state_pinned_where_the_gate_time_is_used_up():
         a = _continuous(0.25, f)
         v = _verdict(FUSE_DUTY, a, "FM")
         assert v.value == pytest.approx(k, rel=1e-4)
+        # rel 1e-3: the hand sum (mean current per output interval) against the rule's own sum: 2e-6 apart here
         assert hand_used(a, f) == pytest.approx(k, rel=1e-3)
         assert v.status is status
 
@@ -853,11 +874,14 @@ def test_lost_return_pinned_at_the_ampacity_of_the_path_that_takes_over():
     a14, a12 = _awg_area_mm2(14), _awg_area_mm2(12)
     amp = 40.0 * (2.5 / a14) ** (math.log(50.0 / 40.0) / math.log(a12 / a14)) * math.sqrt(65.0 / 95.0)
     assert amp == pytest.approx(36.14, abs=0.01)
+    # rel 1e-3: the same log-log interpolation of the shipped rows (equal to round-off); 0.1 % is the
+    # 4 figures of 36.14 A
     assert _lost_return(1.0).limit == pytest.approx(amp, rel=1e-3)
     for k, status in ((0.99, Status.WARN), (1.01, Status.FAIL)):
         r = _bisect(lambda x: -_lost_return(x).value, 0.5, 2.0, -k * amp)
         v = _lost_return(r)
         assert v.value == pytest.approx(k * amp, rel=1e-5)
+        # rel 1e-3: as above (the ampacity does not move with the coil resistance)
         assert v.limit == pytest.approx(amp, rel=1e-3)
         assert v.status is status, (k, v.note)
 

@@ -220,5 +220,6 @@ def test_cold_duty_from_one_factorisation_matches_a_solve_per_state():
         ]
         for e in d.elements:
             ref = max(abs(s.current[e.id]) for s in sols)
+            # 1e-9 A: separate LU solves, and 1e12 ohm standing for an open stage (3e-11 A apart here)
             assert ours[e.id] == pytest.approx(ref, rel=1e-9, abs=1e-9), e.id
         assert where["WM" if "WM" in where else "W-FEED"] == "all stages"

@@ -41,6 +41,8 @@ def test_a_stage_return_lost_drops_the_stage_out():
     lr = lose_return(a.drawing, "W1R", cold.temperatures, cold.sources)
     sol = lr.solution
     assert abs(sol.current["S1"]) < 1e-6
+    # abs 1e-6 V: the gap voltage and the solution come by different routes (the lost return an
+    # OPEN_RESISTANCE): 1.5e-8 V apart here
     assert lr.gap_voltage == pytest.approx(sol.v["S1+"] - sol.v["GSTUD"], abs=1e-6)
     assert {e.id for e in returns(a.drawing)} >= {"W1R", "W2R", "W3R", "W4R", "W-RET", "W-STRAP"}
 
@@ -111,6 +113,7 @@ def test_lost_return_by_hand_on_two_stages():
     vx = np.array([fixed[n] for n in fixed])
     vf = np.linalg.solve(g[np.ix_(fi, fi)], inj[fi] - g[np.ix_(fi, xi)] @ vx)
     for n, v in zip(free, vf, strict=True):
+        # abs 1e-6 V: numpy.linalg.solve against the package's solve of the same system, round-off only (3e-14 V here)
         assert s.v[n] == pytest.approx(v, abs=1e-6), n
     assert lr.stages and lr.stages[0].after < 1e-6
 
@@ -164,9 +167,11 @@ def test_returns_lost_by_rank_one_updates_equal_a_fresh_dense_solve():
         x = np.linalg.solve(dense, rhs)
         volts = np.concatenate(([0.0], x[:n]))
         for name, k in circuit.nodes.items():
+            # the rank-one-update route against a dense numpy.linalg.solve: round-off (abs for 0 V nodes)
             assert lr.solution.v[name] == pytest.approx(volts[k], rel=1e-9, abs=1e-9), (i, name)
         fresh = lose_return(d, i, cold.temperatures, cold.sources, a.corners["cold"].solution)
         for e in d.elements:
+            # against a fresh solve of the same network: round-off (abs for the lost return's ~0 A)
             assert lr.solution.current[e.id] == pytest.approx(fresh.solution.current[e.id], rel=1e-9, abs=1e-9)
         assert lr.gap_voltage == pytest.approx(fresh.gap_voltage, rel=1e-9)
         assert [x.element for x in lr.rerouted] == [x.element for x in fresh.rerouted]

@@ -148,6 +148,7 @@ def test_fast_path_and_pint_agree_or_both_refuse(text, kind):
     a, b = read(True), read(False)
     assert (a is None) == (b is None), (text, a, b)
     if a is not None:
+        # the fast reader against pint's conversion: round-off only (abs for a zero)
         assert math.isfinite(a) and a == pytest.approx(b, rel=1e-12, abs=1e-12)
 
 

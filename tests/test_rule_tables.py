@@ -162,6 +162,7 @@ def test_dc13_energy_at_the_cap():
     p = r["t95_cap"] / r["t95_per_watt"]
     assert p == pytest.approx(50.0)
     tau = r["t95_cap"] / LN20
+    # abs 1e-4 s and 1e-3 J: tau and E given to 4 figures
     assert tau == pytest.approx(0.1001, abs=1e-4)
     assert 0.5 * tau * p == pytest.approx(2.503, abs=1e-3)
 
@@ -197,6 +198,7 @@ def test_coordination_derived_limit():
     # fuse (k2 = 1.35) I_n <= 1.074 I_Z; gG >= 16 A (k2 = 1.6) 0.906 I_Z; MCB (1.45) I_Z (hand-worked).
     t = tables.shipped("coordination_iec60364-4-43.toml")["table"]
     rows = {r["family"]: r for r in t["rows"]}
+    # abs 5e-4: the hand-worked factors given to 3 decimals
     assert t["factor"] / rows["road-vehicle fuse-link"]["operating"] == pytest.approx(1.074, abs=5e-4)
     assert t["factor"] / rows["gG fuse, 16 A <= In <= 63 A"]["operating"] == pytest.approx(0.906, abs=5e-4)
     assert t["factor"] / rows["miniature circuit-breaker"]["operating"] == pytest.approx(1.0)

@@ -121,6 +121,7 @@ def test_offset_pinned_at_one_volt(k, status):
         if abs(f1) < 1e-6:
             break
     v = _verdicts(_small(shared=r1))[1]["S0"]
+    # abs 1e-5: the secant search above stops within 1e-6 of the target
     assert v.value == pytest.approx(target, abs=1e-5)
     assert v.status is status
 

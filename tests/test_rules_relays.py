@@ -64,6 +64,7 @@ def test_pickup_decided_at_the_lowest_bus():
     r95 = 120.0 * (1 + ALPHA_CU * 75)
     assert r95 == pytest.approx(155.37, abs=0.01)
     need = 16.8 * r95 / 120.0
+    # abs 0.01 V: worked by hand to 0.01 V
     assert need == pytest.approx(21.75, abs=0.01)
     low = a.worst.lowest_bus.bus_voltage
     hot = a.corners["hot"].bus_voltage
@@ -126,6 +127,7 @@ def test_voltage_rating_in_the_load_dump_that_applies():
     assert u == pytest.approx(151.0 * r / (r + 1.0))
     v = one(RELAY_VOLTAGE.evaluate(a), "K1 load dump")
     assert v.limit == pytest.approx(u + 24.9, rel=1e-12)
+    # abs 0.1 V: 77.4 V worked by hand to 0.1 V
     assert v.limit == pytest.approx(77.4, abs=0.1)
     # the coach's contactors switch 80 V: they pass; rated 60 V (as they were) they fail
     assert v.status is Status.PASS and "Test A (unclamped) assumed" in v.note
@@ -191,10 +193,12 @@ def test_stated_central_suppression_selects_test_b():
     tau = 0.350 / math.log(10)
     tc = tau * math.log(123 / 65)
     e = 93 * (tau * 123 * (1 - math.exp(-tc / tau)) - 65 * tc)
+    # abs 0.01 J: 233.86 J worked by hand to 0.01 J
     assert e == pytest.approx(233.86, abs=0.01)
     vy = one(LOAD_DUMP.evaluate(analysed(central(t, "yes"))), "S1 load dump")
     assert vy.status is Status.PASS and vy.value == 0.0
     vn = one(LOAD_DUMP.evaluate(analysed(central(t, "no"))), "S1 load dump")
+    # abs 0.01 J: the rule's figure against e, as above
     assert vn.status is Status.FAIL and vn.value == pytest.approx(e, abs=0.01)
     assert "no central load-dump suppression stated" in vn.note
     vk = one(LOAD_DUMP.evaluate(analysed(t)), "S1 load dump")

@@ -71,6 +71,7 @@ def test_wilson_interval_against_scipy(k, n):
     # Wilson (1927), JASA 22:209-212
     ci = stats.binomtest(k, n).proportion_ci(confidence_level=0.95, method="wilson")
     lo, hi = sweep.wilson(k, n)
+    # round-off only: two implementations of the Wilson interval (abs for a bound at 0)
     assert lo == pytest.approx(ci.low, rel=1e-12, abs=1e-15)
     assert hi == pytest.approx(ci.high, rel=1e-12, abs=1e-15)
 
@@ -174,6 +175,7 @@ def test_results_do_not_depend_on_the_chunk_size():
                 y.q99,
                 y.hist_counts,
             )
+            # round-off only: the same samples summed in other chunks (abs for a mean at 0)
             assert x.mean == pytest.approx(y.mean, rel=1e-12, abs=1e-15)
             assert x.std == pytest.approx(y.std, rel=1e-10)
     other = sweep.run(PS, _lin(), 12_000, seed=12)
@@ -190,6 +192,7 @@ def test_linear_rule_mean_and_quantiles_converge_on_the_exact_ones():
     r = {x.rule: x for x in sweep.run(PS, _lin(), n, seed=1).rules}["lin.r1"]
     assert r.nominal_margin == pytest.approx(0.02)
     assert abs(r.mean - r.nominal_margin) < 4 * r.standard_error
+    # rel 3 %: the sample standard deviation of 20 000 draws scatters by about 1/sqrt(2n) = 0.5 %
     assert r.standard_error == pytest.approx(0.5 * 0.1 / math.sqrt(12) / math.sqrt(n), rel=0.03)
     for q, got in ((0.01, r.q01), (0.5, r.q50), (0.99, r.q99)):
         s = math.sqrt(q * (1 - q) / n)  # the binomial spread of the empirical distribution at q

@@ -113,9 +113,10 @@ def _steps(ps: list[Parameter]) -> np.ndarray:
     return np.array([STEP * (p.high - p.low) for p in ps])
 
 
-def gradients(d: Drawing, at: np.ndarray | None = None) -> tuple[dict[tuple[str, str], np.ndarray], dict]:
-    """dm/dp of every modelled margin at ``at`` (default nominal) by central differences through
-    :func:`evaluate` (2P samples in one call), and the evaluation at ``at`` itself."""
+def gradients(d: Drawing, at: np.ndarray | None = None, rules=None) -> tuple[dict[tuple[str, str], np.ndarray], dict]:
+    """dm/dp of every modelled margin (of ``rules`` only, where given) at ``at`` (default nominal) by
+    central differences through :func:`evaluate` (2P samples in one call), and the evaluation at
+    ``at`` itself."""
     ps = model(d).params
     x0 = nominal(ps) if at is None else np.asarray(at, dtype=float)
     h = _steps(ps)
@@ -123,7 +124,7 @@ def gradients(d: Drawing, at: np.ndarray | None = None) -> tuple[dict[tuple[str,
     rows = np.tile(x0, (2 * p + 1, 1))
     rows[1 : p + 1] += np.diag(h)
     rows[p + 1 :] -= np.diag(h)
-    ev = evaluate(d, rows)
+    ev = evaluate(d, rows, rules)
     out = {k: (e.margin[1 : p + 1] - e.margin[p + 1 :]) / (2 * h) for k, e in ev.items()}
     return out, {k: float(e.margin[0]) for k, e in ev.items()}
 
@@ -261,13 +262,18 @@ def analyse_sensitivities(
     ps = m.params
     p = len(ps)
     x0 = nominal(ps)
-    grads, m0 = gradients(d)
-    exact = exact_gradients(d)
-    methods = {k: EXACT if k in exact else DIFFERENCED for k in grads}
-    grads.update(exact)
-    keys = [k for k in (keys if keys is not None else list(grads)) if k in grads]
+    # the nominal margins of every modelled verdict (one sample); central differences only for the
+    # verdicts asked for that have no exact gradient (the others' differences would be overwritten)
+    ev0 = evaluate(d, x0[None], None if keys is None else {k[0] for k in keys})
+    m0 = {k: float(e.margin[0]) for k, e in ev0.items()}
+    keys = [k for k in (keys if keys is not None else list(ev0)) if k in ev0]
     if not keys:
         return {}
+    exact = exact_gradients(d)
+    need = {k[0] for k in keys if k not in exact}
+    grads = gradients(d, rules=need)[0] if need else {}
+    methods = {k: EXACT if k in exact else DIFFERENCED for k in keys}
+    grads.update(exact)
     # the gradient at each end of each parameter's range (others nominal): 4P samples in one call
     h = _steps(ps)
     lo = np.array([q.low for q in ps])
@@ -280,7 +286,7 @@ def analyse_sensitivities(
         ends[4 * j + 1, j] -= h[j]
         ends[4 * j + 2, j] += h[j]
         ends[4 * j + 3, j] -= h[j]
-    ev_ends = evaluate(d, ends)
+    ev_ends = evaluate(d, ends, {k[0] for k in keys})
     width = hi - lo
     seeds = {}
     flags: dict[tuple[str, str], tuple[int, ...]] = {}

@@ -154,3 +154,28 @@ def test_the_fuse_duty_is_miners_sum_and_follows_the_duty():
         assert fd.peak == pytest.approx(expect[f.id][1], rel=1e-12)
         assert a.fuse_duty[f.id].used != pytest.approx(fd.used)  # the original keeps its own
     assert dataclasses.replace(a, descent=None).fuse_duty == {}
+
+
+def test_the_relay_contact_rating_is_derated_linearly_above_its_rated_ambient():
+    """Hand-worked linear derating: 100 % up to the 25 °C rated ambient, 80 % at 85 °C, so at a 55 °C
+    zone 1 + (0.8 - 1)(55 - 25)/(85 - 25) = 0.9 of the rating; above the highest ambient none; with no
+    derating given the stated rating, a pass held to a warning."""
+    import dataclasses
+
+    from coilstage.analysis.ratings import relay_contact
+
+    a = analyse(load_drawing(COACH))
+    r = a.drawing.of_kind(Relay)[0]
+    base = dataclasses.replace(r, rating_24v=100.0, rated_ambient=25.0, max_ambient=None, zone_temperature=55.0)
+    x = relay_contact(dataclasses.replace(base, derated=(0.8, 85.0)), 24)
+    assert (x.rating, x.factor, x.held_to_warn) == (100.0, pytest.approx(0.9), False)
+    assert x.limit == pytest.approx(90.0)
+    y = relay_contact(dataclasses.replace(base, derated=None), 24)
+    assert (y.limit, y.held_to_warn) == (100.0, True)
+    z = relay_contact(dataclasses.replace(base, max_ambient=50.0), 24)
+    assert z.factor is None and z.limit is None and "highest ambient" in z.factor_words
+    assert relay_contact(dataclasses.replace(base, rating_24v=None, rating_12v=50.0), 24).limit is None
+    # the sweep's figures are those of the relay with its zone at each ambient of the sweep
+    sw = a.worst.duty_sweep
+    for j, rc in enumerate(a.ratings.relay_contacts_sweep["worst"][r.id]):
+        assert rc == relay_contact(dataclasses.replace(r, zone_temperature=sw.zone(r.zone_temperature, j)), 24)

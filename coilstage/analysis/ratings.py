@@ -232,6 +232,74 @@ def relay_pickup(r: Relay, hot: CornerResult) -> RelayPickup | None:
     return RelayPickup(r.id, t, r_hot, need, have, hot.bus_voltage)
 
 
+def relay_rating(r: Relay, system: int) -> tuple[float | None, str]:
+    """The contact rating that applies on this system [A], with a note; None when there is none (a 12 V
+    rating does not hold on a 24 V bus; a 24 V rating is used on a 12 V bus, conservatively)."""
+    if system == 24:
+        if r.rating_24v is not None:
+            return r.rating_24v, "24 V rating"
+        return None, "only a 12 V rating is given; a 12 V contact rating does not hold on a 24 V bus"
+    if r.rating_12v is not None:
+        return r.rating_12v, "12 V rating"
+    return r.rating_24v, "only a 24 V rating is given; used on the 12 V bus (conservative)"
+
+
+def relay_temperature_factor(r: Relay) -> tuple[float | None, str]:
+    """Fraction of the rating that holds in the relay's zone, with a note: 1 up to the rated ambient,
+    then linear to the maker's derating point (``r.derated`` = fraction at a temperature), never
+    below 0; None above the relay's highest ambient."""
+    t = r.zone_temperature
+    if r.max_ambient is not None and t > r.max_ambient:
+        return None, f"zone {r.zone} ({t:g} °C) is above the relay's highest ambient {r.max_ambient:g} °C"
+    if t <= r.rated_ambient:
+        return 1.0, f"zone {t:g} °C within the rated ambient {r.rated_ambient:g} °C"
+    if r.derated is None:
+        return 1.0, (
+            f"zone {t:g} °C above the rated ambient {r.rated_ambient:g} °C and no derating given: rating used as stated"
+        )
+    f, td = r.derated
+    k = 1.0 + (f - 1.0) * (t - r.rated_ambient) / (td - r.rated_ambient) if td != r.rated_ambient else f
+    return max(k, 0.0), f"derated linearly to {k:.3f} at {t:g} °C (given: {f:.0%} at {td:g} °C)"
+
+
+@dataclass(frozen=True)
+class RelayContact:
+    """A relay's contact rating in its zone: the maker's rating at the system voltage [A] (or None,
+    with why), the fraction of it that holds at the zone temperature [°C] (or None, with why), their
+    product, the limit [A], and whether a pass is held to a warning (zone above the rated ambient with
+    no derating given)."""
+
+    relay: str
+    zone_temperature: float
+    rating: float | None
+    rating_words: str
+    factor: float | None
+    factor_words: str
+    limit: float | None
+    held_to_warn: bool
+    model: str = "maker's contact rating at the system voltage, derated linearly above its rated ambient"
+
+
+def relay_contact(r: Relay, system: int) -> RelayContact:
+    """The contact rating of ``r`` on a ``system`` V bus at its zone temperature."""
+    rating, rnote = relay_rating(r, system)
+    k, tnote = relay_temperature_factor(r)
+    limit = rating * k if rating is not None and k is not None else None
+    held = r.derated is None and r.zone_temperature > r.rated_ambient
+    return RelayContact(r.id, r.zone_temperature, rating, rnote, k, tnote, limit, held)
+
+
+def relay_contacts_over(
+    relays: list[Relay], system: int, zones: dict[str, tuple[float, ...]]
+) -> dict[str, tuple[RelayContact, ...]]:
+    """Each relay's contact rating with its zone at each of the temperatures ``zones[relay id]`` [°C]."""
+    return {
+        r.id: tuple(relay_contact(dataclasses.replace(r, zone_temperature=z), system) for z in zones[r.id])
+        for r in relays
+        if r.id in zones
+    }
+
+
 # ---------------------------------------------------------------- all of them
 
 
@@ -249,6 +317,11 @@ class Ratings:
     #: each cable's rating at every ambient of the duty sweep, its zone following the ambient
     #: (:func:`coilstage.analysis.conditions.zone_at_ambient`)
     cables_sweep: dict[str, tuple[CableRating, ...]] = field(default_factory=dict)
+    #: each relay's contact rating in its stated zone
+    relay_contacts: dict[str, RelayContact] = field(default_factory=dict)
+    #: the same at every ambient of the duty sweep (``"worst"``) and of its nominal twin (``"nominal"``),
+    #: its zone following the ambient
+    relay_contacts_sweep: dict[str, dict[str, tuple[RelayContact, ...]]] = field(default_factory=dict)
 
 
 def cable_ratings_over(cables: list[Cable], zones: dict[str, tuple[float, ...]]) -> dict[str, tuple[CableRating, ...]]:
@@ -271,11 +344,14 @@ def ratings(
     far_end_smallest: dict[str, float] | None = None,
     largest_current: dict[str, float] | None = None,
     sweep_zones: dict[str, tuple[float, ...]] | None = None,
+    relay_sweep_zones: dict[str, dict[str, tuple[float, ...]]] | None = None,
 ) -> Ratings:
     """Every rating figure of a drawing (see the module docstring); ``far_end_smallest`` (protected
     cable id -> A) gives the far-end shorts at the smallest fault current as well, ``largest_current``
     (element id -> A) each fuse's peak current at the largest continuous current, ``sweep_zones``
-    (cable id -> its zone's temperature at each ambient of the duty sweep) each cable's rating there."""
+    (cable id -> its zone's temperature at each ambient of the duty sweep) each cable's rating there,
+    ``relay_sweep_zones`` (sweep name -> relay id -> its zone's temperature at each ambient) each
+    relay's contact rating there."""
     cables = {c.id: c for c in d.of_kind(Cable)}
     rate = {cid: cable_rating(c) for cid, c in cables.items()}
     over: dict[tuple[str, str], Overload | str] = {}
@@ -298,4 +374,9 @@ def ratings(
         short_min,
         fuse_switching_scaled(fs, duty, largest_current) if largest_current is not None else {},
         cable_ratings_over(list(cables.values()), sweep_zones or {}),
+        {r.id: relay_contact(r, d.supply.system_voltage) for r in d.of_kind(Relay)},
+        {
+            name: relay_contacts_over(d.of_kind(Relay), d.supply.system_voltage, zones)
+            for name, zones in (relay_sweep_zones or {}).items()
+        },
     )

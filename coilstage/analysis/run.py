@@ -29,7 +29,7 @@ from coilstage.analysis.ratings import Ratings, ratings
 from coilstage.analysis.switching import SwitchingResult, analyse_switching
 from coilstage.analysis.topology import protected_cables, switched_stages, unfused_feed_cables
 from coilstage.analysis.worst import WorstCases, worst_cases
-from coilstage.drawing.schema import Cable, Drawing
+from coilstage.drawing.schema import Cable, Drawing, Relay
 
 
 @dataclass(frozen=True)
@@ -89,6 +89,11 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         if sw_ is not None
         else None
     )
+    relay_zones = {
+        name: {r.id: tuple(s.zone(r.zone_temperature, j) for j in range(len(s.ambients))) for r in d.of_kind(Relay)}
+        for name, s in (("worst", sw_), ("nominal", worst.duty_sweep_nominal))
+        if s is not None
+    }
     switched = switched_stages(d)
     relays = contacts(
         d,
@@ -113,7 +118,16 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         switched,
         unfused_feed_cables(d),
         ratings(
-            d, protected, far_end, duty, sw, corners["hot"], worst.smallest_fault.far_end, worst.largest_current, zones
+            d,
+            protected,
+            far_end,
+            duty,
+            sw,
+            corners["hot"],
+            worst.smallest_fault.far_end,
+            worst.largest_current,
+            zones,
+            relay_zones,
         ),
         sw,
         analyse_field(d, corners, nets["cold"]),

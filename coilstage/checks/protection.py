@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-import dataclasses
-
 from coilstage import tables
 from coilstage.analysis.params import RELAY_WARN_SHARE
+from coilstage.analysis.ratings import RelayContact
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -202,82 +201,52 @@ def _fuse_breaking(a: Analysis) -> list[Verdict]:
     return out
 
 
-def relay_rating(r: Relay, system: int) -> tuple[float | None, str]:
-    """The contact rating that applies on this system, with a note; None when there is none."""
-    if system == 24:
-        if r.rating_24v is not None:
-            return r.rating_24v, "24 V rating"
-        return None, "only a 12 V rating is given; a 12 V contact rating does not hold on a 24 V bus"
-    if r.rating_12v is not None:
-        return r.rating_12v, "12 V rating"
-    return r.rating_24v, "only a 24 V rating is given; used on the 12 V bus (conservative)"
-
-
-def relay_temperature_factor(r: Relay) -> tuple[float | None, str]:
-    """Fraction of the rating that holds in the relay's zone, with a note."""
-    t = r.zone_temperature
-    if r.max_ambient is not None and t > r.max_ambient:
-        return None, f"zone {r.zone} ({t:g} °C) is above the relay's highest ambient {r.max_ambient:g} °C"
-    if t <= r.rated_ambient:
-        return 1.0, f"zone {t:g} °C within the rated ambient {r.rated_ambient:g} °C"
-    if r.derated is None:
-        return 1.0, (
-            f"zone {t:g} °C above the rated ambient {r.rated_ambient:g} °C and no derating given: rating used as stated"
-        )
-    f, td = r.derated
-    k = 1.0 + (f - 1.0) * (t - r.rated_ambient) / (td - r.rated_ambient) if td != r.rated_ambient else f
-    return max(k, 0.0), f"derated linearly to {k:.3f} at {t:g} °C (given: {f:.0%} at {td:g} °C)"
-
-
 def _relay_contact(a: Analysis) -> list[Verdict]:
-    """Each relay's contact current against its rating derated to its zone, in one consistent vehicle
-    state swept over the ambient range (as fuse.continuous); the cold corner where no sweep was made."""
+    """Each relay's contact current against its rating derated to its zone (analysis.ratings), in one
+    consistent vehicle state swept over the ambient range (as fuse.continuous); the cold corner where no
+    sweep was made."""
     out = []
     sw = a.worst.duty_sweep
     sn = a.worst.duty_sweep_nominal
+    over = a.ratings.relay_contacts_sweep
     for r in a.drawing.of_kind(Relay):
-        if sw is None or sn is None:
-            out.append(_relay_contact_at(a, r, a.duty[r.id], "cold"))
+        if sw is None or sn is None or r.id not in over.get("worst", {}) or r.id not in over.get("nominal", {}):
+            out.append(_relay_contact_at(a.ratings.relay_contacts[r.id], a.duty[r.id], "cold", a.duty_state[r.id]))
             continue
 
-        def at(j: int, corner: str, s, r=r) -> Verdict:
-            z = s.zone(r.zone_temperature, j)
-            rz = dataclasses.replace(r, zone_temperature=z)
-            return _relay_contact_at(a, rz, s.currents[r.id][j], corner, s.states[r.id][j])
+        def at(j: int, corner: str, s, name: str, r=r) -> Verdict:
+            return _relay_contact_at(over[name][r.id][j], s.currents[r.id][j], corner, s.states[r.id][j])
 
-        nominal, _ = worst_over_sweep(lambda j, c: at(j, c, sn), sn, "")
+        nominal, _ = worst_over_sweep(lambda j, c: at(j, c, sn, "nominal"), sn, "")
         if nominal.limit is None:
             out.append(nominal)
             continue
-        worst, j = worst_over_sweep(lambda j, c: at(j, c, sw), sw, "largest current")
+        worst, j = worst_over_sweep(lambda j, c: at(j, c, sw, "worst"), sw, "largest current")
         deciding = (sw.point_words(j), *(f"{k} {v}" for k, v in sw.words))
         out.append(decided_at_worst(worst, nominal, "largest current", deciding))
     return out
 
 
-def _relay_contact_at(a: Analysis, r: Relay, i: float, corner: str, state: str | None = None) -> Verdict:
-    """The relay's contact current ``i`` [A] against its rating at its zone temperature."""
-    rating, rnote = relay_rating(r, a.drawing.supply.system_voltage)
+def _relay_contact_at(rc: RelayContact, i: float, corner: str, state: str) -> Verdict:
+    """The relay's contact current ``i`` [A] against its rating at its zone temperature (``rc``)."""
+    rating, rnote, tnote, limit = rc.rating, rc.rating_words, rc.factor_words, rc.limit
     if rating is None:
-        return Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, rnote, corner)
-    k, tnote = relay_temperature_factor(r)
-    if k is None:
-        return Verdict(RELAY_CONTACT.id, r.id, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, corner)
-    limit = rating * k
+        return Verdict(RELAY_CONTACT.id, rc.relay, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, rnote, corner)
+    if limit is None:
+        return Verdict(RELAY_CONTACT.id, rc.relay, Status.FAIL, i, None, "A", None, RELAY_CONTACT.clause, tnote, corner)
     status = Status.PASS if i <= RELAY_WARN_SHARE * limit else Status.WARN if i <= limit else Status.FAIL
-    if status is Status.PASS and r.derated is None and r.zone_temperature > r.rated_ambient:
+    if status is Status.PASS and rc.held_to_warn:
         status = Status.WARN
     return Verdict(
         RELAY_CONTACT.id,
-        r.id,
+        rc.relay,
         status,
         i,
         limit,
         "A",
         ceiling(i, limit),
         RELAY_CONTACT.clause,
-        f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice); "
-        f"current {i:.1f} A with {state or a.duty_state[r.id]} on",
+        f"{rnote} {rating:g} A; {tnote}; warn above 90 % (common practice); current {i:.1f} A with {state} on",
         corner,
     )
 

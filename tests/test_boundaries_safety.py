@@ -105,6 +105,7 @@ def test_short_circuit_pinned_at_the_adiabatic_limit_iec60949():
     for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
         length = _bisect(lambda x: _short(x)[1].i2t, 3.0, 40.0, k * i2t_limit)
         v, sh = _short(length)
+        # rel 1e-4: the bisection on the cable length stops at 1e-7 relative (2e-8 apart here)
         assert sh.i2t == pytest.approx(k * i2t_limit, rel=1e-4)
         # abs 1 K: the rule's adiabatic constants round IEC 60949's (226 for 225.7, above): about 0.4 K here
         assert v.value == pytest.approx(_hand_final_temperature(sh.i2t, 35.0, CLASS_C), abs=1.0)
@@ -212,6 +213,7 @@ def test_winding_time_to_limit_pinned_at_the_duty_duration():
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
         rth = _bisect(minutes, 0.25, 1.0, k * ENDURANCE_MIN)
         _, v = _thermal(rth)
+        # rel 1e-4: the bisection on the thermal resistance stops at 1e-7 relative (5e-8 apart here)
         assert v.value == pytest.approx(k * ENDURANCE_MIN, rel=1e-4)
         assert v.status is status, (k, v.value, v.note)
 
@@ -236,6 +238,7 @@ def test_bus_minimum_pinned_at_the_code_g_minimum_iso16750_2():
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
         load = _bisect(lambda x: -_bus(x).value, 20.0, 400.0, -k * CODE_G_MIN)
         v = _bus(load)
+        # rel 1e-5: the bisection on the load stops at 1e-7 relative (2e-9 apart here)
         assert v.value == pytest.approx(k * CODE_G_MIN, rel=1e-5)
         assert v.limit == pytest.approx(CODE_G_MIN)
         assert v.status is status, (k, v.value, v.note)
@@ -267,6 +270,7 @@ def test_relay_coil_pickup_pinned_at_110_percent_by_hand():
     rc = 120.0 * (1 + ALPHA_CU * (85.0 - 20.0))
     have = bus * rc / (rc + 5.0)
     v = _verdict(PICKUP, a, "K0")
+    # rel 1e-9: the rule's figures are these expressions of the analysis' bus: round-off only
     assert v.value == pytest.approx(have, rel=1e-9)
     assert v.limit == pytest.approx(PICKUP_MARGIN * 16.8 * rc / 120.0, rel=1e-9)
     boundary = have / (PICKUP_MARGIN * rc / 120.0)  # the operate voltage where have = 110 % of need
@@ -333,6 +337,7 @@ def test_suppressor_peak_current_pinned_at_the_break_current():
     assert v.value == pytest.approx(cold, rel=1e-6)
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
         _, v2 = _sup(_suppressed(peak=k * cold), "S0 peak current")
+        # rel 1e-9: the current does not move with the suppressor's rating: round-off only
         assert v2.value == pytest.approx(cold, rel=1e-9)
         assert v2.status is status
 
@@ -353,6 +358,7 @@ def test_suppressor_energy_pinned_at_the_hand_worked_clamp_energy():
     a, v = _sup(_suppressed(), "S0 energy")
     i0 = a.switching.stages["cold"]["S0"].i_break
     r, energy, _ = _hand_decay(i0)
+    # rel 1e-6: L/R with the hand decay's R against the analysis' tau (equal here)
     assert a.switching.stages["cold"]["S0"].tau == pytest.approx(INDUCTANCE / r, rel=1e-6)
     # abs 0.01 J: 17.85 J is the hand-worked figure to 4 significant figures
     assert energy == pytest.approx(17.85, abs=0.01)
@@ -421,6 +427,7 @@ def test_braking_retained_pinned_at_the_hand_worked_ratio():
     assert v.value == pytest.approx(b.ratio, rel=1e-9)
     for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
         _, v2 = _retained(k * b.ratio)
+        # rel 1e-9: a second analysis with only the rating changed: round-off only
         assert v2.value == pytest.approx(b.ratio, rel=1e-9)
         assert v2.limit == pytest.approx(k * b.ratio, rel=1e-9)
         assert v2.status is status
@@ -453,6 +460,7 @@ def test_relay_coil_fuse_pinned_at_75_percent_by_hand():
         (i / 1.01, Status.FAIL),
     ):
         v = _coil_circuit(rating)["K0 coil fuse"]
+        # rel 1e-9: the coil current does not move with its fuse's rating: round-off only
         assert v.value == pytest.approx(i, rel=1e-9)
         assert v.status is status, (rating, v.note)
 
@@ -524,6 +532,7 @@ def test_inductance_crosscheck_pinned_at_25_percent():
         (geo / 0.75 * 1.01, Status.WARN),
     ):
         a2, v2 = _inductance(stated * 1e3)
+        # rel 1e-9: the geometry's inductance does not move with the stated one: round-off only
         assert a2.field.inductance_check["C0"][1] == pytest.approx(geo, rel=1e-9)
         assert v2.limit == pytest.approx(0.25)
         assert v2.status is status, (stated, v2.value, v2.note)
@@ -554,6 +563,7 @@ def test_no_nuisance_opening_pinned_at_the_first_gate_rerated():
     for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
         rating = i / (k * FIRST_GATE * RERATE_60)
         v2 = _nuisance(rating)
+        # a second analysis with only the fuse rating changed: its current within 1e-6, the limit to round-off
         assert v2.value == pytest.approx(i, rel=1e-6)
         assert v2.limit == pytest.approx(FIRST_GATE * RERATE_60 * rating, rel=1e-9)
         assert v2.status is status, (k, v2.note)
@@ -624,6 +634,7 @@ def test_overvoltage_cable_pinned_at_its_ampacity_and_1_45_iz(fuse, cases):
     for k, status in cases:
         r = _bisect(lambda x: -_ov_cable(x, fuse).value, 0.1, 1.0, -k * iz)
         v = _ov_cable(r, fuse)
+        # rel 1e-5: the bisection on the coil resistance stops at 1e-7 relative (1e-7 apart here)
         assert v.value == pytest.approx(k * iz, rel=1e-5)
         # rel 1e-3: the same interpolation as iz above (equal to round-off); 0.1 % is the 4 figures of 84.48 A
         assert v.limit == pytest.approx(iz, rel=1e-3)
@@ -640,6 +651,7 @@ def test_overvoltage_cable_pinned_where_its_fuse_opens():
     i = _ov_cable(r, 300.0).value
     for k, status in ((1.01, Status.WARN), (0.99, Status.FAIL)):
         v = _ov_cable(r, i / (k * 1.35 * RERATE_60))
+        # rel 1e-6: the same current in a second analysis with only the fuse rating changed
         assert v.value == pytest.approx(i, rel=1e-6)
         assert v.status is status, (k, v.note)
 
@@ -727,6 +739,7 @@ def test_joint_current_pinned_at_its_rating_derated_by_hand():
     i = v.value
     for k, status in ((0.99, Status.PASS), (1.01, Status.FAIL)):
         v2, _ = _with_joint(rating=i / (k * share))
+        # rel 1e-9: a second analysis with only the joint's rating changed: round-off only
         assert v2.value == pytest.approx(i, rel=1e-9)
         assert v2.status is status, (k, v2.note)
 
@@ -773,6 +786,7 @@ def test_relay_voltage_rating_pinned_at_the_opening_contact_voltage(central):
     dump = TEST_B_24V + u0 if central == "yes" else max(151 * r_load / (r_load + 1), 202 * r_load / (r_load + 8)) + u0
     hand = {"K0": 32.0 + u0, "K0 load dump": dump}
     for subject, need in hand.items():
+        # rel 1e-6: the hand formulas of the rule's figures (equal here)
         assert vs[subject].limit == pytest.approx(need, rel=1e-6), subject
         for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
             _, vs2 = _relay_voltage(k * need, central)
@@ -847,6 +861,7 @@ def test_fuse_duty_thermal_state_pinned_where_the_gate_time_is_used_up():
         f = _bisect(lambda x: -used(x), 0.9 * hand, 1.1 * hand, -k)
         a = _continuous(0.25, f)
         v = _verdict(FUSE_DUTY, a, "FM")
+        # rel 1e-4: the bisection on the fuse rating stops at 1e-7 relative (2e-6 apart here)
         assert v.value == pytest.approx(k, rel=1e-4)
         # rel 1e-3: the hand sum (mean current per output interval) against the rule's own sum: 2e-6 apart here
         assert hand_used(a, f) == pytest.approx(k, rel=1e-3)
@@ -880,6 +895,7 @@ def test_lost_return_pinned_at_the_ampacity_of_the_path_that_takes_over():
     for k, status in ((0.99, Status.WARN), (1.01, Status.FAIL)):
         r = _bisect(lambda x: -_lost_return(x).value, 0.5, 2.0, -k * amp)
         v = _lost_return(r)
+        # rel 1e-5: the bisection on the coil resistance stops at 1e-7 relative (1e-8 apart here)
         assert v.value == pytest.approx(k * amp, rel=1e-5)
         # rel 1e-3: as above (the ampacity does not move with the coil resistance)
         assert v.limit == pytest.approx(amp, rel=1e-3)
@@ -899,8 +915,10 @@ def test_alternator_idle_pinned_at_the_cold_demand():
     a = _analysis(drawing_text(stages=1))
     demand = sum(s.current for s in a.corners["cold"].stages) + 20.0
     v = _verdict(ALTERNATOR, a, "alternator (idle)")
+    # rel 1e-9: a plain sum of the corner's figures: round-off only
     assert v.value == pytest.approx(demand, rel=1e-9)
     for k, status in ((1.01, Status.PASS), (0.99, Status.WARN)):
         v2 = _alternator(k * demand)
+        # rel 1e-6: the same demand in a second analysis with only the alternator's rating changed
         assert v2.value == pytest.approx(demand, rel=1e-6)
         assert v2.status is status

@@ -36,9 +36,11 @@ def test_single_stage_series_circuit_by_hand():
     )
     i = 28.3 / r_total
     stage = a.corners["cold"].stages[0]
+    # rel 1e-12: the series circuit worked above is the whole network: round-off only
     assert stage.current == pytest.approx(i, rel=1e-12)
     assert stage.terminal_voltage == pytest.approx(i * 1.0 * k, rel=1e-12)
     assert stage.ampere_turns == pytest.approx(150 * i, rel=1e-12)
+    # rel 1e-12: as above
     assert stage.stored_energy == pytest.approx(0.5 * 0.05 * i * i, rel=1e-12)
 
 
@@ -49,6 +51,7 @@ def test_prospective_fault_current_by_hand():
     d = parse_drawing(drawing_text(stages=1), "x")
     a, verdicts = check(d)
     v = (28.3 / 0.008 + 100 - 20) / (1 / 0.008 + 1 / 0.0002)
+    # rel 1e-9: the nodal formula above against the network solve: round-off only
     assert a.fault_current["FM"] == pytest.approx(v / 0.0002, rel=1e-9)
     assert verdict(verdicts, "fuse.breaking_capacity", "FM").status is Status.PASS  # 20 kA given
 
@@ -69,6 +72,7 @@ def test_relay_derating_interpolates_and_max_ambient_fails():
     )
     _, verdicts = check(parse_drawing(text, "x"))
     v = verdict(verdicts, "relay.contact_rating", "K0")
+    # rel 1e-12: the rule's limit is this expression: round-off only
     assert v.limit == pytest.approx(150 * (1 - 0.5 * 35 / 60), rel=1e-12)
     text2 = drawing_text(stages=1).replace('rated_ambient = "85 degC"', 'max_ambient = "55 degC"')
     _, verdicts = check(parse_drawing(text2, "x"))
@@ -124,6 +128,7 @@ def test_fuse_continuous_uses_75_percent_of_the_rerated_rating():
     _, vs = check(parse_drawing(drawing_text(), "x"))
     v = verdict(vs, "fuse.continuous", "FM")
     assert "ambient -30 °C" in v.note and "rerating at -10 °C" in v.note
+    # rel 1e-12: the rule's limit is this expression: round-off only
     assert v.limit == pytest.approx(0.75 * 300 * (1.12 - 0.12 * 30 / 65), rel=1e-12)
 
 
@@ -162,6 +167,7 @@ def test_hot_corner_current_ratio_follows_resistance_and_bus():
     ratio = (hot.current / cold.current) / (
         (hot.terminal_voltage / cold.terminal_voltage) * cold.resistance / hot.resistance
     )
+    # rel 1e-12: Ohm's law holds exactly: round-off only
     assert ratio == pytest.approx(1.0, rel=1e-12)
 
 
@@ -199,6 +205,7 @@ def test_fault_currents_of_every_fuse_match_one_short_at_a_time():
     for fid, i_sc in a.fault_current.items():
         fuse = next(e for e in d.elements if e.id == fid)
         direct = a.circuit.solve(temps, src, short_at=fuse.b).fault_current
+        # rel 1e-9: the analysis' fault current against a direct solve with the short: round-off only
         assert i_sc == pytest.approx(abs(direct), rel=1e-9)
 
 

@@ -56,6 +56,7 @@ def test_i2_against_1_45_iz_hand_worked():
     _, fail, _ = _run(_rated(drawing_text(stages=1), 0.95 * iz, gates))
     _, ok, _ = _run(_rated(drawing_text(stages=1), 0.85 * iz, gates))
     assert fail.status is Status.FAIL
+    # rel 1e-4: the rating is written to the drawing to 4 decimals; the limit 1.45 Iz to round-off
     assert fail.value == pytest.approx(1.6 * 0.95 * iz, rel=1e-4)
     assert fail.limit == pytest.approx(1.45 * iz, rel=1e-9)
     assert ok.status is Status.PASS

@@ -55,6 +55,7 @@ def test_repeated_peak_against_solve_ivp():
             if rep == 39:
                 best = max(best, float(np.max(sol.y[0])))
     assert current(6.5) == 110.0
+    # rel 1e-6: scipy.integrate.solve_ivp at rtol 1e-10 over 40 repetitions (4e-11 apart here)
     assert peak == pytest.approx(best, rel=1e-6)
 
 
@@ -94,6 +95,7 @@ def test_tight_fuse_for_frequent_switching_is_flagged_and_a_larger_one_passes():
     assert i_on > tight.limit
     _, loose = _verdict(_fm("300 A"))
     assert loose.status is Status.PASS
+    # rel 1e-6: the current does not move with the fuse's rating (equal here)
     assert loose.value == pytest.approx(i_on, rel=1e-6)
 
 

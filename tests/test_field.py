@@ -52,6 +52,7 @@ def test_linear_circuit_inductance_is_n_squared_over_reluctance():
     assert 2e-3 / (MU0 * 40e-4) == pytest.approx(3.979e5, rel=1e-3)
     assert ideal.apparent_inductance(10.0) == pytest.approx(25.13e-3, rel=1e-3)
     iron = MagneticCircuit(100, 40e-4, 2, 1e-3, 0.2, 40e-4, linear_curve(1000))
+    # rel 1e-9: the series reluctance formula written out: round-off only
     assert iron.apparent_inductance(7.0) == pytest.approx(
         1e4 / (2e-3 / (MU0 * 40e-4) + 0.2 / (MU0 * 1000 * 40e-4)), rel=1e-9
     )
@@ -174,6 +175,7 @@ def test_linear_ratios_follow_ohms_law():
     a, _ = check(load_drawing(TRUCK))
     f = a.field
     cold, hot = a.corners["cold"].stages, a.corners["hot"].stages
+    # rel 1e-12: the same sums of the corners' currents: round-off only
     assert f.ratio_corners == pytest.approx(sum(h.current**2 for h in hot) / sum(c.current**2 for c in cold), rel=1e-12)
     exp_t = sum((c.current * c.resistance / h.resistance) ** 2 for c, h in zip(cold, hot, strict=True))
     assert f.ratio_temperature == pytest.approx(exp_t / sum(c.current**2 for c in cold), rel=1e-12)

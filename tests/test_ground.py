@@ -57,9 +57,12 @@ def test_shared_return_lost_goes_through_the_chassis_and_strap():
     lr = lose_return(a.drawing, "W-RET", cold.temperatures, cold.sources)
     s = lr.solution
     into_stud = sum(s.current[k] for k in ("W1R", "W2R", "W3R", "W4R"))
+    # rel 1e-6: KCL at the stud and Ohm's law on the solution; the lost return is OPEN_RESISTANCE, not
+    # open (2e-12 apart here)
     assert s.current["G-BODY"] == pytest.approx(into_stud, rel=1e-6)
     assert s.current["W-STRAP"] == pytest.approx(into_stud, rel=1e-6)
     i = s.current["G-BODY"]
+    # rel 1e-6: as above
     assert lr.gap_voltage == pytest.approx(i * (s.resistance["G-BODY"] + s.resistance["W-STRAP"]), rel=1e-6)
     v = one(a, "W-RET")
     assert "G-BODY" in v.note and "W-STRAP" in v.note

@@ -54,6 +54,7 @@ def test_power_tower_in_a_ratio_refused_unevaluated():
 
 def test_units_still_carry_powers():
     assert parse_quantity("1200 A^2*s", "joule_integral") == 1200.0
+    # rel 1e-12: a power of a unit converted: round-off only
     assert parse_quantity("35 mm**2", "area") == pytest.approx(35e-6, rel=1e-12)
 
 

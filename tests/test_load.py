@@ -105,6 +105,7 @@ def test_coil_resistance_from_turns_and_wire():
         .replace("turns = 150", "turns = 200", 1)
     )
     d = parse_drawing(text, "x")
+    # rel 1e-12: 200 turns of 0.9 m of 2.5 mm^2 at rho = 1/58 ohm mm^2/m: round-off only
     assert d.coils["C0"].r_ref == pytest.approx(180 / 58 / 2.5, rel=1e-12)
 
 

@@ -44,6 +44,7 @@ def test_coach_currents_rise_by_the_voltage_ratio(coach):
     case = overvoltage_case(coach.drawing, coach.circuit)
     assert case.bus == 36.0 and case.normal_bus == pytest.approx(28.2)
     for eid in ("S1", "F1", "W1", "F-MAIN"):
+        # rel 1e-9: the network is linear in the bus voltage: round-off only (3e-13 here)
         assert case.current[eid] / case.normal_current[eid] == pytest.approx(36.0 / 28.2, rel=1e-9)
     # abs 1e-4: the 27.66 % given to 4 decimals
     assert 36.0 / 28.2 - 1 == pytest.approx(0.2766, abs=1e-4)
@@ -79,6 +80,7 @@ def test_coach_coils_fail_within_the_hour_and_time_hand_worked(coach):
     coil = next(s for s in coach.drawing.elements if s.id == "S1").coil
     p0 = c.coil_voltage**2 / coil.r_ref
     t = -coil.thermal_resistance * coil.heat_capacity * math.log(1 - (165.0 - 20.0) / (p0 * 0.35))
+    # rel 1e-9: the closed form of the first-order heating: round-off only
     assert c.time_to_limit == pytest.approx(t, rel=1e-9)
     assert c.time_to_limit < 3600.0
     assert _one(OV_FUSE, coach, "F1").status is Status.PASS  # the fuse holds: nothing else acts

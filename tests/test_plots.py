@@ -81,6 +81,7 @@ def test_waveform_request_too_large_refused_before_allocating():
     a = analyse(d, heating=False)
     n = waveforms.sample_count(a, 1e-6)
     span = sum(sc.t_end for sc in a.switching.scenarios.values())
+    # rel 1e-9: a count of sample times, span/step in floating point: round-off only
     assert n == pytest.approx(span / 1e-6 + len(a.switching.scenarios), rel=1e-9)
     with pytest.raises(AnalysisError, match="limit of 2,000,000") as exc:
         waveforms.series(a, 1e-6)

@@ -138,6 +138,7 @@ def test_dc5_time_constant_iec60947_4_1():
     tau50 = a.switching.stages["cold"]["S0"].tau
     a_in, inside = _verdicts(_unsuppressed_dc5(50.0 * 0.0149 / tau50))
     a_out, outside = _verdicts(_unsuppressed_dc5(50.0 * 0.0151 / tau50))
+    # rel 1e-6: the inductance is written to the drawing to 6 decimals of a mH
     assert a_in.switching.stages["cold"]["S0"].tau == pytest.approx(0.0149, rel=1e-6)
     assert a_out.switching.stages["cold"]["S0"].tau == pytest.approx(0.0151, rel=1e-6)
     assert _one(inside, "relay.inductive_break", "K0").status is Status.PASS
@@ -262,6 +263,7 @@ def test_overvoltage_fuse_at_its_rerated_rating_iso16750_2(k, status):
     rer = v.limit / 300.0
     a2, _ = _verdicts(_with_fuse_rating(drawing_text(stages=1), v.value / (rer * k)))
     (v2,) = [v for v in OV_FUSE.evaluate(a2) if v.subject == "FM"]
+    # rel 1e-9: a second analysis with only the fuse rating changed: round-off only
     assert v2.value == pytest.approx(v.value, rel=1e-9)
     assert v2.status is status
 

@@ -50,6 +50,7 @@ def test_offset_hand_worked_by_ohms_law_with_the_shared_return():
     hand0 = i0 * R_BRANCH + (i0 + i1) * R_SHARED
     hand1 = i1 * R_BRANCH + (i0 + i1) * R_SHARED
     assert vs["S0"].value == pytest.approx(hand0, rel=1e-9)
+    # rel 1e-9: the drops summed by hand on the solve's own currents: round-off only
     assert vs["S1"].value == pytest.approx(hand1, rel=1e-9)
     assert vs["S0"].unit == "V" and vs["S0"].corner == "cold"
     assert vs["S0"].status is Status.PASS  # about 0.2 V, well inside 1 V
@@ -76,6 +77,7 @@ def test_offset_against_numpy_linalg():
             g[i, j] -= 1 / r
             g[j, i] -= 1 / r
     v = np.linalg.solve(g, rhs)
+    # rel 1e-9: numpy.linalg.solve against the package's solve: round-off only
     assert vs["S0"].value == pytest.approx(v[0], rel=1e-9)
     assert vs["S1"].value == pytest.approx(v[1], rel=1e-9)
 
@@ -136,6 +138,7 @@ def test_coach_offsets_and_chassis():
     cold = a.conditions["cold"]
     sol = Circuit(d).solve(cold.temperatures, cold.sources)
     for s in ("S1", "S2", "S3", "S4"):
+        # rel 1e-9: the rule's offset is this node voltage difference: round-off only
         assert vs[s].value == pytest.approx(sol.v[f"{s}-"] - sol.v["B-"], rel=1e-9)
         assert vs[s].status is Status.PASS
     assert vs["S1"].value < vs["S4"].value  # the farther stages sit higher on the shared return

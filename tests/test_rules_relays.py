@@ -72,6 +72,7 @@ def test_pickup_decided_at_the_lowest_bus():
     v = one(PICKUP.evaluate(a), "K1")
     assert v.status is Status.WARN
     assert v.value == pytest.approx(low * r95 / (r95 + 1.5), rel=1e-12)
+    # rel 1e-12: the rule's figures are these expressions: round-off only
     assert v.limit == pytest.approx(1.10 * need, rel=1e-12)
     assert v.worst.nominal_status is Status.PASS
     assert v.worst.nominal_value == pytest.approx(hot * r95 / (r95 + 1.5), rel=1e-12)
@@ -126,6 +127,7 @@ def test_voltage_rating_in_the_load_dump_that_applies():
     u = max(151.0 * r / (r + 1.0), 202.0 * r / (r + 8.0))
     assert u == pytest.approx(151.0 * r / (r + 1.0))
     v = one(RELAY_VOLTAGE.evaluate(a), "K1 load dump")
+    # rel 1e-12: the rule's limit is this expression: round-off only
     assert v.limit == pytest.approx(u + 24.9, rel=1e-12)
     # abs 0.1 V: 77.4 V worked by hand to 0.1 V
     assert v.limit == pytest.approx(77.4, abs=0.1)
@@ -155,6 +157,7 @@ def test_test_b_clamps_a_lightly_loaded_contact():
     va, vb = one(RELAY_VOLTAGE.evaluate(a_a), "K0 load dump"), one(RELAY_VOLTAGE.evaluate(a_b), "K0 load dump")
     sup = a_a.switching.stages["cold"]["S0"].decay.u_suppressor_peak
     r = a_a.corners["cold"].bus_voltage / a_a.switching.stages["cold"]["S0"].i_break
+    # rel 1e-12: the rule's limits are these expressions: round-off only
     assert va.limit == pytest.approx(max(151 * r / (r + 1), 202 * r / (r + 8)) + sup, rel=1e-12)
     assert vb.limit == pytest.approx(58.0 + sup, rel=1e-12)
     assert "no central load-dump suppression" in va.note and "Test B" in vb.note
@@ -270,6 +273,7 @@ def test_coil_fuse_against_the_cold_coil_current():
     for fuse, want in (("0.5 A", Status.PASS), ("0.4 A", Status.WARN), ("0.3 A", Status.FAIL)):
         v = one(COIL_CIRCUIT.evaluate(analysed(_coil(f', fuse = "{fuse}"'))), "K1 coil fuse")
         assert v.status is want, fuse
+        # rel 1e-9: the coil circuit's current does not move with its fuse's rating: round-off only
         assert v.value == pytest.approx(i, rel=1e-9)
     # boundary at 75 %: I/0.75 x (1 -/+ 0.1 %)
     for k, want in ((1.001, Status.PASS), (0.999, Status.WARN)):

@@ -29,6 +29,7 @@ from coilstage.units import (
     ],
 )
 def test_parse_quantity_to_si(text, dim, si):
+    # rel 1e-12: conversion factors exact in decimal: round-off only
     assert parse_quantity(text, dim) == pytest.approx(si, rel=1e-12)
 
 
@@ -105,6 +106,7 @@ def test_fast_units_agree_with_pint():
     ureg = registry()
     for unit, (factor, dim) in FAST_UNITS.items():
         q = ureg.Quantity(2.5, normalise_unit_text(unit).replace("^", "**"))
+        # rel 1e-12: pint's conversion and the fast table's factor: round-off only
         assert q.to(DIMENSIONS[dim][0]).magnitude == pytest.approx(2.5 * factor, rel=1e-12), unit
         assert parse_quantity(f"2.5 {unit}", dim) == pytest.approx(2.5 * factor, rel=1e-12)
     for unit in FAST_TEMPERATURES:

@@ -97,6 +97,7 @@ def test_short_circuit_pinned_at_the_adiabatic_limit_iec60949():
     i2t_limit = (K_COPPER * 35.0) ** 2 * math.log((XLPE_LIMIT + BETA_COPPER) / (CLASS_C + BETA_COPPER))
     assert i2t_limit == pytest.approx(18.67e6, rel=1e-3)
     v3, sh3 = _short(3.0)
+    # default rel 1e-6: the rule's stated limits, as read: round-off only
     assert v3.limit == pytest.approx(XLPE_LIMIT)
     assert sh3.theta_initial == pytest.approx(CLASS_C)
     # the rule's figure is the adiabatic final temperature of the worst case's own I^2t (the 226 rounds
@@ -395,6 +396,7 @@ def test_load_dump_blocking_pinned_at_the_pulse_peak_iso16750_2(central, peak):
     assert v.limit == pytest.approx(peak)
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
         _, v2 = _sup(_suppressed(reverse=k * peak, central=central), "S0 load dump", LOAD_DUMP)
+        # default rel 1e-6: the limit does not move with the suppressor's rating: round-off only
         assert v2.limit == pytest.approx(peak)
         assert v2.status is status, (central, k, v2.note)
 
@@ -493,6 +495,7 @@ def test_temperature_class_pinned_at_class_c_iso6722(zone, status):
     # reaches the class leaves nothing for self-heating: 1 K below passes, at it and above fails.
     text = drawing_text(stages=1).replace('chassis = "60 degC"', f'chassis = "{zone:g} degC"', 1)
     v = _verdict(TEMPERATURE_CLASS, _analysis(text), "W0")
+    # default rel 1e-6: the class and the zone temperature as the drawing states them: round-off only
     assert v.limit == pytest.approx(125.0)
     assert v.value == pytest.approx(zone)
     assert v.status is status
@@ -683,6 +686,7 @@ def test_overvoltage_coil_pinned_at_its_class_limit_in_steady_state():
     c, _ = _ov_coil(0.2, 0.5)
     assert c.coil_voltage == pytest.approx(36.0 / (1.0 + 8.83e-3), rel=1e-3)
     assert c.steady_temperature == pytest.approx(_hand_steady(c.coil_voltage, 0.2), abs=0.01)
+    # default rel 1e-6: the class H limit less its allowance, as read: round-off only
     assert c.limit == pytest.approx(CLASS_H_LIMIT)
     for dt, status in ((-1.0, Status.PASS), (1.0, Status.FAIL)):
         rth = _bisect(lambda x: _ov_coil(x, 0.5)[0].steady_temperature, 0.05, 0.2, CLASS_H_LIMIT + dt)
@@ -757,6 +761,7 @@ def test_joint_current_pinned_at_its_rating_derated_by_hand():
 )
 def test_lug_size_pinned_at_its_cable_area(low, high, status):
     _, v = _with_joint(low=low, high=high)
+    # default rel 1e-6: the cable's 10 mm^2 as read: round-off only
     assert v.value == pytest.approx(10.0)
     assert v.status is status
 

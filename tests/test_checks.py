@@ -191,6 +191,7 @@ def test_flawed_drawing_fails_each_flaw(rule, subject, why):
 def test_element_resistance_of_a_parallel_stage():
     d = parse_drawing(drawing_text(stages=1, coil_count=3, connection="parallel"), "x")
     s = d.stages[0]
+    # default rel 1e-6: three 1 ohm, 50 mH coils in parallel: round-off only
     assert element_resistance(s, 20.0) == pytest.approx(1.0 / 3)
     assert s.inductance == pytest.approx(0.05 / 3)
     assert s.coil_current_factor == pytest.approx(1 / 3)

@@ -181,9 +181,11 @@ def test_joint_keys():
         )
     )
     j = next(e for e in d.elements if e.id == "J1")
+    # default rel 1e-6: the drawing's values converted to SI: round-off only
     assert j.joint_kind == "lug" and j.resistance == pytest.approx(50e-6)
     assert (j.rating, j.rated_ambient, j.derated) == (250.0, 30.0, (0.8, 85.0))
     assert (j.zone, j.zone_temperature, j.part) == ("chassis", 60.0, "")
+    # default rel 1e-6: as above
     assert j.conductor_range == pytest.approx((25e-6, 35e-6)) and j.cable == "WR"
 
 

@@ -74,6 +74,7 @@ def test_batch_with_a_bad_drawing(tmp_path):
         assert row["warns"] == sum(v.status is Status.WARN for v in verdicts)
         scored = [v for v in verdicts if v.margin is not None and v.status is not Status.NOT_CHECKED]
         tight = min(scored, key=lambda v: v.margin)
+        # default rel 1e-6: the summary's margin is the verdict's own: round-off only
         assert row["margin"] == pytest.approx(tight.margin)
         assert (row["margin_rule"], row["margin_subject"]) == (tight.rule, tight.subject)
         assert row["result"] == ("fail" if row["fails"] else "warn" if row["warns"] else "pass")

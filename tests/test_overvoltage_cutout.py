@@ -27,6 +27,7 @@ def _coil_verdicts(d):
 
 def test_the_coach_states_its_cutout_and_passes_where_it_failed_without():
     d = coilstage.load_drawing(COACH)
+    # default rel 1e-6: the drawing's 30 V as read: round-off only
     assert d.supply.overvoltage_cutout == pytest.approx(30.0)
     with_cut = _coil_verdicts(d)
     without = _coil_verdicts(_without_cutout(d))
@@ -44,6 +45,7 @@ def test_stage_currents_scale_with_the_bus_the_stages_see():
 
     cut = overvoltage_case(d, Circuit(d))
     full = overvoltage_case(_without_cutout(d), Circuit(d))
+    # default rel 1e-6: the bus voltages as stated (cut-out 30 V, regulator failure 36 V): round-off only
     assert cut.bus == pytest.approx(30.0) and full.bus == pytest.approx(36.0)
     for s in d.stages:
         # rel 1e-9: the network is linear in the bus voltage: round-off only

@@ -55,6 +55,7 @@ def test_flawed_demo_values_by_hand():
     assert _row(fb, "breaking_capacity")["origin"] == "table" and _row(fb, "breaking_capacity")["value"] == 1000.0
     feed = _part(p, "W-FEED")
     assert _row(feed, "size")["shown"] == "6 mm²"
+    # default rel 1e-6: the drawing's values converted to SI: round-off only
     assert _row(feed, "size.area")["value"] == pytest.approx(6e-6)
     assert _row(feed, "length")["value"] == pytest.approx(3.0) and _row(feed, "length")["shown"] == "3 m"
     assert _row(feed, "insulation")["shown"] == "A"

@@ -226,6 +226,7 @@ def test_a_library_lug_overridden_in_a_drawing():
     want = parse_drawing(toml_dumps(typed), "typed.toml", CONFIGS)
     j = next(e for e in got.elements if e.id == "J-BAT")
     assert (j.joint_kind, j.rating, j.rated_ambient, j.derated) == ("lug", 350.0, 30.0, (0.8, 85.0))
+    # default rel 1e-6: the part's conductor range converted to SI: round-off only
     assert j.conductor_range == pytest.approx((70e-6, 95e-6))
     assert j.part == "workshop-parts.toml#LUG-M10-95"
     unref = [dataclasses.replace(e, part="") if e.id == "J-BAT" else e for e in _elements(got)]

@@ -118,6 +118,7 @@ def test_rated_for_fewer_switchings_than_the_drawing_warns():
 def test_loaded_into_the_fuse():
     d = parse_drawing(_text('cyclic_factor = "45 %"\ncyclic_cycles = 20000'), "cyclic")
     (fm,) = [f for f in d.of_kind(Fuse) if f.id == "FM"]
+    # default rel 1e-6: 45 % read as a share: round-off only
     assert (fm.cyclic_factor, fm.cyclic_cycles) == (pytest.approx(0.45), 20000)
     plain = parse_drawing(_text(), "cyclic")
     (fm,) = [f for f in plain.of_kind(Fuse) if f.id == "FM"]

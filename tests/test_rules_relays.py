@@ -125,6 +125,7 @@ def test_voltage_rating_in_the_load_dump_that_applies():
     i_b = a.switching.stages["cold"]["S1"].i_break
     r = a.corners["cold"].bus_voltage / i_b
     u = max(151.0 * r / (r + 1.0), 202.0 * r / (r + 8.0))
+    # default rel 1e-6: the same expression, picked by max: round-off only
     assert u == pytest.approx(151.0 * r / (r + 1.0))
     v = one(RELAY_VOLTAGE.evaluate(a), "K1 load dump")
     # rel 1e-12: the rule's limit is this expression: round-off only

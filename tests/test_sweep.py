@@ -190,6 +190,7 @@ def test_linear_rule_mean_and_quantiles_converge_on_the_exact_ones():
     the function at the parameter's q quantile: 0.02 + 0.5·(−0.05 + 0.1 q)."""
     n = 20_000
     r = {x.rule: x for x in sweep.run(PS, _lin(), n, seed=1).rules}["lin.r1"]
+    # default rel 1e-6: the linear model's margin at nominal is 0.02 by construction: round-off only
     assert r.nominal_margin == pytest.approx(0.02)
     assert abs(r.mean - r.nominal_margin) < 4 * r.standard_error
     # rel 3 %: the sample standard deviation of 20 000 draws scatters by about 1/sqrt(2n) = 0.5 %
@@ -215,6 +216,7 @@ def test_vertices_bound_a_monotone_rule():
     r = {x.rule: x for x in sweep.run(PS, _lin(), 5000, seed=2).rules}
     assert (ev[("lin.r0", "S")][1] == 0).all() and r["lin.r0"].fail == r["lin.r0"].warn == 0
     assert (ev[("lin.r2", "S")][1] == 2).all() and r["lin.r2"].fail_share == 1.0
+    # default rel 1e-6: the sweep's corner margin is the evaluator's smallest: round-off only
     assert r["lin.r0"].corner_margin == pytest.approx(ev[("lin.r0", "S")][0].min())
     assert r["lin.r0"].corner_margin <= r["lin.r0"].least
 

@@ -72,6 +72,7 @@ def test_iec60228_published_limits():
     c5, c5t, c2 = (tables.conductor_table(n) for n in ("iec60228", "iec60228_class5_tinned", "iec60228_class2"))
     assert c5.rows[2.5].r20_per_m == pytest.approx(7.98e-3)
     assert c5t.rows[2.5].r20_per_m == pytest.approx(8.21e-3)
+    # default rel 1e-6: the rows as transcribed, converted to ohm/m: round-off only
     assert c2.rows[2.5].r20_per_m == pytest.approx(7.41e-3)
     assert c5.rows[50.0].r20_per_m < c2.rows[50.0].r20_per_m
 
@@ -136,6 +137,7 @@ def test_user_table_in_shipped_format(tmp_path):
         'size_system = "mm2"\nr20_unit = "mohm/m"\nstatus = "published"\nrows = [{ size = 16.0, r20 = 1.15 }]\n'
     )
     t = tables.user_conductor_table(p)
+    # default rel 1e-6: the user table's 1.15 mohm/m converted to ohm/m: round-off only
     assert t.rows[16.0].r20_per_m == pytest.approx(1.15e-3)
     p.write_text('[table]\nkind = "conductor"\ntitle = "x"\nstandard = "x"\nstatus = "guessed"\nrows = []\n')
     with pytest.raises(tables.DataError):

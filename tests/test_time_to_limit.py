@@ -58,4 +58,5 @@ def test_verdict_quotes_the_crossing(run):
 
     a, r = run
     v = next(v for v in run_checks(a) if v.rule == "winding.time_to_limit" and v.subject == "S1")
+    # default rel 1e-6: the rule's figure is the simulation's time to the limit in minutes: round-off only
     assert v.value == pytest.approx(r.time_to(0, a.drawing.stages[0].coil.limit_temperature) / 60)

@@ -143,6 +143,7 @@ def _load(tolerances: str = "", text: str | None = None):
 
 def _ends(d, key):
     s = d.tolerances[key]
+    # default rel 1e-6: the drawing's tolerance text converted to a share: round-off only
     return pytest.approx(s.low), pytest.approx(s.high), s.distribution, s.where
 
 
@@ -151,6 +152,7 @@ def test_a_drawing_without_tolerances_states_only_its_alternator_tolerance():
     d = parse_drawing(drawing_text(), "t.toml")
     assert set(d.tolerances) == {"supply.alternator.tolerance"}
     s = d.tolerances["supply.alternator.tolerance"]
+    # default rel 1e-6: shares from the drawing's text: round-off only
     assert (s.low, s.high) == pytest.approx((-0.3 / 28.0, 0.3 / 28.0))
     assert s.where == "supply.alternator.tolerance" and s.distribution == "uniform"
     # the coach, likewise: 0.3 V on 28.2 V, and effective() is the table but for that row
@@ -160,6 +162,7 @@ def test_a_drawing_without_tolerances_states_only_its_alternator_tolerance():
     assert {k: v for k, v in tol.items() if k != "supply.alternator.tolerance"} == {
         k: v for k, v in SHIPPED.items() if k != "supply.alternator.tolerance"
     }
+    # default rel 1e-6: shares from the drawing's text: round-off only
     assert tol["supply.alternator.tolerance"]["high"] == pytest.approx(0.3 / 28.2)
 
 
@@ -198,6 +201,7 @@ def test_a_cables_own_length_tolerance_wins():
     assert _ends(d, "cables.W0.length_tolerance") == (-0.25, 0.25, "uniform", "harness[4] (W0).length_tolerance")
     tol = tolerances.effective(d)
     assert tolerances.lookup(tol, "tolerances.cable_length", "W0")["high"] == pytest.approx(0.25)
+    # default rel 1e-6: shares from the drawing's text: round-off only
     assert tolerances.lookup(tol, "tolerances.cable_length", "W1")["high"] == pytest.approx(0.10)
 
 
@@ -209,6 +213,7 @@ def test_per_coil_type_tolerances():
     assert _ends(d, "coils.C0.resistance_tolerance") == (-0.03, 0.03, "uniform", "coils.C0.resistance_tolerance")
     assert _ends(d, "coils.C0.inductance_tolerance")[:2] == (-0.10, 0.05)
     tol = tolerances.effective(d)
+    # default rel 1e-6: shares from the drawing's text: round-off only
     assert tolerances.lookup(tol, "coils.*.resistance_tolerance", "C0")["low"] == pytest.approx(-0.03)
     assert tolerances.lookup(tol, "coils.*.resistance_tolerance", "C1")["low"] == -0.05  # shipped
 

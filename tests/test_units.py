@@ -61,6 +61,7 @@ def test_temperature_offset_units():
 
 
 def test_resistance_at_temperature():
+    # default rel 1e-6: unit conversions: round-off only
     assert parse_resistance_at("0.62 ohm @ 20 degC") == (pytest.approx(0.62), pytest.approx(20.0))
     with pytest.raises(QuantityError, match="measured at"):
         parse_resistance_at("0.62 ohm")
@@ -93,6 +94,7 @@ def test_cable_size_refuses_other_things():
 
 
 def test_dimensionless():
+    # default rel 1e-6: unit conversions: round-off only
     assert parse_dimensionless("75 %") == pytest.approx(0.75)
     assert parse_dimensionless(0.5) == 0.5
     with pytest.raises(QuantityError):
@@ -118,6 +120,7 @@ def test_fast_units_agree_with_pint():
 
 
 def test_forms_outside_the_fast_path_still_parse():
+    # default rel 1e-6: unit conversions: round-off only
     assert parse_quantity("1.5e-3 kohm", "resistance") == pytest.approx(1.5)
     assert parse_quantity("225 A * h", "charge") == pytest.approx(225 * 3600)
     assert parse_quantity("2 ft", "length") == pytest.approx(0.6096)

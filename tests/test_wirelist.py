@@ -389,6 +389,7 @@ def test_build_list_of_the_coach():
     c16 = lines[("cable", "16 mm², ISO 6722 class C, copper")]
     assert c16.quantity == 8 and c16.length == pytest.approx(2.0 + 2.3 + 2.6 + 2.9 + 1.2 + 1.4 + 1.6 + 1.8)
     c95 = lines[("cable", "95 mm², ISO 6722 class C, copper")]
+    # default rel 1e-6: sums of the drawing's lengths: round-off only
     assert c95.quantity == 3 and c95.length == pytest.approx(0.6 + 4.5 + 4.5)
     assert lines[("cable", "95 mm², ISO 6722 class D, copper")].length == pytest.approx(3.5)  # W-ALT
     fuses = {k[1]: b.quantity for k, b in lines.items() if k[0] == "fuse"}

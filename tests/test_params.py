@@ -537,6 +537,8 @@ def test_large_duty_currents_equal_a_dense_solve_of_every_stage_state(large):
     m = model(large)
     net = m.net
     xs = _samples(m.params, 5, 11)
+    xs[1] = xs[0]
+    xs[1, m.index["supply.alternator.tolerance"]] = m.params[m.index["supply.alternator.tolerance"]].high
     duty, x_on, _bus = m.duty(xs)
     r = m.resistances(xs, m.ambient(xs))
     g = np.divide(1.0, r, out=np.zeros_like(r), where=r > 0)
@@ -572,7 +574,16 @@ def test_large_sparse_path_equals_the_dense_batched_path(large, monkeypatch):
     (numpy.linalg.solve, forced by raising BATCH_SPARSE_ABOVE) to round-off."""
     from coilstage.analysis import params
 
-    xs = _samples(model(large).params, 30, 5)
+    ps = model(large).params
+    xs = _samples(ps, 30, 5)
+    # and samples that share their networks' conductances with others (only the alternator and its
+    # regulator moved: sources), as a corner search's candidates do: each distinct network is solved
+    # once, its sources' right-hand sides combined from unit solutions
+    shared = np.repeat(xs[:6], 3, axis=0)
+    for j, p in enumerate(ps):
+        if p.key.startswith("supply.alternator."):
+            shared[:, j] = np.tile([p.low, p.nominal, p.high], 6)
+    xs = np.concatenate([xs, shared])
     sparse = evaluate(large, xs)
     monkeypatch.setattr(params, "BATCH_SPARSE_ABOVE", 10**9)
     dense = evaluate(large, xs)

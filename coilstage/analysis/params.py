@@ -716,7 +716,7 @@ class Model:
         # c = Pᵀ A0⁻¹ b (the RL reduction of analysis.linear, here at DC and for every sample at once)
         g0 = g.copy()
         g0[:, self.stages] = 0.0
-        sol = net.solve(
+        sol = self._solve(
             g0[:, net.res_el],
             self.st_duty,
             self.c_duty,
@@ -744,6 +744,35 @@ class Model:
         # the stages' own currents: all on, and alone (zero in the other states)
         duty[:, self.stages] = np.maximum(np.abs(i_all), np.abs(i_alone))
         return duty, x_all, bus
+
+    def _solve(self, g: np.ndarray, stamps: _Stamps, const: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+        """x (N, size, k) of ``net.solve`` for rhs (N, size, k). Above :data:`BATCH_SPARSE_ABOVE`
+        unknowns each distinct network (row of g) is solved once: a network's conductances move with a
+        few parameters only (cable lengths, coil tolerances, the ambient, the battery's resistance), so
+        the samples of a corner search or a gradient, one or a few parameters changed at a time, share
+        a few. The right-hand sides equal for every sample (unit injections, the stage ports) are
+        solved once per network; the others are nonzero in a few entries (the sources), so each is its
+        sample's values times the solutions for those unit vectors."""
+        net = self.net
+        if const.shape[0] <= BATCH_SPARSE_ABOVE:
+            return net.solve(g, stamps, const, rhs)
+        uniq, inv = np.unique(g, axis=0, return_inverse=True)
+        inv = np.ravel(inv)
+        if len(uniq) == len(g):
+            return net.solve(g, stamps, const, rhs)
+        n, size, k = rhs.shape
+        same = np.all(rhs == rhs[:1], axis=(0, 1))
+        vary = np.flatnonzero(~same)
+        live = np.flatnonzero(np.any(rhs[:, :, vary] != 0.0, axis=(0, 2)))
+        units = np.zeros((size, len(live)))
+        units[live, np.arange(len(live))] = 1.0
+        cols = np.concatenate([units, rhs[0][:, same]], axis=1)
+        sol = net.solve(uniq, stamps, const, np.ascontiguousarray(np.broadcast_to(cols, (len(uniq), *cols.shape))))
+        out = np.empty((n, size, k))
+        out[:, :, same] = sol[inv, :, len(live) :]
+        if len(vary):
+            out[:, :, vary] = np.einsum("nzl,nlc->nzc", sol[inv, :, : len(live)], rhs[:, live][:, :, vary])
+        return out
 
     def _port_read(self, y: np.ndarray) -> np.ndarray:
         """p_kᵀ y for every stage port k: y (..., size) -> (..., S), from the ports' two terminals."""
@@ -803,7 +832,7 @@ class Model:
         g_off = np.concatenate([g_el, 1.0 / rb[:, None], np.zeros((n, 1))], axis=1)
         unit = np.zeros((n, size))
         net.inject(unit, net.alt_node, np.ones(n))
-        sol = net.solve(g_off, self.st_low, self.c_open, np.stack([rhs, unit], axis=2))
+        sol = self._solve(g_off, self.st_low, self.c_open, np.stack([rhs, unit], axis=2))
         xb, z = sol[:, :, 0], sol[:, :, 1]
         k = net.alt_node - 1
         y = xb + (u_set / r_src)[:, None] * z
@@ -847,7 +876,7 @@ class Model:
             net.inject(rhs[:, 1 + j], k, np.ones(n))
             net.inject(rhs[:, 1 + j], net.chassis, -np.ones(n))
         g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
-        sol = net.solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
+        sol = self._solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
 
         def at(vec: np.ndarray, node: int) -> np.ndarray:
             return vec[:, node - 1] if node > 0 else np.zeros(vec.shape[0])
@@ -880,7 +909,7 @@ class Model:
             net.inject(rhs[:, 1 + j], k, np.ones(n))
             net.inject(rhs[:, 1 + j], net.chassis, -np.ones(n))
         g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
-        sol = net.solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
+        sol = self._solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
         rf = self.column(x, "tolerances.fault_resistance", self.fixed("tolerances.fault_resistance", "high"))
 
         def at(vec: np.ndarray, node: int) -> np.ndarray:

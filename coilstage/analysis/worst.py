@@ -404,7 +404,8 @@ def worst_cases(
     db = dataclasses.replace(db, corners=dataclasses.replace(d.corners, hot_battery_emf=emf_min))
     b_temps = hot_temperatures(db)
     bsol = Circuit(db).solve(b_temps, SourceState(emf_min, alt.setpoint if alt else None, hot_alternator_limit(db)))
-    cold_sol = Circuit(d).solve(cold_t, cases["cold"].sources)
+    circuit = Circuit(d)
+    cold_sol = circuit.solve(cold_t, cases["cold"].sources)  # also the nominal of the largest current below
     e_cold = braking_effort(d, {st.id: abs(cold_sol.current[st.id]) for st in d.stages})
     e_low = braking_effort(d, {st.id: abs(bsol.current[st.id]) for st in d.stages})
     braking = BrakingView(
@@ -451,8 +452,7 @@ def worst_cases(
     if src_hi.alt_setpoint is not None:
         src_hi = dataclasses.replace(src_hi, alt_setpoint=bus_high)
     overrides = {e.id: element_resistance(e, cold_t.get(e.id, 20.0)) * (1 + r_tol[e.id]) for e in d.of_kind(Stage)}
-    circuit = Circuit(d)
-    nominal = circuit.solve(cold_t, cold.sources)
+    nominal = cold_sol  # the cold corner's solve, made once
     worst = circuit.solve(cold_t, src_hi, overrides=overrides)
     largest_current = {
         k: i * (abs(worst.current[k]) / abs(nominal.current[k]) if abs(nominal.current[k]) > 1e-12 else 1.0)

@@ -126,7 +126,6 @@ def test_the_three_rules_read_one_overvoltage_case(monkeypatch):
     """The regulator-failure case is solved once per analysis (a solve per fuse) and the coil, fuse and
     cable rules read that one case; its figures are those of a fresh overvoltage_case."""
     import coilstage.analysis.overvoltage as ov
-
     from coilstage.analysis.run import analyse
 
     a = analyse(parse_drawing(COACH_TEXT, "coach-once"))  # the analysis only: no rule has run yet

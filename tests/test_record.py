@@ -140,3 +140,22 @@ def test_lines_name_every_table():
     assert labels[:6] == ["run at (UTC)", "coilstage", "source revision", "command", "drawing file", "drawing SHA-256"]
     assert len(labels) == 6 + len(rec["tables"])
     assert dict(record.lines(rec))["source revision"] == "0" * 40 + " (with local changes)"
+
+
+def test_the_table_list_does_not_depend_on_the_order_tables_were_read(monkeypatch):
+    """A refactor that reads the same tables in another order leaves the record as it was: shipped
+    tables first, then the user's, each by path."""
+    from coilstage import tables
+    from coilstage.report.record import tables_read
+
+    use = [
+        tables.TableUse("/x/user_b.toml", "1" * 64, "B", "", "", "user"),
+        tables.TableUse("/s/b.toml", "2" * 64, "b", "", "", "shipped"),
+        tables.TableUse("/s/a.toml", "3" * 64, "a", "", "", "shipped"),
+    ]
+    monkeypatch.setattr(tables, "used_tables", lambda: list(use))
+    first, _ = tables_read()
+    monkeypatch.setattr(tables, "used_tables", lambda: list(reversed(use)))
+    second, _ = tables_read()
+    assert first == second
+    assert [t["sha256"][0] for t in first] == ["3", "2", "1"]

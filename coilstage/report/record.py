@@ -110,14 +110,18 @@ def _table_entry(entry: Any) -> dict[str, Any]:
 def tables_read() -> tuple[list[dict[str, Any]], str]:
     """Every table file this run read, and how that list was found.
 
-    ``coilstage.tables.used_tables()`` lists the files the run actually read. Where that function
+    ``coilstage.tables.used_tables()`` lists the files the run actually read (listed shipped first,
+    then the user's, each by path). Where that function
     is missing the list falls back to every shipped table (each hashed) and says so: a superset,
     never a guess that leaves one out."""
     from coilstage import tables
 
     used = getattr(tables, "used_tables", None)
     if callable(used):
-        return [_table_entry(e) for e in used()], "every table file this run read"
+        # by origin and file, not in the order first read: the record of a drawing stays the same
+        # when the analysis reads its tables in another order
+        rows = sorted(used(), key=lambda e: (e.origin != "shipped", str(e.path)))
+        return [_table_entry(e) for e in rows], "every table file this run read"
     from importlib import resources
 
     out = []

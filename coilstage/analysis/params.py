@@ -77,7 +77,14 @@ from coilstage.analysis.insulation import short_circuit_limit
 from coilstage.analysis.materials import metal
 from coilstage.analysis.ratings import cable_rating, fuse_gates
 from coilstage.analysis.relay_coil import PICKUP_MARGIN, coil_at, hot_temperature
-from coilstage.analysis.tolerances import effective, element_key, lookup
+from coilstage.analysis.tolerances import (
+    cells as _cells,
+    effective,
+    element_key,
+    lookup,
+    rated_resistance_low,
+    rated_resistance_reference,
+)
 from coilstage.analysis.topology import protected_cables
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
@@ -170,10 +177,6 @@ class Evaluated:
     limit: float | np.ndarray  # (N,) where it follows the sample's ambient
     unit: str
     toward_worst: np.ndarray | None = None
-
-
-def _cells(d: Drawing) -> int:
-    return 12 if d.supply.system_voltage == 24 else 6
 
 
 def _row_param(row: dict, key: str, words: str, elements: tuple[str, ...] = ()) -> Parameter:
@@ -591,6 +594,13 @@ class Model:
         self.hot_t = hot_temperatures(d)
         self.hot_limit = hot_alternator_limit(d)
         self.rb_range = self.tol.get("supply.battery.internal_resistance")  # only where the drawing states it
+        # the battery's rated short-circuit current (the low end, where lower) and cold-cranking current
+        # (the reference of the raised end, where higher), as analysis.worst takes them
+        rb = d.supply.battery.internal_resistance
+        coef = self.fixed("supply.battery.resistance_temperature_coefficient")
+        self.rb_rated_low = None if self.rb_range is not None else rated_resistance_low(d)
+        cc = None if self.rb_range is not None else rated_resistance_reference(d, coef)
+        self.rb_reference = max(rb, cc) if cc is not None else rb
         # the smallest fault: cables at their zones, coils at the cold corner (analysis.worst)
         self.zone_t = dict(cold_temperatures(d))
         self.zone_t.update({c.id: c.zone_temperature for c in d.of_kind(Cable)})
@@ -793,7 +803,7 @@ class Model:
         if self.rb_range is not None:  # the drawing's stated high end, as analysis.worst
             return np.asarray(emf, dtype=float) * np.ones(x.shape[0]), np.full(x.shape[0], float(self.rb_range["high"]))
         rb = internal_resistance(
-            self.d.supply.battery.internal_resistance,
+            self.rb_reference,
             soc,
             self.ambient(x),
             t_reference=25.0,
@@ -860,6 +870,8 @@ class Model:
         rb = d.supply.battery.internal_resistance * self.column(
             x, "supply.battery.resistance_min_factor", self.fixed("supply.battery.resistance_min_factor", "low")
         )
+        if self.rb_rated_low is not None:  # the rated short-circuit current, where it gives less
+            rb = np.minimum(rb, self.rb_rated_low)
         if self.rb_range is not None:  # the drawing's stated low end, as analysis.worst
             rb = np.full(n, float(self.rb_range["low"]))
         size = net.size(False)

@@ -135,3 +135,51 @@ def lookup(tol: dict[str, dict[str, Any]], key: str, element_id: str | None = No
     if key in tol:
         return tol[key]
     return tol[generic_key(key)]
+
+
+def rated_resistance_low(d: Drawing) -> float | None:
+    """The battery's internal resistance implied by its stated short-circuit current [Ω], the low end
+    of its range (a new, full, warm battery), or None where the drawing states none:
+    :func:`coilstage.physics.battery.resistance_from_short_circuit_current` at the open-circuit voltage
+    of a full battery (:func:`coilstage.physics.battery.open_circuit_voltage` at 100 %). Two blocks in
+    series have twice the voltage and twice the resistance, so one rating serves a pair.
+
+    The largest fault takes the lower of this and the stated resistance × the shipped low-end factor
+    (the larger fault current)."""
+    b = d.supply.battery
+    if b.short_circuit_current is None:
+        return None
+    from coilstage.physics.battery import open_circuit_voltage, resistance_from_short_circuit_current
+
+    return resistance_from_short_circuit_current(float(open_circuit_voltage(1.0, cells=cells(d))), b.short_circuit_current)
+
+
+def rated_resistance_reference(d: Drawing, temperature_coefficient: float) -> float | None:
+    """The reference (25 °C, full charge) resistance of a battery its stated cold-cranking current
+    allows [Ω], or None where the drawing states none: the bound of
+    :func:`coilstage.physics.battery.resistance_bound_from_cranking_current` (−18 °C, full, under the
+    drawing's ``cranking_standard``) referred to 25 °C with the resistance's temperature law
+    R(T) = R25 exp(b (25 − T)) of :func:`coilstage.physics.battery.internal_resistance`.
+
+    The raised end (cold, discharged, aged) is computed from the larger of this and the stated
+    resistance: a battery of that rating may be as weak as its rating allows."""
+    b = d.supply.battery
+    if b.cranking_current is None:
+        return None
+    import math
+
+    from coilstage.physics.battery import (
+        CELLS_PER_12V_BLOCK,
+        open_circuit_voltage,
+        resistance_bound_from_cranking_current,
+    )
+
+    blocks = max(1, cells(d) // CELLS_PER_12V_BLOCK)
+    u0 = float(open_circuit_voltage(1.0, cells=CELLS_PER_12V_BLOCK))
+    bound = resistance_bound_from_cranking_current(b.cranking_current, b.cranking_standard, u0=u0, blocks=blocks)
+    return bound / math.exp(temperature_coefficient * (25.0 - (-18.0)))
+
+
+def cells(d: Drawing) -> int:
+    """Lead-acid cells of the drawing's battery: 6 on a 12 V system, 12 on 24 V (two blocks)."""
+    return 12 if d.supply.system_voltage == 24 else 6

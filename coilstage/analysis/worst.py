@@ -40,7 +40,14 @@ from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_r
 from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_temperatures, zone_at_ambient
 from coilstage.analysis.corners import cold_duties
 from coilstage.analysis.field import circuit_of
-from coilstage.analysis.tolerances import DRAWING_STATUS, effective, lookup
+from coilstage.analysis.tolerances import (
+    DRAWING_STATUS,
+    cells as _cells,
+    effective,
+    lookup,
+    rated_resistance_low,
+    rated_resistance_reference,
+)
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.supply_limits import regulated_bus_range
@@ -238,10 +245,6 @@ def regulator_tolerance(d: Drawing, tol: dict[str, dict]) -> float:
     return alt.tolerance
 
 
-def _cells(d: Drawing) -> int:
-    return 12 if d.supply.system_voltage == 24 else 6
-
-
 def _with_battery(d: Drawing, r: float, base_load: float | None = None) -> Drawing:
     s = d.supply
     supply = dataclasses.replace(s, battery=dataclasses.replace(s.battery, internal_resistance=r))
@@ -285,7 +288,15 @@ def worst_cases(
     # ---- largest fault
     emf_max = cells * tol["supply.battery.surface_charge_per_cell"]["high"]
     rb_row = tol.get("supply.battery.internal_resistance")  # only where the drawing states the range
-    rb_min = float(rb_row["low"]) if rb_row else rb * tol["supply.battery.resistance_min_factor"]["low"]
+    factor_low = tol["supply.battery.resistance_min_factor"]["low"]
+    rb_sc = None if rb_row else rated_resistance_low(d)
+    rb_min = float(rb_row["low"]) if rb_row else min(rb * factor_low, rb_sc if rb_sc is not None else math.inf)
+    if rb_row:
+        rb_min_words = f"{rb_min * 1e3:.2f} mΩ (the low end of the drawing's range)"
+    elif rb_sc is not None and rb_sc < rb * factor_low:
+        rb_min_words = f"{rb_min * 1e3:.2f} mΩ (its rated short-circuit current: R = U0/Isc at full charge)"
+    else:
+        rb_min_words = f"{rb_min * 1e3:.2f} mΩ ({factor_low:g} × stated)"
     excess = tol["supply.alternator.cold_excess"]["high"]
     alt_max = alt.limit_rated * (1 + excess) if alt else None
     dmax = _with_battery(d, rb_min, base_load=0.0)
@@ -295,7 +306,7 @@ def worst_cases(
     largest = FaultView(
         "largest fault",
         (
-            ("battery", f"EMF {emf_max:.1f} V (2.2 V per cell, just off charge); {rb_min * 1e3:.2f} mΩ (0.9 × stated)"),
+            ("battery", f"EMF {emf_max:.1f} V (2.2 V per cell, just off charge); {rb_min_words}"),
             ("alternator", "absent" if alt is None else f"current source {alt_max:.0f} A (rated + {excess:.0%} cold)"),
             ("cables", f"{t_min:g} °C (lowest ambient)"),
             ("other loads", "disconnected"),
@@ -314,17 +325,26 @@ def worst_cases(
     age = tol["supply.battery.age_factor"]["high"]
     emf_min = open_circuit_voltage(soc, cells=cells)
 
+    b_temp = tol["supply.battery.resistance_temperature_coefficient"]["nominal"]
+    rb_cc = None if rb_row else rated_resistance_reference(d, b_temp)
+    rb_ref = max(rb, rb_cc) if rb_cc is not None else rb  # the weakest battery its rating allows
+    rb_ref_words = (
+        f"{rb_ref * 1e3:.1f} mΩ at 25 °C, full (its cold-cranking rating allows that much; {rb * 1e3:.1f} mΩ stated)"
+        if rb_ref > rb
+        else f"stated {rb * 1e3:.1f} mΩ at 25 °C, full"
+    )
+
     def raised_resistance(temperature: float) -> float:
         """The battery's resistance at the low charge, aged, at ``temperature`` [°C] (the drawing's
         stated high end where it gives one) [Ω]."""
         if rb_row:
             return float(rb_row["high"])
         return internal_resistance(
-            rb,
+            rb_ref,
             soc,
             temperature,
             t_reference=25.0,
-            temperature_coefficient=tol["supply.battery.resistance_temperature_coefficient"]["nominal"],
+            temperature_coefficient=b_temp,
             empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
             age_factor=age,
         )
@@ -340,7 +360,7 @@ def worst_cases(
     battery_words = f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); " + (
         f"{rb_max * 1e3:.1f} mΩ (the high end of the drawing's range)"
         if rb_row
-        else f"{rb_max * 1e3:.1f} mΩ (stated {rb * 1e3:.1f} mΩ at 25 °C, full, raised for {soc:.0%} charge, "
+        else f"{rb_max * 1e3:.1f} mΩ ({rb_ref_words}, raised for {soc:.0%} charge, "
         f"{t_min:g} °C and age × {age:g})"
     )
     len_hi = float(tol["tolerances.cable_length"]["high"])
@@ -413,8 +433,8 @@ def worst_cases(
         (
             (
                 "battery",
-                f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); {rb_hot * 1e3:.1f} mΩ (stated "
-                f"{rb * 1e3:.1f} mΩ at 25 °C, full, raised for {soc:.0%} charge and age × {age:g}, at the highest "
+                f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); {rb_hot * 1e3:.1f} mΩ "
+                f"({rb_ref_words}, raised for {soc:.0%} charge and age × {age:g}, at the highest "
                 f"ambient {t_hot:g} °C that goes with hot coils)",
             ),
             ("alternator", alt_words),

@@ -1,6 +1,6 @@
 r"""Lead-acid starter batteries: open-circuit voltage against state of charge, internal resistance
-against charge and temperature, usable charge at a discharge current (Peukert's law) and capacity
-against temperature.
+against charge and temperature, resistance bounds from a rated cranking or short-circuit current,
+usable charge at a discharge current (Peukert's law) and capacity against temperature.
 
 Pure functions on SI floats: voltages [V], resistances [Ω], currents [A], charge [C] (A·h × 3600),
 times [s], temperatures [°C], state of charge as a fraction 0…1. A 24 V system is two 12 V blocks
@@ -96,6 +96,98 @@ def open_circuit_voltage(
         raise ValueError("the OCV line must ascend in state of charge")
     u = cells * (np.interp(soc, xs, ys) + offset_per_cell)
     return float(u) if np.ndim(u) == 0 else u
+
+
+def resistance_bound_from_cranking_current(
+    i_cranking: float, standard: str = "SAE J537", u0: float = 12.7, blocks: int = 1
+) -> float:
+    r"""Upper bound of a battery's effective internal resistance implied by its cold-cranking rating [Ω].
+
+    A battery rated ``i_cranking`` under a standard keeps at least the standard's end voltage
+    :math:`U_{end}` at that current (at −18 °C, fully charged), so
+
+    .. math:: R \le \frac{U_0 - U_{end}}{I_{cc}}
+
+    per 12 V block, times the number of blocks in series.
+
+    Parameters
+    ----------
+    i_cranking : float
+        Rated cold-cranking current of one 12 V block under ``standard``. [A]
+    standard : str
+        ``"SAE J537"`` (7.2 V after 30 s), ``"EN 50342-1"`` (7.5 V after 10 s), ``"DIN 43539-2"``
+        (9.0 V after 30 s) or ``"IEC 60095-1"`` (8.4 V after 60 s); see :data:`CRANKING_TESTS`. [–]
+    u0 : float
+        Open-circuit voltage of the charged block at the start of the test. [V]
+    blocks : int
+        12 V blocks in series (2 for a 24 V pair). [–]
+
+    Returns
+    -------
+    float
+        Effective resistance bound at −18 °C, fully charged. [Ω]
+
+    Notes
+    -----
+    The bound is an *effective* resistance that includes 10–60 s of polarisation; the ohmic
+    resistance (1 kHz or a 10 ms pulse) is lower, typically 0.4–0.7 of it (from memory). It is the
+    right end for sag and pick-up (a high resistance), not for the largest fault current.
+
+    References
+    ----------
+    .. [1] SAE J537 (revised SEP2023), Storage batteries: cold cranking test.
+    .. [2] EN 50342-1, Lead-acid starter batteries, Part 1: general requirements and methods of test
+       (cold cranking test).
+
+    Examples
+    --------
+    >>> round(resistance_bound_from_cranking_current(1000.0) * 1e3, 2)
+    5.5
+    """
+    if standard not in CRANKING_TESTS:
+        raise ValueError(f"unknown cranking standard {standard!r}; one of {', '.join(CRANKING_TESTS)}")
+    if i_cranking <= 0:
+        raise ValueError("the cranking current must be positive")
+    u_end = CRANKING_TESTS[standard][0]
+    return blocks * (u0 - u_end) / i_cranking
+
+
+def resistance_from_short_circuit_current(ocv: float, i_short_circuit: float) -> float:
+    r"""Internal resistance from a stated short-circuit current [Ω].
+
+    .. math:: R_i = U_0 / I_{sc}
+
+    Parameters
+    ----------
+    ocv : float
+        Open-circuit voltage the short-circuit current was stated at (the full battery's). [V]
+    i_short_circuit : float
+        The maker's short-circuit current. [A]
+
+    Returns
+    -------
+    float
+        Internal resistance. [Ω]
+
+    Notes
+    -----
+    The low end of the resistance range (a new, full, warm battery): the end the breaking-capacity
+    check needs. The same parameterisation (Ri = OCVmax/Isc) is used by the battery model of the
+    Modelica Standard Library's electrical examples.
+
+    References
+    ----------
+    .. [1] IEC 60896-11, Stationary lead-acid batteries, Part 11: vented types, the short-circuit
+       current and d.c. internal resistance determination (Isc = U0/Ri; clause from memory).
+
+    Examples
+    --------
+    >>> round(resistance_from_short_circuit_current(12.7, 2540.0) * 1e3, 3)
+    5.0
+    """
+    if i_short_circuit <= 0:
+        raise ValueError("the short-circuit current must be positive")
+    return ocv / i_short_circuit
 
 
 def internal_resistance(

@@ -18,6 +18,8 @@ from coilstage.physics.battery import (
     internal_resistance,
     open_circuit_voltage,
     peukert_usable_charge,
+    resistance_bound_from_cranking_current,
+    resistance_from_short_circuit_current,
 )
 
 AH = 3600.0  # coulombs per ampere-hour
@@ -97,6 +99,35 @@ def test_shipped_table_and_code_hold_the_same_line():
 
 
 # ---------------------------------------------------------------- internal resistance
+
+
+@pytest.mark.parametrize(
+    ("standard", "bound_mohm"),
+    # Derived from the end voltages of the standards (SAE J537 7.2 V / 30 s; EN 50342-1 7.5 V / 10 s;
+    # DIN 43539-2 9.0 V): R <= (12.7 V - U_end)/1000 A -> 5.50 / 5.20 / 3.70 mOhm; IEC 60095-1 8.4 V -> 4.30.
+    [("SAE J537", 5.50), ("EN 50342-1", 5.20), ("DIN 43539-2", 3.70), ("IEC 60095-1", 4.30)],
+)
+def test_cranking_bound_check_values(standard, bound_mohm):
+    # abs 1e-9 mOhm: the bound is one subtraction and one division, exact to round-off
+    assert resistance_bound_from_cranking_current(1000.0, standard) * 1e3 == pytest.approx(bound_mohm, abs=1e-9)
+
+
+def test_cranking_bound_of_a_24v_pair_and_errors():
+    # Hand-worked: two 1 000 A blocks in series -> 2 x 5.5 = 11 mOhm at -18 degC.
+    assert resistance_bound_from_cranking_current(1000.0, blocks=2) == pytest.approx(0.011)
+    with pytest.raises(ValueError, match="unknown cranking standard"):
+        resistance_bound_from_cranking_current(1000.0, "JIS")
+    with pytest.raises(ValueError, match="positive"):
+        resistance_bound_from_cranking_current(0.0)
+
+
+def test_resistance_from_short_circuit_current():
+    # Hand-worked: Ri = OCV / Isc; 12.7 V and 2 540 A -> 5.0 mOhm; a 24 V pair 25.4 V / 2 540 A -> 10 mOhm
+    # (so 25.4 V behind 10 mOhm gives about 2.5 kA at the terminals).
+    assert resistance_from_short_circuit_current(12.7, 2540.0) == pytest.approx(0.005)
+    assert resistance_from_short_circuit_current(25.4, 2540.0) == pytest.approx(0.010)
+    with pytest.raises(ValueError):
+        resistance_from_short_circuit_current(12.7, -1.0)
 
 
 def test_cranking_table_in_data_matches_code():

@@ -530,26 +530,13 @@ def _screen_verdicts(d, switching: bool = True, rules: tuple[str, ...] = (), cor
 
 def _reach(d, skip: set[str]) -> tuple[set[str], set[str]]:
     """Nodes joined to the battery's positive and to its negative without the elements in ``skip``
-    (stages never conduct for this purpose)."""
+    (stages never conduct for this purpose): :class:`coilstage.graph.Graph`, the walk the loader and
+    the analysis's topology ask."""
     from coilstage.drawing.schema import Stage
+    from coilstage.graph import Graph
 
-    adj: dict[str, set[str]] = {}
-    for e in d.elements:
-        if isinstance(e, Stage) or e.id in skip:
-            continue
-        adj.setdefault(e.a, set()).add(e.b)
-        adj.setdefault(e.b, set()).add(e.a)
-
-    def walk(start: str) -> set[str]:
-        seen, todo = {start}, [start]
-        while todo:
-            for m in adj.get(todo.pop(), ()):
-                if m not in seen:
-                    seen.add(m)
-                    todo.append(m)
-        return seen
-
-    return walk(d.supply.battery.node), walk(d.supply.negative_node)
+    g = Graph((e.a, e.b, e.id) for e in d.elements if not isinstance(e, Stage))
+    return g.reachable(d.supply.battery.node, avoid_edges=skip), g.reachable(d.supply.negative_node, avoid_edges=skip)
 
 
 def fed_stages(d, element_id: str) -> list[str]:

@@ -25,9 +25,10 @@ LAYERS: tuple[tuple[str, ...], ...] = (
     ("linear",),  # one case's energised network as an RL system
     ("topology", "unfused"),  # what a fuse cuts off, which stages a relay switches; unfused feed length
     ("corners", "switching", "duty"),  # views of the drawing on the networks of the cases
-    ("field", "ratings"),  # views built on the corners (and the switching)
+    ("field", "ratings", "drops", "fuse_duty"),  # views built on the corners (and the switching, the duty)
     ("worst",),  # each rule's own worst case, on the corners and the field
     ("overvoltage", "cyclic", "joints", "ground", "relay_coil", "load_dump"),
+    ("contacts",),  # each relay's break, load-dump contact voltage, arc and coil (on relay_coil, load_dump)
     ("params",),  # the declared parameters and the vectorised evaluator of the margins
     ("sensitivities",),  # dm/dp and the worst corner, on params
     ("laws",),  # the physics functions a rule rests on

@@ -860,8 +860,6 @@ def _relay_contacts_again(rt, d):
     """The rating figures ``rt`` of an analysis with the relays' contact ratings (the one figure of
     the analysis a contact's rating enters) made again for the drawing ``d``, at the stated zone and
     at the same zone temperatures of each sweep."""
-    if not hasattr(rt, "relay_contacts"):
-        return rt
     from coilstage.analysis.ratings import relay_contact, relay_contacts_over
     from coilstage.drawing.schema import Relay
 

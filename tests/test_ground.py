@@ -142,7 +142,7 @@ def test_lost_return_boundary_at_a_relays_rating():
         assert one(analysed(t), "W2R").status is want, k
 
 
-def test_returns_lost_by_rank_one_updates_equal_a_fresh_dense_solve():
+def test_returns_lost_by_rank_one_updates_equal_a_fresh_dense_solve(monkeypatch):
     """Above LOW_RANK_ABOVE unknowns every return is lost on one factorisation of the intact network
     (Sherman–Morrison, refined): each broken network's node voltages and element currents equal the
     broken network assembled afresh (mna_matrix with the return at OPEN_RESISTANCE) and solved by
@@ -158,7 +158,12 @@ def test_returns_lost_by_rank_one_updates_equal_a_fresh_dense_solve():
     ids = [g.id for g in returns(d)]
     vs = circuit.network_rows(cold.temperatures, cold.sources, None)[1]
     assert len(circuit.nodes) - 1 + len(vs) > ground.LOW_RANK_ABOVE
+    fresh = []
+    real = ground.lose_return
+    monkeypatch.setattr(ground, "lose_return", lambda d, i, *args: fresh.append(i) or real(d, i, *args))
     got = ground.lose_returns(d, ids, cold.temperatures, cold.sources, a.corners["cold"].solution)
+    # every return here has a parallel path: the update serves each (a fresh solve only where its residual is not at round-off)
+    assert not fresh, fresh
     for i in ids:
         lr = got[i]
         rows = circuit.network_rows(cold.temperatures, cold.sources, {i: OPEN_RESISTANCE})

@@ -115,7 +115,7 @@ def test_the_detector_finds_bare_parameters_and_returns(tmp_path):
         "    def method(self, b: int) -> int:\n        return b\n\n"
         "    def no_return(self):\n        pass\n\n"
         "    @staticmethod\n"
-        "    def helper(self) -> None:\n        pass\n\n"
+        "    def tool(self) -> None:\n        pass\n\n"
         "    def _hidden(self, c):\n        pass\n\n"
         "class _Private:\n    def method(self, d):\n        pass\n",
         encoding="utf-8",
@@ -125,5 +125,5 @@ def test_the_detector_finds_bare_parameters_and_returns(tmp_path):
         "made_up.py:7 star: *args, *kw",
         "made_up.py:14 Public.__init__: a, return",
         "made_up.py:20 Public.no_return: return",
-        "made_up.py:24 Public.helper: self",
+        "made_up.py:24 Public.tool: self",
     ]

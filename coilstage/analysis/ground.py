@@ -150,8 +150,18 @@ def lose_returns(
         x = solve_broken(rhs)
         for _ in range(REFINE):
             x = x + solve_broken(rhs - (a @ x + dg * uk * (uk @ x)))
-        if not np.all(np.isfinite(x)):
-            out[i] = np.linalg.LinAlgError("singular network")
+        resid = rhs - (a @ x + dg * uk * (uk @ x))
+        # the update loses its digits where the lost return was a node's only path (den -> 0): there,
+        # or wherever the broken network's residual is not down to round-off, solve it afresh
+        if (
+            abs(den) < 1e-6
+            or not np.all(np.isfinite(x))
+            or np.linalg.norm(resid) > 1e-9 * max(1.0, float(np.linalg.norm(rhs)))
+        ):
+            try:
+                out[i] = lose_return(d, i, temperatures, sources, intact)
+            except (ValueError, ArithmeticError) as exc:
+                out[i] = exc
             continue
         overrides = dict(resistance)
         overrides[i] = OPEN_RESISTANCE

@@ -75,7 +75,7 @@ from coilstage.analysis.circuit import Circuit, element_resistance
 from coilstage.analysis.conditions import cold_temperatures, hot_alternator_limit, hot_temperatures, zone_at_ambient
 from coilstage.analysis.insulation import short_circuit_limit
 from coilstage.analysis.materials import metal
-from coilstage.analysis.ratings import cable_rating, fuse_gates
+from coilstage.analysis.ratings import cable_rating, fuse_gates, relay_contact
 from coilstage.analysis.relay_coil import PICKUP_MARGIN, coil_at, hot_temperature
 from coilstage.analysis.tolerances import (
     cells as _cells,
@@ -484,21 +484,12 @@ class _Limits:
 def _relay_limit(r: Relay, system: int) -> tuple[float, bool] | None:
     """The relay's contact limit [A] in its zone, and whether a pass is held to a warn (a zone above
     the rated ambient with no derating given); None where the rule fails whatever the current (no
-    rating for the system, zone above the highest ambient). Mirrors checks.protection.relay_rating
-    and relay_temperature_factor (tests compare the two verdict by verdict)."""
-    rating = r.rating_24v if system == 24 else (r.rating_12v if r.rating_12v is not None else r.rating_24v)
-    if rating is None:
+    rating for the system, zone above the highest ambient): :func:`coilstage.analysis.ratings.relay_contact`,
+    the figures relay.contact_rating compares."""
+    c = relay_contact(r, system)
+    if c.limit is None:
         return None
-    t = r.zone_temperature
-    if r.max_ambient is not None and t > r.max_ambient:
-        return None
-    if t <= r.rated_ambient or r.derated is None:
-        k = 1.0
-    else:
-        f, td = r.derated
-        k = 1.0 + (f - 1.0) * (t - r.rated_ambient) / (td - r.rated_ambient) if td != r.rated_ambient else f
-        k = max(k, 0.0)
-    return rating * k, r.derated is None and t > r.rated_ambient
+    return c.limit, c.held_to_warn
 
 
 #: spacing of the ambient grid the duty limits are tabulated on [K]

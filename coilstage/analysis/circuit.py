@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from coilstage.drawing.schema import Cable, Drawing, Element, Fuse, Joint, Relay, Resistor, Stage
 from coilstage.physics.conductor import resistance_at_temperature
@@ -13,6 +14,9 @@ from coilstage.physics.network import (
     solve_mna,
     solve_with_limited_source,
 )
+
+if TYPE_CHECKING:
+    import numpy as np
 
 
 @dataclass(frozen=True)
@@ -169,11 +173,29 @@ class Circuit:
                 mode, i_alt = "full output", float(sources.alt_limit)
             else:
                 mode, i_alt = ("off" if s.alternator is not None else "absent"), 0.0
-        v = {name: float(dc.v[i]) for name, i in nd.items()}
+        return self.read_solution(sources, dc.v, dc.i_vsource, vs_owner, resistance, mode, i_alt)
+
+    def read_solution(
+        self,
+        sources: SourceState,
+        node_v: np.ndarray,
+        i_vsource: np.ndarray,
+        vs_owner: list[str],
+        resistance: dict[str, float],
+        mode: str,
+        i_alt: float,
+    ) -> Solution:
+        """The :class:`Solution` of a solved MNA system: ``node_v`` by node number (0 the reference),
+        the voltage sources' currents ``i_vsource`` in the order of ``vs_owner`` (element ids, or
+        ``__short__`` / ``__bus__``), the element resistances the system was built with, and the
+        alternator's state."""
+        d = self.drawing
+        s = d.supply
+        v = {name: float(node_v[i]) for name, i in self.nodes.items()}
         current: dict[str, float] = {}
         fault = None
         i_held = 0.0
-        for owner, i_vs in zip(vs_owner, dc.i_vsource, strict=True):
+        for owner, i_vs in zip(vs_owner, i_vsource, strict=True):
             if owner == "__short__":
                 fault = float(i_vs)
             elif owner == "__bus__":

@@ -171,30 +171,13 @@ def lose_returns(
 
 def _solution(circuit: Circuit, sources: SourceState, x: np.ndarray, n: int, vs_owner, resistance, alt_on) -> Solution:
     """The :class:`Solution` of an MNA solution vector x (node voltages, then the voltage sources'
-    currents), read as ``Circuit.solve`` reads its own (a linear network: no limited source)."""
-    d = circuit.drawing
-    s = d.supply
-    vv = np.concatenate(([0.0], x[:n]))
-    v = {name: float(vv[k]) for name, k in circuit.nodes.items()}
-    current: dict[str, float] = {}
-    i_held = 0.0
-    for owner, i_vs in zip(vs_owner, x[n:], strict=True):
-        if owner == "__bus__":
-            i_held = float(i_vs)
-        else:
-            current[owner] = float(i_vs)
-    for e in d.elements:
-        if e.id not in current:
-            current[e.id] = (v[e.a] - v[e.b]) / resistance[e.id]
+    currents), read by ``Circuit.read_solution`` as ``Circuit.solve`` reads its own (a linear
+    network: no limited source)."""
     if alt_on:
         mode, i_alt = "full output", float(sources.alt_limit)
     else:
-        mode, i_alt = ("off" if s.alternator is not None else "absent"), 0.0
-    if sources.hold_bus is not None:
-        i_bat = i_held
-    else:
-        i_bat = (sources.battery_emf - v[s.battery.node]) / s.battery.internal_resistance
-    return Solution(v, current, resistance, float(i_bat), float(i_alt), mode, None)
+        mode, i_alt = ("off" if circuit.drawing.supply.alternator is not None else "absent"), 0.0
+    return circuit.read_solution(sources, np.concatenate(([0.0], x[:n])), x[n:], vs_owner, resistance, mode, i_alt)
 
 
 def _compare(d: Drawing, element_id: str, before: Solution, after: Solution) -> LostReturn:

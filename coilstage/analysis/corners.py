@@ -7,9 +7,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_resistance
+from coilstage.analysis.circuit import Circuit, Solution, SourceState
 from coilstage.analysis.conditions import Conditions
-from coilstage.analysis.linear import CaseNetwork
+from coilstage.analysis.linear import CaseNetwork, stage_injection, stage_system
 from coilstage.drawing.schema import Drawing, Fuse
 from coilstage.physics.network import SPARSE_THRESHOLD, Branches, mna_matrix
 
@@ -187,19 +187,11 @@ def cold_duties(
         ]
     )
     rhs = np.stack([b[3] for b in built])
-    inject = np.zeros((size, ns))
-    for j, e in enumerate(stages):
-        ia, ib = nd[e.a], nd[e.b]
-        if ib > 0:
-            inject[ib - 1, j] += 1.0  # the stage delivers its current into node b ...
-        if ia > 0:
-            inject[ia - 1, j] -= 1.0  # ... taking it from node a
+    inject = stage_injection(nd, stages, size)
     x0s = np.linalg.solve(dense, rhs[:, :, None])[:, :, 0]
     zxs = np.linalg.solve(dense, np.broadcast_to(inject, (len(built), size, ns)))
     nn = built[0][4]
     vs_owner = built[0][5]
-    ia_ = np.array([nd[e.a] for e in stages], dtype=int)
-    ib_ = np.array([nd[e.b] for e in stages], dtype=int)
     elems = d.elements
     col = {sid: j for j, sid in enumerate(ids)}
     through_vs = [(r, nn + vs_owner.index(e.id)) for r, e in enumerate(elems) if e.id not in col and e.id in vs_owner]
@@ -208,12 +200,9 @@ def cold_duties(
     eb = np.array([nd[elems[r].b] for r in resistive], dtype=int)
     out = []
     for (temps, _src), x0, zx, b in zip(cases, x0s, zxs, built, strict=True):
+        k, c = stage_system(nd, stages, temps, x0, zx, nn)
         zpad = np.vstack([np.zeros((1, ns)), zx[:nn, :]])  # node 0 is the reference
         xpad = np.concatenate(([0.0], x0[:nn]))
-        dmat = zpad[ia_, :] - zpad[ib_, :]
-        c = xpad[ia_] - xpad[ib_]
-        r_own = np.array([element_resistance(e, temps[e.id]) for e in stages])
-        k = np.diag(r_own) - dmat
         g = np.zeros((len(elems), ns))
         h = np.zeros(len(elems))
         for r, e in enumerate(elems):

@@ -45,6 +45,36 @@ class _Basis:
     readout: dict[str, tuple[np.ndarray, float]]  # g over all stages
 
 
+def stage_injection(nodes: dict[str, int], stages: list, size: int) -> np.ndarray:
+    """The (size, stages) right-hand sides of a unit current through each stage: delivered into its
+    node b, taken from its node a (node 0, the reference, has no row)."""
+    b = np.zeros((size, len(stages)))
+    for j, e in enumerate(stages):
+        ia, ib = nodes[e.a], nodes[e.b]
+        if ib > 0:
+            b[ib - 1, j] += 1.0  # the stage delivers its current into node b ...
+        if ia > 0:
+            b[ia - 1, j] -= 1.0  # ... taking it from node a
+    return b
+
+
+def stage_system(
+    nodes: dict[str, int], stages: list, temps: dict[str, float], x0: np.ndarray, zx: np.ndarray, nn: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """(K [Ω], c [V]) of the stages' system ``c − K·i`` from the stage-free network's solution ``x0``
+    and its responses ``zx`` to :func:`stage_injection` (``nn`` node unknowns first): c is the open
+    voltage across each stage, K its own resistance less the network's transfer resistances."""
+    ns = len(stages)
+    ia_ = np.array([nodes[e.a] for e in stages], dtype=int)
+    ib_ = np.array([nodes[e.b] for e in stages], dtype=int)
+    zpad = np.vstack([np.zeros((1, ns)), zx[:nn, :]])  # node 0 is the reference
+    xpad = np.concatenate(([0.0], x0[:nn]))
+    dmat = zpad[ia_, :] - zpad[ib_, :]
+    c = xpad[ia_] - xpad[ib_]
+    r_own = np.array([element_resistance(e, temps[e.id]) for e in stages])
+    return np.diag(r_own) - dmat, c
+
+
 class CaseNetwork:
     """The network of a drawing in one operating case (element temperatures and source states), with
     one factorisation per alternator state reused for every set of energised stages."""
@@ -95,13 +125,7 @@ class CaseNetwork:
         x0 = f.solve(rhs)
         elems = d.stages
         ns = len(elems)
-        b = np.zeros((len(rhs), ns))
-        for j, e in enumerate(elems):
-            ia, ib = nd[e.a], nd[e.b]
-            if ib > 0:
-                b[ib - 1, j] += 1.0  # the stage delivers its current into node b ...
-            if ia > 0:
-                b[ia - 1, j] -= 1.0  # ... taking it from node a
+        b = stage_injection(nd, elems, len(rhs))
         zx = f.solve(b).reshape(len(rhs), ns) if ns else np.zeros((len(rhs), 0))
 
         def node_row(name: str) -> tuple[np.ndarray, float]:
@@ -110,15 +134,8 @@ class CaseNetwork:
                 return np.zeros(ns), 0.0
             return zx[i - 1, :].copy(), float(x0[i - 1])
 
-        ia_ = np.array([nd[e.a] for e in elems], dtype=int)
-        ib_ = np.array([nd[e.b] for e in elems], dtype=int)
-        zpad = np.vstack([np.zeros((1, ns)), zx[:nn, :]])  # node 0 is the reference
-        xpad = np.concatenate(([0.0], x0[:nn]))
-        dmat = zpad[ia_, :] - zpad[ib_, :]
-        c = xpad[ia_] - xpad[ib_]
-        r_own = np.array([element_resistance(e, temps[e.id]) for e in elems])
+        k, c = stage_system(nd, elems, temps, x0, zx, nn)
         ind = np.array([e.inductance for e in elems])
-        k = np.diag(r_own) - dmat
         readout: dict[str, tuple[np.ndarray, float]] = {}
         gbus, hbus = node_row(s.battery.node)
         readout["bus_voltage"] = (gbus, hbus)

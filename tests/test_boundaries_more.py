@@ -127,7 +127,7 @@ PINNED = {
         "test_boundaries_safety::test_suppressor_energy_pinned_at_the_hand_worked_clamp_energy",
     ],
     "stage.release_time": ["test_boundaries_safety::test_release_time_pinned_at_the_hand_worked_decay"],
-    "supply.alternator": ["test_boundaries_safety::test_alternator_idle_pinned_at_the_cold_demand"],
+    "supply.alternator": ["test_boundaries_safety::test_alternator_idle_pinned_at_the_largest_demand"],
     "suppressor.load_dump": [
         "test_boundaries_safety::test_load_dump_blocking_pinned_at_the_pulse_peak_iso16750_2",
     ],

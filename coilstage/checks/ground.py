@@ -1,14 +1,16 @@
 """Ground and return rules: the ground offset the intact returns leave at each stage's return terminal
 and at the chassis (the returns as a resistance every stage shares); each return lost in turn (a loose
 ground stud, a broken strap), where the current then goes and whether anything on that path opens or
-overheats. Judged at the cold corner (the largest currents the corners give)."""
+overheats. The lost returns are judged at the cold corner (the largest currents the corners give); the
+offset at the largest continuous current, with the cold corner as nominal."""
 
 from __future__ import annotations
 
 from coilstage import tables
+from coilstage.analysis.circuit import Solution
 from coilstage.analysis.ground import lose_returns, offset_limit, return_offsets, returns
 from coilstage.analysis.run import Analysis
-from coilstage.checks.base import Rule, Status, Verdict, at_most, ceiling, not_checked
+from coilstage.checks.base import Rule, Status, Verdict, at_most, ceiling, decided_at_worst, not_checked
 from coilstage.drawing.schema import Cable, Fuse, Relay
 
 
@@ -108,36 +110,51 @@ LOST_RETURN = Rule(
 )
 
 
-def _return_offset(a: Analysis) -> list[Verdict]:
+def _return_offset_at(a: Analysis, solution: Solution, where: str, corner: str) -> dict[str, Verdict]:
+    """The return-offset verdicts of ``solution`` (the network at one operating case), by subject;
+    ``where`` names the case in the notes."""
     d = a.drawing
     limit, source = offset_limit(d)
     neg = d.supply.negative_node
-    out = []
-    for ro in return_offsets(d, a.corners["cold"].solution):
+    out = {}
+    for ro in return_offsets(d, solution):
         path = ", ".join(f"{eid} {i:.1f} A {u * 1000:.0f} mV" for eid, i, u in ro.drops) or "no return element"
         if ro.stage_voltage is not None:
             lost = ro.offset / ro.feed_voltage if ro.feed_voltage else 0.0
             head = (
-                f"return terminal {ro.node} {ro.offset:.3f} V above {neg} at the cold corner: the coil has "
+                f"return terminal {ro.node} {ro.offset:.3f} V above {neg} at the {where}: the coil has "
                 f"{ro.stage_voltage:.2f} V across it, the return takes {lost:.1%} of the {ro.feed_voltage:.2f} V "
                 f"its feed end has over {neg}"
             )
         else:
-            head = f"the chassis ({ro.node}) {ro.offset:.3f} V above {neg} at the cold corner"
+            head = f"the chassis ({ro.node}) {ro.offset:.3f} V above {neg} at the {where}"
         note = (
             f"{head}; through {path} (a shared return carries every stage's current); limit {limit:g} V "
             f"({source}): beyond it equipment grounded at this point is outside the offset it was tested for; "
             f"measure it with the retarder on, between the ground point and the battery negative post"
         )
-        out.append(at_most(RETURN_OFFSET, ro.subject, abs(ro.offset), limit, "V", note, "cold", over=Status.WARN))
+        out[ro.subject] = at_most(RETURN_OFFSET, ro.subject, abs(ro.offset), limit, "V", note, corner, over=Status.WARN)
     return out
+
+
+def _return_offset(a: Analysis) -> list[Verdict]:
+    """Decided at the largest continuous current (coil resistance at its low end, the bus at the
+    regulator's highest end: the most current through the shared returns), with the cold corner as
+    nominal; where the analysis has no largest-current network, at the cold corner alone."""
+    nominal = _return_offset_at(a, a.corners["cold"].solution, "cold corner", "cold")
+    worst_sol = a.worst.largest_current_solution
+    if worst_sol is None:
+        return list(nominal.values())
+    worst = _return_offset_at(a, worst_sol, "largest continuous current", "largest current")
+    words = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
+    return [decided_at_worst(worst[k], v, "largest current", words) if k in worst else v for k, v in nominal.items()]
 
 
 RETURN_OFFSET = Rule(
     "ground.return_offset",
     "Ground offset between each stage's return terminal (and the chassis) and the battery negative",
-    "Ohm's law on the solved network (cold corner): the returns shared by every stage; limit the ISO 16750-2 "
-    "clause 4.8 ground offset test voltage (1.0 V from memory), a warning",
+    "Ohm's law on the solved network (largest continuous current; cold corner as nominal): the returns "
+    "shared by every stage; limit the ISO 16750-2 clause 4.8 ground offset test voltage (1.0 V from memory), a warning",
     _return_offset,
     ("network.mna_matrix", "conductor.resistance_at_temperature"),
 )

@@ -19,17 +19,32 @@ def _alternator(a: Analysis) -> list[Verdict]:
     if alt is None:
         return [not_checked(ALTERNATOR, "alternator", "the drawing has no alternator", "A")]
     cold = a.corners["cold"]
-    demand = cold.total_stage_current + cold.base_load
+    stages = [st.id for st in cold.stages]
+    worst_sol = a.worst.largest_current_solution
+    words = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
     out = []
     for label, limit in (("idle", alt.limit_idle), ("rated speed", alt.limit_rated)):
-        share = max(demand - limit, 0.0)
-        note = (
-            f"stages {cold.total_stage_current:.1f} A + base load {cold.base_load:.1f} A at the cold corner "
-            f"against {limit:g} A at {label}"
+
+        def at(total: float, where: str, corner: str, label: str = label, limit: float = limit) -> Verdict:
+            demand = total + cold.base_load
+            share = max(demand - limit, 0.0)
+            note = (
+                f"stages {total:.1f} A + base load {cold.base_load:.1f} A at the {where} against {limit:g} A at {label}"
+            )
+            if share > 0:
+                note += f"; the battery supplies {share:.1f} A ({share / demand:.0%}) while the retarder is on"
+            return at_most(ALTERNATOR, f"alternator ({label})", demand, limit, "A", note, corner, over=Status.WARN)
+
+        nominal = at(cold.total_stage_current, "cold corner", "cold")
+        if worst_sol is None:
+            out.append(nominal)
+            continue
+        total = sum(abs(worst_sol.current[sid]) for sid in stages)
+        out.append(
+            decided_at_worst(
+                at(total, "largest continuous current", "largest current"), nominal, "largest current", words
+            )
         )
-        if share > 0:
-            note += f"; the battery supplies {share:.1f} A ({share / demand:.0%}) while the retarder is on"
-        out.append(at_most(ALTERNATOR, f"alternator ({label})", demand, limit, "A", note, "cold", over=Status.WARN))
     return out
 
 

@@ -215,3 +215,24 @@ def test_field_command(tmp_path):
     assert main(["field", str(COACH), "-o", str(tmp_path)]) == 0
     assert (tmp_path / f"{COACH.stem}-field.png").stat().st_size > 1000
     assert main(["field", str(TRUCK), "-o", str(tmp_path)]) == 2  # no magnetic circuit to plot
+
+
+def test_saturation_decided_at_the_largest_continuous_current():
+    # field.saturation reads the most ampere-turns the supply can drive: the largest continuous current's
+    # network (coils at the low end of their resistance, the bus at the regulator's highest end), the
+    # cold corner as nominal. The operating point is the magnetic circuit's at that network's own stage
+    # current (the circuit's Ampère's-law solve is checked against brentq on the B-H curve above); the
+    # current is read off the solved network here, independently of the field view.
+    a, vs = check(load_drawing(COACH))
+    s = a.drawing.stages[0]
+    circ = circuit_of(s.coil)
+    i_worst = abs(a.worst.largest_current_solution.current[s.id]) * s.coil_current_factor
+    i_cold = abs(a.corners["cold"].solution.current[s.id]) * s.coil_current_factor
+    v = verdict(vs, "field.saturation", s.id)
+    # rel 1e-9: the same law at the same current: round-off only
+    assert v.value == pytest.approx(circ.iron_flux_density(circ.gap_flux_density(s.coil.turns * i_worst)), rel=1e-9)
+    assert v.worst.nominal_value == pytest.approx(
+        circ.iron_flux_density(circ.gap_flux_density(s.coil.turns * i_cold)), rel=1e-9
+    )
+    assert i_worst > i_cold and v.value > v.worst.nominal_value
+    assert v.corner == "largest current" and v.worst.deciding

@@ -9,6 +9,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from coilstage import tables
+from coilstage.analysis.circuit import Solution
 from coilstage.analysis.corners import CornerResult
 from coilstage.analysis.linear import CaseNetwork
 from coilstage.drawing.schema import CoilType, Drawing, Stage
@@ -76,6 +77,10 @@ class ACResult:
     b_dc: float | None
 
 
+#: the name of the largest continuous current's operating point in :attr:`FieldResult.stages`
+LARGEST = "largest current"
+
+
 @dataclass(frozen=True)
 class FieldResult:
     stages: dict[str, dict[str, StageField]]  # corner -> stage id -> figures
@@ -111,15 +116,23 @@ def _stage_field(s: Stage, corner: str, i_stage: float, circ: MagneticCircuit | 
     )
 
 
-def analyse_field(d: Drawing, corners: dict[str, CornerResult], cold: CaseNetwork) -> FieldResult:
-    """The field per stage in the cold and hot corners, what the hot corner leaves of the braking
-    effort, the saturating switch-on (in the cold network ``cold``) and the AC comparison."""
+def analyse_field(
+    d: Drawing, corners: dict[str, CornerResult], cold: CaseNetwork, largest: Solution | None = None
+) -> FieldResult:
+    """The field per stage in the cold and hot corners (and, with ``largest``, the network at the
+    largest continuous current: the most ampere-turns the supply can drive), what the hot corner leaves
+    of the braking effort, the saturating switch-on (in the cold network ``cold``) and the AC
+    comparison."""
     circs = {name: circuit_of(c) for name, c in d.coils.items()}
     per: dict[str, dict[str, StageField]] = {}
     for corner in ("cold", "hot"):
         per[corner] = {
             st.id: _stage_field(s, corner, st.current, circs[s.coil.name])
             for s, st in zip(d.stages, corners[corner].stages, strict=True)
+        }
+    if largest is not None:
+        per[LARGEST] = {
+            s.id: _stage_field(s, LARGEST, abs(largest.current[s.id]), circs[s.coil.name]) for s in d.stages
         }
     cold_net = cold
     cold, hot = corners["cold"], corners["hot"]

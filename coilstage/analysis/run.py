@@ -130,7 +130,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
             relay_zones,
         ),
         sw,
-        analyse_field(d, corners, nets["cold"]),
+        analyse_field(d, corners, nets["cold"], worst.largest_current_solution),
         descent,
         continuous,
         worst,

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from coilstage.analysis.field import INDUCTANCE_TOLERANCE
+from coilstage.analysis.field import INDUCTANCE_TOLERANCE, LARGEST, StageField
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,
@@ -13,6 +13,7 @@ from coilstage.checks.base import (
     decided_at_worst,
     not_checked,
 )
+from coilstage.drawing.schema import Stage
 
 
 def _inductance(a: Analysis) -> list[Verdict]:
@@ -50,25 +51,36 @@ def _inductance(a: Analysis) -> list[Verdict]:
 
 
 def _saturation(a: Analysis) -> list[Verdict]:
+    """Decided at the largest continuous current (the most ampere-turns: coils at the low end of their
+    resistance, the bus at the regulator's highest end), the cold corner as nominal."""
     f = a.field
     out = []
+    words = tuple(f"{k} {v}" for k, v in a.worst.largest_current_words)
     for s in a.drawing.stages:
         x = f.stages["cold"][s.id] if f is not None else None
         if x is None or x.b_iron is None:
             out.append(not_checked(SATURATION, s.id, "no magnetic circuit given for this stage's coil", "T", "cold"))
             continue
-        ok = x.b_iron <= x.knee
-        note = (
-            f"iron at {x.b_iron:.2f} T with {x.ampere_turns:.0f} A per coil (gap {x.b_gap:.2f} T); knee of the "
-            f"curve {x.knee:.2f} T"
-        )
-        if not ok:
-            h = f.stages["hot"][s.id]
-            note += (
-                f": saturated, so the cold current buys heat more than braking (hot corner: {h.b_iron:.2f} T "
-                f"with {h.ampere_turns:.0f} A)"
+
+        def at(x: StageField, corner: str, where: str, s: Stage = s) -> Verdict:
+            note = (
+                f"iron at {x.b_iron:.2f} T with {x.ampere_turns:.0f} A per coil (gap {x.b_gap:.2f} T) at the {where}; "
+                f"knee of the curve {x.knee:.2f} T"
             )
-        out.append(at_most(SATURATION, s.id, x.b_iron, x.knee, "T", note, "cold", over=Status.WARN))
+            if x.b_iron > x.knee:
+                h = f.stages["hot"][s.id]
+                note += (
+                    f": saturated, so the cold current buys heat more than braking (hot corner: {h.b_iron:.2f} T "
+                    f"with {h.ampere_turns:.0f} A)"
+                )
+            return at_most(SATURATION, s.id, x.b_iron, x.knee, "T", note, corner, over=Status.WARN)
+
+        nominal = at(x, "cold", "cold corner")
+        w = f.stages.get(LARGEST, {}).get(s.id)
+        if w is None or w.b_iron is None:
+            out.append(nominal)
+            continue
+        out.append(decided_at_worst(at(w, LARGEST, "largest continuous current"), nominal, LARGEST, words))
     return out
 
 
@@ -113,7 +125,7 @@ INDUCTANCE = Rule(
 )
 SATURATION = Rule(
     "field.saturation",
-    "Iron below the knee of its B-H curve at the cold corner",
+    "Iron below the knee of its B-H curve at the largest continuous current",
     "Ampère's law around the pole circuit on the B-H curve; knee at d(ln B)/d(ln H) = 0.2 (after IEC 61869-2)",
     _saturation,
     ("magnetic.MagneticCircuit", "magnetic.BHCurve"),

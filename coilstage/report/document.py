@@ -10,6 +10,7 @@ from collections import Counter
 from typing import Any
 
 from coilstage import __version__
+from coilstage.analysis.params import RULES as MODELLED
 from coilstage.analysis.run import Analysis
 from coilstage.checks import Status, Verdict
 
@@ -286,6 +287,25 @@ def sensitivities(v: Verdict) -> list[dict[str, Any]]:
     ]
 
 
+def sensitivity_note(v: Verdict) -> str | None:
+    """Why a verdict carries no sensitivities, or None where it carries some (or was not checked):
+    its rule is outside the tolerance model (its worst case is chosen by reasoning, with no derivative
+    or corner search), or the model found no declared parameter that moves its margin."""
+    if v.status is Status.NOT_CHECKED or (v.worst is not None and v.worst.sensitivities):
+        return None
+    if v.rule in MODELLED:
+        return (
+            "computed: no declared parameter moves this margin by more than a thousandth of a point"
+            if v.worst is not None
+            else "not computed: this verdict is decided without a figure the tolerance model varies"
+        )
+    return (
+        "not computed: this rule is outside the tolerance model of the steady-state rules "
+        f"({', '.join(MODELLED)}); it is decided at the conditions its rule names, with no derivative "
+        "or corner search over the declared tolerances"
+    )
+
+
 def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
     """The whole report as plain data."""
     d = a.drawing
@@ -358,6 +378,7 @@ def build(a: Analysis, verdicts: list[Verdict]) -> dict[str, Any]:
                 "worst_conditions": None if v.worst is None else v.corner,
                 "deciding": [] if v.worst is None else list(v.worst.deciding),
                 "sensitivities": [] if v.worst is None else sensitivities(v),
+                "sensitivity_note": sensitivity_note(v),
             }
             for v in verdicts
         ],

@@ -174,6 +174,13 @@ def worst_lines(v: dict[str, Any], top: int = 3) -> list[str]:
     sens = (v.get("sensitivities") or [])[:top]
     if sens:
         out.append("largest effects: " + "; ".join(sensitivity_text(s) for s in sens))
+    elif v.get("sensitivity_note"):
+        why = v["sensitivity_note"]
+        out.append(
+            "sensitivities: not computed (rule outside the tolerance model)"
+            if why.startswith("not computed")
+            else "sensitivities: no declared parameter moves this margin"
+        )
     return out
 
 

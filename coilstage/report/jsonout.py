@@ -15,6 +15,9 @@ would clear it, or null; the same text as in ``actions``), ``suggested`` (that s
 part, kind, today's value, the suggested value, the next smaller standard part and what it fails,
 whether the full check confirmed it; or null) and ``sensitivities`` (the parameters that move a
 worst-case verdict's margin most, largest first; empty where none were computed).
+
+Schema version 1.4: each verdict's ``sensitivity_note`` says why its ``sensitivities`` are empty (the
+rule is outside the tolerance model, or no declared parameter moves its margin), null otherwise.
 """
 
 from __future__ import annotations
@@ -26,8 +29,8 @@ from coilstage.report import actions, safe
 
 #: the version of the JSON report's layout (1.1: record, parts and actions at the top level; 1.2: the
 #: suggestion and the sensitivities beside each verdict; 1.3: a verdict no sized part clears says what
-#: would have to change)
-SCHEMA_VERSION = "1.3"
+#: would have to change; 1.4: each verdict's ``sensitivity_note`` says why it carries no sensitivities)
+SCHEMA_VERSION = "1.4"
 
 
 def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dict[str, Any] | None = None) -> str:

@@ -47,12 +47,7 @@ def fuse_duty(d: Drawing, descent: DutyResult | None) -> dict[str, FuseDuty | st
         carry = f.rating * tables.fuse_rerating(f.zone_temperature)
         i = np.abs(descent.device_current[f.id])
         im = 0.5 * (i[1:] + i[:-1])
-        used = float(
-            sum(
-                s / g.t_min(x / carry)
-                for s, x in zip(dt, im, strict=True)
-                if math.isfinite(g.t_min(x / carry)) and g.t_min(x / carry) > 0
-            )
-        )
+        t_min = [g.t_min(x / carry) for x in im]  # once per step
+        used = float(sum(s / t for s, t in zip(dt, t_min, strict=True) if math.isfinite(t) and t > 0))
         out[f.id] = FuseDuty(f.id, used, float(np.max(i)) if len(i) else 0.0, carry)
     return out

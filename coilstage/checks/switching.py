@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from typing import TypeVar
 
 from coilstage import tables
 from coilstage.analysis.load_dump import applicable_test
@@ -22,6 +23,8 @@ from coilstage.checks.base import (
     not_checked,
 )
 from coilstage.drawing.schema import Relay, Stage
+
+_T = TypeVar("_T")
 
 
 def category_for(tau: float, rated_power: float | None = None) -> str | None:
@@ -46,6 +49,14 @@ def _highest_bus(a: Analysis) -> tuple[float, str]:
         return reg, f"the regulator's highest end {reg:.2f} V (above the supply maximum {code:g} V)"
     extra = f"; the regulator's highest end is {reg:.2f} V" if reg is not None else ""
     return code, f"the supply maximum {code:g} V{extra}"
+
+
+def _made(x: _T | None, what: str) -> _T:
+    """``x``, which the analysis makes wherever this check reads it; a typed guard that holds under
+    ``python -O`` too (a bare assert vanishes there)."""
+    if x is None:
+        raise RuntimeError(f"analysis figure missing: {what}")
+    return x
 
 
 def _stage_map(a: Analysis) -> dict[str, Stage]:
@@ -94,7 +105,8 @@ def _contact_voltages(a: Analysis, relay: Relay, ids: list[str]) -> list[Verdict
     if not ids or a.switching is None:
         return out
     dm, r_load = fig.dump, fig.load_resistance
-    assert dm is not None and r_load is not None  # made by analysis.contacts wherever the relay switches
+    dm = _made(dm, f"{relay.id}: load-dump figure")  # analysis.contacts makes both wherever the relay switches
+    r_load = _made(r_load, f"{relay.id}: load resistance")
     said = (
         "central load-dump suppression not stated: Test A (unclamped) assumed"
         if assumed
@@ -535,8 +547,8 @@ def _release(a: Analysis) -> list[Verdict]:
 def _pickup_at(r: Relay, x: CoilAt | None, where: str, corner: str) -> Verdict:
     """The pick-up verdict of ``r`` from its coil's figures ``x`` (analysis.contacts: hot coil, zone +
     own rise, fed from the bus of ``where``)."""
-    c = r.coil
-    assert c is not None and x is not None
+    c = _made(r.coil, f"{r.id}: coil data")
+    x = _made(x, f"{r.id}: coil figures")
     bus = x.bus
     limit = PICKUP_MARGIN * x.need
     status = Status.PASS if x.have >= limit else Status.WARN if x.have >= x.need else Status.FAIL
@@ -591,8 +603,9 @@ def _coil_circuit(a: Analysis) -> list[Verdict]:
     for r in a.drawing.of_kind(Relay):
         if r.coil is None:
             continue
-        cc = a.contacts.relays[r.id].coil
-        assert cc is not None  # made by analysis.contacts for every relay with coil data
+        cc = _made(
+            a.contacts.relays[r.id].coil, f"{r.id}: coil figures"
+        )  # analysis.contacts: every relay with coil data
         i = cc.cold.current
         base = (
             f"coil at the lowest ambient {cc.cold.temperature:g} °C ({cc.cold.resistance:.1f} ohm) on {hi_words} "

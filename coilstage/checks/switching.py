@@ -7,6 +7,7 @@ import math
 from typing import TypeVar
 
 from coilstage import tables
+from coilstage.analysis.contacts import highest_bus
 from coilstage.analysis.load_dump import applicable_test
 from coilstage.analysis.relay_coil import PICKUP_MARGIN, CoilAt
 from coilstage.analysis.run import Analysis
@@ -43,10 +44,11 @@ def _highest_bus(a: Analysis) -> tuple[float, str]:
     (ISO 16750-2) or the regulator's highest end (set-point, tolerance and cold compensation), the
     higher of the two."""
     d = a.drawing
-    code = max(d.supply.v_max, d.corners.limit_bus)
+    code = max(d.supply.v_max, d.corners.limit_bus)  # for the words; the figure is highest_bus's
     reg = a.worst.bus_high
-    if reg is not None and reg > code:
-        return reg, f"the regulator's highest end {reg:.2f} V (above the supply maximum {code:g} V)"
+    u = highest_bus(d, reg) if reg is not None else code
+    if reg is not None and u == reg and reg > code:
+        return u, f"the regulator's highest end {reg:.2f} V (above the supply maximum {code:g} V)"
     extra = f"; the regulator's highest end is {reg:.2f} V" if reg is not None else ""
     return code, f"the supply maximum {code:g} V{extra}"
 

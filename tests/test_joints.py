@@ -80,7 +80,21 @@ def test_joint_current_with_the_makers_derating():
 
 def test_joint_not_in_the_network_takes_its_cables_current():
     # A joint element that the network does not hold yet: its cable's current, and it says so.
-    j = Joint("JX", "joint", "X", "Y", "harness[99]", "lug", 1e-4, 100.0, 25.0, None, "z", 70.0, cable="W1")
+    j = Joint(
+        id="JX",
+        kind="joint",
+        a="X",
+        b="Y",
+        where="harness[99]",
+        resistance=1e-4,
+        joint_kind="lug",
+        rating=100.0,
+        rated_ambient=25.0,
+        derated=None,
+        zone="z",
+        zone_temperature=70.0,
+        cable="W1",
+    )
     cur = joint_current(j, {"W1": 58.0}, {"W1": 61.0})
     assert (cur.nominal, cur.worst) == (58.0, 61.0)
     assert "the cable it terminates, W1" in cur.source

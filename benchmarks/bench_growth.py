@@ -78,7 +78,7 @@ def phases(n: int, runs: int) -> tuple[dict[str, float], str | None]:
     from coilstage.analysis.corners import cold_duty, fault_currents, solve_corner
     from coilstage.analysis.duty import continuous_duty, simulate
     from coilstage.analysis.field import analyse_field
-    from coilstage.analysis.linear import case_networks
+    from coilstage.analysis.linear import CaseNetwork, case_networks
     from coilstage.analysis.ratings import ratings
     from coilstage.analysis.run import analyse
     from coilstage.analysis.switching import analyse_switching
@@ -107,9 +107,16 @@ def phases(n: int, runs: int) -> tuple[dict[str, float], str | None]:
     # the case networks factorise on first use: each phase that uses them gets fresh ones, so it pays
     # for that (in analyse() they are shared, so these phases add up to a little more than the check)
     t["cold duty"], (duty, _w) = minimum(lambda: cold_duty(case_networks(circuit, cases)["cold"]), runs)
-    t["switching"], sw = minimum(lambda: analyse_switching(d, case_networks(circuit, cases)), runs)
-    t["heating"], _h = minimum(lambda: (simulate(d), simulate(d, continuous_duty(d))), runs)
     t["worst cases"], worst = minimum(lambda: worst_cases(d, cases, protected, duty), runs)
+    b = worst.largest_break
+
+    def switching():
+        # as analyse(): the cold and hot corners' scenarios, and the per-stage figures at the largest break
+        net = CaseNetwork(Circuit(b.drawing), b.temperatures, b.sources)
+        return analyse_switching(d, case_networks(circuit, cases), largest=(b.drawing, net))
+
+    t["switching"], sw = minimum(switching, runs)
+    t["heating"], _h = minimum(lambda: (simulate(d), simulate(d, continuous_duty(d))), runs)
     t["field"], _fi = minimum(lambda: analyse_field(d, corners, case_networks(circuit, cases)["cold"]), runs)
     sw_ = worst.duty_sweep
     zones = (

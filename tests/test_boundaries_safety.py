@@ -308,12 +308,13 @@ def _suppressed(
     return text.replace('connection = "series"\n', 'connection = "series"\n' + sup, 1)
 
 
-def _hand_decay(i0: float) -> tuple[float, float, float]:
+def _hand_decay(i0: float, r_scale: float = 1.0, l_scale: float = 1.0) -> tuple[float, float, float]:
     """By hand, the cold break of the 1 ohm (at 20 degC) 50 mH stage into the 24.9 V clamp: its cold
-    resistance, the clamp energy and the time to 5 % of the break current."""
+    resistance, the clamp energy and the time to 5 % of the break current; ``r_scale`` and ``l_scale``
+    scale the coil's resistance and inductance (the ends of their tolerances)."""
     # the coil at the cold corner's -30 degC: R = 1.0 x (1 + 0.00393 x (-30 - 20)) (IEC 60028 alpha20)
-    r = 1.0 * (1 + ALPHA_CU * (-30.0 - 20.0))
-    tau = INDUCTANCE / r
+    r = 1.0 * (1 + ALPHA_CU * (-30.0 - 20.0)) * r_scale
+    tau = INDUCTANCE * l_scale / r
     u0 = ZENER + FORWARD
     # RL decay against a constant clamp voltage (Alexander & Sadiku, Fundamentals of Electric Circuits,
     # 5th ed., section 7.6): i(t) = (I0 + U0/R) e^(-t/tau) - U0/R, zero at t0 = tau ln(1 + I0 R/U0);
@@ -324,22 +325,36 @@ def _hand_decay(i0: float) -> tuple[float, float, float]:
     return r, energy, release
 
 
+#: the largest break's coil (the shipped tolerance defaults, coilstage/data/tolerance_defaults.toml):
+#: resistance -5 % (a solenoid maker's FAQ), inductance +20 % (from memory, not confirmed)
+BREAK_R, BREAK_L = 0.95, 1.20
+
+
+def _largest_break_current(a) -> float:
+    """S0's current at the largest continuous current, from the network's DC solve (the switching
+    figures come from the RL system's steady state: an independent path)."""
+    return abs(a.worst.largest_current_solution.current["S0"])
+
+
 def _sup(text: str, subject: str, rule=None):
     a = _analysis(text)
     return a, _verdict(rule or SUPPRESSOR, a, subject)
 
 
 def test_suppressor_peak_current_pinned_at_the_break_current():
-    # The break current is the stage's steady current at the cold corner (all stages on); it must equal
-    # the quasi-static DC solve of that corner (an independent path through the network), and the rating
-    # placed 1 % above / below it passes / fails.
+    # The break current is the stage's steady current at the switch-off that breaks the most (coils cold
+    # at -5 %, the regulator's highest bus), the cold corner's as nominal; each must equal the
+    # quasi-static DC solve of its network (an independent path), and the rating placed 1 % above / below
+    # the largest passes / fails.
     a, v = _sup(_suppressed(), "S0 peak current")
     (cold,) = [s.current for s in a.corners["cold"].stages if s.id == "S0"]
-    assert v.value == pytest.approx(cold, rel=1e-6)
+    big = _largest_break_current(a)
+    assert v.worst.nominal_value == pytest.approx(cold, rel=1e-6)
+    assert v.value == pytest.approx(big, rel=1e-6) and big > cold
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
-        _, v2 = _sup(_suppressed(peak=k * cold), "S0 peak current")
+        _, v2 = _sup(_suppressed(peak=k * big), "S0 peak current")
         # rel 1e-9: the current does not move with the suppressor's rating: round-off only
-        assert v2.value == pytest.approx(cold, rel=1e-9)
+        assert v2.value == pytest.approx(big, rel=1e-9)
         assert v2.status is status
 
 
@@ -354,8 +369,9 @@ def test_suppressor_reverse_voltage_pinned_at_the_clamped_load_dump_iso16750_2()
 
 
 def test_suppressor_energy_pinned_at_the_hand_worked_clamp_energy():
-    # The energy per break from the hand-worked decay (above) with the analysis' break current; the
-    # rating 1 % above / below that figure passes / fails.
+    # The energy per break from the hand-worked decay (above): nominally with the cold corner's break
+    # current, decided with the largest break's (coil -5 %, +20 % inductance); the rating 1 % above /
+    # below the largest passes / fails.
     a, v = _sup(_suppressed(), "S0 energy")
     i0 = a.switching.stages["cold"]["S0"].i_break
     r, energy, _ = _hand_decay(i0)
@@ -363,22 +379,27 @@ def test_suppressor_energy_pinned_at_the_hand_worked_clamp_energy():
     assert a.switching.stages["cold"]["S0"].tau == pytest.approx(INDUCTANCE / r, rel=1e-6)
     # abs 0.01 J: 17.85 J is the hand-worked figure to 4 significant figures
     assert energy == pytest.approx(17.85, abs=0.01)
-    assert v.value == pytest.approx(energy, rel=1e-6)
+    assert v.worst.nominal_value == pytest.approx(energy, rel=1e-6)
+    _, big, _ = _hand_decay(_largest_break_current(a), BREAK_R, BREAK_L)
+    assert v.value == pytest.approx(big, rel=1e-6) and big > 1.2 * energy
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
-        _, v2 = _sup(_suppressed(energy=k * energy), "S0 energy")
+        _, v2 = _sup(_suppressed(energy=k * big), "S0 energy")
         assert v2.status is status
 
 
 def test_release_time_pinned_at_the_hand_worked_decay():
-    # The time to 5 % of the break current through the clamp, by hand (above): 43.5 ms; the drawing's
-    # release limit 1 % above / below it passes / fails.
+    # The time to 5 % of the break current through the clamp, by hand (above): 43.5 ms nominally (cold
+    # corner), decided at the largest break (coil -5 %, +20 % inductance); the drawing's release limit
+    # 1 % above / below the largest passes / fails.
     a, v = _sup(_suppressed(), "S0", RELEASE)
     _, _, t = _hand_decay(a.switching.stages["cold"]["S0"].i_break)
     assert t == pytest.approx(0.0435, abs=1e-4)
-    assert v.value == pytest.approx(t * 1e3, rel=1e-6)  # [ms]
+    assert v.worst.nominal_value == pytest.approx(t * 1e3, rel=1e-6)  # [ms]
+    _, _, t_big = _hand_decay(_largest_break_current(a), BREAK_R, BREAK_L)
+    assert v.value == pytest.approx(t_big * 1e3, rel=1e-6) and t_big > t
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
-        _, v2 = _sup(_suppressed(release=k * t), "S0", RELEASE)
-        assert v2.limit == pytest.approx(k * t * 1e3)
+        _, v2 = _sup(_suppressed(release=k * t_big), "S0", RELEASE)
+        assert v2.limit == pytest.approx(k * t_big * 1e3)
         assert v2.status is status
 
 

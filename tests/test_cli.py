@@ -75,7 +75,7 @@ def test_json_matches_documented_schema(tmp_path):
         main(["check", str(drawing), "-f", "json", "-o", str(out)])
         doc = json.loads(out.read_text())
         jsonschema.validate(doc, schema)
-        assert doc["schema_version"] == "1.4"
+        assert doc["schema_version"] == "1.5"
         assert {"record", "parts", "actions"} <= set(doc)
         assert all(v["clause"] and v["rule"] for v in doc["verdicts"])
 

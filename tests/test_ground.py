@@ -162,7 +162,8 @@ def test_returns_lost_by_rank_one_updates_equal_a_fresh_dense_solve(monkeypatch)
     real = ground.lose_return
     monkeypatch.setattr(ground, "lose_return", lambda d, i, *args: fresh.append(i) or real(d, i, *args))
     got = ground.lose_returns(d, ids, cold.temperatures, cold.sources, a.corners["cold"].solution)
-    # every return here has a parallel path: the update serves each (a fresh solve only where its residual is not at round-off)
+    # every return here has a parallel path: the update serves each (a fresh solve only where its
+    # residual is not at round-off)
     assert not fresh, fresh
     for i in ids:
         lr = got[i]

@@ -223,7 +223,7 @@ def test_suggestions_by_default_beside_each_verdict_and_in_the_schema(tmp_path):
     assert main(["check", str(FLAWED), "-f", "json", "-o", str(out)]) == 1
     doc = json.loads(out.read_text())
     jsonschema.validate(doc, schema)
-    assert doc["schema_version"] == "1.4"
+    assert doc["schema_version"] == "1.5"
     items = [v for g in doc["actions"]["failures"] for v in g["items"]]
     with_text = [v for v in items if v["suggestion"]]
     assert with_text and all(isinstance(v["suggestion"], str) for v in with_text)

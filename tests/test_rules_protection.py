@@ -8,6 +8,7 @@ import re
 import pytest
 
 from coilstage import check
+from coilstage.analysis.conditions import LARGEST
 from coilstage.checks import Status
 from coilstage.drawing.load import parse_drawing
 from coilstage.errors import DrawingError
@@ -156,17 +157,26 @@ def test_release_without_suppression_is_an_arc_not_zero_ms():
     assert "arc" in v.note
     # Passing case: the coach's diode + 24 V zener: 53.5 A falls to 5 % in about 60 ms (closed form
     # t = tau ln((I0 + U/R)/(x I0 + U/R))), within 300 ms.
+    # Decided at the largest break (coil -5 %, inductance +20 %: a slower decay of more current), which
+    # passes too; the 60.2 ms is the cold corner's nominal beside it.
     _, vs = verdicts(COACH_TEXT)
     v = one(vs, "stage.release_time", "S1")
     assert v.status is Status.PASS
-    assert v.value == pytest.approx(60.2, abs=0.5)
+    assert v.worst.nominal_value == pytest.approx(60.2, abs=0.5)
+    assert v.value > v.worst.nominal_value
 
 
 # ---------------------------------------------------------------- inductive break within the category's rating
 
 
 def _bare_s1(categories: str, cycles: int | None = None) -> str:
+    """The coach with S1 unsuppressed and K1's categories set; its coils' inductance stated exact (a 0 %
+    tolerance), so that the break is decided at the coil's own L with its resistance at -5 %: an L/R of
+    86 ms / 0.95 = 91 ms, inside DC-13's 100 ms (with the shipped +20 % it would be 109 ms, outside every
+    category, and these tests would not reach the rating)."""
     t = set_key(del_key(COACH_TEXT, "S1", "suppression"), "K1", "categories", categories)
+    assert "[tolerances]" not in t
+    t += '\n[tolerances]\ncoil_inductance = "0 %"\n'
     return t if cycles is None else t.replace("cycles = 200000", f"cycles = {cycles}")
 
 
@@ -190,8 +200,11 @@ def test_break_current_against_the_category_rating():
     assert "exceeds the DC-13 rated current 2.5 A" in v.note
     # Boundary: the break current is read from the analysis; I_e 1 % above it passes, 1 % below fails.
     # DC-13 at P = U_e I_e >= 50 W reaches the 300 ms cap: tau <= 300/ln 20 = 100.1 ms >= 86 ms.
+    # The break decided at the largest break (coils cold at -5 %, the regulator's highest bus): its
+    # current is the relay's largest-break figure.
     a, _ = verdicts(_bare_s1('["DC-13"]'))
-    i_b = a.switching.stages["cold"]["S1"].i_break
+    i_b = a.contacts.largest["K1"].i_break
+    assert i_b > a.contacts.relays["K1"].i_break
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
         _, vs = verdicts(_bare_s1(f'[{{ category = "DC-13", current = "{k * i_b:.4f} A", voltage = "60 V" }}]'))
         assert one(vs, "relay.inductive_break", "K1").status is status
@@ -213,7 +226,7 @@ def test_frequent_switching_uses_the_durability_time_constant():
         )
 
     a, _ = verdicts(drawing(0.0, None, 50))
-    tau50 = a.switching.stages["cold"]["S0"].tau
+    tau50 = a.switching.stages[LARGEST]["S0"].tau  # the rule's worst case: the largest break
     cases = [(0.0074, 200000, Status.PASS), (0.0076, 200000, Status.FAIL), (0.0149, 50, Status.PASS)]
     for tau, cycles, status in cases:
         _, vs = verdicts(drawing(tau, tau50, cycles))

@@ -12,6 +12,7 @@ import re
 import pytest
 
 from coilstage import check
+from coilstage.analysis.conditions import LARGEST
 from coilstage.checks import Status
 from coilstage.checks.protection import highest_bus
 from coilstage.checks.switching import (
@@ -228,12 +229,13 @@ def test_diode_blocks_the_peak_that_applies():
 
 
 def _small_stage(tau: float, rating: str) -> str:
-    """One 40 ohm stage (under 1 A cold) whose inductance gives L/R = tau at the cold corner,
-    unsuppressed, its relay rated ``rating``."""
+    """One 40 ohm stage (under 1 A cold) whose inductance gives L/R = tau at the largest break (the
+    rule's worst case: coil cold at -5 % resistance, +20 % inductance), unsuppressed, its relay rated
+    ``rating``."""
     text = drawing_text(stages=1, coil_r=[40.0])
     text = re.sub(r'(id = "K0"\nkind = "relay"\n)', rf"\1categories = [{rating}]\n", text, count=1)
     a = analysed(text)
-    tau0 = a.switching.stages["cold"]["S0"].tau
+    tau0 = a.switching.stages[LARGEST]["S0"].tau
     return text.replace('inductance = "50 mH"', f'inductance = "{50.0 * tau / tau0:.6f} mH"', 1)
 
 

@@ -19,7 +19,7 @@ def test_every_empty_sensitivity_list_says_why(path, tmp_path):
     out = tmp_path / "r.json"
     main(["check", str(path), "--no-suggest", "-f", "json", "-o", str(out)])
     doc = json.loads(out.read_text(encoding="utf-8"))
-    assert doc["schema_version"] == "1.4"
+    assert doc["schema_version"] == "1.5"
     outside = modelled_with = 0
     for v in doc["verdicts"]:
         note = v["sensitivity_note"]

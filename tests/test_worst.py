@@ -171,7 +171,7 @@ def test_tolerance_defaults_listed_once_under_assumptions(coach):
     }
     doc = build(a, list(verdicts.values()))
     lines = [x for x in doc["assumptions"] if x.startswith("worst-case default ")]
-    assert len(lines) == len(set(lines)) == 12
+    assert len(lines) == len(set(lines)) == 13
     by_key = {x.split(" ")[2]: x for x in lines}
     assert "supply.alternator.compensation_12v" not in by_key  # a 24 V drawing takes the 24 V gradient
     for key, line in by_key.items():
@@ -179,6 +179,7 @@ def test_tolerance_defaults_listed_once_under_assumptions(coach):
     assert "= 50 % (low end of 50 % to 100 %)" in by_key["supply.battery.state_of_charge"]
     assert "= 5 mΩ (high end of 0 mΩ to 5 mΩ)" in by_key["tolerances.fault_resistance"]
     assert "= -5 % (low end of -5 % to +5 %)" in by_key["coils.*.resistance_tolerance"]
+    assert "= +20 % (high end of -20 % to +20 %)" in by_key["coils.*.inductance_tolerance"]
     assert "= -20 mV/K" in by_key["supply.alternator.compensation_24v"]
 
 

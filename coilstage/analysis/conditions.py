@@ -26,6 +26,11 @@ from coilstage.drawing.schema import Cable, Drawing, Stage
 from coilstage.errors import AnalysisError
 from coilstage.physics.thermal import winding_steady_temperature
 
+#: The name of the largest continuous current's case (coils cold at the low end of their resistance
+#: tolerance, the bus at the regulator's highest end: analysis.worst), under which the field and the
+#: switching keep their figures beside the corners'
+LARGEST = "largest current"
+
 #: The corners, in the order the report lists them, and what each is for.
 CORNER_PURPOSE: dict[str, str] = {
     "cold": "cable, fuse and relay duty (largest current)",

@@ -17,8 +17,9 @@ Each result names the model that made it.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
+from coilstage.analysis.conditions import LARGEST
 from coilstage.analysis.load_dump import ContactDump, StageDump, contact_dump, stage_dumps
 from coilstage.analysis.relay_coil import (
     ArcAtContact,
@@ -31,7 +32,7 @@ from coilstage.analysis.relay_coil import (
     hot_temperature,
     opening,
 )
-from coilstage.analysis.switching import SwitchingResult
+from coilstage.analysis.switching import StageSwitching, SwitchingResult
 from coilstage.drawing.schema import Drawing, Relay
 
 #: A coil suppression slows the opening enough to be reported where its slow end exceeds this factor.
@@ -82,6 +83,9 @@ class Contacts:
     highest_bus: float  # [V]
     relays: dict[str, RelayFigures]
     stage_dumps: dict[str, dict[str, StageDump]]  # "none" / "central" -> stage id -> figures
+    #: every relay's figures at the switch-off that breaks the most (the switching's
+    #: :data:`~coilstage.analysis.conditions.LARGEST` case; empty where it was not analysed)
+    largest: dict[str, RelayFigures] = field(default_factory=dict)
     model: str = "analysis.load_dump.stage_dumps (ISO 16750-2 4.6.4 Test A and Test B)"
 
 
@@ -89,25 +93,27 @@ def _relay(
     d: Drawing,
     r: Relay,
     ids: list[str],
-    sw: SwitchingResult | None,
-    cold_bus: float,
+    per: dict[str, StageSwitching] | None,
+    bus: float,
     hot_bus: float,
     lowest_bus: float,
     u_hi: float,
 ) -> RelayFigures:
+    """One relay's figures, its break from the stage figures ``per`` (one case of the switching, with
+    its bus ``bus`` [V]; None where switching was not analysed)."""
     stages = {s.id: s for s in d.stages}
-    cold = sw.stages["cold"] if sw is not None else {}
+    cold = per if per is not None else {}
     bare = [s for s in ids if stages[s].suppression.kind == "none"]
     u_sup = max((cold[s].decay.u_suppressor_peak for s in ids if s not in bare and s in cold), default=0.0)
-    i_b = sum(cold[s].i_break for s in ids) if sw is not None else 0.0
-    stored = sum(cold[s].stored_energy for s in ids) if sw is not None else 0.0
+    i_b = sum(cold[s].i_break for s in ids) if per is not None else 0.0
+    stored = sum(cold[s].stored_energy for s in ids) if per is not None else 0.0
     r_load = dump = None
-    if ids and sw is not None:
-        r_load = cold_bus / i_b if i_b > 0 else float("inf")
+    if ids and per is not None:
+        r_load = bus / i_b if i_b > 0 else float("inf")
         dump = contact_dump(d, ids[0], r_load, 0.0 if bare else u_sup, central_suppression(d))
     op = opening(r)
     arc_n = arc_s = None
-    if ids and sw is not None and op.slowed and op.factor[1] > SLOWED_ABOVE:
+    if ids and per is not None and op.slowed and op.factor[1] > SLOWED_ABOVE:
         arc_n = arc_at_contact(i_b, u_hi, stored, op.release)
         arc_s = arc_at_contact(i_b, u_hi, stored, op.release_slowest)
     hot_nom = hot_low = coil = None
@@ -126,12 +132,22 @@ def contacts(
     hot_bus: float,
     lowest_bus: float,
     bus_high: float,
+    largest_bus: float | None = None,
 ) -> Contacts:
     """Every relay's figures (``switched``: relay id -> the stages it switches; ``cold_bus``,
     ``hot_bus``: the cold and hot corners' bus [V]; ``lowest_bus``: the lowest bus of the worst cases
-    [V]; ``bus_high``: the regulator's highest end [V]) and the stages' load-dump figures."""
+    [V]; ``bus_high``: the regulator's highest end [V]; ``largest_bus``: the bus of the switching's
+    largest-current case [V], where it has one) and the stages' load-dump figures."""
     u_hi = highest_bus(d, bus_high)
+    cold = sw.stages["cold"] if sw is not None else None
     relays = {
-        r.id: _relay(d, r, switched.get(r.id, []), sw, cold_bus, hot_bus, lowest_bus, u_hi) for r in d.of_kind(Relay)
+        r.id: _relay(d, r, switched.get(r.id, []), cold, cold_bus, hot_bus, lowest_bus, u_hi) for r in d.of_kind(Relay)
     }
-    return Contacts(u_hi, relays, {c: stage_dumps(d, c) for c in ("none", "central")})
+    largest: dict[str, RelayFigures] = {}
+    if sw is not None and LARGEST in sw.stages and largest_bus is not None:
+        per = sw.stages[LARGEST]
+        largest = {
+            r.id: _relay(d, r, switched.get(r.id, []), per, largest_bus, hot_bus, lowest_bus, u_hi)
+            for r in d.of_kind(Relay)
+        }
+    return Contacts(u_hi, relays, {c: stage_dumps(d, c) for c in ("none", "central")}, largest)

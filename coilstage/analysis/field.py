@@ -10,6 +10,7 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.circuit import Solution
+from coilstage.analysis.conditions import LARGEST
 from coilstage.analysis.corners import CornerResult
 from coilstage.analysis.linear import CaseNetwork
 from coilstage.drawing.schema import CoilType, Drawing, Stage
@@ -75,10 +76,6 @@ class ACResult:
     ni_dc: float
     b_ac: float | None  # gap flux density at the RMS ampere-turns [T]
     b_dc: float | None
-
-
-#: the name of the largest continuous current's operating point in :attr:`FieldResult.stages`
-LARGEST = "largest current"
 
 
 @dataclass(frozen=True)

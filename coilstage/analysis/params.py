@@ -79,6 +79,8 @@ from coilstage.analysis.ratings import cable_rating, fuse_gates, relay_contact
 from coilstage.analysis.relay_coil import PICKUP_MARGIN, coil_at, hot_temperature
 from coilstage.analysis.tolerances import (
     cells as _cells,
+)
+from coilstage.analysis.tolerances import (
     effective,
     element_key,
     lookup,

@@ -24,7 +24,7 @@ from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
 from coilstage.analysis.field import FieldResult, analyse_field
 from coilstage.analysis.fuse_duty import FuseDuty, fuse_duty
 from coilstage.analysis.joints import JointFigures, joint_figures
-from coilstage.analysis.linear import case_networks
+from coilstage.analysis.linear import CaseNetwork, case_networks
 from coilstage.analysis.ratings import Ratings, ratings
 from coilstage.analysis.switching import SwitchingResult, analyse_switching
 from coilstage.analysis.topology import protected_cables, switched_stages, unfused_feed_cables
@@ -77,12 +77,16 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
     protected = protected_cables(d)
     faults, far_end, battery_sc = fault_currents(circuit, cases["fault"], protected)
     duty, duty_state = cold_duty(nets["cold"])
-    sw = analyse_switching(d, nets) if switching else None
+    worst = worst_cases(d, cases, protected, duty)
+    sw = None
+    if switching:
+        b = worst.largest_break
+        largest = None if b is None else (b.drawing, CaseNetwork(Circuit(b.drawing), b.temperatures, b.sources))
+        sw = analyse_switching(d, nets, largest=largest)
     descent = continuous = None
     if heating and d.duty is not None:
         descent = simulate(d)
         continuous = simulate(d, continuous_duty(d))
-    worst = worst_cases(d, cases, protected, duty)
     sw_ = worst.duty_sweep
     zones = (
         {c.id: tuple(sw_.zone(c.zone_temperature, j) for j in range(len(sw_.ambients))) for c in d.of_kind(Cable)}
@@ -103,6 +107,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
         corners["hot"].bus_voltage,
         worst.lowest_bus.bus_voltage,
         worst.bus_high,
+        None if worst.largest_break is None else worst.largest_break.sources.hold_bus,
     )
     return Analysis(
         d,

@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from coilstage.analysis.circuit import SourceState, element_resistance
+from coilstage.analysis.conditions import LARGEST
 from coilstage.analysis.linear import CaseNetwork, Linear
 from coilstage.drawing.schema import Drawing, Stage
 from coilstage.errors import AnalysisError
@@ -241,10 +242,15 @@ def scenario_events(d: Drawing) -> dict[str, list[tuple[float, tuple[str, ...]]]
 
 
 def analyse_switching(
-    d: Drawing, nets: dict[str, CaseNetwork], corners: tuple[str, ...] = ("cold", "hot")
+    d: Drawing,
+    nets: dict[str, CaseNetwork],
+    corners: tuple[str, ...] = ("cold", "hot"),
+    largest: tuple[Drawing, CaseNetwork] | None = None,
 ) -> SwitchingResult:
     """Every scenario in the cold and hot corners (``nets``: corner -> its network), and the
-    per-stage switching figures."""
+    per-stage switching figures; with ``largest`` (the drawing with its coils at the ends of their
+    tolerances that break the most, and its network at the largest continuous current), the per-stage
+    figures there too, under :data:`~coilstage.analysis.conditions.LARGEST`."""
     scen: dict[str, Scenario] = {}
     dips: dict[str, float] = {}
     events = scenario_events(d)
@@ -256,36 +262,43 @@ def analyse_switching(
             grid = np.linspace(0.0, t_end, 3001)
             bus = sc.sample(grid, [])["bus_voltage"]
             dips[f"{corner}:{name}"] = float(bus[0] - np.nanmin(bus))
-    stages: dict[str, dict[str, StageSwitching]] = {}
-    limit_bus = d.corners.limit_bus
-    for corner in corners:
-        net = nets[corner]
-        temps = net.temperatures
-        ids = net.stage_ids
-        # T0.95: the exact solution of the switch-on, continued until each current gets there
-        t95_all = switch_on_t95(net, ids)
-        per: dict[str, StageSwitching] = {}
-        full = net.linear(ids, net.steady_mode(ids))
-        i_ss = full.rl.steady_state()
-        for j, st in enumerate(d.stages):
-            r_stage = element_resistance(st, temps[st.id])
-            t95_alone = switch_on_t95(net, (st.id,))[st.id]
-            i0 = float(i_ss[j])
-            dec, _fn = _decay(st, r_stage, i0, st.suppression, d.switching.release_fraction)
-            cv = math.inf if st.suppression.kind == "none" else limit_bus + dec.u_suppressor_peak
-            per[st.id] = StageSwitching(
-                st.id,
-                corner,
-                st.inductance / r_stage,
-                t95_alone,
-                t95_all[st.id],
-                i0,
-                0.5 * st.inductance * i0 * i0,
-                dec,
-                cv,
-            )
-        stages[corner] = per
+    stages = {corner: stage_figures(d, nets[corner], corner) for corner in corners}
+    if largest is not None:
+        stages[LARGEST] = stage_figures(largest[0], largest[1], LARGEST)
     return SwitchingResult(scen, stages, dips, bool(d.switching.positions))
+
+
+def stage_figures(d: Drawing, net: CaseNetwork, corner: str) -> dict[str, StageSwitching]:
+    """Each stage's switching figures in the network ``net`` of the drawing ``d`` (its coils' resistance
+    and inductance as ``d`` states them, at the network's temperatures): L/R, T0.95 alone and with all
+    the others, the break current with all stages on (steady), ½LI² and the decay through its
+    suppressor (:func:`coilstage.physics.transient.clamp_decay`)."""
+    limit_bus = d.corners.limit_bus
+    temps = net.temperatures
+    ids = net.stage_ids
+    # T0.95: the exact solution of the switch-on, continued until each current gets there
+    t95_all = switch_on_t95(net, ids)
+    per: dict[str, StageSwitching] = {}
+    full = net.linear(ids, net.steady_mode(ids))
+    i_ss = full.rl.steady_state()
+    for j, st in enumerate(d.stages):
+        r_stage = element_resistance(st, temps[st.id])
+        t95_alone = switch_on_t95(net, (st.id,))[st.id]
+        i0 = float(i_ss[j])
+        dec, _fn = _decay(st, r_stage, i0, st.suppression, d.switching.release_fraction)
+        cv = math.inf if st.suppression.kind == "none" else limit_bus + dec.u_suppressor_peak
+        per[st.id] = StageSwitching(
+            st.id,
+            corner,
+            st.inductance / r_stage,
+            t95_alone,
+            t95_all[st.id],
+            i0,
+            0.5 * st.inductance * i0 * i0,
+            dec,
+            cv,
+        )
+    return per
 
 
 def _switch_on_segments(net: CaseNetwork, ids: tuple[str, ...]):

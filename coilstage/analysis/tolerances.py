@@ -151,7 +151,9 @@ def rated_resistance_low(d: Drawing) -> float | None:
         return None
     from coilstage.physics.battery import open_circuit_voltage, resistance_from_short_circuit_current
 
-    return resistance_from_short_circuit_current(float(open_circuit_voltage(1.0, cells=cells(d))), b.short_circuit_current)
+    return resistance_from_short_circuit_current(
+        float(open_circuit_voltage(1.0, cells=cells(d))), b.short_circuit_current
+    )
 
 
 def rated_resistance_reference(d: Drawing, temperature_coefficient: float) -> float | None:

@@ -42,11 +42,13 @@ from coilstage.analysis.corners import cold_duties
 from coilstage.analysis.field import circuit_of
 from coilstage.analysis.tolerances import (
     DRAWING_STATUS,
-    cells as _cells,
     effective,
     lookup,
     rated_resistance_low,
     rated_resistance_reference,
+)
+from coilstage.analysis.tolerances import (
+    cells as _cells,
 )
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
@@ -150,6 +152,7 @@ class WorstCases:
     bus_high: float  # the regulator's highest end [V]
     assumptions: tuple[str, ...] = ()  # each tolerance default used, with its value, source and status
     largest_current_solution: Solution | None = None  # the network at the largest continuous current
+    largest_break: BreakCase | None = None  # the same state, the coils' inductance at its high end
     duty_sweep: DutySweep | None = None  # the duty rules' consistent vehicle states over the ambient range
     duty_sweep_nominal: DutySweep | None = None  # the same states with nominal parts and the nominal bus
     braking: BrakingView | None = None  # braking retained at the lowest bus, hot coils at +tolerance
@@ -167,6 +170,7 @@ _USED: tuple[tuple[str, str], ...] = (
     ("tolerances.fault_resistance", "high"),
     ("supply.alternator.hot_derating", "high"),
     ("coils.*.resistance_tolerance", "low"),
+    ("coils.*.inductance_tolerance", "high"),
     ("tolerances.cable_length", "high"),
 )
 
@@ -211,6 +215,25 @@ def coil_tolerances(d: Drawing, tol: dict[str, dict], end: str) -> dict[str, flo
     """Stage id -> the ``end`` ("low" or "high") of its coil type's resistance tolerance (the drawing's
     own row for that coil type where it states one, else the generic row) [fraction]."""
     return {s.id: float(lookup(tol, "coils.*.resistance_tolerance", s.coil.name)[end]) for s in d.stages}
+
+
+def coil_inductance_tolerances(d: Drawing, tol: dict[str, dict], end: str) -> dict[str, float]:
+    """Stage id -> the ``end`` ("low" or "high") of its coil type's inductance tolerance (its own row
+    where the drawing states one, else the generic row) [fraction]."""
+    return {s.id: float(lookup(tol, "coils.*.inductance_tolerance", s.coil.name)[end]) for s in d.stages}
+
+
+@dataclass(frozen=True)
+class BreakCase:
+    """The switch-off that breaks the most: the drawing with each coil at the low end of its resistance
+    tolerance and the high end of its inductance tolerance, at the largest continuous current's
+    temperatures and sources (the largest break current, the most stored energy ½LI² and the slowest
+    decay L/R at once; each of the switching rules takes its figure here)."""
+
+    drawing: Drawing
+    temperatures: dict[str, float]
+    sources: SourceState
+    words: tuple[tuple[str, str], ...]
 
 
 def _tol_words(r: dict[str, float]) -> str:
@@ -360,8 +383,7 @@ def worst_cases(
     battery_words = f"EMF {emf_min:.2f} V (open-circuit voltage at {soc:.0%} charge); " + (
         f"{rb_max * 1e3:.1f} mΩ (the high end of the drawing's range)"
         if rb_row
-        else f"{rb_max * 1e3:.1f} mΩ ({rb_ref_words}, raised for {soc:.0%} charge, "
-        f"{t_min:g} °C and age × {age:g})"
+        else f"{rb_max * 1e3:.1f} mΩ ({rb_ref_words}, raised for {soc:.0%} charge, {t_min:g} °C and age × {age:g})"
     )
     len_hi = float(tol["tolerances.cable_length"]["high"])
     smallest = FaultView(
@@ -482,6 +504,16 @@ def worst_cases(
         ("coils", f"{t_min:g} °C, resistance {_tol_words(r_tol)} (tolerance)"),
         ("bus", reg_words),
     )
+    l_hi = coil_inductance_tolerances(d, tol, "high")
+    largest_break = BreakCase(
+        _with_coil_tolerance(d, r_tol, l_hi),
+        cold_t,
+        src_hi,
+        (
+            ("coils", f"{t_min:g} °C, resistance {_tol_words(r_tol)}, inductance {_tol_words(l_hi)} (tolerances)"),
+            ("bus", reg_words),
+        ),
+    )
     return WorstCases(
         largest,
         smallest,
@@ -491,18 +523,26 @@ def worst_cases(
         bus_high,
         used_defaults(tol, cells, alt is not None),
         worst,
+        largest_break,
         duty_sweep(d, cases, r_tol, g, regulator_tolerance(d, tol)),
         duty_sweep(d, cases, {}, 0.0),
         braking,
     )
 
 
-def _with_coil_tolerance(d: Drawing, r_tol: dict[str, float]) -> Drawing:
-    """The drawing with each stage's coil resistance at ``(1 + r_tol[stage id])`` × its stated one."""
+def _with_coil_tolerance(d: Drawing, r_tol: dict[str, float], l_tol: dict[str, float] | None = None) -> Drawing:
+    """The drawing with each stage's coil resistance at ``(1 + r_tol[stage id])`` × its stated one, and
+    its inductance at ``(1 + l_tol[stage id])`` × its stated one where ``l_tol`` is given."""
+    l_tol = l_tol or {}
     out = []
     for e in d.elements:
-        if isinstance(e, Stage) and r_tol.get(e.id, 0.0):
-            e = dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=e.coil.r_ref * (1 + r_tol[e.id])))
+        if isinstance(e, Stage) and (r_tol.get(e.id, 0.0) or l_tol.get(e.id, 0.0)):
+            coil = dataclasses.replace(
+                e.coil,
+                r_ref=e.coil.r_ref * (1 + r_tol.get(e.id, 0.0)),
+                inductance=e.coil.inductance * (1 + l_tol.get(e.id, 0.0)),
+            )
+            e = dataclasses.replace(e, coil=coil)
         out.append(e)
     return dataclasses.replace(d, elements=tuple(out))
 

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from coilstage.analysis.field import INDUCTANCE_TOLERANCE, LARGEST, StageField
+from coilstage.analysis.conditions import LARGEST
+from coilstage.analysis.field import INDUCTANCE_TOLERANCE, StageField
 from coilstage.analysis.run import Analysis
 from coilstage.checks.base import (
     Rule,

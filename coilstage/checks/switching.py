@@ -7,10 +7,12 @@ import math
 from typing import TypeVar
 
 from coilstage import tables
-from coilstage.analysis.contacts import highest_bus
+from coilstage.analysis.conditions import LARGEST
+from coilstage.analysis.contacts import RelayFigures, highest_bus
 from coilstage.analysis.load_dump import applicable_test
 from coilstage.analysis.relay_coil import PICKUP_MARGIN, CoilAt
 from coilstage.analysis.run import Analysis
+from coilstage.analysis.switching import StageSwitching
 from coilstage.checks.base import (
     _RANK,
     Rule,
@@ -82,7 +84,10 @@ def _contact_voltages(a: Analysis, relay: Relay, ids: list[str]) -> list[Verdict
     stages = _stage_map(a)
     bare = [s for s in ids if stages[s].suppression.kind == "none"]
     fig = a.contacts.relays[relay.id]
-    u_sup = fig.suppressor_voltage
+    big = a.contacts.largest.get(relay.id)
+    # the suppressor's voltage at the break that drives it hardest (a diode's or a clamp's rises with the
+    # current it takes over): the largest-current case's where it was analysed
+    u_sup = max(fig.suppressor_voltage, big.suppressor_voltage if big is not None else 0.0)
     kinds = ", ".join(sorted({stages[s].suppression.kind for s in ids if s not in bare})) or "none"
     central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
     test, assumed = applicable_test(central)
@@ -135,10 +140,9 @@ def _relay_voltage(a: Analysis) -> list[Verdict]:
     return [v for r in a.drawing.of_kind(Relay) for v in _contact_voltages(a, r, a.switched.get(r.id, []))]
 
 
-def _slowed_opening(a: Analysis, relay: Relay) -> tuple[bool, str]:
+def _slowed_opening(fig: RelayFigures) -> tuple[bool, str]:
     """Whether the relay's own coil suppression slows its opening, and the arc figures at its contact
     (duration and energy at the normal and the slowed release, analysis.contacts) for the break's note."""
-    fig = a.contacts.relays[relay.id]
     op, normal, slow = fig.opening, fig.arc_normal, fig.arc_slowed
     if normal is None or slow is None:
         return False, ""
@@ -152,126 +156,135 @@ def _slowed_opening(a: Analysis, relay: Relay) -> tuple[bool, str]:
 
 
 def _relay_breaking(a: Analysis) -> list[Verdict]:
+    """Each relay's break: where it breaks an unsuppressed stage, decided at the switch-off that breaks
+    the most (coils cold at the low end of their resistance and the high end of their inductance, the
+    bus at the regulator's highest end: the largest current and the longest L/R), the cold corner as
+    nominal; where every stage it switches is suppressed, the opening contact's voltage."""
     if a.switching is None:
         return [not_checked(RELAY_BREAKING, "relays", "switching was not analysed")]
     out = []
     stages = _stage_map(a)
-    cold = a.switching.stages["cold"]
-    order = [row["category"] for row in tables.utilization_categories()]
+    per = a.switching.stages.get(LARGEST)
+    b = a.worst.largest_break
+    words = () if b is None else tuple(f"{k} {v}" for k, v in b.words)
     for relay in a.drawing.of_kind(Relay):
         ids = a.switched.get(relay.id, [])
         if not ids:
             out.append(not_checked(RELAY_BREAKING, relay.id, "this relay switches no stage", "ms"))
             continue
-        i_break = a.contacts.relays[relay.id].i_break
-        bare = [s for s in ids if stages[s].suppression.kind == "none"]
-        slowed, slow_note = _slowed_opening(a, relay)
-        if not bare:
-            vs = _contact_voltages(a, relay, ids)
-            w = _worst(vs)
-            kinds = ", ".join(stages[s].suppression.kind for s in ids)
-            note = (
-                f"suppressed at the coil ({kinds}): the current commutates into the suppressor, a DC-1-like "
-                f"break of {i_break:.1f} A; the opening contact's voltage is relay.voltage_rating's: "
-                + "; ".join(
-                    f"{v.subject}: {v.status.value}"
-                    + ("" if v.value is None else f", rated {v.value:g} V against {v.limit:.1f} V")
-                    for v in vs
-                )
-            )
-            if slowed:
-                note += (
-                    f"; {slow_note.split(': the contacts')[0]}: the contact arcs until the current has moved into "
-                    "the suppressor, a little longer with the slow opening"
-                )
-            if w.status is Status.NOT_CHECKED:
-                out.append(not_checked(RELAY_BREAKING, relay.id, note + f" ({w.note})", "V", w.corner))
-                continue
-            out.append(
-                Verdict(
-                    RELAY_BREAKING.id,
-                    relay.id,
-                    w.status,
-                    w.value,
-                    w.limit,
-                    "V",
-                    w.margin,
-                    RELAY_BREAKING.clause,
-                    note,
-                    w.corner,
-                )
-            )
+        nominal = _breaking(a, relay, ids, a.switching.stages["cold"], a.contacts.relays[relay.id], "cold")
+        big = a.contacts.largest.get(relay.id)
+        if per is None or big is None or all(stages[s].suppression.kind != "none" for s in ids):
+            out.append(nominal)
             continue
-        tau = max(cold[s].tau for s in bare)
-        need = category_for(tau)
-        rated = set(relay.categories)
-        ib = relay.inductive_break
-        fig = None
-        if ib is not None and ib[1] >= tau and ib[0] >= i_break:
-            status, note = (
-                Status.PASS,
-                (
-                    f"unsuppressed, L/R {tau * 1e3:.0f} ms, {i_break:.1f} A: within the relay's "
-                    f"stated inductive break rating {ib[0]:g} A at {ib[1] * 1e3:g} ms"
-                ),
-            )
-        elif need is None:
-            status = Status.FAIL
-            note = (
-                f"unsuppressed, L/R {tau * 1e3:.0f} ms at {i_break:.1f} A lies outside every IEC 60947 DC category; "
-                "no inductive break rating covers it: fit suppression at the coil"
-            )
-            if ib is not None:
-                note += f" (the stated {ib[0]:g} A at {ib[1] * 1e3:g} ms does not cover it)"
-        elif any(order.index(c) >= order.index(need) for c in rated if c in order):
-            covering = [c for c in rated if c in order and order.index(c) >= order.index(need)]
-            status, note, fig = _category_rating(a, relay, covering, need, tau, i_break)
-        else:
-            status, note = (
-                Status.WARN,
-                (
-                    f"unsuppressed, L/R {tau * 1e3:.1f} ms needs a contact rated {need}; the "
-                    "drawing gives no such rating"
-                ),
-            )
-        if slowed:
-            note += "; " + slow_note
-            if status is Status.PASS:
-                status = Status.WARN
-                note += ": the rating does not cover the slowed break; fit suppression at the stage's coil, or a "
-                note += "diode with a zener on the relay's own coil"
-        if fig is not None:
-            out.append(
-                Verdict(
-                    RELAY_BREAKING.id,
-                    relay.id,
-                    status,
-                    fig[0],
-                    fig[1],
-                    fig[2],
-                    ceiling(fig[0], fig[1]),
-                    RELAY_BREAKING.clause,
-                    note,
-                    "cold",
-                )
-            )
-            continue
-        lim = None if need is None else _tau_limit(need)
-        out.append(
-            Verdict(
-                RELAY_BREAKING.id,
-                relay.id,
-                status,
-                tau * 1e3,
-                None if lim is None else lim * 1e3,
-                "ms",
-                None if lim is None else ceiling(tau, lim),
-                RELAY_BREAKING.clause,
-                note,
-                "cold",
+        worst = _breaking(a, relay, ids, per, big, LARGEST)
+        out.append(decided_at_worst(worst, nominal, LARGEST, words))
+    return out
+
+
+def _breaking(
+    a: Analysis, relay: Relay, ids: list[str], cold: dict[str, StageSwitching], fig: RelayFigures, corner: str
+) -> Verdict:
+    """The break of ``relay`` (switching the stages ``ids``) from one case's stage figures ``cold`` and
+    relay figures ``fig`` (analysis.switching, analysis.contacts), reported under ``corner``."""
+    stages = _stage_map(a)
+    order = [row["category"] for row in tables.utilization_categories()]
+    i_break = fig.i_break
+    bare = [s for s in ids if stages[s].suppression.kind == "none"]
+    slowed, slow_note = _slowed_opening(fig)
+    if not bare:
+        vs = _contact_voltages(a, relay, ids)
+        w = _worst(vs)
+        kinds = ", ".join(stages[s].suppression.kind for s in ids)
+        note = (
+            f"suppressed at the coil ({kinds}): the current commutates into the suppressor, a DC-1-like "
+            f"break of {i_break:.1f} A; the opening contact's voltage is relay.voltage_rating's: "
+            + "; ".join(
+                f"{v.subject}: {v.status.value}"
+                + ("" if v.value is None else f", rated {v.value:g} V against {v.limit:.1f} V")
+                for v in vs
             )
         )
-    return out
+        if slowed:
+            note += (
+                f"; {slow_note.split(': the contacts')[0]}: the contact arcs until the current has moved into "
+                "the suppressor, a little longer with the slow opening"
+            )
+        if w.status is Status.NOT_CHECKED:
+            return not_checked(RELAY_BREAKING, relay.id, note + f" ({w.note})", "V", w.corner)
+        return Verdict(
+            RELAY_BREAKING.id,
+            relay.id,
+            w.status,
+            w.value,
+            w.limit,
+            "V",
+            w.margin,
+            RELAY_BREAKING.clause,
+            note,
+            w.corner,
+        )
+    tau = max(cold[s].tau for s in bare)
+    need = category_for(tau)
+    rated = set(relay.categories)
+    ib = relay.inductive_break
+    rated_fig = None
+    if ib is not None and ib[1] >= tau and ib[0] >= i_break:
+        status, note = (
+            Status.PASS,
+            (
+                f"unsuppressed, L/R {tau * 1e3:.0f} ms, {i_break:.1f} A: within the relay's "
+                f"stated inductive break rating {ib[0]:g} A at {ib[1] * 1e3:g} ms"
+            ),
+        )
+    elif need is None:
+        status = Status.FAIL
+        note = (
+            f"unsuppressed, L/R {tau * 1e3:.0f} ms at {i_break:.1f} A lies outside every IEC 60947 DC category; "
+            "no inductive break rating covers it: fit suppression at the coil"
+        )
+        if ib is not None:
+            note += f" (the stated {ib[0]:g} A at {ib[1] * 1e3:g} ms does not cover it)"
+    elif any(order.index(c) >= order.index(need) for c in rated if c in order):
+        covering = [c for c in rated if c in order and order.index(c) >= order.index(need)]
+        status, note, rated_fig = _category_rating(a, relay, covering, need, tau, i_break)
+    else:
+        status, note = (
+            Status.WARN,
+            (f"unsuppressed, L/R {tau * 1e3:.1f} ms needs a contact rated {need}; the drawing gives no such rating"),
+        )
+    if slowed:
+        note += "; " + slow_note
+        if status is Status.PASS:
+            status = Status.WARN
+            note += ": the rating does not cover the slowed break; fit suppression at the stage's coil, or a "
+            note += "diode with a zener on the relay's own coil"
+    if rated_fig is not None:
+        return Verdict(
+            RELAY_BREAKING.id,
+            relay.id,
+            status,
+            rated_fig[0],
+            rated_fig[1],
+            rated_fig[2],
+            ceiling(rated_fig[0], rated_fig[1]),
+            RELAY_BREAKING.clause,
+            note,
+            corner,
+        )
+    lim = None if need is None else _tau_limit(need)
+    return Verdict(
+        RELAY_BREAKING.id,
+        relay.id,
+        status,
+        tau * 1e3,
+        None if lim is None else lim * 1e3,
+        "ms",
+        None if lim is None else ceiling(tau, lim),
+        RELAY_BREAKING.clause,
+        note,
+        corner,
+    )
 
 
 def _test_tau(category: str, u_e: float, i_e: float, frequent: bool) -> float:
@@ -354,37 +367,57 @@ def _tau_limit(category: str, rated_power: float | None = None) -> float:
     return t
 
 
+def _break_words(a: Analysis) -> tuple[str, ...]:
+    """The conditions of the switch-off that breaks the most, in words (analysis.worst.BreakCase)."""
+    b = a.worst.largest_break
+    return () if b is None else tuple(f"{k} {v}" for k, v in b.words)
+
+
 def _suppressors(a: Analysis) -> list[Verdict]:
+    """Peak current and energy per break decided at the switch-off that breaks the most (the cold corner
+    as nominal); the stand-off voltage at the highest bus and the clamped load dump."""
     if a.switching is None:
         return [not_checked(SUPPRESSOR, "stages", "switching was not analysed")]
     out = []
     central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
     test, assumed = applicable_test(central)
     u_hi, _hi_words = _highest_bus(a)
+    largest = a.switching.stages.get(LARGEST, {})
+    words = _break_words(a)
+
+    def at_worst(nominal: Verdict, make, sid: str) -> Verdict:
+        w = largest.get(sid)
+        return nominal if w is None else decided_at_worst(make(w, LARGEST), nominal, LARGEST, words)
+
     for s in a.drawing.stages:
         sup = s.suppression
         if sup.kind == "none":
             continue
         sw = a.switching.stages["cold"][s.id]
-        i0 = sw.i_break
         if sup.peak_current is None:
+            i_hi = max(sw.i_break, largest[s.id].i_break if s.id in largest else 0.0)
             out.append(
                 not_checked(
-                    SUPPRESSOR, f"{s.id} peak current", f"no peak_current rating (break current {i0:.1f} A)", "A"
+                    SUPPRESSOR,
+                    f"{s.id} peak current",
+                    f"no peak_current rating (break current up to {i_hi:.1f} A)",
+                    "A",
                 )
             )
         else:
-            out.append(
-                at_most(
+
+            def peak(x: StageSwitching, corner: str, sup=sup, s=s) -> Verdict:
+                return at_most(
                     SUPPRESSOR,
                     f"{s.id} peak current",
-                    i0,
+                    x.i_break,
                     sup.peak_current,
                     "A",
-                    f"{sup.kind} carries the break current {i0:.1f} A as it commutates",
-                    "cold",
+                    f"{sup.kind} carries the break current {x.i_break:.1f} A as it commutates",
+                    corner,
                 )
-            )
+
+            out.append(at_worst(peak(sw, "cold"), peak, s.id))
         what = "stand-off" if sup.bidirectional else "reverse"
         # blocking or standing off the load-dump pulse that applies (Test A / B): suppressor.load_dump
         clamped = tables.load_dump_clamped(a.drawing.supply.system_voltage)
@@ -411,23 +444,27 @@ def _suppressors(a: Analysis) -> list[Verdict]:
                     "limit",
                 )
             )
-        e = sw.decay.e_suppressor
         if sup.energy_rating is None:
+            e_hi = max(sw.decay.e_suppressor, largest[s.id].decay.e_suppressor if s.id in largest else 0.0)
             out.append(
-                not_checked(SUPPRESSOR, f"{s.id} energy", f"no energy_rating (it takes {e:.1f} J per break)", "J")
-            )
-        else:
-            out.append(
-                at_most(
-                    SUPPRESSOR,
-                    f"{s.id} energy",
-                    e,
-                    sup.energy_rating,
-                    "J",
-                    f"energy per break from the decay through the {sup.kind} (of ½LI² = {sw.stored_energy:.1f} J)",
-                    "cold",
+                not_checked(
+                    SUPPRESSOR, f"{s.id} energy", f"no energy_rating (it takes up to {e_hi:.1f} J per break)", "J"
                 )
             )
+        else:
+
+            def energy(x: StageSwitching, corner: str, sup=sup, s=s) -> Verdict:
+                return at_most(
+                    SUPPRESSOR,
+                    f"{s.id} energy",
+                    x.decay.e_suppressor,
+                    sup.energy_rating,
+                    "J",
+                    f"energy per break from the decay through the {sup.kind} (of ½LI² = {x.stored_energy:.1f} J)",
+                    corner,
+                )
+
+            out.append(at_worst(energy(sw, "cold"), energy, s.id))
     return out
 
 
@@ -506,14 +543,18 @@ def _load_dump(a: Analysis) -> list[Verdict]:
 
 
 def _release(a: Analysis) -> list[Verdict]:
+    """Decided at the switch-off that breaks the most (the largest current and the longest L/R: the
+    slowest decay), the cold corner as nominal."""
     if a.switching is None:
         return [not_checked(RELEASE, "stages", "switching was not analysed")]
     lim = a.drawing.switching.release_limit
     frac = a.drawing.switching.release_fraction
     out = []
+    largest = a.switching.stages.get(LARGEST, {})
+    words = _break_words(a)
     for s in a.drawing.stages:
         sw = a.switching.stages["cold"][s.id]
-        t = sw.decay.t_release
+        t = max(sw.decay.t_release, largest[s.id].decay.t_release if s.id in largest else 0.0)
         if s.suppression.kind == "none":
             arc = (
                 f"no suppression: the {sw.i_break:.1f} A ({sw.stored_energy:.1f} J) is broken by an arc at the "
@@ -534,15 +575,23 @@ def _release(a: Analysis) -> list[Verdict]:
                 not_checked(
                     RELEASE,
                     s.id,
-                    f"no switching.release_limit in the drawing (release takes "
+                    f"no switching.release_limit in the drawing (release takes up to "
                     f"{t * 1e3:.0f} ms to {frac:.0%} of the current)",
                     "ms",
                     "cold",
                 )
             )
             continue
-        note = f"{s.suppression.kind}: current falls to {frac:.0%} of {sw.i_break:.1f} A in {t * 1e3:.0f} ms"
-        out.append(at_most(RELEASE, s.id, t * 1e3, lim * 1e3, "ms", note, "cold"))
+        lim_ms = lim * 1e3
+
+        def release(x: StageSwitching, corner: str, s: Stage = s, lim_ms: float = lim_ms) -> Verdict:
+            t_ms = x.decay.t_release * 1e3
+            note = f"{s.suppression.kind}: current falls to {frac:.0%} of {x.i_break:.1f} A in {t_ms:.0f} ms"
+            return at_most(RELEASE, s.id, t_ms, lim_ms, "ms", note, corner)
+
+        nominal = release(sw, "cold")
+        w = largest.get(s.id)
+        out.append(nominal if w is None else decided_at_worst(release(w, LARGEST), nominal, LARGEST, words))
     return out
 
 
@@ -683,8 +732,10 @@ RELAY_BREAKING = Rule(
 SUPPRESSOR = Rule(
     "suppressor.rating",
     "Suppressor peak current, reverse (stand-off) voltage and energy per break",
-    "Break current at the cold corner; ISO 16750-2 Test B clamped load dump (35 V / 58 V) and the highest bus "
-    "(the pulse that applies: suppressor.load_dump); clamp energy computed",
+    "Break current and energy at the switch-off that breaks the most (coils cold, resistance at the low end "
+    "and inductance at the high end of their tolerances, the regulator's highest bus); ISO 16750-2 Test B "
+    "clamped load dump (35 V / 58 V) and the highest bus (the pulse that applies: suppressor.load_dump); clamp "
+    "energy computed",
     _suppressors,
     ("transient.clamp_decay",),
 )

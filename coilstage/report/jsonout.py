@@ -29,8 +29,9 @@ from coilstage.report import actions, safe
 
 #: the version of the JSON report's layout (1.1: record, parts and actions at the top level; 1.2: the
 #: suggestion and the sensitivities beside each verdict; 1.3: a verdict no sized part clears says what
-#: would have to change; 1.4: each verdict's ``sensitivity_note`` says why it carries no sensitivities)
-SCHEMA_VERSION = "1.4"
+#: would have to change; 1.4: each verdict's ``sensitivity_note`` says why it carries no sensitivities;
+#: 1.5: the switching's per-stage figures also at the largest break, corner ``"largest current"``)
+SCHEMA_VERSION = "1.5"
 
 
 def render(doc: dict[str, Any], record: dict[str, Any] | None = None, parts: dict[str, Any] | None = None) -> str:

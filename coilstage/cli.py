@@ -166,6 +166,13 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
     )
     c.set_defaults(suggest="failures")
     c.add_argument(
+        "--no-effects",
+        dest="effects",
+        action="store_false",
+        help="leave out what each tolerance takes from the verdicts outside the tolerance model (by default each "
+        "is found by analysing the drawing again with that tolerance removed; up to 16 stages)",
+    )
+    c.add_argument(
         "--summary", action="store_true", help="fleet mode: check many drawings and print one summary line each"
     )
     c.add_argument(
@@ -233,6 +240,10 @@ def _check(args: argparse.Namespace) -> int:
     from coilstage.checks import run_checks
 
     verdicts = run_checks(analysis)
+    if args.effects:
+        from coilstage.effects import with_effects
+
+        verdicts = with_effects(analysis, verdicts)
     from coilstage.report import document
 
     doc = document.build(analysis, verdicts)

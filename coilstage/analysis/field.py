@@ -114,12 +114,16 @@ def _stage_field(s: Stage, corner: str, i_stage: float, circ: MagneticCircuit | 
 
 
 def analyse_field(
-    d: Drawing, corners: dict[str, CornerResult], cold: CaseNetwork, largest: Solution | None = None
+    d: Drawing,
+    corners: dict[str, CornerResult],
+    cold: CaseNetwork,
+    largest: Solution | None = None,
+    switch_on: bool = True,
 ) -> FieldResult:
     """The field per stage in the cold and hot corners (and, with ``largest``, the network at the
     largest continuous current: the most ampere-turns the supply can drive), what the hot corner leaves
-    of the braking effort, the saturating switch-on (in the cold network ``cold``) and the AC
-    comparison."""
+    of the braking effort, the saturating switch-on (in the cold network ``cold``; left out, an empty
+    list, without ``switch_on``) and the AC comparison."""
     circs = {name: circuit_of(c) for name, c in d.coils.items()}
     per: dict[str, dict[str, StageField]] = {}
     for corner in ("cold", "hot"):
@@ -170,7 +174,7 @@ def analyse_field(
         torque,
         torque_speed,
         check,
-        [x for x in (_switch_on(cold_net, s, circs[s.coil.name]) for s in _one_per_coil(d)) if x],
+        [x for x in (_switch_on(cold_net, s, circs[s.coil.name]) for s in _one_per_coil(d)) if x] if switch_on else [],
         _ac(d, corners["cold"], circs),
         any(c is not None for c in circs.values()),
     )

@@ -200,6 +200,21 @@ def _stated(d: Drawing, key: str) -> bool:
     return key in d.tolerances
 
 
+def coil_parameters(d: Drawing, key: str, words: str) -> list[Parameter]:
+    """One parameter per coil type of the drawing for the generic coil tolerance ``key``
+    (``coils.*.resistance_tolerance`` or ``coils.*.inductance_tolerance``): the type's own row where the
+    drawing states one, else the generic row; ``words`` names it ("coil resistance" -> "coil
+    resistance (RC4)"). Parameters whose ends coincide are kept (:func:`parameters` drops them)."""
+    tol = effective(d)
+    by_type: dict[str, list[str]] = {}
+    for s in d.of_kind(Stage):
+        by_type.setdefault(s.coil.name, []).append(s.id)
+    return [
+        _row_param(lookup(tol, key, name), element_key(key, name), f"{words} ({name})", tuple(ids))
+        for name, ids in by_type.items()
+    ]
+
+
 def parameters(d: Drawing) -> list[Parameter]:
     """The declared parameters of a drawing, in the column order :func:`evaluate` takes.
 
@@ -209,20 +224,7 @@ def parameters(d: Drawing) -> list[Parameter]:
     runs from the lowest ambient to the alternator cable's zone temperature; the ambient from the
     environment's lowest to its highest (nominal 25 °C held within them)."""
     tol = effective(d)
-    out: list[Parameter] = []
-    by_type: dict[str, list[str]] = {}
-    for s in d.of_kind(Stage):
-        by_type.setdefault(s.coil.name, []).append(s.id)
-    for name, ids in by_type.items():
-        row = lookup(tol, "coils.*.resistance_tolerance", name)
-        out.append(
-            _row_param(
-                row,
-                element_key("coils.*.resistance_tolerance", name),
-                f"coil resistance ({name})",
-                tuple(ids),
-            )
-        )
+    out: list[Parameter] = coil_parameters(d, "coils.*.resistance_tolerance", "coil resistance")
     cables = d.of_kind(Cable)
     own = [c for c in cables if element_key("tolerances.cable_length", c.id) in tol]
     rest = tuple(c.id for c in cables if c not in own)

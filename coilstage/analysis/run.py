@@ -66,10 +66,12 @@ class Analysis:
         object.__setattr__(self, "fuse_duty", fuse_duty(self.drawing, self.descent))
 
 
-def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysis:
+def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients: bool = True) -> Analysis:
     """Solve the three corners and the prospective fault currents of a drawing; with ``switching``,
     also the switch-on and switch-off scenarios; with ``heating``, the drawing's duty profile and
-    continuous full retardation."""
+    continuous full retardation; with ``transients``, the field's saturating switch-on (its
+    ``FieldResult.switch_on``) and the stages' switch-on times T0.95 (no rule reads either, the report
+    shows them: an analysis made without them is for the re-analyses of :mod:`coilstage.effects`)."""
     circuit = Circuit(d)
     cases = conditions(d)
     nets = case_networks(circuit, cases)
@@ -82,7 +84,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
     if switching:
         b = worst.largest_break
         largest = None if b is None else (b.drawing, CaseNetwork(Circuit(b.drawing), b.temperatures, b.sources))
-        sw = analyse_switching(d, nets, largest=largest)
+        sw = analyse_switching(d, nets, largest=largest, t95=transients)
     descent = continuous = None
     if heating and d.duty is not None:
         descent = simulate(d)
@@ -135,7 +137,7 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True) -> Analysi
             relay_zones,
         ),
         sw,
-        analyse_field(d, corners, nets["cold"], worst.largest_current_solution),
+        analyse_field(d, corners, nets["cold"], worst.largest_current_solution, switch_on=transients),
         descent,
         continuous,
         worst,

@@ -211,8 +211,8 @@ class StageSwitching:
     id: str
     corner: str
     tau: float  # L/R of the stage alone [s]
-    t95_alone: float  # switched on alone, in the network [s]
-    t95_all: float  # switched on with all the others [s]
+    t95_alone: float | None  # switched on alone, in the network [s]; None: not made (no transients)
+    t95_all: float | None  # switched on with all the others [s]; None as above
     i_break: float  # current when its contact opens, all stages on (steady) [A]
     stored_energy: float  # ½ L I² at the break [J]
     decay: Decay
@@ -246,11 +246,13 @@ def analyse_switching(
     nets: dict[str, CaseNetwork],
     corners: tuple[str, ...] = ("cold", "hot"),
     largest: tuple[Drawing, CaseNetwork] | None = None,
+    t95: bool = True,
 ) -> SwitchingResult:
     """Every scenario in the cold and hot corners (``nets``: corner -> its network), and the
     per-stage switching figures; with ``largest`` (the drawing with its coils at the ends of their
     tolerances that break the most, and its network at the largest continuous current), the per-stage
-    figures there too, under :data:`~coilstage.analysis.conditions.LARGEST`."""
+    figures there too, under :data:`~coilstage.analysis.conditions.LARGEST`; without ``t95`` the
+    switch-on times T0.95 are not made (None: no rule reads them, the report shows them)."""
     scen: dict[str, Scenario] = {}
     dips: dict[str, float] = {}
     events = scenario_events(d)
@@ -262,28 +264,28 @@ def analyse_switching(
             grid = np.linspace(0.0, t_end, 3001)
             bus = sc.sample(grid, [])["bus_voltage"]
             dips[f"{corner}:{name}"] = float(bus[0] - np.nanmin(bus))
-    stages = {corner: stage_figures(d, nets[corner], corner) for corner in corners}
+    stages = {corner: stage_figures(d, nets[corner], corner, t95) for corner in corners}
     if largest is not None:
-        stages[LARGEST] = stage_figures(largest[0], largest[1], LARGEST)
+        stages[LARGEST] = stage_figures(largest[0], largest[1], LARGEST, t95)
     return SwitchingResult(scen, stages, dips, bool(d.switching.positions))
 
 
-def stage_figures(d: Drawing, net: CaseNetwork, corner: str) -> dict[str, StageSwitching]:
+def stage_figures(d: Drawing, net: CaseNetwork, corner: str, t95: bool = True) -> dict[str, StageSwitching]:
     """Each stage's switching figures in the network ``net`` of the drawing ``d`` (its coils' resistance
     and inductance as ``d`` states them, at the network's temperatures): L/R, T0.95 alone and with all
     the others, the break current with all stages on (steady), ½LI² and the decay through its
-    suppressor (:func:`coilstage.physics.transient.clamp_decay`)."""
+    suppressor (:func:`coilstage.physics.transient.clamp_decay`); without ``t95`` the T0.95 are None."""
     limit_bus = d.corners.limit_bus
     temps = net.temperatures
     ids = net.stage_ids
     # T0.95: the exact solution of the switch-on, continued until each current gets there
-    t95_all = switch_on_t95(net, ids)
+    t95_all: dict[str, float] | None = switch_on_t95(net, ids) if t95 else None
     per: dict[str, StageSwitching] = {}
     full = net.linear(ids, net.steady_mode(ids))
     i_ss = full.rl.steady_state()
     for j, st in enumerate(d.stages):
         r_stage = element_resistance(st, temps[st.id])
-        t95_alone = switch_on_t95(net, (st.id,))[st.id]
+        t95_alone = switch_on_t95(net, (st.id,))[st.id] if t95 else None
         i0 = float(i_ss[j])
         dec, _fn = _decay(st, r_stage, i0, st.suppression, d.switching.release_fraction)
         cv = math.inf if st.suppression.kind == "none" else limit_bus + dec.u_suppressor_peak
@@ -292,7 +294,7 @@ def stage_figures(d: Drawing, net: CaseNetwork, corner: str) -> dict[str, StageS
             corner,
             st.inductance / r_stage,
             t95_alone,
-            t95_all[st.id],
+            None if t95_all is None else t95_all[st.id],
             i0,
             0.5 * st.inductance * i0 * i0,
             dec,

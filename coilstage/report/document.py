@@ -289,20 +289,33 @@ def sensitivities(v: Verdict) -> list[dict[str, Any]]:
 
 def sensitivity_note(v: Verdict) -> str | None:
     """Why a verdict carries no sensitivities, or None where it carries some (or was not checked):
-    its rule is outside the tolerance model (its worst case is chosen by reasoning, with no derivative
-    or corner search), or the model found no declared parameter that moves its margin."""
+    its rule is outside the tolerance model and its effects were not found by re-analysis (with the
+    reason where one was tried: :mod:`coilstage.effects`), or the model or the re-analysis found no
+    declared parameter that moves its margin."""
     if v.status is Status.NOT_CHECKED or (v.worst is not None and v.worst.sensitivities):
         return None
+    deciding = v.worst.deciding if v.worst is not None else ()
+    if any(x.startswith("effects: ") for x in deciding):
+        return "computed by re-analysis: no declared parameter moves this margin by more than a thousandth of a point"
+    tried = next((x for x in deciding if x.startswith("effects not computed")), None)
+    if tried is not None:
+        return "not computed: " + tried.removeprefix("effects not computed: ")
     if v.rule in MODELLED:
         return (
             "computed: no declared parameter moves this margin by more than a thousandth of a point"
             if v.worst is not None
             else "not computed: this verdict is decided without a figure the tolerance model varies"
         )
+    if v.worst is None:
+        return (
+            "not computed: this rule is decided at the conditions it names, with no worst case built from the "
+            "declared tolerances (no nominal beside it)"
+        )
     return (
         "not computed: this rule is outside the tolerance model of the steady-state rules "
         f"({', '.join(MODELLED)}); it is decided at the conditions its rule names, with no derivative "
-        "or corner search over the declared tolerances"
+        "or corner search over the declared tolerances (the effects by re-analysis were left out: "
+        "coilstage check --no-effects, or the library's check())"
     )
 
 

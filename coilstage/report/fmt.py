@@ -176,11 +176,12 @@ def worst_lines(v: dict[str, Any], top: int = 3) -> list[str]:
         out.append("largest effects: " + "; ".join(sensitivity_text(s) for s in sens))
     elif v.get("sensitivity_note"):
         why = v["sensitivity_note"]
-        out.append(
-            "sensitivities: not computed (rule outside the tolerance model)"
-            if why.startswith("not computed")
-            else "sensitivities: no declared parameter moves this margin"
-        )
+        if why.startswith("not computed: this rule is outside"):
+            out.append("sensitivities: not computed (rule outside the tolerance model)")
+        elif why.startswith("not computed"):
+            out.append("sensitivities: " + why)
+        else:
+            out.append("sensitivities: no declared parameter moves this margin")
     return out
 
 

@@ -1,0 +1,235 @@
+r"""What each declared tolerance takes from the verdicts the tolerance model does not cover, found by
+analysing the drawing again with that tolerance removed.
+
+:mod:`coilstage.analysis.params` models eight steady-state rules as batched linear solves, so their
+margins are differentiated on the network's factorisation and searched over the corners of the
+declared tolerances (:mod:`coilstage.analysis.sensitivities`). The other rules decided at a named
+worst case (the switching rules at the largest break, saturation and the ground offset at the largest
+current, braking at the lowest bus, the nuisance and short-circuit rules at their faults, ...) take
+their figures from the whole analysis: the switch-off decay, the field's magnetic circuit, the
+windings' steady state. For those, each declared parameter's effect is measured one at a time on the
+whole analysis:
+
+* a parameter whose nominal value is one end of its range (cable length 0 to +10 %, fault resistance
+  0 to 5 mΩ) is held at its nominal value;
+* a parameter with a range on both sides of its nominal value (coil resistance ±5 %, the ambient
+  -30 to 40 °C) is analysed twice, once with each end removed (the range cut to nominal–high, then to
+  low–nominal): the worst case that used the removed end moves, and that end is the one it used;
+
+and the effect is the verdict's margin as decided minus its margin in that analysis
+(:math:`\Delta m_k = m(p) - m(p \text{ with } p_k \text{ at nominal})`, negative where the tolerance
+takes margin), stated over the move from nominal to the end its worst case used. This is the
+"one at a time" tolerance analysis of the vertex method, exact for each parameter alone (no
+linearisation: every figure is the analysis' own), not a derivative; interactions between parameters
+are not separated, and no corner search is made (the worst case stays the one the rule names).
+
+The re-analyses leave out the duty simulation, the field's saturating switch-on and the stages'
+switch-on times (``analyse(heating=False, transients=False)``): a rule whose verdicts change without them is left
+out, its verdicts noted as not computed, so that no effect is read off a figure the re-analysis did
+not make.
+
+References
+----------
+.. [1] J. Vlach, K. Singhal, *Computer Methods for Circuit Analysis and Design*, 2nd ed., Van
+   Nostrand Reinhold, 1994, chapter on sensitivity and tolerance analysis (one-at-a-time and vertex
+   analysis).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+from coilstage.analysis.params import RULES as MODELLED
+from coilstage.analysis.params import Parameter, coil_parameters, parameters
+from coilstage.analysis.run import Analysis, analyse
+from coilstage.checks import RULES
+from coilstage.checks.base import Sensitivity, Status, Verdict
+from coilstage.drawing.schema import Drawing, ToleranceSpec
+from coilstage.errors import AnalysisError
+
+#: a margin change below this (a fraction: 1e-5 is a thousandth of a point) counts as no effect (as
+#: coilstage.analysis.sensitivities.NEGLIGIBLE)
+NEGLIGIBLE = 1e-5
+#: how the effects were found, for the verdict's sensitivity note
+METHOD = "found by analysing again with one tolerance removed at a time (no corner search)"
+#: parameters screened together first (one analysis with all of them at nominal), since the named
+#: worst cases that read them are those of the model's own rules (the largest fault's battery EMF,
+#: resistance and alternator excess; the smallest fault's own resistance; the regulator's temperature,
+#: which the model alone varies). Only the speed rests on this: where that analysis moves any verdict,
+#: each is analysed on its own. (Two effects cancelling to within a thousandth of a point on every
+#: verdict they move would hide both; with independent laws behind them this is not expected.)
+SCREEN = frozenset(
+    {
+        "tolerances.fault_resistance",
+        "supply.battery.surface_charge_per_cell",
+        "supply.battery.resistance_min_factor",
+        "supply.alternator.cold_excess",
+        "supply.alternator.regulator_temperature",
+    }
+)
+#: above this many stages the re-analyses are left out (their cost grows with the drawing; the
+#: benchmark benchmarks/bench_worst.py prints it)
+MAX_STAGES = 16
+
+
+def declared(d: Drawing) -> list[Parameter]:
+    """The parameters whose effects are measured: the tolerance model's (:func:`parameters`) and each
+    coil type's inductance tolerance, which only the switching figures read (the model has no use for
+    it)."""
+    extra = [p for p in coil_parameters(d, "coils.*.inductance_tolerance", "coil inductance") if p.high > p.low]
+    return [*parameters(d), *extra]
+
+
+def cut(d: Drawing, p: Parameter, low: float, high: float) -> Drawing:
+    """The drawing with one parameter's range cut to ``low``–``high``: the environment's ambient range
+    for ``environment.ambient``, else a tolerance row the drawing states (``[tolerances]`` takes the
+    same key; the shipped row's nominal, source and unit stay)."""
+    if p.key == "environment.ambient":
+        env = dataclasses.replace(d.environment, ambient_min=low, ambient_max=high)
+        return dataclasses.replace(d, environment=env)
+    spec = ToleranceSpec(low, high, p.distribution, f"{p.key} (cut for the effects)")
+    return dataclasses.replace(d, tolerances={**d.tolerances, p.key: spec})
+
+
+def _targets(verdicts: list[Verdict]) -> list[Verdict]:
+    return [
+        v
+        for v in verdicts
+        if v.worst is not None
+        and not v.worst.sensitivities
+        and v.rule not in MODELLED
+        and v.status is not Status.NOT_CHECKED
+        and v.margin is not None
+    ]
+
+
+def _rules(a: Analysis, ids: set[str]) -> list[Verdict]:
+    return [v for r in RULES if r.id in ids for v in r.evaluate(a)]
+
+
+def _margins(vs: list[Verdict]) -> dict[tuple[str, str], float | None]:
+    return {(v.rule, v.subject): v.margin for v in vs}
+
+
+def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
+    """The verdicts, each one decided at a named worst case outside the tolerance model carrying its
+    parameters' effects (largest first) and a deciding line naming the method; the others as given.
+    Where the drawing is too large, or a rule reads the duty simulation, or a re-analysis cannot be
+    made, the verdicts say so in their deciding lines instead."""
+    unbounded = {
+        (v.rule, v.subject)
+        for v in verdicts
+        if v.worst is not None and v.rule not in MODELLED and v.status is not Status.NOT_CHECKED and v.margin is None
+    }
+    verdicts = _note(
+        verdicts,
+        unbounded,
+        "effects not computed: this verdict has no margin to move (its limit is missing or unbounded)",
+    )
+    targets = _targets(verdicts)
+    if not targets:
+        return verdicts
+    d = a.drawing
+    if len(d.stages) > MAX_STAGES:
+        why = f"effects not computed: re-analysis is left out above {MAX_STAGES} stages"
+        return _note(verdicts, {(v.rule, v.subject) for v in targets}, why)
+    ids = {v.rule for v in targets}
+    # a rule whose verdicts move without the duty simulation, the field's switch-on or the stages'
+    # T0.95 cannot be re-analysed without them
+    light = dataclasses.replace(a, descent=None, continuous=None, field=dataclasses.replace(a.field, switch_on=[]))
+    if a.switching is not None:
+        stages = {
+            c: {k: dataclasses.replace(x, t95_alone=None, t95_all=None) for k, x in per.items()}
+            for c, per in a.switching.stages.items()
+        }
+        light = dataclasses.replace(light, switching=dataclasses.replace(a.switching, stages=stages))
+    base = _margins(_rules(light, ids))
+    heated = {v.rule for v in targets if base.get((v.rule, v.subject)) != v.margin}
+    keys = {(v.rule, v.subject) for v in targets if v.rule not in heated}
+    decided = {(v.rule, v.subject): v.margin for v in targets if (v.rule, v.subject) in keys}
+    wanted = ids - heated
+    found: dict[tuple[str, str], list[Sensitivity]] = {k: [] for k in keys}
+
+    def moved(p: Parameter, low: float, high: float) -> dict[tuple[str, str], float]:
+        """The verdicts whose margin moves with the parameter's range cut to ``low``–``high``: the
+        margin as decided minus the margin so."""
+        got = _margins(_rules(analyse(cut(d, p, low, high), heating=False, transients=False), wanted))
+        out = {}
+        for k, m0 in decided.items():
+            m = got.get(k)
+            if m0 is not None and m is not None and abs(m0 - m) > NEGLIGIBLE:
+                out[k] = m0 - m
+        return out
+
+    try:
+        ps = declared(d)
+        screened = _screened(d, ps, decided, wanted)
+        for p in ps:
+            if p.key in screened:
+                continue
+            n = min(max(p.nominal, p.low), p.high)
+            held = moved(p, n, n)  # the parameter at its nominal value
+            if not held:
+                continue
+            # the end each verdict's worst case used: where the range reaches both sides of nominal, the
+            # one whose removal moves the verdict (the high end first)
+            no_high = moved(p, p.low, n) if p.low < n < p.high else {}
+            for k, change in held.items():
+                end = p.high if (p.high > n and (p.low == n or k in no_high)) else p.low
+                found[k].append(Sensitivity(p.key, p.words, end - n, change))
+    except (AnalysisError, ValueError, ArithmeticError) as exc:
+        return _note(verdicts, keys, f"effects not computed: a re-analysis failed ({exc})")
+    out = []
+    for v in verdicts:
+        k = (v.rule, v.subject)
+        if v.worst is not None and v.rule in heated and v in targets:
+            why = (
+                "effects not computed: this rule reads the duty simulation or a switch-on transient, which the "
+                "re-analyses leave out"
+            )
+            out.append(dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=(*v.worst.deciding, why))))
+        elif k in found and v.worst is not None and v in targets:
+            effects = tuple(sorted(found[k], key=lambda e: -abs(e.margin_change)))
+            lines = [f"effects: {METHOD}"]
+            # a tolerance end that gives margin: nearer its nominal value the margin is lower, so the
+            # rule's named worst case is not the lowest in that parameter alone (said, not searched)
+            lines += [
+                f"not the lowest in {e.words}: held at nominal it leaves {e.margin_change * 100:.2g} points less"
+                for e in effects
+                if e.margin_change > 0
+            ]
+            worst = dataclasses.replace(v.worst, sensitivities=effects, deciding=(*v.worst.deciding, *lines))
+            out.append(dataclasses.replace(v, worst=worst))
+        else:
+            out.append(v)
+    return out
+
+
+def _screened(
+    d: Drawing, ps: list[Parameter], decided: dict[tuple[str, str], float | None], wanted: set[str]
+) -> set[str]:
+    """The keys of :data:`SCREEN` that move none of the verdicts ``decided``, found with one analysis
+    holding all of them at nominal at once (empty where that analysis moves any verdict: each is then
+    analysed on its own)."""
+    group = [p for p in ps if p.key in SCREEN]
+    if len(group) < 2:
+        return set()
+    held = d
+    for p in group:
+        n = min(max(p.nominal, p.low), p.high)
+        held = cut(held, p, n, n)
+    got = _margins(_rules(analyse(held, heating=False, transients=False), wanted))
+    for k, m0 in decided.items():
+        m = got.get(k)
+        if m0 is not None and (m is None or abs(m0 - m) > NEGLIGIBLE):
+            return set()
+    return {p.key for p in group}
+
+
+def _note(verdicts: list[Verdict], keys: set[tuple[str, str]], why: str) -> list[Verdict]:
+    return [
+        dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=(*v.worst.deciding, why)))
+        if v.worst is not None and (v.rule, v.subject) in keys
+        else v
+        for v in verdicts
+    ]

@@ -1,0 +1,131 @@
+"""The effects of each declared tolerance on the verdicts outside the tolerance model, by re-analysis
+(coilstage.effects).
+
+References beside each check: the closed-form RL decay through a constant clamp (energy and release
+time are proportional to L at a fixed break current: Alexander & Sadiku, Fundamentals of Electric
+Circuits, 5th ed., section 7.6), and the same drawing with the tolerance stated exact in its own text,
+read and checked through the loader (an independent path from the module's own cut of the range).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import pytest
+
+from coilstage import check
+from coilstage.checks.base import Rule, Status, Verdict, WorstOf
+from coilstage.drawing.load import parse_drawing
+from coilstage.effects import MAX_STAGES, NEGLIGIBLE, cut, declared, with_effects
+
+from .conftest import COACH, TRUCK, drawing_text
+
+
+def _verdict(vs, rule: str, subject: str) -> Verdict:
+    return next(v for v in vs if v.rule == rule and v.subject == subject)
+
+
+@pytest.fixture(scope="module")
+def coach():
+    a, vs = check(parse_drawing(COACH.read_text(), str(COACH)))
+    return a, with_effects(a, vs)
+
+
+def _effect(v: Verdict, key_end: str):
+    return next(s for s in v.worst.sensitivities if s.parameter.endswith(key_end))
+
+
+def test_inductance_effect_on_energy_and_release_is_the_closed_form_ratio(coach):
+    # At a fixed break current the clamp energy U0(τI0 − U0 t0/R) and the release time τ·ln(...) are both
+    # proportional to L (τ = L/R, t0 = τ ln(1 + I0R/U0)): with the inductance held at nominal instead of
+    # +20 %, each figure is 1/1.2 of the worst case's, so the margin changes by (1 − 1/1.2)·value/limit.
+    _, vs = coach
+    for rule, subject in (("suppressor.rating", "S1 energy"), ("stage.release_time", "S1")):
+        v = _verdict(vs, rule, subject)
+        e = _effect(v, "inductance_tolerance")
+        assert e.change == pytest.approx(0.20)
+        # rel 1e-9: the same figures in the same law, round-off only
+        assert e.margin_change == pytest.approx(-(1 - 1 / 1.2) * v.value / v.limit, rel=1e-9)
+        assert v.worst.sensitivities[0] is e  # the largest effect comes first
+
+
+def test_effect_equals_a_drawing_that_states_the_tolerance_exact(coach):
+    # The coil resistance tolerance stated as "0 %" in the drawing's own [tolerances] section, read by
+    # the loader: the verdict's margin there is the margin with that tolerance removed, so the decided
+    # margin minus it is the effect the module reports.
+    _, vs = coach
+    text = COACH.read_text() + '\n[tolerances]\ncoil_resistance = "0 %"\n'
+    _, exact = check(parse_drawing(text, "coach, exact coils"))
+    for rule, subject in (("suppressor.rating", "S1 peak current"), ("field.saturation", "S1")):
+        v = _verdict(vs, rule, subject)
+        e = _effect(v, "resistance_tolerance")
+        # rel 1e-9: the same analysis of the same network, round-off only
+        assert e.margin_change == pytest.approx(v.margin - _verdict(exact, rule, subject).margin, rel=1e-9)
+        assert e.change == pytest.approx(-0.05)  # the largest break takes the low end
+
+
+def test_two_sided_tolerance_names_the_end_its_worst_case_used(coach):
+    # Coil resistance ±5 %: the largest break takes the low end (more current), braking retained at the
+    # lowest bus the high end (hot coils at +5 % draw less); each effect is stated over its own end.
+    _, vs = coach
+    assert _effect(_verdict(vs, "suppressor.rating", "S1 peak current"), "resistance_tolerance").change < 0
+    braking = _verdict(vs, "field.braking_retained", "retarder")
+    e = _effect(braking, "resistance_tolerance")
+    assert e.change == pytest.approx(0.05) and e.margin_change < 0
+    # an end that gives margin is said: its worst case is not the lowest in that parameter alone
+    gives = [s for s in braking.worst.sensitivities if s.margin_change > 0]
+    for s in gives:
+        assert any(x.startswith(f"not the lowest in {s.words}") for x in braking.worst.deciding)
+
+
+def test_every_effect_is_above_the_negligible_and_models_nothing_twice(coach):
+    _, vs = coach
+    from coilstage.analysis.params import RULES as MODELLED
+
+    with_effects_ = [v for v in vs if v.worst is not None and v.rule not in MODELLED and v.worst.sensitivities]
+    assert len(with_effects_) >= 20
+    for v in with_effects_:
+        keys = [s.parameter for s in v.worst.sensitivities]
+        assert len(keys) == len(set(keys))
+        assert all(abs(s.margin_change) > NEGLIGIBLE for s in v.worst.sensitivities)
+        changes = [abs(s.margin_change) for s in v.worst.sensitivities]
+        assert changes == sorted(changes, reverse=True)
+
+
+def test_declared_includes_each_coil_types_inductance():
+    d = parse_drawing(TRUCK.read_text(), str(TRUCK))
+    keys = [p.key for p in declared(d)]
+    assert any(k.startswith("coils.") and k.endswith(".inductance_tolerance") for k in keys)
+    # the cut is a tolerance the drawing states, read by the analysis as the drawing's own row
+    p = next(p for p in declared(d) if p.key.endswith("inductance_tolerance"))
+    assert cut(d, p, 0.0, 0.0).tolerances[p.key].high == 0.0
+    amb = next(p for p in declared(d) if p.key == "environment.ambient")
+    assert cut(d, amb, 25.0, 25.0).environment.ambient_min == 25.0
+
+
+def test_a_rule_that_reads_the_duty_simulation_is_left_out(monkeypatch, coach):
+    # A rule whose verdict moves without the duty simulation cannot be re-analysed without it: its
+    # verdicts say so instead of carrying an effect read off a figure the re-analysis did not make.
+    import coilstage.effects as effects
+
+    a, vs = coach
+
+    def reads_descent(an) -> list[Verdict]:
+        value = 1.0 if an.descent is not None else 2.0
+        v = Verdict("test.reads_descent", "X", Status.PASS, value, 10.0, "A", (10.0 - value) / 10.0, "", "", "x")
+        return [dataclasses.replace(v, worst=WorstOf(Status.PASS, value, 0.9, "x"))]
+
+    rule = Rule("test.reads_descent", "reads the descent", "", reads_descent)
+    monkeypatch.setattr(effects, "RULES", [*effects.RULES, rule])
+    base = with_effects(a, [*vs, *reads_descent(a)])
+    v = _verdict(base, "test.reads_descent", "X")
+    assert not v.worst.sensitivities
+    assert any(x.startswith("effects not computed: this rule reads the duty simulation") for x in v.worst.deciding)
+
+
+def test_above_the_stage_cap_the_effects_are_left_out_and_said():
+    d = parse_drawing(drawing_text(stages=MAX_STAGES + 1), "many stages")
+    a, vs = check(d)
+    out = with_effects(a, vs)
+    noted = [v for v in out if v.worst is not None and any("left out above" in x for x in v.worst.deciding)]
+    assert noted and all(not v.worst.sensitivities for v in noted if v.rule == "suppressor.rating")

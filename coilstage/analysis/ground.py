@@ -24,7 +24,7 @@ import numpy as np
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, Solution, SourceState
 from coilstage.drawing.schema import Cable, Drawing, Element, Stage
-from coilstage.physics.network import Branches, mna_matrix
+from coilstage.physics.network import PERMC_SPEC, Branches, mna_matrix
 
 
 def returns(d: Drawing) -> list[Element]:
@@ -125,7 +125,7 @@ def lose_returns(
     r, c, v, rhs, n = mna_matrix(len(circuit.nodes), Branches.of(res_rows), Branches.of(vs_rows), Branches.of(is_rows))
     a = csc_matrix((v, (r, c)), shape=(size, size))
     try:
-        lu = splu(a)
+        lu = splu(a, permc_spec=PERMC_SPEC)
     except RuntimeError as exc:
         err = np.linalg.LinAlgError(f"singular network ({exc})")
         return {i: err for i in ids}

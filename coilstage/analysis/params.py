@@ -91,6 +91,7 @@ from coilstage.analysis.topology import protected_cables
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.fault import adiabatic_final_temperature
+from coilstage.physics.network import PERMC_SPEC
 from coilstage.physics.supply_limits import regulator_setpoint
 
 #: status codes of :class:`Evaluated`
@@ -385,7 +386,7 @@ class _Stamps:
         m = csc_matrix(
             (vals.ravel(), ((r0[None, :] + off).ravel(), (c0[None, :] + off).ravel())), shape=(n * size, n * size)
         )
-        x = splu(m).solve(np.ascontiguousarray(b.reshape(n * size, -1)))
+        x = splu(m, permc_spec=PERMC_SPEC).solve(np.ascontiguousarray(b.reshape(n * size, -1)))
         return x.reshape(n, size, -1)
 
 

@@ -40,6 +40,7 @@ import numpy as np
 from coilstage.analysis.params import BATCH_SPARSE_ABOVE, NETWORKS, Parameter, evaluate, model, nominal
 from coilstage.analysis.relay_coil import PICKUP_MARGIN
 from coilstage.drawing.schema import Drawing
+from coilstage.physics.network import PERMC_SPEC
 from coilstage.physics.sensitivity import all_vertices
 
 #: central-difference step as a fraction of each parameter's range
@@ -394,7 +395,7 @@ def _factor(stamps, const: np.ndarray, g: np.ndarray):
     from scipy.sparse.linalg import splu
 
     try:
-        return splu(stamps.matrix(g, const))
+        return splu(stamps.matrix(g, const), permc_spec=PERMC_SPEC)
     except RuntimeError:
         raise np.linalg.LinAlgError("singular network") from None
 

@@ -20,6 +20,14 @@ import numpy as np
 #: Above this many unknowns the sparse solver is used (it costs an import of scipy.sparse).
 SPARSE_THRESHOLD = 150
 
+#: The column ordering of every sparse LU of an MNA matrix (SuperLU's ``permc_spec``): minimum degree
+#: on the structure of A + Aᵀ, which suits a structurally symmetric matrix as MNA's is (the stamps
+#: of [1]_ are symmetric in structure). On the 64-stage benchmark drawing's heating network (259
+#: unknowns) it factorises in half the time of the default COLAMD with a third of the fill (measured:
+#: 91 µs and 1 546 non-zeros against 183 µs and 4 336); partial pivoting is unchanged, so the result
+#: is the same to round-off (tests/physics/test_network.py holds it against numpy.linalg.solve).
+PERMC_SPEC = "MMD_AT_PLUS_A"
+
 
 @dataclass(frozen=True)
 class Branches:
@@ -111,6 +119,34 @@ def mna_matrix(
     return r[keep], c[keep], x[keep], rhs, n
 
 
+#: Compressed-column patterns of the sparse MNA matrices seen so far, by (size, rows, cols): the slot
+#: of each triplet (duplicates share one: COO adds them), the row indices and the column pointers. A
+#: heating integration factorises one pattern hundreds of times with new values; the pattern is made
+#: once. Cleared when it holds more than ``_PATTERNS_KEPT``.
+_PATTERNS: dict[tuple[int, bytes, bytes], tuple[np.ndarray, np.ndarray, np.ndarray, int]] = {}
+_PATTERNS_KEPT = 64
+
+
+def _csc(rows: np.ndarray, cols: np.ndarray, vals: np.ndarray, size: int):
+    """The matrix of COO triplets (duplicates summed) in compressed-column form, its pattern cached."""
+    from scipy.sparse import csc_matrix
+
+    rows = np.asarray(rows, dtype=np.int64)
+    cols = np.asarray(cols, dtype=np.int64)
+    key = (size, rows.tobytes(), cols.tobytes())
+    pat = _PATTERNS.get(key)
+    if pat is None:
+        uniq, slot = np.unique(cols * size + rows, return_inverse=True)  # column-major order
+        indices = (uniq % size).astype(np.int32)
+        indptr = np.searchsorted(uniq // size, np.arange(size + 1)).astype(np.int32)
+        if len(_PATTERNS) >= _PATTERNS_KEPT:
+            _PATTERNS.clear()
+        pat = _PATTERNS[key] = (slot, indices, indptr, len(uniq))
+    slot, indices, indptr, nnz = pat
+    data = np.bincount(slot, weights=vals, minlength=nnz)
+    return csc_matrix((data, indices, indptr), shape=(size, size))
+
+
 class Factorized:
     """A factorised MNA matrix: dense for small systems, sparse LU above SPARSE_THRESHOLD.
     ``solve(b)`` takes one right-hand side or a matrix of them (one per column)."""
@@ -118,11 +154,10 @@ class Factorized:
     def __init__(self, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray, size: int) -> None:
         self.size = size
         if size > SPARSE_THRESHOLD:
-            from scipy.sparse import csc_matrix
             from scipy.sparse.linalg import splu
 
             try:
-                self._lu = splu(csc_matrix((vals, (rows, cols)), shape=(size, size)))
+                self._lu = splu(_csc(rows, cols, vals, size), permc_spec=PERMC_SPEC)
             except RuntimeError:  # "Factor is exactly singular"
                 raise np.linalg.LinAlgError("singular network") from None
             self._dense = None

@@ -48,6 +48,8 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from coilstage.physics.network import PERMC_SPEC
+
 #: Above this many unknowns the factorisation is a sparse LU (it costs an import of scipy.sparse).
 SPARSE_THRESHOLD = 150
 
@@ -66,7 +68,7 @@ class Factors:
 
             self.size = a.shape[0]
             try:
-                self._lu = splu(a.tocsc())
+                self._lu = splu(a.tocsc(), permc_spec=PERMC_SPEC)
             except RuntimeError:
                 raise np.linalg.LinAlgError("singular network") from None
             self._inv = None
@@ -80,7 +82,7 @@ class Factors:
             from scipy.sparse.linalg import splu
 
             try:
-                self._lu = splu(csc_matrix(m))
+                self._lu = splu(csc_matrix(m), permc_spec=PERMC_SPEC)
             except RuntimeError:
                 raise np.linalg.LinAlgError("singular network") from None
             self._inv = None

@@ -9,6 +9,10 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from coilstage.sizing import SizeResult
 
 HELP = "choose cable sizes, fuse ratings, relay ratings and suppressors that pass every rule; write a new drawing"
 
@@ -79,7 +83,7 @@ def run(args: argparse.Namespace) -> int:
     return 1 if any(r["status"] == "fail" for r in result.remaining) else 0
 
 
-def format_result(result, src: Path, out: Path) -> str:
+def format_result(result: SizeResult, src: Path, out: Path) -> str:
     """The change list, what still fails and why, and the new result, as plain text."""
     lines = [f"coilstage size {src} -> {out}", ""]
     if result.changes:

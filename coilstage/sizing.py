@@ -31,9 +31,15 @@ import tomllib
 from dataclasses import dataclass, field, replace
 from functools import cache
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from coilstage.tomledit import TomlText, format_value
+
+if TYPE_CHECKING:  # the names of the annotations only: the imports stay inside the functions
+    from coilstage.analysis.run import Analysis
+    from coilstage.checks.base import Verdict
+    from coilstage.drawing.schema import Drawing
+    from coilstage.parts_library import Library
 
 #: Key of our naming that keeps a harness element as written.
 FIXED_KEY = "fixed"
@@ -166,7 +172,14 @@ def _figure(x: float | None, unit: str | None) -> str:
     return f"{n} {u}".strip()
 
 
-def cannot_change_text(rule: str, subject: str, status: str, value=None, limit=None, unit=None) -> str | None:
+def cannot_change_text(
+    rule: str,
+    subject: str,
+    status: str,
+    value: float | None = None,
+    limit: float | None = None,
+    unit: str | None = None,
+) -> str | None:
     """What a failing or warning verdict that no part sizing may change can clear says to a fitter:
     which part it is, its figure against its limit, that sizing does not change it, and what would
     have to change. E.g. ``"coil S2: winding reaches 186 °C against 165 °C — sizing does not change
@@ -223,7 +236,7 @@ def _status(v) -> str:
     return str(v.status.value if hasattr(v.status, "value") else v.status)
 
 
-def rank(v) -> float:
+def rank(v: Verdict | Finding) -> float:
     """The order of a verdict's status for sizing: FAIL 0 < WARN 1 < NOT_CHECKED 1.5 < PASS 2; a
     verdict that could not be reached never counts as passing where a part exists that passes it."""
     st = _status(v)
@@ -312,7 +325,9 @@ Edits = tuple[tuple[tuple[int, str], str | None], ...]  # ((harness index, key),
 class Bench:
     """Candidates of one drawing, each its text with a few keys changed, read and judged (cached)."""
 
-    def __init__(self, text: str, source: str = "<drawing>", base_dir: Path | None = None, parts_dirs: tuple = ()):
+    def __init__(
+        self, text: str, source: str = "<drawing>", base_dir: Path | None = None, parts_dirs: tuple = ()
+    ) -> None:
         self.text = text
         self.source = source
         self.base_dir = base_dir
@@ -356,7 +371,7 @@ class Bench:
                 doc.set("harness", i, k, v)
         return doc.text
 
-    def drawing(self, edits: dict):
+    def drawing(self, edits: dict) -> Drawing | None:
         """The Drawing of a candidate, or None where the loader refuses it."""
         from coilstage.drawing.load import parse_data, parse_drawing
         from coilstage.errors import DrawingError
@@ -486,7 +501,7 @@ class Bench:
 _CONTINUOUS_RULES = ("winding.time_to_limit",)
 
 
-def duty_analysis(d, rules: tuple[str, ...] = ()):
+def duty_analysis(d: Drawing, rules: tuple[str, ...] = ()) -> Analysis:
     """The full analysis of ``d`` as far as the rules whose ids start with one of ``rules`` read it (all
     when empty): where none of them reads the simulation of continuous full retardation, that
     simulation (half the cost of a full analysis) is left out (``continuous`` is None) and every other
@@ -539,14 +554,14 @@ def _reach(d, skip: set[str]) -> tuple[set[str], set[str]]:
     return g.reachable(d.supply.battery.node, avoid_edges=skip), g.reachable(d.supply.negative_node, avoid_edges=skip)
 
 
-def fed_stages(d, element_id: str) -> list[str]:
+def fed_stages(d: Drawing, element_id: str) -> list[str]:
     """Stages that lose their supply or return when ``element_id`` is taken out."""
     pos, neg = _reach(d, set())
     pos2, neg2 = _reach(d, {element_id})
     return [s.id for s in d.stages if s.a in pos and s.b in neg and not (s.a in pos2 and s.b in neg2)]
 
 
-def upstream_of(d, element_id: str, kind) -> list[str]:
+def upstream_of(d: Drawing, element_id: str, kind: type) -> list[str]:
     """Devices of ``kind`` whose opening cuts ``element_id`` off the battery."""
     by_id = {e.id: e for e in d.elements}
     el = by_id[element_id]
@@ -599,7 +614,7 @@ def _library_series(d, where: str) -> list[float]:
     return []
 
 
-def parts_of(d, prepared: Prepared | None = None, text: str | None = None) -> list[Part]:
+def parts_of(d: Drawing, prepared: Prepared | None = None, text: str | None = None) -> list[Part]:
     """The parts of a drawing that sizing can change, each with its series."""
     from coilstage import tables
     from coilstage.drawing.schema import Cable, Fuse, Relay
@@ -732,7 +747,7 @@ class Finding:
     note: str
 
     @classmethod
-    def of(cls, v) -> Finding:
+    def of(cls, v: Verdict) -> Finding:
         return cls(v.rule, v.subject, _status(v), v.note)
 
     def text(self) -> str:
@@ -1841,7 +1856,7 @@ def _suppressor_suggestions(bench: Bench, parts: list[Part], base: dict, vs: dic
     return out
 
 
-def suggestions_by_verdict(verdicts, suggestions_list) -> dict[tuple[str, str], dict]:
+def suggestions_by_verdict(verdicts: list[Verdict], suggestions_list: list[Suggestion]) -> dict[tuple[str, str], dict]:
     """For the JSON document: (rule, subject) -> the suggestion (as a dict) of the part that answers it.
 
     Attach as ``verdict["suggestion"] = mapping.get((verdict["rule"], verdict["subject"]))``.
@@ -1855,7 +1870,7 @@ def suggestions_by_verdict(verdicts, suggestions_list) -> dict[tuple[str, str], 
     return out
 
 
-def action_list(verdicts, suggestions_list) -> dict:
+def action_list(verdicts: list[Verdict], suggestions_list: list[Suggestion]) -> dict:
     """What to change, as plain data: failures first, grouped by part, then warnings, then what
     could not be checked for missing data, then what sizing cannot change.
 
@@ -2338,7 +2353,7 @@ def size_drawing(
 # ---------------------------------------------------------------- whole parts from a parts library
 
 
-def parts_library_of(bench: Bench):
+def parts_library_of(bench: Bench) -> Library | None:
     """The parts libraries of the run: those given (``--parts``) and those the drawing names
     (``[tables] parts``, relative to the drawing); None where there are none. A library with
     problems is left out here (the loader reports it where the drawing refers to it)."""
@@ -2400,7 +2415,9 @@ def _ref_text(bench: Bench, lp) -> str:
 _ELEMENT_KEEP = {"id", "kind", "from", "to", "zone", "length", "protects", FIXED_KEY}
 
 
-def library_candidates(bench: Bench, part: Part, system_voltage: float, library) -> list[tuple[str, tuple, float]]:
+def library_candidates(
+    bench: Bench, part: Part, system_voltage: float, library: Library
+) -> list[tuple[str, tuple, float]]:
     """The library's parts that could take ``part``'s place, smallest first: (label, edits, size).
 
     A fuse comes at each rating of its maker's series (its own rating where it gives none), ordered

@@ -16,9 +16,9 @@ from coilstage import check, tables
 from coilstage.analysis.circuit import Circuit
 from coilstage.analysis.conditions import conditions
 from coilstage.analysis.linear import CaseNetwork, case_networks
+from coilstage.analysis.ratings import category_for
 from coilstage.analysis.switching import analyse_switching, run, scenario_events, switch_on_t95
 from coilstage.checks import Status
-from coilstage.checks.switching import category_for
 from coilstage.drawing.load import load_drawing, parse_drawing
 from coilstage.physics.fault import adiabatic_final_temperature, material_k
 from coilstage.physics.numeric import bracketed_root

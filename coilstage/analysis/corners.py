@@ -218,7 +218,9 @@ def cold_duties(
     return out
 
 
-def fault_currents(circuit: Circuit, fault: Conditions, protected: dict[str, list[str]]):
+def fault_currents(
+    circuit: Circuit, fault: Conditions, protected: dict[str, list[str]]
+) -> tuple[dict[str, float], dict[str, float], float]:
     """Prospective bolted-short currents [A] from one factorisation of the fault case: at each fuse's
     load terminal (fuse id -> A), at the far end of each protected cable (cable id -> A), and at the
     battery terminals."""

@@ -79,7 +79,7 @@ class CaseNetwork:
     """The network of a drawing in one operating case (element temperatures and source states), with
     one factorisation per alternator state reused for every set of energised stages."""
 
-    def __init__(self, circuit: Circuit, temperatures: dict[str, float], sources: SourceState):
+    def __init__(self, circuit: Circuit, temperatures: dict[str, float], sources: SourceState) -> None:
         self.circuit = circuit
         self.temperatures = temperatures
         self.sources = sources

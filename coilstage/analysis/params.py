@@ -77,16 +77,8 @@ from coilstage.analysis.insulation import short_circuit_limit
 from coilstage.analysis.materials import metal
 from coilstage.analysis.ratings import cable_rating, fuse_gates, relay_contact
 from coilstage.analysis.relay_coil import PICKUP_MARGIN, coil_at, hot_temperature
-from coilstage.analysis.tolerances import (
-    cells as _cells,
-)
-from coilstage.analysis.tolerances import (
-    effective,
-    element_key,
-    lookup,
-    rated_resistance_low,
-    rated_resistance_reference,
-)
+from coilstage.analysis.tolerances import battery_resistance, effective, element_key, lookup
+from coilstage.analysis.tolerances import cells as _cells
 from coilstage.analysis.topology import protected_cables
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
@@ -578,7 +570,7 @@ def _limits(d: Drawing) -> _Limits:
 class Model:
     """The vectorised model of one drawing (built once per drawing; :func:`model` caches it)."""
 
-    def __init__(self, d: Drawing):
+    def __init__(self, d: Drawing) -> None:
         self.d = d
         self.params = parameters(d)
         self.index = {p.key: k for k, p in enumerate(self.params)}
@@ -589,14 +581,9 @@ class Model:
         self.stages = [k for k, e in enumerate(d.elements) if isinstance(e, Stage)]
         self.hot_t = hot_temperatures(d)
         self.hot_limit = hot_alternator_limit(d)
-        self.rb_range = self.tol.get("supply.battery.internal_resistance")  # only where the drawing states it
-        # the battery's rated short-circuit current (the low end, where lower) and cold-cranking current
-        # (the reference of the raised end, where higher), as analysis.worst takes them
-        rb = d.supply.battery.internal_resistance
-        coef = self.fixed("supply.battery.resistance_temperature_coefficient")
-        self.rb_rated_low = None if self.rb_range is not None else rated_resistance_low(d)
-        cc = None if self.rb_range is not None else rated_resistance_reference(d, coef)
-        self.rb_reference = max(rb, cc) if cc is not None else rb
+        # the battery's stated range, or its rated short-circuit current (the low end, where lower) and
+        # cold-cranking current (the reference of the raised end, where higher): analysis.worst's reading
+        self.rb = battery_resistance(d, self.tol, self.fixed("supply.battery.resistance_temperature_coefficient"))
         # the smallest fault: cables at their zones, coils at the cold corner (analysis.worst)
         self.zone_t = dict(cold_temperatures(d))
         self.zone_t.update({c.id: c.zone_temperature for c in d.of_kind(Cable)})
@@ -683,7 +670,7 @@ class Model:
         return self.column(x, "environment.ambient", min(max(25.0, env.ambient_min), env.ambient_max))
 
     # ---- the three networks
-    def duty(self, x: np.ndarray):
+    def duty(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(each element's largest current over the stage states (N, E) [A] (magnitude), the solution
         with every stage on (N, size), the bus (N,)). The states: every stage on, and each stage alone
         (only where there are two or more)."""
@@ -796,10 +783,10 @@ class Model:
         soc = self.column(x, "supply.battery.state_of_charge", self.fixed("supply.battery.state_of_charge"))
         age = self.column(x, "supply.battery.age_factor", self.fixed("supply.battery.age_factor"))
         emf = open_circuit_voltage(soc, cells=_cells(self.d))
-        if self.rb_range is not None:  # the drawing's stated high end, as analysis.worst
-            return np.asarray(emf, dtype=float) * np.ones(x.shape[0]), np.full(x.shape[0], float(self.rb_range["high"]))
+        if self.rb.stated_high is not None:  # the drawing's stated high end, as analysis.worst
+            return np.asarray(emf, dtype=float) * np.ones(x.shape[0]), np.full(x.shape[0], self.rb.stated_high)
         rb = internal_resistance(
-            self.rb_reference,
+            self.rb.reference,
             soc,
             self.ambient(x),
             t_reference=25.0,
@@ -809,7 +796,7 @@ class Model:
         )
         return np.asarray(emf, dtype=float) * np.ones(x.shape[0]), rb * age
 
-    def low_bus(self, x: np.ndarray):
+    def low_bus(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(x of the network (N, size), the alternator's mode per sample: 0 regulating, 1
         current-limited, 2 off, -1 absent)."""
         net = self.net
@@ -863,13 +850,11 @@ class Model:
             x, "supply.battery.surface_charge_per_cell", self.fixed("supply.battery.surface_charge_per_cell", "high")
         )
         emf = _cells(d) * per_cell
-        rb = d.supply.battery.internal_resistance * self.column(
-            x, "supply.battery.resistance_min_factor", self.fixed("supply.battery.resistance_min_factor", "low")
+        rb = self.rb.lowest(
+            self.column(
+                x, "supply.battery.resistance_min_factor", self.fixed("supply.battery.resistance_min_factor", "low")
+            )
         )
-        if self.rb_rated_low is not None:  # the rated short-circuit current, where it gives less
-            rb = np.minimum(rb, self.rb_rated_low)
-        if self.rb_range is not None:  # the drawing's stated low end, as analysis.worst
-            rb = np.full(n, float(self.rb_range["low"]))
         size = net.size(False)
         cols = 1 + len(fuses)
         rhs = np.zeros((n, cols, size))

@@ -22,6 +22,7 @@ from coilstage.physics.cable_heat import computed_ampacity as heat_balance_ampac
 from coilstage.physics.conductor import resistance_at_temperature
 from coilstage.physics.fault import adiabatic_final_temperature
 from coilstage.physics.thermal import cable_loss_coefficient, conductor_temperature
+from coilstage.physics.transient import time_constant_from_t95
 from coilstage.tables import FuseGates
 
 
@@ -380,3 +381,62 @@ def ratings(
             for name, zones in (relay_sweep_zones or {}).items()
         },
     )
+
+
+# ---------------------------------------------------------------- DC utilization categories
+
+
+def _category_tests(category: str) -> list[dict]:
+    rows = tables.shipped("utilization_tests_iec60947.toml")["table"]["rows"]
+    return [r for r in rows if r["category"] == category]
+
+
+def _test_row_tau(row: dict, rated_power: float | None) -> float:
+    """The L/R of one type-test row [s]: its ``tau``, or DC-13's T0.95 = min(6 ms/W·U_e·I_e, 300 ms)
+    as a time constant (IEC 60947-5-1), its cap where no rated power ``rated_power`` [W] is given."""
+    if "t95_per_watt" in row:
+        t = row["t95_cap"] if rated_power is None else min(row["t95_per_watt"] * rated_power, row["t95_cap"])
+        return time_constant_from_t95(t)
+    return float(row["tau"])
+
+
+def category_order() -> list[str]:
+    """The DC utilization categories, least demanding first (data/utilization_categories_iec60947.toml)."""
+    return [row["category"] for row in tables.utilization_categories()]
+
+
+def category_tau_limit(category: str, rated_power: float | None = None) -> float:
+    """Largest load L/R of a category [s]: the L/R of the type test that defines its envelope (the
+    category row's ``envelope``, a test of data/utilization_tests_iec60947.toml: DC-1/3/5 the
+    IEC 60947-4-1 make/break test); DC-13's rests on the contact's rating ``rated_power`` =
+    U_e·I_e [W] (IEC 60947-5-1: T0.95 = 6·P ms), its 300 ms cap without one."""
+    cat = next(r for r in tables.utilization_categories() if r["category"] == category)
+    row = next(r for r in _category_tests(category) if r["test"] == cat["envelope"])
+    return _test_row_tau(row, rated_power)
+
+
+def category_for(tau: float, rated_power: float | None = None) -> str | None:
+    """The least demanding DC utilization category whose time constant covers ``tau`` [s], or None
+    when the load lies outside every category. DC-13's limit rests on the contact's rating
+    ``rated_power`` = U_e·I_e [W] (IEC 60947-5-1), never on the load's power; without a rating its
+    widest envelope (the 300 ms cap) classifies the load."""
+    for category in category_order():
+        if tau <= category_tau_limit(category, rated_power):
+            return category
+    return None
+
+
+def frequent_switching_above() -> int:
+    """Switchings above which a contact is judged on the durability test (the make/break test's count)."""
+    return int(tables.shipped("utilization_tests_iec60947.toml")["table"]["frequent_switching_above"])
+
+
+def category_test_tau(category: str, u_e: float, i_e: float, frequent: bool) -> float:
+    """L/R of a category's type test for a contact rated ``i_e`` [A] at ``u_e`` [V] [s]: the
+    durability test's where the contact switches more often than the make/break test (IEC 60947-4-1),
+    DC-13's T0.95 = 6·P ms (P = U_e·I_e, capped at 300 ms) as a time constant (IEC 60947-5-1)."""
+    rows = _category_tests(category)
+    if not rows:
+        return category_tau_limit(category, u_e * i_e)
+    pick = [r for r in rows if r["test"] in (("durability", "normal") if frequent else ("make_break", "normal"))]
+    return _test_row_tau((pick or rows)[0], u_e * i_e)

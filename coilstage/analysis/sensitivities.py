@@ -33,6 +33,7 @@ References
 
 from __future__ import annotations
 
+from collections.abc import Collection
 from dataclasses import dataclass
 
 import numpy as np
@@ -114,7 +115,9 @@ def _steps(ps: list[Parameter]) -> np.ndarray:
     return np.array([STEP * (p.high - p.low) for p in ps])
 
 
-def gradients(d: Drawing, at: np.ndarray | None = None, rules=None) -> tuple[dict[tuple[str, str], np.ndarray], dict]:
+def gradients(
+    d: Drawing, at: np.ndarray | None = None, rules: Collection[str] | None = None
+) -> tuple[dict[tuple[str, str], np.ndarray], dict]:
     """dm/dp of every modelled margin (of ``rules`` only, where given) at ``at`` (default nominal) by
     central differences through :func:`evaluate` (2P samples in one call), and the evaluation at
     ``at`` itself."""
@@ -130,7 +133,7 @@ def gradients(d: Drawing, at: np.ndarray | None = None, rules=None) -> tuple[dic
     return out, {k: float(e.margin[0]) for k, e in ev.items()}
 
 
-def toward_worst_gradients(d: Drawing, rules=None) -> dict[tuple[str, str], np.ndarray]:
+def toward_worst_gradients(d: Drawing, rules: Collection[str] | None = None) -> dict[tuple[str, str], np.ndarray]:
     """d/dp at nominal of each modelled verdict's ``toward_worst`` read-out (where it has one), by
     central differences as :func:`gradients` (of ``rules`` only, where given)."""
     ps = model(d).params

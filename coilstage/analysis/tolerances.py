@@ -16,6 +16,7 @@ gives one, else the generic row.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from typing import Any
 
 from coilstage import tables
@@ -180,6 +181,45 @@ def rated_resistance_reference(d: Drawing, temperature_coefficient: float) -> fl
     u0 = float(open_circuit_voltage(1.0, cells=CELLS_PER_12V_BLOCK))
     bound = resistance_bound_from_cranking_current(b.cranking_current, b.cranking_standard, u0=u0, blocks=blocks)
     return bound / math.exp(temperature_coefficient * (25.0 - (-18.0)))
+
+
+@dataclass(frozen=True)
+class BatteryResistance:
+    """What bounds a drawing's battery resistance at the two ends the worst cases take [Ω]: the
+    drawing's own range where it states one (``supply.battery.internal_resistance`` among its
+    tolerances: ``stated_low``, ``stated_high``), else the stated resistance with its ratings:
+    ``rated_low`` from the short-circuit current (:func:`rated_resistance_low`) and ``reference``, the
+    weakest battery at 25 °C and full charge that its cold-cranking current allows (the larger of the
+    stated resistance and :func:`rated_resistance_reference`). The one reading of these for
+    :mod:`coilstage.analysis.worst` and :mod:`coilstage.analysis.params`."""
+
+    stated: float
+    reference: float
+    rated_low: float | None = None
+    stated_low: float | None = None
+    stated_high: float | None = None
+
+    def lowest(self, factor: Any) -> Any:
+        """The low end (the largest fault) for the shipped factor ``factor`` on the stated resistance
+        (a float, or an array of samples): the drawing's low end where it states a range, else the
+        lower of stated × factor and the rated short-circuit bound."""
+        import numpy as np
+
+        if self.stated_low is not None:
+            return np.full(np.shape(factor), self.stated_low) if np.ndim(factor) else self.stated_low
+        rb = self.stated * factor
+        return rb if self.rated_low is None else np.minimum(rb, self.rated_low)
+
+
+def battery_resistance(d: Drawing, tol: dict[str, dict[str, Any]], temperature_coefficient: float) -> BatteryResistance:
+    """The bounds of :class:`BatteryResistance` for ``d`` with its tolerance rows ``tol`` and the
+    resistance's temperature coefficient [1/K] (the cranking bound is referred to 25 °C with it)."""
+    rb = d.supply.battery.internal_resistance
+    row = tol.get("supply.battery.internal_resistance")  # only where the drawing states the range
+    if row:
+        return BatteryResistance(rb, rb, None, float(row["low"]), float(row["high"]))
+    cc = rated_resistance_reference(d, temperature_coefficient)
+    return BatteryResistance(rb, max(rb, cc) if cc is not None else rb, rated_resistance_low(d))
 
 
 def cells(d: Drawing) -> int:

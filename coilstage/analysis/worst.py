@@ -40,16 +40,8 @@ from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_r
 from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_temperatures, zone_at_ambient
 from coilstage.analysis.corners import cold_duties
 from coilstage.analysis.field import circuit_of
-from coilstage.analysis.tolerances import (
-    DRAWING_STATUS,
-    effective,
-    lookup,
-    rated_resistance_low,
-    rated_resistance_reference,
-)
-from coilstage.analysis.tolerances import (
-    cells as _cells,
-)
+from coilstage.analysis.tolerances import DRAWING_STATUS, battery_resistance, effective, lookup
+from coilstage.analysis.tolerances import cells as _cells
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.supply_limits import regulated_bus_range
@@ -310,10 +302,12 @@ def worst_cases(
 
     # ---- largest fault
     emf_max = cells * tol["supply.battery.surface_charge_per_cell"]["high"]
-    rb_row = tol.get("supply.battery.internal_resistance")  # only where the drawing states the range
+    b_temp = tol["supply.battery.resistance_temperature_coefficient"]["nominal"]
+    bounds = battery_resistance(d, tol, b_temp)
+    rb_row = bounds.stated_low is not None  # the drawing states the range
     factor_low = tol["supply.battery.resistance_min_factor"]["low"]
-    rb_sc = None if rb_row else rated_resistance_low(d)
-    rb_min = float(rb_row["low"]) if rb_row else min(rb * factor_low, rb_sc if rb_sc is not None else math.inf)
+    rb_sc = bounds.rated_low
+    rb_min = float(bounds.lowest(factor_low))
     if rb_row:
         rb_min_words = f"{rb_min * 1e3:.2f} mΩ (the low end of the drawing's range)"
     elif rb_sc is not None and rb_sc < rb * factor_low:
@@ -348,9 +342,7 @@ def worst_cases(
     age = tol["supply.battery.age_factor"]["high"]
     emf_min = open_circuit_voltage(soc, cells=cells)
 
-    b_temp = tol["supply.battery.resistance_temperature_coefficient"]["nominal"]
-    rb_cc = None if rb_row else rated_resistance_reference(d, b_temp)
-    rb_ref = max(rb, rb_cc) if rb_cc is not None else rb  # the weakest battery its rating allows
+    rb_ref = bounds.reference  # the weakest battery its rating allows
     rb_ref_words = (
         f"{rb_ref * 1e3:.1f} mΩ at 25 °C, full (its cold-cranking rating allows that much; {rb * 1e3:.1f} mΩ stated)"
         if rb_ref > rb
@@ -360,8 +352,8 @@ def worst_cases(
     def raised_resistance(temperature: float) -> float:
         """The battery's resistance at the low charge, aged, at ``temperature`` [°C] (the drawing's
         stated high end where it gives one) [Ω]."""
-        if rb_row:
-            return float(rb_row["high"])
+        if bounds.stated_high is not None:
+            return bounds.stated_high
         return internal_resistance(
             rb_ref,
             soc,

@@ -13,6 +13,10 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from enum import StrEnum
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from coilstage.analysis.worst import DutySweep
 
 
 class Status(StrEnum):
@@ -150,7 +154,7 @@ def not_checked(rule: Rule, subject: str, reason: str, unit: str = "", corner: s
 _RANK = {Status.PASS: 0, Status.NOT_CHECKED: 1, Status.WARN: 2, Status.FAIL: 3}
 
 
-def worst_over_sweep(verdict_at: Callable[[int, str], Verdict], sweep, corner: str) -> tuple[Verdict, int]:
+def worst_over_sweep(verdict_at: Callable[[int, str], Verdict], sweep: DutySweep, corner: str) -> tuple[Verdict, int]:
     """The verdict at an ambient sweep's worst point (``analysis.worst.DutySweep``): ``verdict_at(j,
     corner)`` at each ambient j, the lowest margin chosen (a failure with no margin first, a point not
     checked last), with that ambient named in its note; and that ambient's index."""

@@ -3,13 +3,19 @@
 from __future__ import annotations
 
 import dataclasses
-import math
 from typing import TypeVar
 
 from coilstage import tables
 from coilstage.analysis.conditions import LARGEST
 from coilstage.analysis.contacts import RelayFigures, highest_bus
 from coilstage.analysis.load_dump import applicable_test
+from coilstage.analysis.ratings import (
+    category_for,
+    category_order,
+    category_tau_limit,
+    category_test_tau,
+    frequent_switching_above,
+)
 from coilstage.analysis.relay_coil import PICKUP_MARGIN, CoilAt
 from coilstage.analysis.run import Analysis
 from coilstage.analysis.switching import StageSwitching
@@ -28,17 +34,6 @@ from coilstage.checks.base import (
 from coilstage.drawing.schema import Relay, Stage
 
 _T = TypeVar("_T")
-
-
-def category_for(tau: float, rated_power: float | None = None) -> str | None:
-    """The least demanding DC utilization category whose time constant covers ``tau`` [s], or None
-    when the load lies outside every category. DC-13's limit rests on the contact's rating
-    ``rated_power`` = U_e·I_e [W] (IEC 60947-5-1), never on the load's power; without a rating its
-    widest envelope (the 300 ms cap) classifies the load."""
-    for row in tables.utilization_categories():
-        if tau <= _tau_limit(row["category"], rated_power):
-            return row["category"]
-    return None
 
 
 def _highest_bus(a: Analysis) -> tuple[float, str]:
@@ -188,7 +183,7 @@ def _breaking(
     """The break of ``relay`` (switching the stages ``ids``) from one case's stage figures ``cold`` and
     relay figures ``fig`` (analysis.switching, analysis.contacts), reported under ``corner``."""
     stages = _stage_map(a)
-    order = [row["category"] for row in tables.utilization_categories()]
+    order = category_order()
     i_break = fig.i_break
     bare = [s for s in ids if stages[s].suppression.kind == "none"]
     slowed, slow_note = _slowed_opening(fig)
@@ -272,7 +267,7 @@ def _breaking(
             note,
             corner,
         )
-    lim = None if need is None else _tau_limit(need)
+    lim = None if need is None else category_tau_limit(need)
     return Verdict(
         RELAY_BREAKING.id,
         relay.id,
@@ -287,20 +282,6 @@ def _breaking(
     )
 
 
-def _test_tau(category: str, u_e: float, i_e: float, frequent: bool) -> float:
-    """L/R of a category's type test for a contact rated ``i_e`` [A] at ``u_e`` [V] [s]: the
-    durability test's where the contact switches more often than the make/break test (IEC 60947-4-1),
-    DC-13's T0.95 = 6·P ms (P = U_e·I_e, capped at 300 ms) over ln 20 (IEC 60947-5-1)."""
-    rows = [r for r in tables.shipped("utilization_tests_iec60947.toml")["table"]["rows"] if r["category"] == category]
-    if not rows:
-        return _tau_limit(category, u_e * i_e)  # P = U_e·I_e of the rating (IEC 60947-5-1)
-    pick = [r for r in rows if r["test"] in (("durability", "normal") if frequent else ("make_break", "normal"))]
-    row = (pick or rows)[0]
-    if "t95_per_watt" in row:
-        return min(row["t95_per_watt"] * u_e * i_e, row["t95_cap"]) / math.log(20.0)
-    return float(row["tau"])
-
-
 def _category_rating(a: Analysis, relay: Relay, covering: list[str], need: str, tau: float, i_break: float):
     """Status, note and (value, limit, unit) of an unsuppressed break against the relay's rated categories:
     a category covers the load only within its rated current I_e at its voltage U_e (IEC 60947-4-1 / -5-1),
@@ -308,7 +289,7 @@ def _category_rating(a: Analysis, relay: Relay, covering: list[str], need: str, 
     test's time constant."""
     u_max, _words = _highest_bus(a)
     cycles = a.drawing.switching.cycles
-    frequent = cycles > int(tables.shipped("utilization_tests_iec60947.toml")["table"]["frequent_switching_above"])
+    frequent = cycles > frequent_switching_above()
     ratings = [x for x in relay.category_ratings if x[0] in covering]
     if not ratings:
         return (
@@ -321,7 +302,7 @@ def _category_rating(a: Analysis, relay: Relay, covering: list[str], need: str, 
         )
     worst = None
     for cat, i_e, u_e in ratings:
-        t_lim = _test_tau(cat, u_e, i_e, frequent)
+        t_lim = category_test_tau(cat, u_e, i_e, frequent)
         test = "durability" if frequent and cat in ("DC-1", "DC-3", "DC-5") else "type"
         fails = []
         if i_break > i_e:
@@ -355,16 +336,6 @@ def _category_rating(a: Analysis, relay: Relay, covering: list[str], need: str, 
         "fit suppression at the coil or a contact rated for this break",
         (v, lim, unit),
     )
-
-
-def _tau_limit(category: str, rated_power: float | None = None) -> float:
-    """Largest L/R of a category [s]; DC-13's is min(6 ms/W·U_e·I_e, 300 ms)/ln 20 for a contact rated
-    ``rated_power`` = U_e·I_e [W] (IEC 60947-5-1: T0.95 = 6·P ms, P = U_e·I_e), its cap without one."""
-    row = next(r for r in tables.utilization_categories() if r["category"] == category)
-    t = row["tau_max"]
-    if "tau_per_rated_watt" in row and rated_power is not None:
-        t = min(t, row["tau_per_rated_watt"] * rated_power)
-    return t
 
 
 def _break_words(a: Analysis) -> tuple[str, ...]:
@@ -727,7 +698,7 @@ RELAY_BREAKING = Rule(
     "(durability L/R above 50 switchings); a diode on the relay's own coil slows its opening 5-10 x (relay "
     "maker's application note) and lengthens the arc",
     _relay_breaking,
-    ("transient.LinearRL", "transient.clamp_decay"),
+    ("transient.LinearRL", "transient.clamp_decay", "transient.time_constant_from_t95"),
 )
 SUPPRESSOR = Rule(
     "suppressor.rating",

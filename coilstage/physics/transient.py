@@ -65,6 +65,40 @@ def t95(tau: float) -> float:
     return tau * LN20
 
 
+def time_constant_from_t95(t95_time: float) -> float:
+    r"""The time constant of a first-order rise that reaches 95 % of its final value in ``t95_time``
+    [s]: the inverse of :func:`t95`.
+
+    .. math:: \tau = \frac{T_{0.95}}{\ln 20}
+
+    Parameters
+    ----------
+    t95_time : float
+        Time to 95 % of the final value. [s]
+
+    Returns
+    -------
+    float
+        Time constant L/R. [s]
+
+    Notes
+    -----
+    IEC 60947-5-1 states the DC-13 test load by its T0.95 (6 ms per watt of U_e·I_e, capped at
+    300 ms); the switching rules compare time constants L/R.
+
+    References
+    ----------
+    .. [1] C. K. Alexander, M. N. O. Sadiku, *Fundamentals of Electric Circuits*, 5th ed., McGraw-Hill,
+       2013, §7.6 (step response of an RL circuit).
+
+    Examples
+    --------
+    >>> round(time_constant_from_t95(0.3), 5)
+    0.10014
+    """
+    return t95_time / LN20
+
+
 @dataclass(frozen=True)
 class Decay:
     """A stage current decaying through its suppressor after its contact opens.

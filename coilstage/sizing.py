@@ -836,11 +836,10 @@ def candidate_verdicts(bench: Bench, part: Part, edits: dict) -> dict | None:
 def _rating_only(bench: Bench, part: Part, edits: dict) -> dict | None:
     """The relay's contact-rating verdicts of a candidate that differs from an analysed drawing in
     that rating only: the analysis of the drawing without the edit, with the candidate drawing in
-    its place and the contacts' rating figures made again (the rating enters no other figure of the
-    analysis: the network holds the contact's resistance); tests/test_sizing.py checks the result
+    its place and every figure made from a rating made again (``analysis.run.rerated``: the rating
+    enters no network, which holds the contact's resistance); tests/test_sizing.py checks the result
     against a fresh analysis. None where no analysis of the rest is at hand (then the screen runs)."""
-    import dataclasses
-
+    from coilstage.analysis.run import rerated
     from coilstage.checks import RULES, with_worst_corners
 
     k = (part.index, part.key)
@@ -856,7 +855,7 @@ def _rating_only(bench: Bench, part: Part, edits: dict) -> dict | None:
         out = None
         if d is not None:
             try:
-                a = dataclasses.replace(r[0], drawing=d, ratings=_relay_contacts_again(r[0].ratings, d))
+                a = rerated(r[0], d)
                 out = _by_key(
                     with_worst_corners(
                         a,
@@ -869,24 +868,6 @@ def _rating_only(bench: Bench, part: Part, edits: dict) -> dict | None:
         bench._rated[key] = out
         bench.evaluations["screen"] += 1
     return bench._rated[key]
-
-
-def _relay_contacts_again(rt, d):
-    """The rating figures ``rt`` of an analysis with the relays' contact ratings (the one figure of
-    the analysis a contact's rating enters) made again for the drawing ``d``, at the stated zone and
-    at the same zone temperatures of each sweep."""
-    from coilstage.analysis.ratings import relay_contact, relay_contacts_over
-    from coilstage.drawing.schema import Relay
-
-    system = d.supply.system_voltage
-    relays = d.of_kind(Relay)
-    sweep = {
-        name: relay_contacts_over(
-            relays, system, {rid: tuple(c.zone_temperature for c in cs) for rid, cs in by.items()}
-        )
-        for name, by in rt.relay_contacts_sweep.items()
-    }
-    return replace(rt, relay_contacts={x.id: relay_contact(x, system) for x in relays}, relay_contacts_sweep=sweep)
 
 
 def _duty_holds(bench: Bench, part: Part, edits: dict) -> bool:

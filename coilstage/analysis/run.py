@@ -13,6 +13,7 @@ Layers (each module imports only from the lines above it)::
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 from coilstage.analysis.circuit import Circuit
@@ -89,28 +90,8 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients
     if heating and d.duty is not None:
         descent = simulate(d)
         continuous = simulate(d, continuous_duty(d))
-    sw_ = worst.duty_sweep
-    zones = (
-        {c.id: tuple(sw_.zone(c.zone_temperature, j) for j in range(len(sw_.ambients))) for c in d.of_kind(Cable)}
-        if sw_ is not None
-        else None
-    )
-    relay_zones = {
-        name: {r.id: tuple(s.zone(r.zone_temperature, j) for j in range(len(s.ambients))) for r in d.of_kind(Relay)}
-        for name, s in (("worst", sw_), ("nominal", worst.duty_sweep_nominal))
-        if s is not None
-    }
     switched = switched_stages(d)
-    relays = contacts(
-        d,
-        switched,
-        sw,
-        corners["cold"].bus_voltage,
-        corners["hot"].bus_voltage,
-        worst.lowest_bus.bus_voltage,
-        worst.bus_high,
-        None if worst.largest_break is None else worst.largest_break.sources.hold_bus,
-    )
+    rated = _rated(d, corners, protected, far_end, duty, sw, worst, switched)
     return Analysis(
         d,
         circuit,
@@ -124,24 +105,80 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients
         duty_state,
         switched,
         unfused_feed_cables(d),
-        ratings(
-            d,
-            protected,
-            far_end,
-            duty,
-            sw,
-            corners["hot"],
-            worst.smallest_fault.far_end,
-            worst.largest_current,
-            zones,
-            relay_zones,
-        ),
+        rated.ratings,
         sw,
         analyse_field(d, corners, nets["cold"], worst.largest_current_solution, switch_on=transients),
         descent,
         continuous,
         worst,
-        relays,
-        joint_figures(d, duty, worst.largest_current),
+        rated.contacts,
+        rated.joints,
         largest_current_stages(d, worst.largest_current_solution, corners["cold"].temperatures),
     )
+
+
+@dataclass(frozen=True)
+class _Rated:
+    ratings: Ratings
+    contacts: Contacts
+    joints: dict[str, JointFigures]
+
+
+def _rated(
+    d: Drawing,
+    corners: dict[str, CornerResult],
+    protected: dict[str, list[str]],
+    far_end: dict[str, float],
+    duty: dict[str, float],
+    sw: SwitchingResult | None,
+    worst: WorstCases,
+    switched: dict[str, list[str]],
+) -> _Rated:
+    """Every figure an Analysis makes from the parts' ratings (cables' ampacity and their fuses'
+    heating, the fuses' and relays' ratings over the ambient sweep, the relays' contacts and coils, the
+    joints) on the network figures already solved: the one place both :func:`analyse` and
+    :func:`rerated` make them."""
+    sw_ = worst.duty_sweep
+    zones = (
+        {c.id: tuple(sw_.zone(c.zone_temperature, j) for j in range(len(sw_.ambients))) for c in d.of_kind(Cable)}
+        if sw_ is not None
+        else None
+    )
+    relay_zones = {
+        name: {r.id: tuple(s.zone(r.zone_temperature, j) for j in range(len(s.ambients))) for r in d.of_kind(Relay)}
+        for name, s in (("worst", sw_), ("nominal", worst.duty_sweep_nominal))
+        if s is not None
+    }
+    relays = contacts(
+        d,
+        switched,
+        sw,
+        corners["cold"].bus_voltage,
+        corners["hot"].bus_voltage,
+        worst.lowest_bus.bus_voltage,
+        worst.bus_high,
+        None if worst.largest_break is None else worst.largest_break.sources.hold_bus,
+    )
+    rates = ratings(
+        d,
+        protected,
+        far_end,
+        duty,
+        sw,
+        corners["hot"],
+        worst.smallest_fault.far_end,
+        worst.largest_current,
+        zones,
+        relay_zones,
+    )
+    return _Rated(rates, relays, joint_figures(d, duty, worst.largest_current))
+
+
+def rerated(a: Analysis, d: Drawing) -> Analysis:
+    """The analysis ``a`` for a drawing ``d`` that differs from ``a.drawing`` only in ratings that enter
+    no network (a relay's contact rating, a fuse's breaking capacity, a suppressor's energy rating, ...):
+    the solved figures kept, every figure made from a rating made again (:func:`_rated`; the fuses'
+    duty along the descent by ``__post_init__``). Equal to ``analyse(d)`` for such a drawing
+    (tests/test_rerated.py); how sizing screens a rating without solving the drawing again."""
+    rated = _rated(d, a.corners, a.protected, a.far_end_fault, a.duty, a.switching, a.worst, a.switched)
+    return dataclasses.replace(a, drawing=d, ratings=rated.ratings, contacts=rated.contacts, joints=rated.joints)

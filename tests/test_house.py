@@ -4,13 +4,14 @@ from coilstage.physics (they compare and format figures the analysis made)."""
 
 from __future__ import annotations
 
-import ast
 import collections
 import pathlib
 import re
 import subprocess
 
 import coilstage
+
+from .imports import imported_names
 
 PACKAGE = pathlib.Path(coilstage.__file__).parent
 
@@ -33,28 +34,10 @@ def import_graph() -> dict[str, set[str]]:
     edges: dict[str, set[str]] = collections.defaultdict(set)
     for m, p in mods.items():
         pkg = m if p.name == "__init__.py" else m.rsplit(".", 1)[0]
-        for n in ast.walk(ast.parse(p.read_text(encoding="utf-8"))):
-            targets: list[str] = []
-            if isinstance(n, ast.ImportFrom):
-                base = n.module or ""
-                if n.level:
-                    parts = pkg.split(".")
-                    base = ".".join(parts[: len(parts) - n.level + 1] + ([base] if base else []))
-                targets = [f"{base}.{a.name}" if f"{base}.{a.name}" in mods else base for a in n.names]
-            elif isinstance(n, ast.Import):
-                targets = [a.name for a in n.names]
-            elif (
-                isinstance(n, ast.Call)
-                and isinstance(n.func, ast.Attribute)
-                and n.func.attr == "import_module"
-                and n.args
-                and isinstance(n.args[0], ast.Constant)
-                and isinstance(n.args[0].value, str)
-            ):
-                targets = [n.args[0].value]
-            for t in targets:
-                if t in mods and t not in (m, "coilstage") and (m, t) not in TEMPORARY_FORWARDS:
-                    edges[m].add(t)
+        for name, base in imported_names(p, pkg):
+            t = name if name in mods else base
+            if t in mods and t not in (m, "coilstage") and (m, t) not in TEMPORARY_FORWARDS:
+                edges[m].add(t)
     return edges
 
 

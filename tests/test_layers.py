@@ -8,8 +8,9 @@ A new module of analysis/ needs a line here: on the line below the lowest module
 
 from __future__ import annotations
 
-import ast
 from pathlib import Path
+
+from .imports import imported_names
 
 ROOT = Path(__file__).resolve().parents[1]
 ANALYSIS = ROOT / "coilstage" / "analysis"
@@ -43,30 +44,12 @@ def analysis_imports(folder: Path, package: str = PACKAGE) -> dict[str, set[str]
     out: dict[str, set[str]] = {}
     for stem in sorted(modules):
         found: set[str] = set()
-        for n in ast.walk(ast.parse((folder / f"{stem}.py").read_text(encoding="utf-8"))):
-            dotted: list[str] = []
-            if isinstance(n, ast.ImportFrom):
-                base = n.module or ""
-                if n.level:  # relative to the package the module is in
-                    up = package.split(".")[: len(package.split(".")) - n.level + 1]
-                    base = ".".join([*up, base] if base else up)
-                dotted = [f"{base}.{a.name}" if base == package else base for a in n.names]
-            elif isinstance(n, ast.Import):
-                dotted = [a.name for a in n.names]
-            elif (
-                isinstance(n, ast.Call)
-                and isinstance(n.func, ast.Attribute)
-                and n.func.attr == "import_module"
-                and n.args
-                and isinstance(n.args[0], ast.Constant)
-                and isinstance(n.args[0].value, str)
-            ):
-                dotted = [n.args[0].value]
-            for name in dotted:
-                parts = name.split(".")
-                prefix = package.split(".")
-                if parts[: len(prefix)] == prefix and len(parts) > len(prefix) and parts[len(prefix)] in modules:
-                    found.add(parts[len(prefix)])
+        for full, base in imported_names(folder / f"{stem}.py", package):
+            name = full if base == package else base
+            parts = name.split(".")
+            prefix = package.split(".")
+            if parts[: len(prefix)] == prefix and len(parts) > len(prefix) and parts[len(prefix)] in modules:
+                found.add(parts[len(prefix)])
         found.discard(stem)
         out[stem] = found
     return out

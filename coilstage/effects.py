@@ -10,23 +10,25 @@ their figures from the whole analysis: the switch-off decay, the field's magneti
 windings' steady state. For those, each declared parameter's effect is measured one at a time on the
 whole analysis:
 
-* a parameter whose nominal value is one end of its range (cable length 0 to +10 %, fault resistance
-  0 to 5 mΩ) is held at its nominal value;
-* a parameter with a range on both sides of its nominal value (coil resistance ±5 %, the ambient
-  -30 to 40 °C) is analysed twice, once with each end removed (the range cut to nominal–high, then to
-  low–nominal): the worst case that used the removed end moves, and that end is the one it used;
+* each parameter is held at its nominal value (its range cut to nominal–nominal), and the effect is
+  the verdict's margin as decided minus its margin in that analysis
+  (:math:`\Delta m_k = m(p) - m(p \text{ with } p_k \text{ at nominal})`, negative where the tolerance
+  takes margin);
+* that effect is stated over the move from nominal to the end the verdict's worst case used: the end
+  that is not nominal where the range is one-sided (cable length 0 to +10 %, fault resistance 0 to
+  5 mΩ); where the range reaches both sides of nominal (coil resistance ±5 %, the ambient -30 to
+  40 °C) and the parameter moved some verdict, one more analysis with only its high end removed
+  tells the verdicts that used the high end (they move) from those that used the low end.
 
-and the effect is the verdict's margin as decided minus its margin in that analysis
-(:math:`\Delta m_k = m(p) - m(p \text{ with } p_k \text{ at nominal})`, negative where the tolerance
-takes margin), stated over the move from nominal to the end its worst case used. This is the
-"one at a time" tolerance analysis of the vertex method, exact for each parameter alone (no
-linearisation: every figure is the analysis' own), not a derivative; interactions between parameters
-are not separated, and no corner search is made (the worst case stays the one the rule names).
+This is the "one at a time" tolerance analysis of the vertex method, exact for each parameter alone
+(no linearisation: every figure is the analysis' own), not a derivative; interactions between
+parameters are not separated, and no corner search is made (the worst case stays the one the rule
+names). An end that gives margin is said in the verdict's deciding lines.
 
 The re-analyses leave out the duty simulation, the field's saturating switch-on and the stages'
-switch-on times (``analyse(heating=False, transients=False)``): a rule whose verdicts change without them is left
-out, its verdicts noted as not computed, so that no effect is read off a figure the re-analysis did
-not make.
+switch-on times (``analyse(heating=False, transients=False)``): a rule whose verdicts change without
+them is left out, its verdicts noted as not computed, so that no effect is read off a figure the
+re-analysis did not make.
 
 References
 ----------

@@ -203,6 +203,20 @@ def test_fuse_voltage_rating_decided_at_the_regulator_end_above_the_code():
     assert v.status is Status.FAIL  # 16.1 V rated passes the 16 V code but not the regulator's end
 
 
+def test_fuse_voltage_rating_carries_the_regulated_bus_as_nominal():
+    # Decided at the highest voltage (the 32 V code F maximum, ISO 16750-2 Table 2), the cold corner's
+    # regulated bus beside it as nominal: a 32 V fuse has 32/28.x - 1 of headroom at the regulated bus
+    # and none at the code maximum (a warning), so it is "pass nominally, WARN at the highest voltage".
+    a, vs = _verdicts(_fm_set(drawing_text(stages=1), 'voltage_rating = "32 V"'))
+    v = _one(vs, "fuse.voltage_rating", "FM")
+    bus = a.corners["cold"].bus_voltage
+    assert 24.0 < bus < 32.0
+    assert v.worst.nominal_status is Status.PASS and v.status is Status.WARN
+    # rel 1e-12: the margin convention (rating - bus) / bus on the two figures, round-off only
+    assert v.worst.nominal_margin == pytest.approx((32.0 - bus) / bus, rel=1e-12)
+    assert v.note.startswith("pass nominally, WARN at the highest voltage")
+
+
 def _rerated_limit(rule: str, subject: str, text: str) -> tuple[float, float]:
     _, vs = _verdicts(text)
     v = _one(vs, rule, subject)

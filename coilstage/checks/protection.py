@@ -137,36 +137,44 @@ def highest_bus(a: Analysis) -> tuple[float, str]:
     return code, code_words
 
 
+def _fuse_voltage_at(f: Fuse, v: float, words: str, corner: str) -> Verdict:
+    """Fuse ``f``'s rated voltage against the bus ``v`` [V] (``words`` say what sets it)."""
+    r = f.voltage_rating
+    if r < v:
+        status, why = Status.FAIL, "below the highest voltage the bus can reach"
+    elif r <= v * (1.0 + 1e-9):
+        status = Status.WARN
+        why = (
+            "exactly at the highest voltage, with no headroom: any excursion above it (a regulator "
+            "fault, a load dump) is beyond the fuse's rated voltage and it may not clear an arc; "
+            "choose the next rated voltage up (58 V)"
+        )
+    else:
+        status, why = Status.PASS, "above the highest voltage"
+    return Verdict(
+        FUSE_VOLTAGE.id,
+        f.id,
+        status,
+        r,
+        v,
+        "V",
+        floor(r, v),
+        FUSE_VOLTAGE.clause,
+        f"fuse rated {r:g} V against the {words}: {why}",
+        corner,
+    )
+
+
 def _fuse_voltage(a: Analysis) -> list[Verdict]:
+    """Decided at the highest voltage the bus reaches in service (the supply code's maximum or the
+    regulator's highest end), the cold corner's regulated bus as nominal."""
     v, words = highest_bus(a)
+    normal = a.corners["cold"].bus_voltage
+    normal_words = f"{normal:.2f} V regulated bus of the cold corner"
     out = []
     for f in a.drawing.of_kind(Fuse):
-        r = f.voltage_rating
-        if r < v:
-            status, why = Status.FAIL, "below the highest voltage the bus can reach"
-        elif r <= v * (1.0 + 1e-9):
-            status = Status.WARN
-            why = (
-                "exactly at the highest voltage, with no headroom: any excursion above it (a regulator "
-                "fault, a load dump) is beyond the fuse's rated voltage and it may not clear an arc; "
-                "choose the next rated voltage up (58 V)"
-            )
-        else:
-            status, why = Status.PASS, "above the highest voltage"
-        out.append(
-            Verdict(
-                FUSE_VOLTAGE.id,
-                f.id,
-                status,
-                r,
-                v,
-                "V",
-                floor(r, v),
-                FUSE_VOLTAGE.clause,
-                f"fuse rated {r:g} V against the {words}: {why}",
-                "limit",
-            )
-        )
+        nominal = _fuse_voltage_at(f, normal, normal_words, "cold")
+        out.append(decided_at_worst(_fuse_voltage_at(f, v, words, "limit"), nominal, "highest voltage", (words,)))
     return out
 
 

@@ -111,3 +111,16 @@ def test_inductance_tolerance_is_read_from_the_drawing():
     fig = a.switching.stages[LARGEST][st.id]
     r = element_resistance(st, a.worst.largest_break.temperatures[st.id]) * (1 + R_LOW)
     assert fig.tau == pytest.approx(st.inductance / r, rel=1e-12)
+
+
+def test_relay_voltage_rating_carries_the_regulated_bus_as_nominal():
+    # In service the opening contact sees the bus plus the suppressor's clamp: decided at the highest
+    # voltage (the coach's 32 V code F maximum, ISO 16750-2 Table 2), the cold corner's regulated bus
+    # beside it. Margin convention (rating - need)/need on the figures read off the analysis here.
+    a, vs = check(parse_drawing(COACH.read_text(), str(COACH)))
+    v = verdict(vs, "relay.voltage_rating", "K1")
+    fig = a.contacts.relays["K1"]
+    need = a.corners["cold"].bus_voltage + fig.suppressor_voltage
+    # rel 1e-12: the same sum and quotient, round-off only
+    assert v.worst.nominal_margin == pytest.approx((80.0 - need) / need, rel=1e-12)
+    assert v.corner == "highest voltage" and v.limit == pytest.approx(32.0 + fig.suppressor_voltage, rel=1e-12)

@@ -103,7 +103,21 @@ def _contact_voltages(a: Analysis, relay: Relay, ids: list[str]) -> list[Verdict
             not_checked(RELAY_VOLTAGE, relay.id, f"no voltage_rating given (needs >= {cv:.1f} V: {what})", "V", "limit")
         )
     else:
-        out.append(at_least(RELAY_VOLTAGE, relay.id, rating, cv, "V", f"switching voltage rating: {what}", "limit"))
+        worst = at_least(RELAY_VOLTAGE, relay.id, rating, cv, "V", f"switching voltage rating: {what}", "limit")
+        # nominal: the cold corner's regulated bus, plus the suppressor's voltage at the cold corner's break
+        bus = a.corners["cold"].bus_voltage
+        cv_n = bus + (fig.suppressor_voltage if ids and not bare else 0.0)
+        nominal = at_least(
+            RELAY_VOLTAGE,
+            relay.id,
+            rating,
+            cv_n,
+            "V",
+            f"switching voltage rating: the cold corner's {bus:.2f} V regulated bus"
+            + (f" plus the suppressor's {fig.suppressor_voltage:.1f} V" if ids and not bare else ""),
+            "cold",
+        )
+        out.append(decided_at_worst(worst, nominal, "highest voltage", (hi_words,)))
     if not ids or a.switching is None:
         return out
     dm, r_load = fig.dump, fig.load_resistance

@@ -129,3 +129,20 @@ def test_above_the_stage_cap_the_effects_are_left_out_and_said():
     out = with_effects(a, vs)
     noted = [v for v in out if v.worst is not None and any("left out above" in x for x in v.worst.deciding)]
     assert noted and all(not v.worst.sensitivities for v in noted if v.rule == "suppressor.rating")
+
+
+@pytest.mark.parametrize("path", [COACH, TRUCK], ids=["coach", "truck"])
+def test_no_rule_reads_the_transients(path):
+    # The field's saturating switch-on and the stages' T0.95 are shown in the report and read by no
+    # rule: every verdict is the same with and without them (the re-analyses of the effects and
+    # sizing's screens leave them out on that ground).
+    from coilstage.analysis.run import analyse
+    from coilstage.checks import RULES
+
+    d = parse_drawing(path.read_text(), str(path))
+    full, light = analyse(d), analyse(d, transients=False)
+    assert light.field.switch_on == []  # (the truck's coils have no magnetic circuit: empty in both)
+    assert all(x.t95_alone is None for per in light.switching.stages.values() for x in per.values())
+    got = [(v.rule, v.subject, v.status, v.value, v.margin, v.note) for r in RULES for v in r.evaluate(light)]
+    want = [(v.rule, v.subject, v.status, v.value, v.margin, v.note) for r in RULES for v in r.evaluate(full)]
+    assert got == want

@@ -56,8 +56,9 @@ NEGLIGIBLE = 1e-5
 METHOD = "found by analysing again with one tolerance removed at a time (no corner search)"
 #: parameters screened together first (one analysis with all of them at nominal), since the named
 #: worst cases that read them are those of the model's own rules (the largest fault's battery EMF,
-#: resistance and alternator excess; the smallest fault's own resistance; the regulator's temperature,
-#: which the model alone varies). Only the speed rests on this: where that analysis moves any verdict,
+#: resistance and alternator excess; the smallest fault's own resistance; the regulator's temperature
+#: and its compensation, which the model alone varies: the named worst cases take the compensation's
+#: nominal gradient). Only the speed rests on this: where that analysis moves any verdict,
 #: each is analysed on its own. (Two effects cancelling to within a thousandth of a point on every
 #: verdict they move would hide both; with independent laws behind them this is not expected.)
 SCREEN = frozenset(
@@ -67,6 +68,8 @@ SCREEN = frozenset(
         "supply.battery.resistance_min_factor",
         "supply.alternator.cold_excess",
         "supply.alternator.regulator_temperature",
+        "supply.alternator.compensation_12v",
+        "supply.alternator.compensation_24v",
     }
 )
 #: above this many stages the re-analyses are left out (their cost grows with the drawing; the

@@ -83,7 +83,7 @@ from coilstage.analysis.topology import protected_cables
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.fault import adiabatic_final_temperature
-from coilstage.physics.network import PERMC_SPEC
+from coilstage.physics.network import PERMC_SPEC, charging_source_codes
 from coilstage.physics.supply_limits import regulator_setpoint
 
 #: status codes of :class:`Evaluated`
@@ -821,7 +821,7 @@ class Model:
         # and a unit current at its node (z): limited x = x_b + L z, off x = x_b, regulating by the
         # Sherman–Morrison update for its conductance G = 1/r_src to the reference,
         # x = y − G z (eᵀy)/(1 + G eᵀz) with y = x_b + (u/r_src) z; each sample keeps the state
-        # consistent with it (physics.network.charging_source_state, with the same rounding allowance)
+        # consistent with it (physics.network.charging_source_codes, with the same rounding allowance)
         g_off = np.concatenate([g_el, 1.0 / rb[:, None], np.zeros((n, 1))], axis=1)
         unit = np.zeros((n, size))
         net.inject(unit, net.alt_node, np.ones(n))
@@ -832,7 +832,7 @@ class Model:
         x_reg = y - (z * (y[:, k] / (r_src + z[:, k]))[:, None])
         i_reg = (u_set - x_reg[:, k]) / r_src
         slack = 1e-9 * np.maximum(1.0, limit)
-        mode = np.where(i_reg > limit + slack, 1, np.where(i_reg < -slack, 2, 0))
+        mode = charging_source_codes(i_reg, limit, slack)
         x_lim = xb + limit[:, None] * z
         out = np.where((mode == 0)[:, None], x_reg, np.where((mode == 1)[:, None], x_lim, xb))
         return out, mode

@@ -334,11 +334,50 @@ def charging_source_state(i_regulating: float, i_limit: float, tol: float = 0.0)
     >>> charging_source_state(120.0, 100.0), charging_source_state(-1.0, 100.0), charging_source_state(50.0, 100.0)
     ('current-limited', 'off', 'regulating')
     """
-    if i_regulating > i_limit + tol:
-        return "current-limited"
-    if i_regulating < -tol:
-        return "off"
-    return "regulating"
+    return SOURCE_STATES[int(charging_source_codes(np.asarray(i_regulating), np.asarray(i_limit), tol))]
+
+
+#: the states of :func:`charging_source_state` by the codes of :func:`charging_source_codes`
+SOURCE_STATES = ("regulating", "current-limited", "off")
+
+
+def charging_source_codes(i_regulating: np.ndarray, i_limit: np.ndarray, tol: np.ndarray | float = 0.0) -> np.ndarray:
+    r"""The state of :func:`charging_source_state` for arrays of samples, as codes: 0 regulating,
+    1 current-limited, 2 off (:data:`SOURCE_STATES`); the one decision of the state, which the scalar
+    form and the vectorised tolerance model (analysis.params) both call.
+
+    .. math:: \text{code} = \begin{cases} 1 & i_{reg} > i_{limit} + tol \\ 2 & i_{reg} < -tol \\ 0 &
+              \text{otherwise} \end{cases}
+
+    Parameters
+    ----------
+    i_regulating : numpy.ndarray
+        What the regulator would deliver holding its set-point, per sample. [A]
+    i_limit : numpy.ndarray
+        The source's output limit per sample (or one for all). [A]
+    tol : numpy.ndarray or float
+        Widens the regulating range against rounding. [A]
+
+    Returns
+    -------
+    numpy.ndarray
+        The state code per sample (integers). [–]
+
+    Notes
+    -----
+    As :func:`charging_source_state`, elementwise.
+
+    References
+    ----------
+    .. [1] ISO 8854:2012, Road vehicles — Alternators with regulators — Test methods and general
+       requirements (output current characteristic).
+
+    Examples
+    --------
+    >>> charging_source_codes(np.array([120.0, -1.0, 50.0]), np.array(100.0)).tolist()
+    [1, 2, 0]
+    """
+    return np.where(i_regulating > i_limit + tol, 1, np.where(i_regulating < -tol, 2, 0))
 
 
 @dataclass(frozen=True)

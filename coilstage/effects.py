@@ -150,6 +150,7 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
         light = dataclasses.replace(light, switching=dataclasses.replace(a.switching, stages=stages))
     base = _margins(_rules(light, ids))
     heated = {v.rule for v in targets if base.get((v.rule, v.subject)) != v.margin}
+    targeted = {(v.rule, v.subject) for v in targets}
     keys = {(v.rule, v.subject) for v in targets if v.rule not in heated}
     decided = {(v.rule, v.subject): v.margin for v in targets if (v.rule, v.subject) in keys}
     wanted = ids - heated
@@ -187,13 +188,13 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
     out = []
     for v in verdicts:
         k = (v.rule, v.subject)
-        if v.worst is not None and v.rule in heated and v in targets:
+        if v.worst is not None and v.rule in heated and k in targeted:
             why = (
                 "effects not computed: this rule reads the duty simulation or a switch-on transient, which the "
                 "re-analyses leave out"
             )
             out.append(dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=(*v.worst.deciding, why))))
-        elif k in found and v.worst is not None and v in targets:
+        elif k in found and v.worst is not None:
             effects = tuple(sorted(found[k], key=lambda e: -abs(e.margin_change)))
             lines = [f"effects: {METHOD}"]
             # a tolerance end that gives margin: nearer its nominal value the margin is lower, so the

@@ -83,7 +83,7 @@ from coilstage.analysis.topology import protected_cables
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.fault import adiabatic_final_temperature
-from coilstage.physics.network import PERMC_SPEC, charging_source_codes
+from coilstage.physics.network import PERMC_SPEC, Branches, charging_source_codes, conductance_pattern, mna_matrix
 from coilstage.physics.supply_limits import regulator_setpoint
 
 #: status codes of :class:`Evaluated`
@@ -305,20 +305,19 @@ class _Stamps:
 
     __array_ufunc__ = None  # ndarray @ _Stamps defers to __rmatmul__
 
-    def __init__(self, rows: list[tuple[int, int]], size: int):
-        entries: dict[int, int] = {}
-        coef: list[tuple[int, int, float]] = []
-        for r, (a, b) in enumerate(rows):
-            for i, j, v in ((a, a, 1.0), (b, b, 1.0), (a, b, -1.0), (b, a, -1.0)):
-                if i > 0 and j > 0:
-                    k = entries.setdefault((i - 1) * size + (j - 1), len(entries))
-                    coef.append((r, k, v))
-        self.size = size
-        self.pos = np.array(list(entries), dtype=np.int64)
-        self.map = np.zeros((len(rows), len(entries)))
-        for r, k, v in coef:
-            self.map[r, k] += v
+    def __init__(self, rows: list[tuple[int, int]], size: int) -> None:
         self.ab = np.array(rows, dtype=np.int64).reshape(-1, 2)  # (R, 2) node numbers, 0 the reference
+        # the stamps as physics.network states them (the one statement, which mna_matrix assembles with)
+        r, c, sign, branch = conductance_pattern(self.ab[:, 0], self.ab[:, 1])
+        flat = r * size + c
+        pos, first, slot = np.unique(flat, return_index=True, return_inverse=True)
+        order = np.argsort(first, kind="stable")  # the entries in the order the stamps first touch them
+        rank = np.empty_like(order)
+        rank[order] = np.arange(len(order))
+        self.size = size
+        self.pos = pos[order]
+        self.map = np.zeros((len(rows), len(pos)))
+        np.add.at(self.map, (branch, rank[slot]), sign)
         self._map_t = None
         self._const: tuple | None = None  # the constant part last assembled, and its nonzero entries
 
@@ -412,18 +411,13 @@ class _Net:
 
     def vsource_block(self, held: bool, size: int) -> np.ndarray:
         """The constant part of A: the rows and columns of the 0 V parts (and of the held bus)."""
-        m = np.zeros((size, size))
-        rows = [(self.ea[k], self.eb[k]) for k in self.zero_el]
+        rows = [(int(self.ea[k]), int(self.eb[k]), 0.0) for k in self.zero_el]
         if held:
-            rows.append((0, self.bat))
-        for q, (a, b) in enumerate(rows):
-            k = self.n + q
-            if a > 0:
-                m[a - 1, k] += 1.0
-                m[k, a - 1] -= 1.0
-            if b > 0:
-                m[b - 1, k] -= 1.0
-                m[k, b - 1] += 1.0
+            rows.append((0, self.bat, 0.0))
+        # the voltage sources' rows and columns as physics.network.mna_matrix stamps them
+        r, c, x, _rhs, _n = mna_matrix(self.n + 1, Branches.of([]), Branches.of(rows), Branches.of([]))
+        m = np.zeros((size, size))
+        np.add.at(m, (r, c), x)
         return m
 
     def inject(self, rhs: np.ndarray, node: int, current: np.ndarray) -> None:

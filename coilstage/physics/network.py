@@ -103,13 +103,13 @@ def mna_matrix(
     n = n_nodes - 1
     m = len(vsources.value)
     g = 1.0 / resistors.value
-    ra, rb = resistors.a - 1, resistors.b - 1
+    gr, gc, gs, ge = conductance_pattern(resistors.a, resistors.b)
     k = np.arange(m) + n
     va, vb = vsources.a - 1, vsources.b - 1
     ones = np.ones(m)
-    r = np.concatenate([ra, rb, ra, rb, va, k, vb, k])
-    c = np.concatenate([ra, rb, rb, ra, k, va, k, vb])
-    x = np.concatenate([g, g, -g, -g, ones, -ones, -ones, ones])
+    r = np.concatenate([gr, va, k, vb, k])
+    c = np.concatenate([gc, k, va, k, vb])
+    x = np.concatenate([gs * g[ge], ones, -ones, -ones, ones])
     keep = (r >= 0) & (c >= 0)
     rhs = np.zeros(n + m)
     ia, ib = isources.a, isources.b
@@ -145,6 +145,51 @@ def _csc(rows: np.ndarray, cols: np.ndarray, vals: np.ndarray, size: int):
     slot, indices, indptr, nnz = pat
     data = np.bincount(slot, weights=vals, minlength=nnz)
     return csc_matrix((data, indices, indptr), shape=(size, size))
+
+
+def conductance_pattern(a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    r"""Where the conductance stamps of branches from nodes ``a`` to ``b`` fall in the MNA matrix
+    (node 0 dropped, so node k is row k − 1): per stamp entry its row, column, sign and branch.
+
+    .. math:: G_{aa} \mathrel{+}= g,\; G_{bb} \mathrel{+}= g,\; G_{ab} = G_{ba} \mathrel{-}= g
+
+    Parameters
+    ----------
+    a : numpy.ndarray
+        From-node of each branch (0 the reference). [–]
+    b : numpy.ndarray
+        To-node of each branch. [–]
+
+    Returns
+    -------
+    (rows, cols, signs, branch)
+        Arrays of the stamp entries, those on the reference row or column left out: the matrix gets
+        ``signs * g[branch]`` at ``(rows, cols)`` (duplicates add). [–]
+
+    Notes
+    -----
+    The one statement of the stamps: :func:`mna_matrix` assembles with it, and the batched
+    tolerance model (analysis.params) takes its pattern once and scales it per sample.
+
+    References
+    ----------
+    .. [1] C.-W. Ho, A. E. Ruehli, P. A. Brennan (1975), see the module references.
+
+    Examples
+    --------
+    >>> r, c, s, e = conductance_pattern(np.array([1]), np.array([2]))
+    >>> r.tolist(), c.tolist(), s.tolist(), e.tolist()
+    ([0, 1, 0, 1], [0, 1, 1, 0], [1.0, 1.0, -1.0, -1.0], [0, 0, 0, 0])
+    """
+    ra, rb = np.asarray(a, dtype=np.int64) - 1, np.asarray(b, dtype=np.int64) - 1
+    n = len(ra)
+    e = np.arange(n)
+    rows = np.concatenate([ra, rb, ra, rb])
+    cols = np.concatenate([ra, rb, rb, ra])
+    signs = np.concatenate([np.ones(n), np.ones(n), -np.ones(n), -np.ones(n)])
+    branch = np.concatenate([e, e, e, e])
+    keep = (rows >= 0) & (cols >= 0)
+    return rows[keep], cols[keep], signs[keep], branch[keep]
 
 
 class Factorized:

@@ -98,9 +98,11 @@ def _relay(
     hot_bus: float,
     lowest_bus: float,
     u_hi: float,
+    coil_of: RelayFigures | None = None,
 ) -> RelayFigures:
     """One relay's figures, its break from the stage figures ``per`` (one case of the switching, with
-    its bus ``bus`` [V]; None where switching was not analysed)."""
+    its bus ``bus`` [V]; None where switching was not analysed); its coil's figures, which do not depend
+    on the break, taken from ``coil_of`` where given (the same relay's figures in another case)."""
     stages = {s.id: s for s in d.stages}
     cold = per if per is not None else {}
     bare = [s for s in ids if stages[s].suppression.kind == "none"]
@@ -117,7 +119,9 @@ def _relay(
         arc_n = arc_at_contact(i_b, u_hi, stored, op.release)
         arc_s = arc_at_contact(i_b, u_hi, stored, op.release_slowest)
     hot_nom = hot_low = coil = None
-    if r.coil is not None:
+    if coil_of is not None:
+        hot_nom, hot_low, coil = coil_of.pickup_hot, coil_of.pickup_lowest, coil_of.coil
+    elif r.coil is not None:
         hot_nom = coil_at(r, hot_bus, hot_temperature(r))
         hot_low = coil_at(r, lowest_bus, hot_temperature(r))
         coil = coil_circuit(d, r, u_hi)
@@ -147,7 +151,7 @@ def contacts(
     if sw is not None and LARGEST in sw.stages and largest_bus is not None:
         per = sw.stages[LARGEST]
         largest = {
-            r.id: _relay(d, r, switched.get(r.id, []), per, largest_bus, hot_bus, lowest_bus, u_hi)
+            r.id: _relay(d, r, switched.get(r.id, []), per, largest_bus, hot_bus, lowest_bus, u_hi, relays[r.id])
             for r in d.of_kind(Relay)
         }
     return Contacts(u_hi, relays, {c: stage_dumps(d, c) for c in ("none", "central")}, largest)

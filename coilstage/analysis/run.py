@@ -72,7 +72,8 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients
     also the switch-on and switch-off scenarios; with ``heating``, the drawing's duty profile and
     continuous full retardation; with ``transients``, the field's saturating switch-on (its
     ``FieldResult.switch_on``) and the stages' switch-on times T0.95 (no rule reads either, the report
-    shows them: an analysis made without them is for the re-analyses of :mod:`coilstage.effects`)."""
+    shows them: an analysis made without them is for the re-analyses of :mod:`coilstage.effects` and
+    sizing's screens, never for a report)."""
     circuit = Circuit(d)
     cases = conditions(d)
     nets = case_networks(circuit, cases)

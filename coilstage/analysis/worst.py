@@ -203,16 +203,13 @@ def defaults() -> dict[str, dict]:
     return {r["key"]: r for r in tables.shipped("tolerance_defaults.toml")["table"]["rows"]}
 
 
-def coil_tolerances(d: Drawing, tol: dict[str, dict], end: str) -> dict[str, float]:
-    """Stage id -> the ``end`` ("low" or "high") of its coil type's resistance tolerance (the drawing's
-    own row for that coil type where it states one, else the generic row) [fraction]."""
-    return {s.id: float(lookup(tol, "coils.*.resistance_tolerance", s.coil.name)[end]) for s in d.stages}
-
-
-def coil_inductance_tolerances(d: Drawing, tol: dict[str, dict], end: str) -> dict[str, float]:
-    """Stage id -> the ``end`` ("low" or "high") of its coil type's inductance tolerance (its own row
-    where the drawing states one, else the generic row) [fraction]."""
-    return {s.id: float(lookup(tol, "coils.*.inductance_tolerance", s.coil.name)[end]) for s in d.stages}
+def coil_tolerances(
+    d: Drawing, tol: dict[str, dict], end: str, key: str = "coils.*.resistance_tolerance"
+) -> dict[str, float]:
+    """Stage id -> the ``end`` ("low" or "high") of its coil type's tolerance ``key`` (the resistance's,
+    or ``coils.*.inductance_tolerance``): the drawing's own row for that coil type where it states one,
+    else the generic row [fraction]."""
+    return {s.id: float(lookup(tol, key, s.coil.name)[end]) for s in d.stages}
 
 
 @dataclass(frozen=True)
@@ -496,7 +493,7 @@ def worst_cases(
         ("coils", f"{t_min:g} °C, resistance {_tol_words(r_tol)} (tolerance)"),
         ("bus", reg_words),
     )
-    l_hi = coil_inductance_tolerances(d, tol, "high")
+    l_hi = coil_tolerances(d, tol, "high", "coils.*.inductance_tolerance")
     largest_break = BreakCase(
         _with_coil_tolerance(d, r_tol, l_hi),
         cold_t,

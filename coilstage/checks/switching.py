@@ -174,8 +174,7 @@ def _relay_breaking(a: Analysis) -> list[Verdict]:
     out = []
     stages = _stage_map(a)
     per = a.switching.stages.get(LARGEST)
-    b = a.worst.largest_break
-    words = () if b is None else tuple(f"{k} {v}" for k, v in b.words)
+    words = _break_words(a)
     for relay in a.drawing.of_kind(Relay):
         ids = a.switched.get(relay.id, [])
         if not ids:

@@ -10,6 +10,7 @@ from collections import Counter
 from typing import Any
 
 from coilstage import __version__
+from coilstage.analysis.conditions import LARGEST
 from coilstage.analysis.params import RULES as MODELLED
 from coilstage.analysis.run import Analysis
 from coilstage.checks import Status, Verdict
@@ -23,14 +24,27 @@ def q(value: float | None, unit: str) -> dict[str, Any] | None:
 
 def cautions(a: Analysis) -> list[dict[str, str]]:
     """The usual cautions, with this drawing's own figures in them."""
+    # each figure at its worst case: the battery short at the largest fault, the windings at the higher of
+    # the hot corner and the peak of the duty simulations, the stored energy at the largest break
+    short = max(a.battery_short_circuit, a.worst.largest_fault.battery)
+    short_where = "largest fault" if a.worst.largest_fault.battery > a.battery_short_circuit else "cold corner"
     hot = max((s.temperature for s in a.corners["hot"].stages), default=0.0)
+    hot_where = "in the hot corner"
+    for run, words in ((a.descent, "over the drawing's duty"), (a.continuous, "under continuous retardation")):
+        if run is not None and run.stage_temperature.size and float(run.stage_temperature.max()) > hot:
+            hot, hot_where = float(run.stage_temperature.max()), words
     energy = max((s.stored_energy for s in a.corners["cold"].stages), default=0.0)
+    energy_where = "cold corner"
+    if a.switching is not None and LARGEST in a.switching.stages:
+        big = max((x.stored_energy for x in a.switching.stages[LARGEST].values()), default=0.0)
+        if big > energy:
+            energy, energy_where = big, "largest break"
     return [
         {
             "hazard": "battery short-circuit energy",
             "text": (
-                f"A short at the battery terminals could drive about {a.battery_short_circuit / 1000:.1f} kA "
-                "(computed, cold corner). It melts tools and rings and can burst the battery. Disconnect the "
+                f"A short at the battery terminals could drive about {short / 1000:.1f} kA "
+                f"(computed, {short_where}). It melts tools and rings and can burst the battery. Disconnect the "
                 "battery negative first and reconnect it last; use insulated tools; keep the main fuse close to "
                 "the battery; protect every cable ahead of the first fuse from chafing."
             ),
@@ -38,7 +52,7 @@ def cautions(a: Analysis) -> list[dict[str, str]]:
         {
             "hazard": "hot coils",
             "text": (
-                f"The windings are taken up to {hot:.0f} °C in the hot corner, and the rotor runs far hotter after a "
+                f"The windings are taken up to {hot:.0f} °C {hot_where}, and the rotor runs far hotter after a "
                 "long descent. Let the retarder cool before touching it or the cables near it; keep fuel and "
                 "brake lines clear of it."
             ),
@@ -46,7 +60,7 @@ def cautions(a: Analysis) -> list[dict[str, str]]:
         {
             "hazard": "arcing contacts",
             "text": (
-                f"Each stage stores up to {energy:.0f} J in its field at switch-off (½·L·I², cold corner). Opening "
+                f"Each stage stores up to {energy:.0f} J in its field at switch-off (½·L·I², {energy_where}). Opening "
                 "a contact, pulling a fuse or unplugging a stage under load draws a sustained DC arc. Switch the "
                 "retarder off before working on it and fit suppression at each coil."
             ),

@@ -173,6 +173,12 @@ def _check_arguments(c: argparse.ArgumentParser) -> None:
         "is found by analysing the drawing again with that tolerance removed; up to 16 stages)",
     )
     c.add_argument(
+        "--duty-effects",
+        action="store_true",
+        help="also find the tolerances' effects on the rules that read the duty simulation (each re-analysis then "
+        "simulates the duty: seconds rather than a fraction of one)",
+    )
+    c.add_argument(
         "--summary", action="store_true", help="fleet mode: check many drawings and print one summary line each"
     )
     c.add_argument(
@@ -243,7 +249,7 @@ def _check(args: argparse.Namespace) -> int:
     if args.effects:
         from coilstage.effects import with_effects
 
-        verdicts = with_effects(analysis, verdicts)
+        verdicts = with_effects(analysis, verdicts, duty=args.duty_effects)
     from coilstage.report import document
 
     doc = document.build(analysis, verdicts)

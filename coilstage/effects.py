@@ -28,7 +28,9 @@ names). An end that gives margin is said in the verdict's deciding lines.
 The re-analyses leave out the duty simulation, the field's saturating switch-on and the stages'
 switch-on times (``analyse(heating=False, transients=False)``): a rule whose verdicts change without
 them is left out, its verdicts noted as not computed, so that no effect is read off a figure the
-re-analysis did not make.
+re-analysis did not make. With ``duty=True`` (``coilstage check --duty-effects``) every re-analysis
+simulates the duty too, so the heating rules get their effects (each re-analysis then costs the
+duty's simulation: seconds, not a fraction of one).
 
 References
 ----------
@@ -40,13 +42,14 @@ References
 from __future__ import annotations
 
 import dataclasses
+from typing import Any
 
 from coilstage.analysis.params import RULES as MODELLED
 from coilstage.analysis.params import Parameter, coil_parameters, parameters
 from coilstage.analysis.run import Analysis, analyse
 from coilstage.checks import RULES
-from coilstage.checks.base import Sensitivity, Status, Verdict
-from coilstage.drawing.schema import Drawing, ToleranceSpec
+from coilstage.checks.base import UNMOVED, Sensitivity, Status, Verdict, WorstOf, decided_at_worst
+from coilstage.drawing.schema import Drawing, Stage, ToleranceSpec
 from coilstage.errors import AnalysisError
 
 #: a margin change below this (a fraction: 1e-5 is a thousandth of a point) counts as no effect (as
@@ -90,8 +93,7 @@ def cut(d: Drawing, p: Parameter, low: float, high: float) -> Drawing:
     for ``environment.ambient``, else a tolerance row the drawing states (``[tolerances]`` takes the
     same key; the shipped row's nominal, source and unit stay)."""
     if p.key == "environment.ambient":
-        env = dataclasses.replace(d.environment, ambient_min=low, ambient_max=high)
-        return dataclasses.replace(d, environment=env)
+        return _ambient_cut(d, low, high)
     spec = ToleranceSpec(low, high, p.distribution, f"{p.key} (cut for the effects)")
     return dataclasses.replace(d, tolerances={**d.tolerances, p.key: spec})
 
@@ -108,6 +110,43 @@ def _targets(verdicts: list[Verdict]) -> list[Verdict]:
     ]
 
 
+def _ambient_cut(d: Drawing, low: float, high: float) -> Drawing:
+    """The drawing with its ambient range cut to ``low``–``high``, and what the loader took from that
+    range where the drawing left it out moved with it: the cold corner at the lowest ambient, and a
+    part (or coil) placed in no zone at the highest (``drawing.corners`` and ``drawing.environment``
+    set those defaults; a value the drawing states itself stays)."""
+    old = d.environment
+    zones = dict(old.zones)
+    if zones.get("ambient") == old.ambient_max:  # the loader's zone for parts placed in none
+        zones["ambient"] = high
+    env = dataclasses.replace(old, ambient_min=low, ambient_max=high, zones=zones)
+    corners = d.corners
+    if corners.cold_ambient == old.ambient_min:  # the lowest ambient, the cold corner's default
+        corners = dataclasses.replace(corners, cold_ambient=low)
+
+    def placed(x: Any) -> Any:
+        if getattr(x, "zone", None) == "ambient" and getattr(x, "zone_temperature", None) == old.ambient_max:
+            return dataclasses.replace(x, zone_temperature=high)
+        return x
+
+    coils = {name: placed(c) for name, c in d.coils.items()}
+    elements = tuple(
+        dataclasses.replace(placed(e), coil=placed(e.coil)) if isinstance(e, Stage) else placed(e) for e in d.elements
+    )
+    return dataclasses.replace(d, environment=env, corners=corners, coils=coils, elements=elements)
+
+
+def _plain(verdicts: list[Verdict]) -> list[Verdict]:
+    """The verdicts decided at the conditions their rule names, with no worst case built from the
+    tolerances (no nominal beside them): their effects are measured too, and their nominal is the
+    analysis with every declared tolerance at its nominal value."""
+    return [
+        v
+        for v in verdicts
+        if v.worst is None and v.rule not in MODELLED and v.status is not Status.NOT_CHECKED and v.margin is not None
+    ]
+
+
 def _rules(a: Analysis, ids: set[str]) -> list[Verdict]:
     return [v for r in RULES if r.id in ids for v in r.evaluate(a)]
 
@@ -116,11 +155,12 @@ def _margins(vs: list[Verdict]) -> dict[tuple[str, str], float | None]:
     return {(v.rule, v.subject): v.margin for v in vs}
 
 
-def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
+def with_effects(a: Analysis, verdicts: list[Verdict], duty: bool = False) -> list[Verdict]:
     """The verdicts, each one decided at a named worst case outside the tolerance model carrying its
     parameters' effects (largest first) and a deciding line naming the method; the others as given.
-    Where the drawing is too large, or a rule reads the duty simulation, or a re-analysis cannot be
-    made, the verdicts say so in their deciding lines instead."""
+    Where the drawing is too large, or a rule reads the duty simulation (unless ``duty``: then the
+    re-analyses simulate it too), or a re-analysis cannot be made, the verdicts say so in their
+    deciding lines instead."""
     unbounded = {
         (v.rule, v.subject)
         for v in verdicts
@@ -131,7 +171,8 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
         unbounded,
         "effects not computed: this verdict has no margin to move (its limit is missing or unbounded)",
     )
-    targets = _targets(verdicts)
+    plain = _plain(verdicts)
+    targets = _targets(verdicts) + plain
     if not targets:
         return verdicts
     d = a.drawing
@@ -141,7 +182,9 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
     ids = {v.rule for v in targets}
     # a rule whose verdicts move without the duty simulation, the field's switch-on or the stages'
     # T0.95 cannot be re-analysed without them
-    light = dataclasses.replace(a, descent=None, continuous=None, field=dataclasses.replace(a.field, switch_on=[]))
+    light = dataclasses.replace(a, field=dataclasses.replace(a.field, switch_on=[]))
+    if not duty:
+        light = dataclasses.replace(light, descent=None, continuous=None)
     if a.switching is not None:
         stages = {
             c: {k: dataclasses.replace(x, t95_alone=None, t95_all=None) for k, x in per.items()}
@@ -159,7 +202,7 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
     def moved(p: Parameter, low: float, high: float) -> dict[tuple[str, str], float]:
         """The verdicts whose margin moves with the parameter's range cut to ``low``–``high``: the
         margin as decided minus the margin so."""
-        got = _margins(_rules(analyse(cut(d, p, low, high), heating=False, transients=False), wanted))
+        got = _margins(_rules(analyse(cut(d, p, low, high), heating=duty, transients=False), wanted))
         out = {}
         for k, m0 in decided.items():
             m = got.get(k)
@@ -169,7 +212,7 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
 
     try:
         ps = declared(d)
-        screened = _screened(d, ps, decided, wanted)
+        screened = _screened(d, ps, decided, wanted, duty)
         for p in ps:
             if p.key in screened:
                 continue
@@ -183,15 +226,19 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
             for k, change in held.items():
                 end = p.high if (p.high > n and (p.low == n or k in no_high)) else p.low
                 found[k].append(Sensitivity(p.key, p.words, end - n, change))
+        plain_keys = {(v.rule, v.subject) for v in plain} & keys
+        nominal = _nominal(d, ps, {k[0] for k in plain_keys}, duty) if plain_keys else {}
     except (AnalysisError, ValueError, ArithmeticError) as exc:
         return _note(verdicts, keys, f"effects not computed: a re-analysis failed ({exc})")
     out = []
     for v in verdicts:
         k = (v.rule, v.subject)
-        if v.worst is not None and v.rule in heated and k in targeted:
+        if v.worst is None and k in found:
+            out.append(_with_nominal(v, nominal.get(k), found[k]))
+        elif v.worst is not None and v.rule in heated and k in targeted:
             why = (
                 "effects not computed: this rule reads the duty simulation or a switch-on transient, which the "
-                "re-analyses leave out"
+                "re-analyses leave out (coilstage check --duty-effects simulates the duty in each)"
             )
             out.append(dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=(*v.worst.deciding, why))))
         elif k in found and v.worst is not None:
@@ -211,8 +258,46 @@ def with_effects(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
     return out
 
 
+def _nominal(d: Drawing, ps: list[Parameter], ids: set[str], duty: bool = False) -> dict[tuple[str, str], Verdict]:
+    """The verdicts of the rules ``ids`` with every declared parameter held at its nominal value (one
+    analysis): the nominal beside a verdict its rule decides at conditions it names."""
+    held = d
+    for p in ps:
+        n = min(max(p.nominal, p.low), p.high)
+        held = cut(held, p, n, n)
+    return {(v.rule, v.subject): v for v in _rules(analyse(held, heating=duty, transients=False), ids)}
+
+
+#: what a verdict decided at its rule's own conditions carries as its nominal (WorstOf.conditions)
+NOMINAL = "every declared tolerance at nominal"
+
+
+def _with_nominal(v: Verdict, nominal: Verdict | None, effects: list[Sensitivity]) -> Verdict:
+    """A verdict its rule decides at the conditions it names, with the tolerances' effects found: where
+    none moves it, its own figures are its nominal (said); where some do, the nominal is the analysis
+    with every tolerance at nominal, beside it as for a verdict decided at its worst case (the harsher
+    of the two decides, :func:`coilstage.checks.base.decided_at_worst`), its effects listed."""
+    effects = sorted(effects, key=lambda e: -abs(e.margin_change))
+    lines = [f"effects: {METHOD}"]
+    if not effects:
+        lines.append(f"{UNMOVED}: its nominal is the case its rule names")
+        tag = WorstOf(v.status, v.value, v.margin, NOMINAL, tuple(lines))
+        return dataclasses.replace(v, worst=tag)
+    if nominal is None or nominal.status is Status.NOT_CHECKED or nominal.unit != v.unit:
+        return v
+    lines.append("decided at the conditions its rule names (no worst case built from these tolerances)")
+    lines += [
+        f"not the lowest in {e.words}: held at nominal it leaves {e.margin_change * 100:.2g} points less"
+        for e in effects
+        if e.margin_change > 0
+    ]
+    decided = decided_at_worst(v, nominal, v.corner or "conditions its rule names", tuple(lines))
+    tag = dataclasses.replace(decided.worst, conditions=NOMINAL, sensitivities=tuple(effects))
+    return dataclasses.replace(decided, worst=tag)
+
+
 def _screened(
-    d: Drawing, ps: list[Parameter], decided: dict[tuple[str, str], float | None], wanted: set[str]
+    d: Drawing, ps: list[Parameter], decided: dict[tuple[str, str], float | None], wanted: set[str], duty: bool = False
 ) -> set[str]:
     """The keys of :data:`SCREEN` that move none of the verdicts ``decided``, found with one analysis
     holding all of them at nominal at once (empty where that analysis moves any verdict: each is then
@@ -224,7 +309,7 @@ def _screened(
     for p in group:
         n = min(max(p.nominal, p.low), p.high)
         held = cut(held, p, n, n)
-    got = _margins(_rules(analyse(held, heating=False, transients=False), wanted))
+    got = _margins(_rules(analyse(held, heating=duty, transients=False), wanted))
     for k, m0 in decided.items():
         m = got.get(k)
         if m0 is not None and (m is None or abs(m0 - m) > NEGLIGIBLE):

@@ -47,15 +47,22 @@ FIXED_KEY = "fixed"
 AUTO = "auto"
 
 _RANK = {"fail": 0, "warn": 1, "pass": 2}
+#: element kind -> the keys of it that enter no network (ratings judged against figures the network
+#: already gave): a candidate that changes only these is judged on the analysis already made
+#: (:meth:`Bench.rated`); tests/test_rerated.py holds each equal to a fresh analysis
+RATING_KEYS: dict[str, frozenset[str]] = {
+    "fuse": frozenset({"rating", "type", "breaking_capacity", "voltage_rating"}),
+    "relay": frozenset({"rating_12v", "rating_24v", "derating", "voltage_rating"}),
+}
 _SWITCHING_RULES = ("relay.inductive_break", "suppressor.rating", "stage.release_time")
-_HEATING_RULES = (
-    "winding.temperature",
-    "winding.time_to_limit",
-    "cable.conductor_temperature",
-    "battery.charge",
-    "fuse.duty_thermal_state",
-    "fuse.cyclic_duty",
-)
+
+
+def _heating_rules() -> tuple[str, ...]:
+    from coilstage.checks import DUTY_RULES
+
+    return DUTY_RULES
+
+
 #: What sizing cannot change, by rule: the part of the vehicle it belongs to.
 UNCHANGEABLE = {
     "winding.temperature": "the coils and their cooling",
@@ -336,7 +343,8 @@ class Bench:
         self._fast: dict[Edits, dict] = {}
         self._full: dict[Edits, tuple] = {}
         self._duty: dict[tuple, dict | None] = {}
-        self._rated: dict[Edits, dict | None] = {}  # relay ratings judged on an analysis already made
+        #: (candidate, rules) -> verdicts of a rating-only candidate judged on an analysis already made
+        self._rated: dict[tuple, dict | None] = {}
         #: (part kind, series) -> the largest member the rules could judge, as last found
         self.tops: dict[tuple, int] = {}
         self.evaluations = {"screen": 0, "full": 0}
@@ -416,6 +424,50 @@ class Bench:
             harness[i] = e
         return {**self._raw, "harness": harness}
 
+    def _kind(self, index: int) -> str | None:
+        """The kind of harness element ``index`` as written (None where the harness cannot be read)."""
+        if self._data({}) is None:
+            return None
+        harness = self._raw["harness"]
+        return harness[index].get("kind") if 0 <= index < len(harness) else None
+
+    def rated(self, edits: dict, rules: tuple[str, ...] = ()) -> dict | None:
+        """Verdicts by (rule, subject) of the rules whose ids start with one of ``rules`` (all when
+        empty) for a candidate that differs from a drawing already checked in full only in keys of
+        :data:`RATING_KEYS`: that check's analysis with the candidate drawing in its place and every
+        figure made from a rating made again (``analysis.run.rerated``; tests/test_rerated.py holds it
+        equal to a fresh analysis for each kind of key). These are the full check's verdicts (the duty
+        rules included), not a screen's. None where no such check is at hand (then the caller
+        analyses the candidate)."""
+        from coilstage.analysis.run import rerated
+        from coilstage.checks import RULES, with_worst_corners
+
+        rest = {k: v for k, v in edits.items() if k[1] not in RATING_KEYS.get(self._kind(k[0]) or "", ())}
+        if len(rest) == len(edits):
+            return None
+        r = self._full.get(self.key(rest))
+        if r is None:
+            return None
+        key = (self.key(edits), rules)
+        if key not in self._rated:
+            d = self.drawing(edits)
+            out = None
+            if d is not None:
+                try:
+                    a = rerated(r[0], d)
+                    out = _by_key(
+                        with_worst_corners(
+                            a,
+                            [v for rule in RULES if not rules or rule.id.startswith(rules) for v in rule.evaluate(a)],
+                            self.corners(),
+                        )
+                    )
+                except _CANDIDATE_ERRORS:
+                    out = None
+            self._rated[key] = out
+            self.evaluations["screen"] += 1
+        return self._rated[key]
+
     def screen(self, edits: dict, switching: bool = True, rules: tuple[str, ...] = ()) -> dict | None:
         """Verdicts by (rule, subject) of the screening analysis (no duty simulation; with
         ``switching`` False no switching analysis either), of the rules whose ids start with one of
@@ -425,6 +477,9 @@ class Bench:
         if k in self._full:
             r = self._full[k]
             return None if r is None else r[1]
+        got = self.rated(edits, rules)
+        if got is not None:
+            return got
         for level in (True,) if switching else (False, True):
             for rs in {rules, ()}:
                 if (k, level, rs) in self._fast:
@@ -433,7 +488,7 @@ class Bench:
         if d is None:
             self._fast[(k, switching, rules)] = None
             return None
-        skipped = _HEATING_RULES + (() if switching else _SWITCHING_RULES)
+        skipped = _heating_rules() + (() if switching else _SWITCHING_RULES)
         try:
             vs = _by_key(_screen_verdicts(d, switching, rules, self.corners()))
         except _CANDIDATE_ERRORS:
@@ -474,6 +529,9 @@ class Bench:
         if k in self._full:
             r = self._full[k]
             return None if r is None else r[1]
+        got = self.rated(edits, rules)
+        if got is not None:
+            return got
         if (k, rules) not in self._duty:
             d = self.drawing(edits)
             out = None
@@ -815,11 +873,7 @@ def _switching_for(part: Part) -> bool:
 def _verdicts(bench: Bench, part: Part, edits: dict, full: bool = False) -> dict | None:
     """The verdicts of a candidate: the screen, or with ``full`` the part's rules on the full analysis
     (the duty simulation included) unless :func:`_duty_holds` shows the duty rules need no new run.
-    A relay's contact rating is judged on the analysis already made (:func:`_rating_only`)."""
-    if part.kind == "relay" and not full:
-        got = _rating_only(bench, part, edits)
-        if got is not None:
-            return got
+    A rating that enters no network is judged on the analysis already made (:meth:`Bench.rated`)."""
     if full:
         if _duty_holds(bench, part, edits):
             return bench.screen(edits, switching=_switching_for(part), rules=part.rules)
@@ -832,43 +886,6 @@ def candidate_verdicts(bench: Bench, part: Part, edits: dict) -> dict | None:
     screen, or a relay's contact rating on the analysis already made); None where the candidate
     cannot be read or judged."""
     return _verdicts(bench, part, edits)
-
-
-def _rating_only(bench: Bench, part: Part, edits: dict) -> dict | None:
-    """The relay's contact-rating verdicts of a candidate that differs from an analysed drawing in
-    that rating only: the analysis of the drawing without the edit, with the candidate drawing in
-    its place and every figure made from a rating made again (``analysis.run.rerated``: the rating
-    enters no network, which holds the contact's resistance); tests/test_sizing.py checks the result
-    against a fresh analysis. None where no analysis of the rest is at hand (then the screen runs)."""
-    from coilstage.analysis.run import rerated
-    from coilstage.checks import RULES, with_worst_corners
-
-    k = (part.index, part.key)
-    if k not in edits:
-        return None
-    rest = {x: v for x, v in edits.items() if x != k}
-    r = bench._full.get(bench.key(rest))
-    if r is None:
-        return None
-    key = bench.key(edits)
-    if key not in bench._rated:
-        d = bench.drawing(edits)
-        out = None
-        if d is not None:
-            try:
-                a = rerated(r[0], d)
-                out = _by_key(
-                    with_worst_corners(
-                        a,
-                        [v for rule in RULES if rule.id.startswith(part.rules) for v in rule.evaluate(a)],
-                        bench.corners(),
-                    )
-                )
-            except _CANDIDATE_ERRORS:
-                out = None
-        bench._rated[key] = out
-        bench.evaluations["screen"] += 1
-    return bench._rated[key]
 
 
 def _duty_holds(bench: Bench, part: Part, edits: dict) -> bool:
@@ -891,7 +908,7 @@ def _duty_holds(bench: Bench, part: Part, edits: dict) -> bool:
     today = bench._full.get(bench.key(rest))
     if today is None:
         return False
-    duty = [v for k, v in involved(part, today[1]).items() if k[0] in _HEATING_RULES]
+    duty = [v for k, v in involved(part, today[1]).items() if k[0] in _heating_rules()]
     return all(rank(v) >= 2 for v in duty)
 
 
@@ -936,17 +953,12 @@ def _smallest(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key
     if vs is None:
         return _Boundary(None, {}, (), (), False, False)
     inv = involved(part, vs)
-    # the targets: the best of today, the largest member and the member at three quarters (a table
-    # may leave its largest sizes without an ampacity, so the largest alone is no reference)
+    # the targets: the better of today and the largest member the rules can judge (the series is cut
+    # at the end of the tables the rules rest on, by :func:`_top`, so its largest member is a reference)
     targets = {k: rank(v) for k, v in inv.items()}
-    refs = [inv_today]
-    if len(series) > 2:
-        q = _verdicts(bench, part, _with(base, ((part.index, key), series[(3 * len(series)) // 4])))
-        refs.append(involved(part, q or {}))
-    for ref in refs:
-        for k, v in ref.items():
-            if k in targets:
-                targets[k] = max(targets[k], rank(v))
+    for k, v in inv_today.items():
+        if k in targets:
+            targets[k] = max(targets[k], rank(v))
     blocked = tuple(Finding.of(inv[k]) for k in inv if targets[k] < 1.5)  # not checked: missing data, listed apart
     improves = any(targets[k] > rank(v) for k, v in inv_today.items() if k in targets) or any(
         rank(v) < 2 for k, v in inv_today.items() if k not in targets
@@ -958,6 +970,10 @@ def _smallest(bench: Bench, part: Part, base: dict, series: tuple[str, ...], key
         return _with(base, ((part.index, key), series[j]))
 
     lo, hi = -1, len(series) - 1  # lo = -1 stands for "below the series"
+    if key == part.key and series == part.series[: len(series)] and _bad(inv_today, targets):
+        # today fails a target: no smaller member clears it (a smaller conductor or rating never
+        # passes what a larger one fails), so the search starts at today
+        lo = min(math.floor(part.today_pos), hi - 1)
     if not _ok(bench, part, cand(hi), targets)[0]:  # the best was reached lower down: not monotone
         hi = next((j for j in range(len(series)) if _ok(bench, part, cand(j), targets)[0]), hi)
     while hi - lo > 1:
@@ -994,7 +1010,7 @@ def _gallop(bench: Bench, part: Part, base: dict, inv_today: dict) -> _Boundary 
     passes every verdict the part takes part in: members today + 1, + 2, + 4, … until one passes,
     then bisection between the last that failed and it. A member that passes everything reaches
     every target a reference member could set (a target is at most a pass), so the references
-    (the largest member, the one at three quarters, the end of the judged series) are not needed:
+    (the largest member the rules can judge) are not needed:
     the targets are a pass on every verdict of the part. Today failing and the member below the
     boundary failing are what prove it, as in :func:`_smallest`; the series is taken to be monotone
     above today (a larger conductor or contact rating never fails what a smaller one passes). None
@@ -1589,7 +1605,7 @@ def _suggest_suppressor(bench: Bench, part: Part, base: dict) -> Suggestion | No
     if stage.suppression.kind == "none" and all(rank(v) >= 1.5 for v in inv_today.values()):
         return None
     release = d.switching.release_limit is not None
-    big = {"peak_current": "100 kA", "reverse_voltage": "100 kV", "energy_rating": "1 MJ"}
+    big = {"peak_current": "100 kA", "reverse_voltage": "100 kV", "energy_rating": "1000 kJ"}
 
     def spec(kind: str, volts: float | None, ratings: dict) -> str:
         s: dict[str, str] = {"kind": kind}
@@ -2103,7 +2119,7 @@ def _joint_suppressors(bench: Bench, parts: list[Part], edits: dict) -> dict:
     d = bench.drawing(edits)
     if d is None or not parts or d.switching.release_limit is not None:
         return {}
-    big = {"kind": "diode", "peak_current": "100 kA", "reverse_voltage": "100 kV", "energy_rating": "1 MJ"}
+    big = {"kind": "diode", "peak_current": "100 kA", "reverse_voltage": "100 kV", "energy_rating": "1000 kJ"}
     cand = dict(edits)
     for p in parts:
         cand[(p.index, p.key)] = format_value(big)
@@ -2277,7 +2293,7 @@ def size_drawing(
                 done_insulation.add((part.id, "insulation") if insul else (part.id, edits.get((part.index, part.key))))
             if changed:  # judged on the design as it now stands; the duty rules from the round's start
                 now = bench.screen(edits) or {}
-                vs_part = {**{k: v for k, v in vs.items() if k[0] in _HEATING_RULES}, **now}
+                vs_part = {**{k: v for k, v in vs.items() if k[0] in _heating_rules()}, **now}
             else:
                 vs_part = vs
             inv = involved(part, vs_part)

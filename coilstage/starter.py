@@ -96,7 +96,7 @@ _SYSTEMS = {
         "rating_24v",
         "150 A",
         'rating_12v = "200 A"  # the same contacts at 12 V (invented)',
-        "100 V",
+        "125 V",
         '{ voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "15 V", '
         'feed_resistance = "1.5 ohm", rise = "25 K" }',
         '{ kind = "diode_zener", zener_voltage = "24 V", forward_voltage = "0.9 V", peak_current = "150 A", '

@@ -37,8 +37,10 @@ DEFAULT_AWG_TABLE = "awg_astm_b258"
 _STATUS_WORDS = ("published", "from memory", "common practice", "derived")
 
 
-def _data_files() -> list[str]:
-    return sorted(p.name for p in resources.files("coilstage.data").iterdir() if p.name.endswith(".toml"))
+@cache
+def _data_files() -> tuple[str, ...]:
+    """The shipped table files (the package's own data: read once a process)."""
+    return tuple(sorted(p.name for p in resources.files("coilstage.data").iterdir() if p.name.endswith(".toml")))
 
 
 @dataclass(frozen=True)

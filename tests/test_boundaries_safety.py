@@ -19,7 +19,7 @@ import math
 import pytest
 
 from coilstage import check
-from coilstage.analysis.overvoltage import overvoltage_case
+from coilstage.analysis.overvoltage import overvoltage_case_of
 from coilstage.checks import Status
 from coilstage.checks.cables import AMPACITY, TEMPERATURE_CLASS
 from coilstage.checks.field import INDUCTANCE as INDUCTANCE_CROSSCHECK
@@ -628,6 +628,11 @@ def test_saturation_pinned_at_the_knee_of_steel_1010():
 # ------------------------------------------------------------------ overvoltage.cable
 
 
+#: the overvoltage rules are decided with each coil at the low end of its resistance tolerance: the
+#: shipped row's -5 % (data/tolerance_defaults.toml), the stated coil beside it as the nominal
+OV_COIL_LOW = 0.95
+
+
 def _ov_cable(coil_r: float, fuse: float = 300.0):
     text = drawing_text(stages=1, coil_r=[coil_r]).replace('rating = "300 A"', f'rating = "{fuse:.9f} A"', 1)
     return _verdict(OV_CABLE, _analysis(text), "W0")
@@ -649,8 +654,9 @@ def test_overvoltage_cable_pinned_at_its_ampacity_and_1_45_iz(fuse, cases):
     # rho20 = 1/58 ohm mm^2/m, IEC 60028, and 0.7 mohm of fuse and contact): 35.69 A, within 0.1 % (the
     # ISO 6722 conductor maxima lie a few % above rho/A on 0.9 % of the resistance). Iz of the 10 mm^2
     # class C branch W0 in its 60 degC zone: 102.1 A x sqrt((125 - 60)/(125 - 30)) = 84.48 A (as above).
+    # The verdict is decided with the coil 5 % low (OV_COIL_LOW): 36 V over 0.95 ohm and the path.
     path = 6.0 / (58 * 35.0) + 3.0 / (58 * 10.0) + 0.7e-3
-    assert _ov_cable(1.0, fuse).value == pytest.approx(36.0 / (1.0 + path), rel=1e-3)
+    assert _ov_cable(1.0, fuse).value == pytest.approx(36.0 / (OV_COIL_LOW + path), rel=1e-3)
     a8, a6 = _awg_area_mm2(8), _awg_area_mm2(6)
     iz = 90.0 * (10.0 / a8) ** (math.log(125.0 / 90.0) / math.log(a6 / a8)) * math.sqrt(65.0 / 95.0)
     # abs 0.01 A: Iz worked by hand to 0.01 A
@@ -688,13 +694,15 @@ def _ov_coil(rth: float, mass: float):
         'hot_temperature = "150 degC"\n', f'thermal_resistance = "{rth:.9f} K/W"\nconductor_mass = "{mass:.9f} kg"\n', 1
     )
     a = _analysis(text)
-    return overvoltage_case(a.drawing, a.circuit).coils["S0"], _verdict(OV_COIL, a, "S0")
+    # the case the verdict is decided at: the coil at the low end of its resistance tolerance
+    return overvoltage_case_of(a.drawing, a.circuit, worst=True).coils["S0"], _verdict(OV_COIL, a, "S0")
 
 
-def _hand_steady(v: float, rth: float, ta: float = 40.0) -> float:
-    # Winding steady state (theta - ta) = R_th V^2 / (R20 (1 + alpha (theta - 20))), R20 = 1 ohm, alpha20
-    # 0.00393 (IEC 60028): the quadratic alpha x^2 + (1 - 20 alpha - alpha ta) x - ta (1 - 20 alpha) - k = 0
-    k = rth * v * v / 1.0
+def _hand_steady(v: float, rth: float, ta: float = 40.0, r20: float = OV_COIL_LOW) -> float:
+    # Winding steady state (theta - ta) = R_th V^2 / (R20 (1 + alpha (theta - 20))), R20 = 1 ohm x 0.95
+    # (the coil's low tolerance end), alpha20 0.00393 (IEC 60028): the quadratic
+    # alpha x^2 + (1 - 20 alpha - alpha ta) x - ta (1 - 20 alpha) - k = 0
+    k = rth * v * v / r20
     qa, qb, qc = ALPHA_CU, 1 - 20 * ALPHA_CU - ALPHA_CU * ta, -ta * (1 - 20 * ALPHA_CU) - k
     return (-qb + math.sqrt(qb * qb - 4 * qa * qc)) / (2 * qa)
 
@@ -705,7 +713,7 @@ def test_overvoltage_coil_pinned_at_its_class_limit_in_steady_state():
     # the coil voltage (36 V less the path: within 0.1 % of 36/(1 + 8.8 mohm)). A small heat capacity
     # (0.5 kg) reaches the limit well within the 12 min duty, so above it fails.
     c, _ = _ov_coil(0.2, 0.5)
-    assert c.coil_voltage == pytest.approx(36.0 / (1.0 + 8.83e-3), rel=1e-3)
+    assert c.coil_voltage == pytest.approx(36.0 / (1.0 + 8.83e-3 / OV_COIL_LOW), rel=1e-3)
     assert c.steady_temperature == pytest.approx(_hand_steady(c.coil_voltage, 0.2), abs=0.01)
     # default rel 1e-6: the class H limit less its allowance, as read: round-off only
     assert c.limit == pytest.approx(CLASS_H_LIMIT)
@@ -720,13 +728,13 @@ def test_overvoltage_coil_pinned_at_its_class_limit_in_steady_state():
 
 def test_overvoltage_coil_pinned_at_the_duty_by_its_time_to_limit():
     # Above its class in steady state, the coil passes if it reaches 165 degC only after the 12 min duty.
-    # By hand (first order at the starting power, the rule's stated bound): P0 = V^2/R20 at 20 degC,
+    # By hand (first order at the starting power, the rule's stated bound): P0 = V^2/R20 at 20 degC (R20 = 0.95 ohm, the low end),
     # t = -R_th C ln(1 - (165 - 20)/(P0 R_th)) with C = m x 385 J/(kg K) (copper, CRC Handbook, from
     # memory); the mass where t is 1 % above / below 720 s.
     c, _ = _ov_coil(0.2, 5.0)
-    assert c.coil_voltage == pytest.approx(36.0 / (1.0 + 8.83e-3), rel=1e-3)  # Ohm's law, as above
+    assert c.coil_voltage == pytest.approx(36.0 / (1.0 + 8.83e-3 / OV_COIL_LOW), rel=1e-3)  # Ohm's law, as above
     assert c.start_temperature == pytest.approx(20.0)  # T_max 40 degC less 20 K, the rule's start
-    p0 = c.coil_voltage**2 / 1.0
+    p0 = c.coil_voltage**2 / OV_COIL_LOW
     hand = -0.2 * 5.0 * 385.0 * math.log(1 - (CLASS_H_LIMIT - 20.0) / (p0 * 0.2))
     assert c.time_to_limit == pytest.approx(hand, rel=1e-6)
     for k, status in ((1.01, Status.PASS), (0.99, Status.FAIL)):
@@ -802,13 +810,17 @@ def _relay_voltage(rating: float, central: str) -> dict:
 def test_relay_voltage_rating_pinned_at_the_opening_contact_voltage(central):
     # By hand: in service the opening contact sees the highest bus, the 32 V code F maximum (ISO 16750-2
     # Table 2; above the regulator's 29.4 V end), plus the diode and zener's 24 + 0.9 V: 56.9 V. In the load
-    # dump, the pulse behind its source resistance loaded by the stage (R_load = cold bus / break current):
-    # with central suppression (Test B) clamped at 58 V, so 58 + 24.9 = 82.9 V; without it (Test A) the
-    # pairing 151 V behind 1 ohm (the shipped Test A rows) gives 151 R/(R + 1) + 24.9 V, the larger of the
-    # two pairings here (202 V behind 8 ohm gives less). 1 % above each passes, 1 % below fails.
+    # dump, the pulse behind its source resistance loaded by the stage at its lightest load (R_load = bus /
+    # stage current with the coil hot at the high end of its tolerance, the braking-retained state: the
+    # least current, so the highest peak): with central suppression (Test B) clamped at 58 V, so 58 + 24.9
+    # = 82.9 V; without it (Test A) the pairing 151 V behind 1 ohm (the shipped Test A rows) gives
+    # 151 R/(R + 1) + 24.9 V, the larger of the two pairings here (202 V behind 8 ohm gives less). 1 %
+    # above each passes, 1 % below fails.
     a, vs = _relay_voltage(100.0, central)
     u0 = ZENER + FORWARD
-    r_load = a.corners["cold"].bus_voltage / a.switching.stages["cold"]["S0"].i_break
+    b = a.worst.braking
+    r_load = b.bus_voltage / abs(b.solution.current["S0"])
+    assert r_load > a.corners["cold"].bus_voltage / a.switching.stages["cold"]["S0"].i_break  # lighter than cold
     dump = TEST_B_24V + u0 if central == "yes" else max(151 * r_load / (r_load + 1), 202 * r_load / (r_load + 8)) + u0
     hand = {"K0": 32.0 + u0, "K0 load dump": dump}
     for subject, need in hand.items():

@@ -46,7 +46,9 @@ def test_inductance_effect_on_energy_and_release_is_the_closed_form_ratio(coach)
         assert e.change == pytest.approx(0.20)
         # rel 1e-9: the same figures in the same law, round-off only
         assert e.margin_change == pytest.approx(-(1 - 1 / 1.2) * v.value / v.limit, rel=1e-9)
-        assert v.worst.sensitivities[0] is e  # the largest effect comes first
+        # largest effect first (the coldest ambient leads: the cold corner follows the ambient range)
+        sizes = [abs(x.margin_change) for x in v.worst.sensitivities]
+        assert e in v.worst.sensitivities and sizes == sorted(sizes, reverse=True)
 
 
 def test_effect_equals_a_drawing_that_states_the_tolerance_exact(coach):
@@ -146,3 +148,86 @@ def test_no_rule_reads_the_transients(path):
     got = [(v.rule, v.subject, v.status, v.value, v.margin, v.note) for r in RULES for v in r.evaluate(light)]
     want = [(v.rule, v.subject, v.status, v.value, v.margin, v.note) for r in RULES for v in r.evaluate(full)]
     assert got == want
+
+
+def _no_alternator(text: str) -> str:
+    """A drawing's text without its alternator: the battery alone holds the bus (no regulator
+    tolerance to state, so every declared tolerance can be stated exact through the loader)."""
+    import re
+
+    return re.sub(r"\[supply.alternator\]\n(?:[a-z_]+ = .*\n)+", "", text)
+
+
+def test_a_verdict_no_tolerance_enters_is_its_own_nominal(coach):
+    # cable.temperature_class is decided at the stated zone against the class limit: no declared
+    # tolerance enters it. The re-analyses show it (no effect), and the verdict says so with its own
+    # figures as the nominal: its margin is unchanged and it carries no sensitivity.
+    from coilstage.checks.base import UNMOVED
+
+    _, vs = coach
+    v = _verdict(vs, "cable.temperature_class", "W1")
+    assert v.worst is not None and not v.worst.sensitivities
+    assert any(x.startswith(UNMOVED) for x in v.worst.deciding)
+    assert (v.worst.nominal_status, v.worst.nominal_value, v.worst.nominal_margin) == (v.status, v.value, v.margin)
+
+
+def test_a_verdict_at_its_rules_own_conditions_gets_the_all_nominal_drawing_as_nominal():
+    # fuse.coordination reads the design current at the largest-current case, and names no nominal: the
+    # re-analyses give its effects, and its nominal is the drawing with every declared tolerance at
+    # nominal. The reference is that drawing written out and read by the loader: the ambient range at
+    # its nominal 25 °C (the cold corner follows it, as the loader's default), the coils exact.
+    text = _no_alternator(drawing_text(stages=2).replace('rating = "300 A"', 'rating = "60 A"', 1))
+    a, vs = check(parse_drawing(text, "generated, 60 A main fuse"))
+    v = _verdict(with_effects(a, vs), "fuse.coordination", "FM")
+    exact = text.replace(
+        'ambient_min = "-30 degC"\nambient_max = "40 degC"', 'ambient_min = "25 degC"\nambient_max = "25 degC"'
+    )
+    assert exact != text
+    exact += '\n[tolerances]\ncoil_resistance = "0 %"\n'
+    _, vs_exact = check(parse_drawing(exact, "generated, every tolerance at nominal"))
+    w = _verdict(vs_exact, "fuse.coordination", "FM")
+    # rel 1e-9: the same analysis of the same network reached two ways (round-off only)
+    assert v.worst.nominal_margin == pytest.approx(w.margin, rel=1e-9)
+    assert v.worst.nominal_status is w.status is Status.PASS and v.status is Status.FAIL
+    # the coldest ambient and the low coil ends take the margin (the design current rises)
+    keys = {s.parameter: s for s in v.worst.sensitivities}
+    assert keys["environment.ambient"].change == pytest.approx(-55.0) and keys["environment.ambient"].margin_change < 0
+    assert v.note.startswith("pass nominally, FAIL at")
+
+
+def test_ambient_cut_moves_what_the_loader_took_from_the_ambient():
+    # The cold corner's ambient and a part placed in no zone come from the ambient range where the
+    # drawing leaves them out: cutting the range moves them as reading the cut drawing would.
+    text = drawing_text(stages=1)
+    d = parse_drawing(text, "generated")
+    amb = next(p for p in declared(d) if p.key == "environment.ambient")
+    got = cut(d, amb, 25.0, 25.0)
+    want = parse_drawing(
+        text.replace(
+            'ambient_min = "-30 degC"\nambient_max = "40 degC"', 'ambient_min = "25 degC"\nambient_max = "25 degC"'
+        ),
+        "generated",
+    )
+    assert got.corners == want.corners and got.environment == want.environment
+    assert [getattr(e, "zone_temperature", None) for e in got.elements] == [
+        getattr(e, "zone_temperature", None) for e in want.elements
+    ]
+
+
+@pytest.mark.parametrize("path", [COACH, TRUCK], ids=["coach", "truck"])
+def test_duty_rules_are_the_rules_that_read_the_duty_simulation(path):
+    # checks.DUTY_RULES (sizing's screens and the reports rely on it): exactly the rules whose verdicts
+    # change when the analysis leaves the duty simulation out.
+    from coilstage.analysis.run import analyse
+    from coilstage.checks import DUTY_RULES, RULES
+
+    d = parse_drawing(path.read_text(), str(path))
+    full, light = analyse(d), analyse(d, heating=False)
+
+    def figures(a):
+        return {(v.rule, v.subject): (v.status, v.value, v.margin, v.note) for r in RULES for v in r.evaluate(a)}
+
+    f, li = figures(full), figures(light)
+    moved = {k[0] for k in f if f[k] != li.get(k)}
+    assert moved <= set(DUTY_RULES)
+    assert moved == set(DUTY_RULES) or path is TRUCK  # the coach reads every one of them

@@ -30,6 +30,10 @@ from coilstage.physics.thermal import winding_steady_temperature
 #: tolerance, the bus at the regulator's highest end: analysis.worst), under which the field and the
 #: switching keep their figures beside the corners'
 LARGEST = "largest current"
+#: The name of the state that loads the bus least: the coils hot at the high end of their resistance
+#: tolerance, in the braking-retained state of analysis.worst (the least stage current, so a load
+#: dump's generator is loaded least and its peak is highest)
+LIGHTEST = "lightest load"
 
 #: The corners, in the order the report lists them, and what each is for.
 CORNER_PURPOSE: dict[str, str] = {

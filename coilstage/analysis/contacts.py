@@ -4,7 +4,9 @@ switching rules (``coilstage.checks.switching``) only compare:
 - the load a relay's contact breaks: the break current and stored energy of the stages it switches
   (cold corner) and the resistance they load the bus with, R = U_bus / I_break (Ohm's law);
 - the voltage across that contact if it opens during the ISO 16750-2 load dump that applies
-  (:func:`coilstage.analysis.load_dump.contact_dump`);
+  (:func:`coilstage.analysis.load_dump.contact_dump`), with the cold corner's load and with the
+  lightest load (:data:`~coilstage.analysis.conditions.LIGHTEST`: the least current loads the pulse's
+  generator least, so its peak is highest);
 - the arc at the contact where the relay's own coil suppression slows its opening
   (:func:`coilstage.analysis.relay_coil.arc_at_contact`, at the normal and the slowest release);
 - the coil's pick-up in the hot corner and at the lowest bus, and its feed circuit at the highest
@@ -17,6 +19,7 @@ Each result names the model that made it.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 from coilstage.analysis.conditions import LARGEST
@@ -62,13 +65,16 @@ class RelayFigures:
     stored_energy: float  # sum of their ½LI² at the break [J]
     suppressor_voltage: float  # highest suppressor voltage of its suppressed stages at the break [V]
     load_resistance: float | None  # U_bus (cold corner) / I_break [Ω]; inf for no current
-    dump: ContactDump | None  # the contact opening during the load dump that applies
+    dump: ContactDump | None  # the contact opening during the load dump that applies (cold corner's load)
     opening: Opening
     arc_normal: ArcAtContact | None  # at the unsuppressed release (only where the opening is slowed)
     arc_slowed: ArcAtContact | None  # at the slowest release
     pickup_hot: CoilAt | None  # coil hot, hot-corner bus
     pickup_lowest: CoilAt | None  # coil hot, lowest bus
     coil: CoilCircuit | None  # the coil's feed at the highest bus
+    #: the same opening at the lightest load (``analysis.conditions.LIGHTEST``: the load dump's generator loaded least,
+    #: so its peak is highest), with the highest suppressor voltage of the cases; None as ``dump``
+    dump_lightest: ContactDump | None = None
     model: str = (
         "Ohm's law R = U_bus/I_break; analysis.load_dump.contact_dump (ISO 16750-2 4.6.4); "
         "analysis.relay_coil (arc estimate, coil R(T) by physics.conductor.resistance_at_temperature)"
@@ -137,11 +143,13 @@ def contacts(
     lowest_bus: float,
     bus_high: float,
     largest_bus: float | None = None,
+    lightest: tuple[float, dict[str, float]] | None = None,
 ) -> Contacts:
     """Every relay's figures (``switched``: relay id -> the stages it switches; ``cold_bus``,
     ``hot_bus``: the cold and hot corners' bus [V]; ``lowest_bus``: the lowest bus of the worst cases
     [V]; ``bus_high``: the regulator's highest end [V]; ``largest_bus``: the bus of the switching's
-    largest-current case [V], where it has one) and the stages' load-dump figures."""
+    largest-current case [V], where it has one; ``lightest``: the bus [V] and each stage's current [A]
+    of the state that loads the bus least, :data:`LIGHTEST`) and the stages' load-dump figures."""
     u_hi = highest_bus(d, bus_high)
     cold = sw.stages["cold"] if sw is not None else None
     relays = {
@@ -154,4 +162,23 @@ def contacts(
             r.id: _relay(d, r, switched.get(r.id, []), per, largest_bus, hot_bus, lowest_bus, u_hi, relays[r.id])
             for r in d.of_kind(Relay)
         }
+    if lightest is not None and sw is not None:
+        relays = {rid: _lightest_dump(d, f, largest.get(rid), lightest) for rid, f in relays.items()}
     return Contacts(u_hi, relays, {c: stage_dumps(d, c) for c in ("none", "central")}, largest)
+
+
+def _lightest_dump(
+    d: Drawing, f: RelayFigures, big: RelayFigures | None, lightest: tuple[float, dict[str, float]]
+) -> RelayFigures:
+    """``f`` with its contact's opening during the load dump at the lightest load: the stages it switches
+    loading the generator with U_bus / ΣI of the state ``lightest`` (bus [V], stage id -> current [A]),
+    and the highest suppressor voltage of the cases (the cold corner's or the largest break's)."""
+    if f.dump is None or not f.stages:
+        return f
+    bus, current = lightest
+    i = sum(abs(current.get(s, 0.0)) for s in f.stages)
+    r_load = bus / i if i > 0 else float("inf")
+    bare = any(st.suppression.kind == "none" for st in d.stages if st.id in f.stages)
+    u_sup = 0.0 if bare else max(f.suppressor_voltage, big.suppressor_voltage if big is not None else 0.0)
+    dump = contact_dump(d, f.stages[0], r_load, u_sup, central_suppression(d))
+    return dataclasses.replace(f, dump_lightest=dump)

@@ -6,6 +6,11 @@ Which temperatures: the failure happens while driving, so the coils start from t
 decides the fuses and cables; the coils' own temperature is then taken to its steady state at that
 voltage (self-limiting: the resistance rises with it), and where that lies above the class limit, the
 time to reach it at the starting power (constant resistance, so the safe side: earlier than real).
+
+Which parts: the rules are decided with each coil at the low end of its resistance tolerance (the most
+current through the fuses and cables and the most power in the winding at a held bus), the stated
+coils beside it as the nominal; the cable lengths stay as drawn (their tolerance only lengthens
+them, which lowers every current).
 """
 
 from __future__ import annotations
@@ -15,6 +20,8 @@ import weakref
 from dataclasses import dataclass
 
 from coilstage.analysis.circuit import Circuit, SourceState, element_resistance
+from coilstage.analysis.tolerances import effective
+from coilstage.analysis.worst import coil_tolerances, tolerance_words, with_coil_tolerance
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.thermal import winding_steady_temperature
 
@@ -26,6 +33,8 @@ OVERVOLTAGE = {12: 18.0, 24: 36.0}
 DURATION = 3600.0
 BELOW_TMAX = 20.0
 STATUS = "from memory (ISO 16750-2 4.3.1; clause confirmed in the published contents, values not)"
+#: the conditions the overvoltage rules are decided at (the nominal beside them is "overvoltage")
+WORST = "overvoltage with the coils at their low resistance"
 
 
 @dataclass(frozen=True)
@@ -57,12 +66,18 @@ def temperatures(d: Drawing, t: float) -> dict[str, float]:
     return {e.id: t for e in d.elements if isinstance(e, (Cable, Stage))}
 
 
-def overvoltage_case(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
+def overvoltage_case(d: Drawing, circuit: Circuit, r_tol: dict[str, float] | None = None) -> OvervoltageCase | None:
     """The network solved with the bus held at the long-term overvoltage; None for a system voltage
-    the clause gives no figure for."""
+    the clause gives no figure for. ``r_tol``: stage id -> a fraction, each coil's resistance taken at
+    (1 + fraction) × its stated one (the stated coils where None or all zero)."""
     u = OVERVOLTAGE.get(d.supply.system_voltage)
     if u is None:
         return None
+    parts = ""
+    if r_tol and any(r_tol.values()):
+        d = with_coil_tolerance(d, r_tol)
+        circuit = Circuit(d)
+        parts = f", coil resistance {tolerance_words(r_tol)} (tolerance)"
     failed = u
     cut = d.supply.overvoltage_cutout
     if cut is not None and cut < u:
@@ -105,14 +120,14 @@ def overvoltage_case(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
         coils[s.id] = CoilAtOvervoltage(s.id, v_coil, t, steady, c.limit_temperature, ttl, how)
     words = (
         f"bus held at {u:g} V for {DURATION / 60:g} min (ISO 16750-2 4.3.1 regulator failure, {STATUS}), "
-        f"cables and coils starting at T_max - 20 °C = {t:g} °C"
+        f"cables and coils starting at T_max - 20 °C = {t:g} °C{parts}"
     )
     if u < failed:
         words = (
             f"a failed regulator holds the bus at {failed:g} V (ISO 16750-2 4.3.1, {STATUS}); the retarder's "
             f"controller drops its stages above its stated {u:g} V cut-out (supply.overvoltage_cutout), so the "
             f"stages run at most at {u:g} V for {DURATION / 60:g} min, cables and coils starting at "
-            f"T_max - 20 °C = {t:g} °C"
+            f"T_max - 20 °C = {t:g} °C{parts}"
         )
     cur = {k: abs(v) for k, v in sol.current.items()}
     cur_n = {k: abs(v) for k, v in sol_n.current.items()}
@@ -123,17 +138,19 @@ def overvoltage_case(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
     return OvervoltageCase(u, normal, t, cur, cur_n, coils, words, cuts)
 
 
-_CASES: dict[int, tuple[weakref.ref, weakref.ref, OvervoltageCase | None]] = {}
+_CASES: dict[tuple[int, bool], tuple[weakref.ref, weakref.ref, OvervoltageCase | None]] = {}
 
 
-def overvoltage_case_of(d: Drawing, circuit: Circuit) -> OvervoltageCase | None:
+def overvoltage_case_of(d: Drawing, circuit: Circuit, worst: bool = False) -> OvervoltageCase | None:
     """:func:`overvoltage_case` made once per (drawing, circuit) and kept while both live: the three
-    overvoltage rules of one analysis read the same case (it costs a solve per fuse)."""
-    hit = _CASES.get(id(circuit))
+    overvoltage rules of one analysis read the same case (it costs a solve per fuse). With ``worst``,
+    the case the rules are decided at (:data:`WORST`: each coil at the low end of its resistance
+    tolerance); without, the stated coils (the nominal beside it)."""
+    hit = _CASES.get((id(circuit), worst))
     if hit is not None and hit[0]() is circuit and hit[1]() is d:
         return hit[2]
-    case = overvoltage_case(d, circuit)
+    case = overvoltage_case(d, circuit, coil_tolerances(d, effective(d), "low") if worst else None)
     for k in [k for k, v in _CASES.items() if v[0]() is None or v[1]() is None]:
         del _CASES[k]
-    _CASES[id(circuit)] = (weakref.ref(circuit), weakref.ref(d), case)
+    _CASES[(id(circuit), worst)] = (weakref.ref(circuit), weakref.ref(d), case)
     return case

@@ -159,6 +159,9 @@ def _rated(
         worst.lowest_bus.bus_voltage,
         worst.bus_high,
         None if worst.largest_break is None else worst.largest_break.sources.hold_bus,
+        None
+        if worst.braking is None
+        else (worst.braking.bus_voltage, {st.id: worst.braking.solution.current[st.id] for st in d.stages}),
     )
     rates = ratings(
         d,

@@ -225,7 +225,9 @@ class BreakCase:
     words: tuple[tuple[str, str], ...]
 
 
-def _tol_words(r: dict[str, float]) -> str:
+def tolerance_words(r: dict[str, float]) -> str:
+    """Stage id -> tolerance fraction in words: one signed percentage where every stage takes the same
+    ("-5 %"), else each stage's ("S1 -5 %, S2 -3 %")."""
     vals = sorted(set(r.values()))
     if len(vals) <= 1:
         return f"{(vals[0] if vals else 0.0):+.0%}"
@@ -426,7 +428,7 @@ def worst_cases(
     rb_hot = raised_resistance(t_hot)
     # the windings' steady state is solved again in this state (a lower bus heats them less), with the
     # coils at the high end of their tolerance and the alternator hot-derated
-    db = _with_coil_tolerance(_with_cable_length(_with_battery(d, rb_hot), tol), r_hi)
+    db = with_coil_tolerance(_with_cable_length(_with_battery(d, rb_hot), tol), r_hi)
     if alt is not None:
         alt_b = dataclasses.replace(
             alt, limit_idle=alt.limit_idle * (1 - derate), limit_rated=alt.limit_rated * (1 - derate)
@@ -451,7 +453,7 @@ def worst_cases(
             ("alternator", alt_words),
             (
                 "coils",
-                f"resistance {_tol_words(r_hi)} (tolerance), at their steady state in this state: "
+                f"resistance {tolerance_words(r_hi)} (tolerance), at their steady state in this state: "
                 + ", ".join(f"{st.id} {b_temps[st.id]:.0f} °C" for st in d.stages),
             ),
             ("cables", f"at their zone temperatures, lengths {len_hi:+.0%}"),
@@ -490,16 +492,19 @@ def worst_cases(
         for k, i in duty.items()
     }
     words = (
-        ("coils", f"{t_min:g} °C, resistance {_tol_words(r_tol)} (tolerance)"),
+        ("coils", f"{t_min:g} °C, resistance {tolerance_words(r_tol)} (tolerance)"),
         ("bus", reg_words),
     )
     l_hi = coil_tolerances(d, tol, "high", "coils.*.inductance_tolerance")
     largest_break = BreakCase(
-        _with_coil_tolerance(d, r_tol, l_hi),
+        with_coil_tolerance(d, r_tol, l_hi),
         cold_t,
         src_hi,
         (
-            ("coils", f"{t_min:g} °C, resistance {_tol_words(r_tol)}, inductance {_tol_words(l_hi)} (tolerances)"),
+            (
+                "coils",
+                f"{t_min:g} °C, resistance {tolerance_words(r_tol)}, inductance {tolerance_words(l_hi)} (tolerances)",
+            ),
             ("bus", reg_words),
         ),
     )
@@ -519,7 +524,7 @@ def worst_cases(
     )
 
 
-def _with_coil_tolerance(d: Drawing, r_tol: dict[str, float], l_tol: dict[str, float] | None = None) -> Drawing:
+def with_coil_tolerance(d: Drawing, r_tol: dict[str, float], l_tol: dict[str, float] | None = None) -> Drawing:
     """The drawing with each stage's coil resistance at ``(1 + r_tol[stage id])`` × its stated one, and
     its inductance at ``(1 + l_tol[stage id])`` × its stated one where ``l_tol`` is given."""
     l_tol = l_tol or {}
@@ -553,7 +558,7 @@ def duty_sweep(
     if alt is not None and reg_tol is None:
         reg_tol = alt.tolerance
     stated_bus = alt is None or abs(d.corners.cold_bus - (alt.setpoint + alt.tolerance)) > 1e-9
-    circuit = Circuit(_with_coil_tolerance(d, r_tol) if any(r_tol.values()) else d)
+    circuit = Circuit(with_coil_tolerance(d, r_tol) if any(r_tol.values()) else d)
     currents: dict[str, list[float]] = {e.id: [] for e in d.elements}
     states: dict[str, list[str]] = {e.id: [] for e in d.elements}
     buses = []
@@ -589,7 +594,7 @@ def duty_sweep(
     words = (
         (
             "coils",
-            f"and cables starting at the ambient, coil resistance {_tol_words(r_tol)} (tolerance)"
+            f"and cables starting at the ambient, coil resistance {tolerance_words(r_tol)} (tolerance)"
             if any(r_tol.values())
             else "and cables starting at the ambient, stated coil resistance",
         ),

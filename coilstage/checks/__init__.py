@@ -43,6 +43,20 @@ RULES: list[Rule] = [
 ]
 
 
+#: the rules whose verdicts read the simulation of the duty profile or of continuous retardation
+#: (``Analysis.descent``, ``Analysis.continuous``): an analysis made without it (sizing's screens, the
+#: re-analyses of :mod:`coilstage.effects`) cannot judge them; tests/test_effects.py holds the list
+#: equal to the rules whose verdicts change when the simulation is left out
+DUTY_RULES: tuple[str, ...] = (
+    "winding.temperature",
+    "winding.time_to_limit",
+    "cable.conductor_temperature",
+    "battery.charge",
+    "fuse.duty_thermal_state",
+    "fuse.cyclic_duty",
+)
+
+
 def _sensitivities(vs: VerdictSensitivity) -> tuple[Sensitivity, ...]:
     """The effects of one verdict's parameters, largest first, as the verdict carries them."""
     return tuple(
@@ -103,4 +117,4 @@ def run_checks(a: Analysis) -> list[Verdict]:
     return with_worst_corners(a, out)
 
 
-__all__ = ["RULES", "Rule", "Status", "Verdict", "run_checks", "with_worst_corners"]
+__all__ = ["DUTY_RULES", "RULES", "Rule", "Status", "Verdict", "run_checks", "with_worst_corners"]

@@ -39,6 +39,11 @@ class Sensitivity:
     margin_change: float
 
 
+#: how :mod:`coilstage.effects` says that no declared tolerance moves a verdict its rule decides at the
+#: conditions it names (the start of one of its deciding lines; the reports read it)
+UNMOVED = "no declared tolerance moves this margin"
+
+
 @dataclass(frozen=True)
 class WorstOf:
     """How a verdict decided at its worst case compares with the nominal case: the nominal status,

@@ -6,7 +6,7 @@ import dataclasses
 from typing import TypeVar
 
 from coilstage import tables
-from coilstage.analysis.conditions import LARGEST
+from coilstage.analysis.conditions import LARGEST, LIGHTEST
 from coilstage.analysis.contacts import RelayFigures, highest_bus
 from coilstage.analysis.load_dump import applicable_test
 from coilstage.analysis.ratings import (
@@ -134,14 +134,29 @@ def _contact_voltages(a: Analysis, relay: Relay, ids: list[str]) -> list[Verdict
         + (" and the contact arcs (no suppressor)" if bare else f", plus the suppressor's {u_sup:.1f} V")
     )
     subject = f"{relay.id} load dump"
+    light = fig.dump_lightest
+    need = dm.contact_voltage if light is None else max(dm.contact_voltage, light.contact_voltage)
     if rating is None:
-        out.append(
-            not_checked(
-                RELAY_VOLTAGE, subject, f"no voltage_rating (needs >= {dm.contact_voltage:.1f} V: {dnote})", "V"
-            )
+        out.append(not_checked(RELAY_VOLTAGE, subject, f"no voltage_rating (needs >= {need:.1f} V: {dnote})", "V"))
+        return out
+    nominal = at_least(RELAY_VOLTAGE, subject, rating, dm.contact_voltage, "V", dnote, f"load dump {test}")
+    if light is None:
+        out.append(nominal)
+        return out
+    lnote = (
+        f"opening during the load dump ({said}, ISO 16750-2 4.6.4) at the lightest load: the bus peaks at "
+        f"{light.bus_peak:.1f} V ({light.pairing}, loaded by the {light.load_resistance:.3f} ohm of {', '.join(ids)}"
+        " with the coils hot at the high end of their resistance tolerance)"
+        + (
+            " and the contact arcs (no suppressor)"
+            if bare
+            else f", plus the suppressor's {light.suppressor_voltage:.1f} V"
         )
-    else:
-        out.append(at_least(RELAY_VOLTAGE, subject, rating, dm.contact_voltage, "V", dnote, f"load dump {test}"))
+    )
+    worst = at_least(RELAY_VOLTAGE, subject, rating, light.contact_voltage, "V", lnote, f"load dump {test}")
+    b = a.worst.braking
+    deciding = () if b is None else tuple(f"{k} {v}" for k, v in b.words if k in ("battery", "coils", "cables"))
+    out.append(decided_at_worst(worst, nominal, LIGHTEST, deciding))
     return out
 
 
@@ -365,7 +380,7 @@ def _suppressors(a: Analysis) -> list[Verdict]:
     out = []
     central = getattr(a.drawing.supply, "load_dump_suppression", "not known") or "not known"
     test, assumed = applicable_test(central)
-    u_hi, _hi_words = _highest_bus(a)
+    u_hi, hi_words = _highest_bus(a)
     largest = a.switching.stages.get(LARGEST, {})
     words = _break_words(a)
 
@@ -406,10 +421,6 @@ def _suppressors(a: Analysis) -> list[Verdict]:
         # blocking or standing off the load-dump pulse that applies (Test A / B): suppressor.load_dump
         clamped = tables.load_dump_clamped(a.drawing.supply.system_voltage)
         need_v = max(clamped, u_hi)
-        why = (
-            f"must block the clamped load dump ({clamped:g} V, ISO 16750-2 Test B) and the highest bus ({u_hi:g} V); "
-            f"the load dump that applies here (Test {test}{', assumed' if assumed else ''}) is suppressor.load_dump's"
-        )
         if sup.reverse_voltage is None:
             out.append(
                 not_checked(
@@ -417,15 +428,25 @@ def _suppressors(a: Analysis) -> list[Verdict]:
                 )
             )
         else:
+
+            def blocks(bus: float, bus_words: str, corner: str, sup=sup, s=s, what=what, clamped=clamped) -> Verdict:
+                why = (
+                    f"must block the clamped load dump ({clamped:g} V, ISO 16750-2 Test B) and the {bus_words} "
+                    f"({bus:g} V); the load dump that applies here (Test {test}{', assumed' if assumed else ''}) "
+                    "is suppressor.load_dump's"
+                )
+                return at_least(
+                    SUPPRESSOR, f"{s.id} {what} voltage", sup.reverse_voltage, max(clamped, bus), "V", why, corner
+                )
+
+            # decided at the highest bus, the cold corner's regulated bus as nominal (as the voltage ratings)
+            normal = a.corners["cold"].bus_voltage
             out.append(
-                at_least(
-                    SUPPRESSOR,
-                    f"{s.id} {what} voltage",
-                    sup.reverse_voltage,
-                    need_v,
-                    "V",
-                    why,
-                    "limit",
+                decided_at_worst(
+                    blocks(u_hi, "highest bus", "limit"),
+                    blocks(normal, "cold corner's regulated bus", "cold"),
+                    "highest voltage",
+                    (hi_words,),
                 )
             )
         if sup.energy_rating is None:

@@ -13,7 +13,7 @@ from coilstage import __version__
 from coilstage.analysis.conditions import LARGEST
 from coilstage.analysis.params import RULES as MODELLED
 from coilstage.analysis.run import Analysis
-from coilstage.checks import Status, Verdict
+from coilstage.checks import DUTY_RULES, Status, Verdict
 
 SCHEMA_VERSION = "1.0"
 
@@ -320,10 +320,19 @@ def sensitivity_note(v: Verdict) -> str | None:
             if v.worst is not None
             else "not computed: this verdict is decided without a figure the tolerance model varies"
         )
+    if v.worst is None and v.margin is None:
+        return "not computed: this verdict has no margin to move (its limit is missing or unbounded)"
+    if v.worst is None and v.rule in DUTY_RULES:
+        return (
+            "not computed: this rule reads the simulation of the duty (the heating over the duty profile), which "
+            "the re-analyses leave out unless asked (coilstage check --duty-effects); it is decided at the "
+            "conditions it names, with no nominal beside it"
+        )
     if v.worst is None:
         return (
             "not computed: this rule is decided at the conditions it names, with no worst case built from the "
-            "declared tolerances (no nominal beside it)"
+            "declared tolerances (no nominal beside it); the re-analyses that give its nominal and effects were "
+            "not made (coilstage check --no-effects, more than 16 stages, or the library's check())"
         )
     return (
         "not computed: this rule is outside the tolerance model of the steady-state rules "

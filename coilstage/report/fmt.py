@@ -9,6 +9,8 @@ from __future__ import annotations
 import math
 from typing import Any
 
+from coilstage.checks.base import UNMOVED
+
 NOT_FINITE = "n/a (not finite)"
 
 _PREFIX = [(1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ")]
@@ -163,6 +165,9 @@ def worst_lines(v: dict[str, Any], top: int = 3) -> list[str]:
     nom = v.get("nominal")
     if not nom:
         return []
+    if any(x.startswith(UNMOVED) for x in v.get("deciding") or []):
+        # decided at the conditions its rule names, and no declared tolerance moves it: one line
+        return [f"tolerances: {UNMOVED} (found by analysing again with each one held at nominal)"]
     nominal = {"status": nom["status"], "value": nom["value"], "limit": v.get("limit"), "margin": nom["margin"]}
     where = v.get("worst_conditions") or v.get("corner") or "its worst case"
     out = [

@@ -243,14 +243,7 @@ def with_effects(a: Analysis, verdicts: list[Verdict], duty: bool = False) -> li
             out.append(dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=(*v.worst.deciding, why))))
         elif k in found and v.worst is not None:
             effects = tuple(sorted(found[k], key=lambda e: -abs(e.margin_change)))
-            lines = [f"effects: {METHOD}"]
-            # a tolerance end that gives margin: nearer its nominal value the margin is lower, so the
-            # rule's named worst case is not the lowest in that parameter alone (said, not searched)
-            lines += [
-                f"not the lowest in {e.words}: held at nominal it leaves {e.margin_change * 100:.2g} points less"
-                for e in effects
-                if e.margin_change > 0
-            ]
+            lines = [f"effects: {METHOD}", *_not_lowest(effects)]
             worst = dataclasses.replace(v.worst, sensitivities=effects, deciding=(*v.worst.deciding, *lines))
             out.append(dataclasses.replace(v, worst=worst))
         else:
@@ -272,6 +265,16 @@ def _nominal(d: Drawing, ps: list[Parameter], ids: set[str], duty: bool = False)
 NOMINAL = "every declared tolerance at nominal"
 
 
+def _not_lowest(effects: "list[Sensitivity] | tuple[Sensitivity, ...]") -> list[str]:
+    """A deciding line for each tolerance end that gives margin: nearer its nominal value the margin is
+    lower, so the verdict's case is not the lowest in that parameter alone (said, not searched)."""
+    return [
+        f"not the lowest in {e.words}: held at nominal it leaves {e.margin_change * 100:.2g} points less"
+        for e in effects
+        if e.margin_change > 0
+    ]
+
+
 def _with_nominal(v: Verdict, nominal: Verdict | None, effects: list[Sensitivity]) -> Verdict:
     """A verdict its rule decides at the conditions it names, with the tolerances' effects found: where
     none moves it, its own figures are its nominal (said); where some do, the nominal is the analysis
@@ -286,11 +289,7 @@ def _with_nominal(v: Verdict, nominal: Verdict | None, effects: list[Sensitivity
     if nominal is None or nominal.status is Status.NOT_CHECKED or nominal.unit != v.unit:
         return v
     lines.append("decided at the conditions its rule names (no worst case built from these tolerances)")
-    lines += [
-        f"not the lowest in {e.words}: held at nominal it leaves {e.margin_change * 100:.2g} points less"
-        for e in effects
-        if e.margin_change > 0
-    ]
+    lines += _not_lowest(effects)
     decided = decided_at_worst(v, nominal, v.corner or "conditions its rule names", tuple(lines))
     tag = dataclasses.replace(decided.worst, conditions=NOMINAL, sensitivities=tuple(effects))
     return dataclasses.replace(decided, worst=tag)

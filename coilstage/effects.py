@@ -265,7 +265,7 @@ def _nominal(d: Drawing, ps: list[Parameter], ids: set[str], duty: bool = False)
 NOMINAL = "every declared tolerance at nominal"
 
 
-def _not_lowest(effects: "list[Sensitivity] | tuple[Sensitivity, ...]") -> list[str]:
+def _not_lowest(effects: list[Sensitivity] | tuple[Sensitivity, ...]) -> list[str]:
     """A deciding line for each tolerance end that gives margin: nearer its nominal value the margin is
     lower, so the verdict's case is not the lowest in that parameter alone (said, not searched)."""
     return [

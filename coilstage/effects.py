@@ -263,6 +263,8 @@ def _nominal(d: Drawing, ps: list[Parameter], ids: set[str], duty: bool = False)
 
 #: what a verdict decided at its rule's own conditions carries as its nominal (WorstOf.conditions)
 NOMINAL = "every declared tolerance at nominal"
+#: the conditions such a verdict is decided at where its rule names none (its corner)
+RULES_OWN = "conditions its rule names"
 
 
 def _not_lowest(effects: list[Sensitivity] | tuple[Sensitivity, ...]) -> list[str]:
@@ -285,12 +287,12 @@ def _with_nominal(v: Verdict, nominal: Verdict | None, effects: list[Sensitivity
     if not effects:
         lines.append(f"{UNMOVED}: its nominal is the case its rule names")
         tag = WorstOf(v.status, v.value, v.margin, NOMINAL, tuple(lines))
-        return dataclasses.replace(v, worst=tag)
+        return dataclasses.replace(v, worst=tag, corner=v.corner or RULES_OWN)
     if nominal is None or nominal.status is Status.NOT_CHECKED or nominal.unit != v.unit:
         return v
     lines.append("decided at the conditions its rule names (no worst case built from these tolerances)")
     lines += _not_lowest(effects)
-    decided = decided_at_worst(v, nominal, v.corner or "conditions its rule names", tuple(lines))
+    decided = decided_at_worst(v, nominal, v.corner or RULES_OWN, tuple(lines))
     tag = dataclasses.replace(decided.worst, conditions=NOMINAL, sensitivities=tuple(effects))
     return dataclasses.replace(decided, worst=tag)
 

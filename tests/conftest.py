@@ -184,7 +184,7 @@ def coach_with_parts() -> str:
     el["F1"]["rating"] = "80 A"
     for k in ("rating_24v", "rating_12v", "rated_ambient", "derating", "voltage_rating", "resistance"):
         del el["K1"][k]
-    el["K1"]["part"] = "K-150-24"
+    el["K1"]["part"] = "K-150-24-HV"  # its 110 V version: the coach's contactors
     el["K1"]["coil"] = {"feed_resistance": "1.5 ohm", "rise": "25 K"}
     el["S1"]["suppression"] = {"part": "DZ-24-150"}
     raw.setdefault("tables", {})["parts"] = "parts/workshop-parts.toml"

@@ -728,9 +728,9 @@ def test_overvoltage_coil_pinned_at_its_class_limit_in_steady_state():
 
 def test_overvoltage_coil_pinned_at_the_duty_by_its_time_to_limit():
     # Above its class in steady state, the coil passes if it reaches 165 degC only after the 12 min duty.
-    # By hand (first order at the starting power, the rule's stated bound): P0 = V^2/R20 at 20 degC (R20 = 0.95 ohm, the low end),
-    # t = -R_th C ln(1 - (165 - 20)/(P0 R_th)) with C = m x 385 J/(kg K) (copper, CRC Handbook, from
-    # memory); the mass where t is 1 % above / below 720 s.
+    # By hand (first order at the starting power, the rule's stated bound): P0 = V^2/R20 at 20 degC
+    # (R20 = 0.95 ohm, the low end), t = -R_th C ln(1 - (165 - 20)/(P0 R_th)) with C = m x 385 J/(kg K)
+    # (copper, CRC Handbook, from memory); the mass where t is 1 % above / below 720 s.
     c, _ = _ov_coil(0.2, 5.0)
     assert c.coil_voltage == pytest.approx(36.0 / (1.0 + 8.83e-3 / OV_COIL_LOW), rel=1e-3)  # Ohm's law, as above
     assert c.start_temperature == pytest.approx(20.0)  # T_max 40 degC less 20 K, the rule's start

@@ -207,7 +207,7 @@ def test_a_library_part_overridden_in_a_drawing_gives_the_typed_verdicts():
     """The loader expands part references itself (no "part" key reaches the section parsers): the
     drawing with library parts (F1 at its own 80 A) gives the same elements and the same verdicts as
     the coach with the same values typed in and F1 typed at 80 A. The invented library's F-100-B,
-    K-150-24 and DZ-24-150 carry the coach's own F1, K1 and S1 values."""
+    K-150-24-HV and DZ-24-150 carry the coach's own F1, K1 and S1 values."""
     import tomllib
 
     from coilstage import check
@@ -240,7 +240,7 @@ def test_parts_dirs_given_to_the_run(tmp_path):
     name is a problem at the reference, said once (no "no such key: part" beside it)."""
     text = coach_with_parts().replace('parts = "parts/workshop-parts.toml"', "")
     d = parse_drawing(text, "x", COACH.parent, parts_dirs=(COACH.parent / "parts",))
-    assert any(p.ref.endswith("#K-150-24") for p in d.provenance)
+    assert any(p.ref.endswith("#K-150-24-HV") for p in d.provenance)
     msgs = problems(text)
     assert any(m.startswith("harness[6] (K1).part") and "no parts library was given" in m for m in msgs)
     assert not any("no such key" in m for m in msgs)

@@ -34,7 +34,16 @@ def _elements(drawing):
 def test_example_library():
     lib = load_library(LIBRARY)
     (parts,) = lib.files.values()
-    assert list(parts) == ["F-100-B", "F-350-S51", "K-150-24", "DZ-24-150", "C-16-C", "LUG-M10-95", "POST-M10-2"]
+    assert list(parts) == [
+        "F-100-B",
+        "F-350-S51",
+        "K-150-24",
+        "K-150-24-HV",
+        "DZ-24-150",
+        "C-16-C",
+        "LUG-M10-95",
+        "POST-M10-2",
+    ]
     f = parts["F-100-B"]
     assert (f.kind, f.fields["rating"], f.fields["breaking_capacity"]) == ("fuse", "100 A", "3 kA")
     assert f.series == ("40 A", "60 A", "80 A", "100 A", "125 A")
@@ -105,7 +114,7 @@ def test_a_library_part_overridden_in_a_drawing():
     k1 = _element(raw, "K1")
     for k in ("rating_24v", "rating_12v", "rated_ambient", "derating", "voltage_rating", "resistance"):
         del k1[k]
-    k1["part"] = "K-150-24"  # by name alone: found in the libraries given to the run
+    k1["part"] = "K-150-24-HV"  # by name alone: found in the libraries given to the run
     k1["coil"] = {"feed_resistance": "1.5 ohm", "rise": "25 K"}  # the rest of the coil from the library
     _element(raw, "S1")["suppression"] = {"part": "DZ-24-150"}
     expanded, records, problems = expand_parts(raw, CONFIGS, (CONFIGS / "parts",))

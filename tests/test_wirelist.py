@@ -113,7 +113,7 @@ to = "K{_k}.87"
 rating_24v = "150 A"
 rated_ambient = "25 degC"
 derating = "80 % @ 85 degC"
-voltage_rating = "80 V"
+voltage_rating = "110 V"
 coil = {{ voltage = "24 V", resistance = "120 ohm @ 20 degC", operate_voltage = "16.8 V", feed_resistance = "1.5 ohm" }}
 resistance = "0.5 mohm"
 zone = "retarder_box"

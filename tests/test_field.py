@@ -97,6 +97,19 @@ def test_saturating_circuit_worked_example_and_brute_force():
         assert m.gap_flux_density(ni) == pytest.approx(fine[kk], abs=1e-5)
 
 
+@settings(max_examples=200, deadline=None)
+@given(st.floats(1e-3, 5e5), st.sampled_from(["steel-1010", "aisi-1008"]), st.floats(0.5, 2.0))
+def test_flux_density_is_the_root_scipy_finds(ni, curve, area_ratio):
+    # Independent reference: scipy.optimize.brentq on the same mmf(B) = NI, across the curve's knees and
+    # beyond its last point (full saturation), with pole and iron sections differing. The exact
+    # segment solve agrees to round-off (abs 1e-12 T; brentq run to xtol 1e-15).
+    m = MagneticCircuit(200, 60e-4 * area_ratio, 2, 1.5e-3, 0.25, 60e-4, tables.bh_curve(curve))
+    hi = MU0 * ni / (m.gaps * m.gap)
+    ref = brentq(lambda b: m.mmf(b) - ni, 0.0, hi, xtol=1e-15, rtol=4 * np.finfo(float).eps)
+    assert m.gap_flux_density(ni) == pytest.approx(ref, abs=1e-12)
+    assert m.gap_flux_density(-ni) == -m.gap_flux_density(ni)
+
+
 @settings(max_examples=60, deadline=None)
 @given(st.floats(0, 2e4), st.floats(0, 2e4))
 def test_flux_density_rises_with_ampere_turns(a, b):

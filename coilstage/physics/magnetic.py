@@ -16,6 +16,8 @@ References
 
 from __future__ import annotations
 
+import bisect
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -175,16 +177,36 @@ class MagneticCircuit:
         b_fe = b * self.area / self.iron_area
         return self.curve.h_of_b(b_fe) * self.iron_length + self.gaps * b * self.gap / MU0
 
+    @functools.cached_property
+    def _mmf_knots(self) -> tuple[list[float], list[float]]:
+        """(gap flux densities [T], ampere-turns [A]) at the points of the curve (and at B = 0):
+        between them the iron's H is linear in B, so the mmf is too."""
+        k = self.area / self.iron_area
+        b = sorted({0.0, *(float(x) / k for x in self.curve.b if x > 0)})
+        return b, [self.mmf(x) for x in b]
+
     def gap_flux_density(self, ni: float) -> float:
-        """Gap flux density [T] at ``ni`` ampere-turns [A]: the root of mmf(B) = NI (monotone)."""
+        r"""Gap flux density [T] at ``ni`` ampere-turns [A]: the root of mmf(B) = NI.
+
+        The curve is linear between its points (:meth:`BHCurve.h_of_b`), so the mmf is piecewise linear
+        and increasing in B, and its root is found exactly on the segment that holds it (beyond the
+        curve's last point the iron's slope is μ0, the mmf's :math:`k\,l_{Fe}/\mu_0 + n_g g/\mu_0`
+        with :math:`k` = pole area / iron area). Odd in ``ni``."""
         if ni == 0:
             return 0.0
         s = 1.0 if ni > 0 else -1.0
         target = abs(ni)
-        hi = MU0 * target / (self.gaps * self.gap)  # the iron-free value bounds B from above
-        if self.mmf(hi) - target <= 0:  # only by rounding (vanishing ampere-turns or ideal iron)
-            return s * hi
-        return s * bracketed_root(lambda b: self.mmf(b) - target, 0.0, hi, xtol=1e-13)
+        b, m = self._mmf_knots
+        if target < m[0]:  # a curve that does not start at the origin: no root on its first segment
+            hi = MU0 * target / (self.gaps * self.gap)
+            return s * bracketed_root(lambda x: self.mmf(x) - target, 0.0, hi, xtol=1e-13)
+        j = bisect.bisect_left(m, target)
+        if j == len(m):  # beyond the curve: full saturation
+            slope = (self.area / self.iron_area * self.iron_length + self.gaps * self.gap) / MU0
+            return s * (b[-1] + (target - m[-1]) / slope)
+        if m[j] == target or j == 0:
+            return s * b[j]
+        return s * (b[j - 1] + (b[j] - b[j - 1]) * (target - m[j - 1]) / (m[j] - m[j - 1]))
 
     def mmf_table(self, b_max: float, points: int = 2000) -> tuple[np.ndarray, np.ndarray]:
         """(ampere-turns, gap flux density) on a grid of B from 0 to ``b_max``: monotone, so it also

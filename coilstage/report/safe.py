@@ -16,6 +16,7 @@
 
 from __future__ import annotations
 
+import functools
 import math
 import os
 import re
@@ -38,6 +39,7 @@ class NonFiniteError(RuntimeError):
         super().__init__("not finite on the report at " + ", ".join(where))
 
 
+@functools.lru_cache(maxsize=4096)
 def _unsafe(ch: str) -> bool:
     cat = unicodedata.category(ch)
     return cat in ("Cc", "Cf", "Cs", "Zl", "Zp")
@@ -63,37 +65,45 @@ def clean(text: Any, keep_newlines: bool = False) -> str:
     s = str(text)
     if not _SUSPECT.search(s):
         return s.replace("\t", " ") if "\t" in s else (s if keep_newlines or "\n" not in s else s.replace("\n", "\\n"))
-    out = []
-    for ch in s:
+
+    def shown(m: re.Match[str]) -> str:
+        ch = m.group()
         if ch == "\n" and keep_newlines:
-            out.append(ch)
-        elif ch == "\t":
-            out.append(" ")
-        elif _unsafe(ch):
-            out.append(_escape(ch))
-        else:
-            out.append(ch)
-    return "".join(out)
+            return ch
+        if ch == "\t":
+            return " "
+        return _escape(ch) if _unsafe(ch) else ch
+
+    return _NOT_PRINTABLE_ASCII.sub(shown, s)
+
+
+_NOT_PRINTABLE_ASCII = re.compile(r"[^\x20-\x7e]")
 
 
 def json_safe(text: str) -> str:
     """JSON text with C1 controls, format characters and separators as ``\\uXXXX`` escapes (C0 are
     escaped by :mod:`json` already). Valid only on the output of ``json.dumps``: such characters can
-    only occur inside its strings, where an escape means the same character."""
+    only occur inside its strings, where an escape means the same character.
+
+    Only the characters above ASCII are visited (a report is mostly ASCII, with a few thousand
+    degree, ohm and arrow signs), each by a regular expression's callback."""
     if not _SUSPECT.search(text):
         return text
-    out = []
-    for ch in text:
-        if ord(ch) > 0x7E and _unsafe(ch):
-            o = ord(ch)
-            if o >= 0x10000:  # a JSON escape is UTF-16: a surrogate pair
-                o -= 0x10000
-                out.append(f"\\u{0xD800 + (o >> 10):04x}\\u{0xDC00 + (o & 0x3FF):04x}")
-            else:
-                out.append(f"\\u{o:04x}")
-        else:
-            out.append(ch)
-    return "".join(out)
+    return _ABOVE_ASCII.sub(_json_escape, text)
+
+
+_ABOVE_ASCII = re.compile(r"[^\x00-\x7e]")
+
+
+def _json_escape(m: re.Match[str]) -> str:
+    ch = m.group()
+    if not _unsafe(ch):
+        return ch
+    o = ord(ch)
+    if o >= 0x10000:  # a JSON escape is UTF-16: a surrogate pair
+        o -= 0x10000
+        return f"\\u{0xD800 + (o >> 10):04x}\\u{0xDC00 + (o & 0x3FF):04x}"
+    return f"\\u{o:04x}"
 
 
 def strict() -> bool:

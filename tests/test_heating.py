@@ -177,8 +177,19 @@ def test_duty_simulation_against_solve_ivp():
     from coilstage.analysis.circuit import SourceState
     from coilstage.analysis.duty import cable_thermal, rotor_zone_defaults
 
-    d = load_drawing(TRUCK)
-    r = simulate(d, rtol=1e-9)
+    stated = load_drawing(TRUCK)
+    r = simulate(stated, rtol=1e-9)
+    # the duty takes each coil at the low end of its resistance tolerance (the shipped generic -5 %,
+    # coilstage/data/tolerance_defaults.toml): the reference is built on those coils by hand
+    d = dataclasses.replace(
+        stated,
+        elements=tuple(
+            dataclasses.replace(e, coil=dataclasses.replace(e.coil, r_ref=0.95 * e.coil.r_ref))
+            if e in stated.stages
+            else e
+            for e in stated.elements
+        ),
+    )
     zr = rotor_zone_defaults()
     rise = float(zr["environment.rotor_zone_rise"]["value"])
     tau = float(zr["environment.rotor_zone_time_constant"]["value"])

@@ -15,7 +15,8 @@ dTz/dt = (Tz0 + rise·[any stage on] − Tz)/τ).
 The whole duty runs under one stated set of conditions (:func:`duty_conditions`): the alternator
 hot (its output less the hot derating), the battery from the duty's starting charge, its EMF and
 resistance following its state of charge and temperature, the coils' surroundings rising with the
-retardation. A state that cannot physically go on is held where it stops: a conductor or winding at
+retardation, each coil's resistance at the low end of its tolerance (the most current and heat at
+a given bus). A state that cannot physically go on is held where it stops: a conductor or winding at
 its metal's melting point, the battery at flat; the times they get there are found on the solution.
 """
 
@@ -31,7 +32,7 @@ import numpy as np
 from coilstage import tables
 from coilstage.analysis.materials import metal
 from coilstage.analysis.quasistatic import QuasiStatic, stage_thermal_resistance
-from coilstage.analysis.tolerances import effective
+from coilstage.analysis.tolerances import coil_tolerances, effective, tolerance_words, with_coil_tolerance
 from coilstage.drawing.schema import Cable, Drawing, Duty, Fuse, Relay
 from coilstage.drawing.switching import shipped_steps
 from coilstage.physics.battery import (
@@ -125,6 +126,10 @@ class DutyConditions:
     empty_factor: float  # R(flat)/R(full) [–]
     words: tuple[tuple[str, str], ...] = ()
     assumptions: tuple[str, ...] = ()
+    #: stage id -> the fraction its coil's resistance is taken off its stated one (the low end of its
+    #: tolerance: at a given bus the lowest resistance draws the most current and dissipates the most,
+    #: V²/R, the worst case of every heating rule) [fraction]
+    coil_tolerance: dict[str, float] = field(default_factory=dict)
 
 
 def rotor_zone_defaults() -> dict[str, dict]:
@@ -190,7 +195,9 @@ def duty_conditions(d: Drawing) -> DutyConditions:
     rated_time = float(rated_h) * 3600.0
     coef = float(tol["supply.battery.resistance_temperature_coefficient"]["nominal"])
     empty = float(tol["supply.battery.resistance_empty_factor"]["nominal"])
+    r_tol = coil_tolerances(d, tol, "low")
     words = [
+        ("coils", f"resistance {tolerance_words(r_tol)} (the low end of its tolerance: the most current and heat)"),
         ("coils' surroundings", f"stated zone + {rise:g} K while any stage is on, time constant {tau / 60:g} min"),
         ("alternator", "absent" if alt is None else f"output less {derate:.0%} (hot)"),
         (
@@ -208,7 +215,20 @@ def duty_conditions(d: Drawing) -> DutyConditions:
             f"{bat_data['capacity_temperature']['status']})"
         )
     return DutyConditions(
-        rise, tau, derate, t_bat, cells, offset, k, rated_time, cap, coef, empty, tuple(words), tuple(assumptions)
+        rise,
+        tau,
+        derate,
+        t_bat,
+        cells,
+        offset,
+        k,
+        rated_time,
+        cap,
+        coef,
+        empty,
+        tuple(words),
+        tuple(assumptions),
+        r_tol,
     )
 
 
@@ -392,6 +412,7 @@ def simulate(
     the profile (seconds of duty simulated, of the total)."""
     duty = duty or d.duty
     cond = conditions or duty_conditions(d)
+    d = with_coil_tolerance(d, cond.coil_tolerance)  # the coils as the conditions take them
     alt = d.supply.alternator
     b = d.supply.battery
     net = _DutyNetwork(d, d.corners.hot_battery_emf, alt.setpoint if alt else None)

@@ -20,8 +20,7 @@ import weakref
 from dataclasses import dataclass
 
 from coilstage.analysis.circuit import Circuit, SourceState, element_resistance
-from coilstage.analysis.tolerances import effective
-from coilstage.analysis.worst import coil_tolerances, tolerance_words, with_coil_tolerance
+from coilstage.analysis.tolerances import coil_tolerances, effective, tolerance_words, with_coil_tolerance
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.thermal import winding_steady_temperature
 

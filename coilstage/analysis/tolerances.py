@@ -16,11 +16,12 @@ gives one, else the generic row.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from typing import Any
 
 from coilstage import tables
-from coilstage.drawing.schema import Drawing, ToleranceSpec
+from coilstage.drawing.schema import Drawing, Stage, ToleranceSpec
 
 #: The table file the defaults come from.
 TABLE = "tolerance_defaults.toml"
@@ -225,3 +226,38 @@ def battery_resistance(d: Drawing, tol: dict[str, dict[str, Any]], temperature_c
 def cells(d: Drawing) -> int:
     """Lead-acid cells of the drawing's battery: 6 on a 12 V system, 12 on 24 V (two blocks)."""
     return 12 if d.supply.system_voltage == 24 else 6
+
+
+def coil_tolerances(
+    d: Drawing, tol: dict[str, dict], end: str, key: str = "coils.*.resistance_tolerance"
+) -> dict[str, float]:
+    """Stage id -> the ``end`` ("low" or "high") of its coil type's tolerance ``key`` (the resistance's,
+    or ``coils.*.inductance_tolerance``): the drawing's own row for that coil type where it states one,
+    else the generic row [fraction]."""
+    return {s.id: float(lookup(tol, key, s.coil.name)[end]) for s in d.stages}
+
+
+def with_coil_tolerance(d: Drawing, r_tol: dict[str, float], l_tol: dict[str, float] | None = None) -> Drawing:
+    """The drawing with each stage's coil resistance at ``(1 + r_tol[stage id])`` × its stated one, and
+    its inductance at ``(1 + l_tol[stage id])`` × its stated one where ``l_tol`` is given."""
+    l_tol = l_tol or {}
+    out = []
+    for e in d.elements:
+        if isinstance(e, Stage) and (r_tol.get(e.id, 0.0) or l_tol.get(e.id, 0.0)):
+            coil = dataclasses.replace(
+                e.coil,
+                r_ref=e.coil.r_ref * (1 + r_tol.get(e.id, 0.0)),
+                inductance=e.coil.inductance * (1 + l_tol.get(e.id, 0.0)),
+            )
+            e = dataclasses.replace(e, coil=coil)
+        out.append(e)
+    return dataclasses.replace(d, elements=tuple(out))
+
+
+def tolerance_words(r: dict[str, float]) -> str:
+    """Stage id -> tolerance fraction in words: one signed percentage where every stage takes the same
+    ("-5 %"), else each stage's ("S1 -5 %, S2 -3 %")."""
+    vals = sorted(set(r.values()))
+    if len(vals) <= 1:
+        return f"{(vals[0] if vals else 0.0):+.0%}"
+    return ", ".join(f"{k} {v:+.0%}" for k, v in r.items())

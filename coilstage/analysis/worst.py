@@ -40,7 +40,15 @@ from coilstage.analysis.circuit import Circuit, Solution, SourceState, element_r
 from coilstage.analysis.conditions import Conditions, hot_alternator_limit, hot_temperatures, zone_at_ambient
 from coilstage.analysis.corners import cold_duties
 from coilstage.analysis.field import circuit_of
-from coilstage.analysis.tolerances import DRAWING_STATUS, battery_resistance, effective, lookup
+from coilstage.analysis.tolerances import (
+    DRAWING_STATUS,
+    battery_resistance,
+    coil_tolerances,
+    effective,
+    lookup,
+    tolerance_words,
+    with_coil_tolerance,
+)
 from coilstage.analysis.tolerances import cells as _cells
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
@@ -203,15 +211,6 @@ def defaults() -> dict[str, dict]:
     return {r["key"]: r for r in tables.shipped("tolerance_defaults.toml")["table"]["rows"]}
 
 
-def coil_tolerances(
-    d: Drawing, tol: dict[str, dict], end: str, key: str = "coils.*.resistance_tolerance"
-) -> dict[str, float]:
-    """Stage id -> the ``end`` ("low" or "high") of its coil type's tolerance ``key`` (the resistance's,
-    or ``coils.*.inductance_tolerance``): the drawing's own row for that coil type where it states one,
-    else the generic row [fraction]."""
-    return {s.id: float(lookup(tol, key, s.coil.name)[end]) for s in d.stages}
-
-
 @dataclass(frozen=True)
 class BreakCase:
     """The switch-off that breaks the most: the drawing with each coil at the low end of its resistance
@@ -223,15 +222,6 @@ class BreakCase:
     temperatures: dict[str, float]
     sources: SourceState
     words: tuple[tuple[str, str], ...]
-
-
-def tolerance_words(r: dict[str, float]) -> str:
-    """Stage id -> tolerance fraction in words: one signed percentage where every stage takes the same
-    ("-5 %"), else each stage's ("S1 -5 %, S2 -3 %")."""
-    vals = sorted(set(r.values()))
-    if len(vals) <= 1:
-        return f"{(vals[0] if vals else 0.0):+.0%}"
-    return ", ".join(f"{k} {v:+.0%}" for k, v in r.items())
 
 
 def _with_cable_length(d: Drawing, tol: dict[str, dict]) -> Drawing:
@@ -522,23 +512,6 @@ def worst_cases(
         duty_sweep(d, cases, {}, 0.0),
         braking,
     )
-
-
-def with_coil_tolerance(d: Drawing, r_tol: dict[str, float], l_tol: dict[str, float] | None = None) -> Drawing:
-    """The drawing with each stage's coil resistance at ``(1 + r_tol[stage id])`` × its stated one, and
-    its inductance at ``(1 + l_tol[stage id])`` × its stated one where ``l_tol`` is given."""
-    l_tol = l_tol or {}
-    out = []
-    for e in d.elements:
-        if isinstance(e, Stage) and (r_tol.get(e.id, 0.0) or l_tol.get(e.id, 0.0)):
-            coil = dataclasses.replace(
-                e.coil,
-                r_ref=e.coil.r_ref * (1 + r_tol.get(e.id, 0.0)),
-                inductance=e.coil.inductance * (1 + l_tol.get(e.id, 0.0)),
-            )
-            e = dataclasses.replace(e, coil=coil)
-        out.append(e)
-    return dataclasses.replace(d, elements=tuple(out))
 
 
 def duty_sweep(

@@ -204,7 +204,7 @@ class MagneticCircuit:
         if j == len(m):  # beyond the curve: full saturation
             slope = (self.area / self.iron_area * self.iron_length + self.gaps * self.gap) / MU0
             return s * (b[-1] + (target - m[-1]) / slope)
-        if m[j] == target or j == 0:
+        if m[j] == target:  # on a point of the curve (j = 0 only here: target >= m[0] above)
             return s * b[j]
         return s * (b[j - 1] + (b[j] - b[j - 1]) * (target - m[j - 1]) / (m[j] - m[j - 1]))
 

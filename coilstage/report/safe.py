@@ -28,6 +28,9 @@ FINITE_RULE = "report.finite"
 
 # quick test: anything outside printable ASCII plus newline/tab needs a closer look
 _SUSPECT = re.compile(r"[^\x20-\x7e\n\t]")
+# the characters clean() and json_safe() visit one by one (a report is mostly ASCII)
+_NOT_PRINTABLE_ASCII = re.compile(r"[^\x20-\x7e]")
+_ABOVE_ASCII = re.compile(r"[^\x00-\x7e]")
 #: the letters of a non-finite word anywhere, boundaries or not (a cheap first test)
 _NONFINITE_LETTERS = re.compile(r"nan|inf", re.IGNORECASE)
 _NONFINITE_WORD = re.compile(r"(?<![A-Za-z0-9_])[+-]?(?:nan|inf(?:inity)?)(?![A-Za-z0-9_])", re.IGNORECASE)
@@ -79,9 +82,6 @@ def clean(text: Any, keep_newlines: bool = False) -> str:
     return _NOT_PRINTABLE_ASCII.sub(shown, s)
 
 
-_NOT_PRINTABLE_ASCII = re.compile(r"[^\x20-\x7e]")
-
-
 def json_safe(text: str) -> str:
     """JSON text with C1 controls, format characters and separators as ``\\uXXXX`` escapes (C0 are
     escaped by :mod:`json` already). Valid only on the output of ``json.dumps``: such characters can
@@ -92,9 +92,6 @@ def json_safe(text: str) -> str:
     if not _SUSPECT.search(text):
         return text
     return _ABOVE_ASCII.sub(_json_escape, text)
-
-
-_ABOVE_ASCII = re.compile(r"[^\x00-\x7e]")
 
 
 def _json_escape(m: re.Match[str]) -> str:

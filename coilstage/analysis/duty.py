@@ -43,7 +43,6 @@ from coilstage.physics.battery import (
     peukert_usable_charge,
 )
 from coilstage.physics.conductor import resistance_at_temperature
-from coilstage.physics.network import Branches, Factorized, mna_matrix
 from coilstage.physics.numeric import bracketed_root, integrate_dopri
 from coilstage.physics.thermal import (
     MELTING_POINT,
@@ -242,7 +241,6 @@ class _DutyNetwork(QuasiStatic):
         self._rb0 = self.rb
         self._rhs_base = self.rhs0.copy()
         self._rhs_base[self.bat - 1] -= battery_emf / self.rb
-        self._bat_rows = None
 
     def set_battery(self, emf: float, resistance: float) -> None:
         self.emf, self.rb = emf, resistance
@@ -251,21 +249,10 @@ class _DutyNetwork(QuasiStatic):
         self.rhs0 = rhs
         dg = 1.0 / resistance - 1.0 / self._rb0  # the battery's conductance less the one stamped [S]
         if dg == 0.0:
-            self._bat_rows = None
+            self.extra_rows = None
         else:  # one diagonal entry: the battery lies between its node and the reference (node 0, dropped)
             k = np.array([self.bat - 1], dtype=np.int64)
-            self._bat_rows = (k, k, np.array([dg]))
-
-    def _solver(self, g: np.ndarray, extra: float):
-        on = g > 0
-        ga, gb, gv = self.var_a[on], self.var_b[on], 1.0 / g[on]
-        if extra:
-            ga, gb, gv = np.append(ga, self.alt_node), np.append(gb, 0), np.append(gv, 1.0 / extra)
-        r, c, v, _rhs, _n = mna_matrix(self.n_nodes, Branches(ga, gb, gv), self._none, self._none)
-        parts = [(self.r0, self.c0, self.v0), (r, c, v)]
-        if self._bat_rows is not None:
-            parts.append(self._bat_rows)
-        return Factorized(*(np.concatenate(x) for x in zip(*parts, strict=True)), self.size).solve
+            self.extra_rows = (k, k, np.array([dg]))
 
 
 # ---------------------------------------------------------------- duty simulation

@@ -11,7 +11,14 @@ import numpy as np
 from coilstage.analysis.circuit import FIXED_RESISTANCE, Circuit
 from coilstage.drawing.schema import Cable, Drawing, Stage
 from coilstage.physics.conductor import resistance_at_temperature
-from coilstage.physics.network import Branches, Factorized, charging_source_state, mna_matrix
+from coilstage.physics.network import (
+    SPARSE_THRESHOLD,
+    Branches,
+    Factorized,
+    charging_source_state,
+    conductance_pattern,
+    mna_matrix,
+)
 
 
 class QuasiStatic:
@@ -67,6 +74,10 @@ class QuasiStatic:
         )
         self.stage_alpha = np.array([e.coil.alpha20 for e in self.stages])
         self.mode = "regulating"
+        #: further (rows, cols, values) triplets added to every matrix after the variable stamps, or None
+        self.extra_rows: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
+        self._fixed_dense: np.ndarray | None = None
+        self._var_stamps: tuple[np.ndarray, np.ndarray, np.ndarray] = ()  # type: ignore[assignment]
 
     def resistances(self, t_cables: np.ndarray, t_stages: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(cable resistances, stage resistances) [ohm] at these temperatures [degC]: the R(T) law of
@@ -77,15 +88,44 @@ class QuasiStatic:
 
     def _solver(self, g: np.ndarray, extra: float):
         """A solve function for the matrix at variable conductances ``g`` [S] (cables then stages; 0 for
-        an element that is off), plus ``extra`` [S] from the alternator node to the reference."""
+        an element that is off), plus ``extra`` [S] from the alternator node to the reference, plus
+        the entries of ``extra_rows`` (a subclass's own stamps; none here).
+
+        Below SPARSE_THRESHOLD unknowns the dense matrix is the fixed part's, summed once, with the
+        variable stamps added entry by entry in the order :class:`Factorized` sums its triplets: the
+        same matrix to the last bit, without assembling the fixed part again on every solve."""
         on = g > 0
+        if self.size <= SPARSE_THRESHOLD:
+            return self._dense_solver(g, on, extra)
         ga, gb, gv = self.var_a[on], self.var_b[on], 1.0 / g[on]
         if extra:
             ga, gb, gv = np.append(ga, self.alt_node), np.append(gb, 0), np.append(gv, 1.0 / extra)
         r, c, v, _rhs, _n = mna_matrix(self.n_nodes, Branches(ga, gb, gv), self._none, self._none)
-        return Factorized(
-            np.concatenate([self.r0, r]), np.concatenate([self.c0, c]), np.concatenate([self.v0, v]), self.size
-        ).solve
+        parts = [(self.r0, self.c0, self.v0), (r, c, v)]
+        if self.extra_rows is not None:
+            parts.append(self.extra_rows)
+        return Factorized(*(np.concatenate(x) for x in zip(*parts, strict=True)), self.size).solve
+
+    def _dense_solver(self, g: np.ndarray, on: np.ndarray, extra: float):
+        size = self.size
+        if self._fixed_dense is None:
+            flat0 = self.r0 * size + self.c0
+            self._fixed_dense = np.bincount(flat0, weights=self.v0, minlength=size * size)
+            # every variable branch and the alternator's source conductance (the last branch), stamped
+            # by the one statement of the stamps
+            vr, vc, vs, ve = conductance_pattern(np.append(self.var_a, self.alt_node), np.append(self.var_b, 0))
+            self._var_stamps = (vr * size + vc, vs, ve)
+        flat, signs, branch = self._var_stamps
+        # conductances as mna_matrix makes them from the resistances 1/g (so the values are its own)
+        gfull = np.append(1.0 / (1.0 / np.where(on, g, 1.0)), 1.0 / (1.0 / extra) if extra else 0.0)
+        live = np.append(on, bool(extra))[branch]
+        a = self._fixed_dense.copy()
+        np.add.at(a, flat[live], (signs * gfull[branch])[live])
+        if self.extra_rows is not None:
+            er, ec, ev = self.extra_rows
+            np.add.at(a, er * size + ec, ev)
+        dense = a.reshape(size, size)
+        return lambda b: np.linalg.solve(dense, b)
 
     def solve(
         self, t_cables: np.ndarray, t_stages: np.ndarray, on: np.ndarray, alt_limit: float | None

@@ -6,7 +6,6 @@ Each figure names the model that made it; the checks only compare.
 
 from __future__ import annotations
 
-import dataclasses
 import functools
 import math
 from dataclasses import dataclass, field
@@ -17,7 +16,7 @@ from coilstage import tables
 from coilstage.analysis.corners import CornerResult
 from coilstage.analysis.materials import metal
 from coilstage.analysis.switching import SwitchingResult
-from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay
+from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, evolve
 from coilstage.physics.cable_heat import computed_ampacity as heat_balance_ampacity
 from coilstage.physics.conductor import resistance_at_temperature
 from coilstage.physics.fault import adiabatic_final_temperature
@@ -295,7 +294,7 @@ def relay_contacts_over(
 ) -> dict[str, tuple[RelayContact, ...]]:
     """Each relay's contact rating with its zone at each of the temperatures ``zones[relay id]`` [°C]."""
     return {
-        r.id: tuple(relay_contact(dataclasses.replace(r, zone_temperature=z), system) for z in zones[r.id])
+        r.id: tuple(relay_contact(evolve(r, zone_temperature=z), system) for z in zones[r.id])
         for r in relays
         if r.id in zones
     }
@@ -331,7 +330,7 @@ def cable_ratings_over(cables: list[Cable], zones: dict[str, tuple[float, ...]])
     out = {}
     for c in cables:
         if c.id in zones:
-            out[c.id] = tuple(cable_rating(dataclasses.replace(c, zone_temperature=z)) for z in zones[c.id])
+            out[c.id] = tuple(cable_rating(evolve(c, zone_temperature=z)) for z in zones[c.id])
     return out
 
 

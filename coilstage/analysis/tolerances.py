@@ -16,12 +16,11 @@ gives one, else the generic row.
 
 from __future__ import annotations
 
-import dataclasses
 from dataclasses import dataclass
 from typing import Any
 
 from coilstage import tables
-from coilstage.drawing.schema import Drawing, Stage, ToleranceSpec
+from coilstage.drawing.schema import Drawing, Stage, ToleranceSpec, evolve
 
 #: The table file the defaults come from.
 TABLE = "tolerance_defaults.toml"
@@ -244,14 +243,14 @@ def with_coil_tolerance(d: Drawing, r_tol: dict[str, float], l_tol: dict[str, fl
     out = []
     for e in d.elements:
         if isinstance(e, Stage) and (r_tol.get(e.id, 0.0) or l_tol.get(e.id, 0.0)):
-            coil = dataclasses.replace(
+            coil = evolve(
                 e.coil,
                 r_ref=e.coil.r_ref * (1 + r_tol.get(e.id, 0.0)),
                 inductance=e.coil.inductance * (1 + l_tol.get(e.id, 0.0)),
             )
-            e = dataclasses.replace(e, coil=coil)
+            e = evolve(e, coil=coil)
         out.append(e)
-    return dataclasses.replace(d, elements=tuple(out))
+    return evolve(d, elements=tuple(out))
 
 
 def tolerance_words(r: dict[str, float]) -> str:

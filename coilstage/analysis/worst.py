@@ -50,7 +50,7 @@ from coilstage.analysis.tolerances import (
     with_coil_tolerance,
 )
 from coilstage.analysis.tolerances import cells as _cells
-from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage
+from coilstage.drawing.schema import Cable, Drawing, Fuse, Stage, evolve
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.supply_limits import regulated_bus_range
 
@@ -230,11 +230,9 @@ def _with_cable_length(d: Drawing, tol: dict[str, dict]) -> Drawing:
     out = []
     for e in d.elements:
         if isinstance(e, Cable):
-            e = dataclasses.replace(
-                e, length=e.length * (1 + float(lookup(tol, "tolerances.cable_length", e.id)["high"]))
-            )
+            e = evolve(e, length=e.length * (1 + float(lookup(tol, "tolerances.cable_length", e.id)["high"])))
         out.append(e)
-    return dataclasses.replace(d, elements=tuple(out))
+    return evolve(d, elements=tuple(out))
 
 
 def regulator_tolerance(d: Drawing, tol: dict[str, dict]) -> float:

@@ -13,6 +13,7 @@ References
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -102,21 +103,47 @@ def mna_matrix(
     """
     n = n_nodes - 1
     m = len(vsources.value)
-    g = 1.0 / resistors.value
-    gr, gc, gs, ge = conductance_pattern(resistors.a, resistors.b)
-    k = np.arange(m) + n
-    va, vb = vsources.a - 1, vsources.b - 1
-    ones = np.ones(m)
-    r = np.concatenate([gr, va, k, vb, k])
-    c = np.concatenate([gc, k, va, k, vb])
-    x = np.concatenate([gs * g[ge], ones, -ones, -ones, ones])
-    keep = (r >= 0) & (c >= 0)
+    rows, cols, take, sign = _stamp_plan(
+        n, *(np.asarray(x, dtype=np.int64).tobytes() for x in _nodes(resistors, vsources))
+    )
+    # each stamp's value: a conductance of its branch, or the +-1 of a source (the 1 after the last)
+    x = sign * np.append(1.0 / resistors.value, 1.0)[take]
     rhs = np.zeros(n + m)
     ia, ib = isources.a, isources.b
     np.add.at(rhs, ia[ia > 0] - 1, -isources.value[ia > 0])
     np.add.at(rhs, ib[ib > 0] - 1, isources.value[ib > 0])
     rhs[n:] = vsources.value
-    return r[keep], c[keep], x[keep], rhs, n
+    return rows, cols, x, rhs, n
+
+
+def _nodes(resistors: Branches, vsources: Branches) -> tuple[np.ndarray, ...]:
+    return resistors.a, resistors.b, vsources.a, vsources.b
+
+
+@functools.lru_cache(maxsize=512)
+def _stamp_plan(
+    n: int, ra: bytes, rb: bytes, va: bytes, vb: bytes
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Where the stamps of :func:`mna_matrix` fall for one network structure (its node arrays as
+    bytes), and what each takes: (rows, cols, the branch whose conductance it is, or the branch count
+    for a source's 1, and its sign). A heating or switching analysis solves one structure hundreds of
+    times with new values; the structure is worked out once."""
+    a, b = np.frombuffer(ra, dtype=np.int64), np.frombuffer(rb, dtype=np.int64)
+    va_, vb_ = np.frombuffer(va, dtype=np.int64) - 1, np.frombuffer(vb, dtype=np.int64) - 1
+    m = len(va_)
+    gr, gc, gs, ge = conductance_pattern(a, b)
+    k = np.arange(m) + n
+    ones = np.ones(m)
+    one = np.full(4 * m, len(a), dtype=np.int64)
+    r = np.concatenate([gr, va_, k, vb_, k])
+    c = np.concatenate([gc, k, va_, k, vb_])
+    take = np.concatenate([ge, one])
+    sign = np.concatenate([gs, ones, -ones, -ones, ones])
+    keep = (r >= 0) & (c >= 0)
+    plan = (r[keep], c[keep], take[keep], sign[keep])
+    for arr in plan:
+        arr.setflags(write=False)  # shared by every call of this structure
+    return plan
 
 
 #: Compressed-column patterns of the sparse MNA matrices seen so far, by (size, rows, cols): the slot

@@ -1,11 +1,11 @@
 r"""What each declared tolerance takes from the verdicts the tolerance model does not cover, found by
 analysing the drawing again with that tolerance removed.
 
-:mod:`coilstage.analysis.params` models eight steady-state rules as batched linear solves, so their
+:mod:`coilstage.analysis.params` models nine steady-state rules as batched linear solves, so their
 margins are differentiated on the network's factorisation and searched over the corners of the
 declared tolerances (:mod:`coilstage.analysis.sensitivities`). The other rules decided at a named
 worst case (the switching rules at the largest break, saturation and the ground offset at the largest
-current, braking at the lowest bus, the nuisance and short-circuit rules at their faults, ...) take
+current, the nuisance and short-circuit rules at their faults, ...) take
 their figures from the whole analysis: the switch-off decay, the field's magnetic circuit, the
 windings' steady state. For those, each declared parameter's effect is measured one at a time on the
 whole analysis:

@@ -204,8 +204,10 @@ def test_field_rules_on_the_coach():
     assert verdict(vs, "field.saturation", "S1").status is Status.WARN  # cold: 1.7 T in the iron
     v = verdict(vs, "field.braking_retained", "retarder")
     # decided at the lowest bus (hot coils at +5 %, a half-charged battery, a hot derated alternator),
-    # the hot corner's ratio beside it as nominal
-    assert v.status is Status.PASS and v.value == pytest.approx(a.worst.braking.ratio)
+    # and then at the worst corner of the declared tolerances, which is lower still (the regulator hot
+    # and its set-point low as well); the hot corner's ratio beside it as nominal
+    assert v.status is Status.PASS and v.corner == "worst corner of the declared tolerances"
+    assert v.value < a.worst.braking.ratio
     assert v.worst.nominal_value == pytest.approx(a.field.ratio_corners)
     assert a.worst.braking.ratio < a.field.ratio_corners
     assert a.field.torque["hot"] < a.field.torque["cold"]
@@ -249,3 +251,26 @@ def test_saturation_decided_at_the_largest_continuous_current():
     )
     assert i_worst > i_cold and v.value > v.worst.nominal_value
     assert v.corner == "largest current" and v.worst.deciding
+
+
+@settings(max_examples=100, deadline=None)
+@given(
+    st.lists(st.one_of(st.just(0.0), st.floats(1e-3, 5e5), st.floats(-5e5, -1e-3)), min_size=1, max_size=40),
+    st.sampled_from(["steel-1010", "aisi-1008"]),
+    st.floats(0.5, 2.0),
+)
+def test_flux_density_over_an_array_is_the_root_scipy_finds(nis, curve, area_ratio):
+    # The array form (numpy.interp on the mmf's knots) against the same independent reference as the
+    # scalar solve above, scipy.optimize.brentq on mmf(B) = NI (abs 1e-12 T: round-off of two solves).
+    m = MagneticCircuit(200, 60e-4 * area_ratio, 2, 1.5e-3, 0.25, 60e-4, tables.bh_curve(curve))
+    got = m.gap_flux_density_array(np.array(nis))
+    for ni, b in zip(nis, got, strict=True):
+        if ni == 0:
+            assert b == 0.0
+            continue
+        assert b == pytest.approx(np.sign(ni) * _brentq_root(m, abs(ni)), abs=1e-12)
+
+
+def _brentq_root(m: MagneticCircuit, ni: float) -> float:
+    hi = MU0 * ni / (m.gaps * m.gap)
+    return brentq(lambda x: m.mmf(x) - ni, 0.0, hi, xtol=1e-15, rtol=4 * np.finfo(float).eps)

@@ -195,6 +195,51 @@ def test_lowest_bus_equals_the_scalar_solve(coach):
     assert "current-limited" in modes  # the switch of state is exercised
 
 
+def test_braking_retained_equals_the_scalar_solve_and_the_flux_law(coach):
+    """field.braking_retained of the model against Circuit.solve of the same state with the battery
+    worked by hand (as the low-bus test above), every cable and winding at its hot-corner temperature
+    less the sample's ambient shortfall from the highest (the zones follow the ambient), and the effort
+    Σ B² from the scalar magnetic circuit (analysis.worst.braking_effort, whose root
+    tests/test_field.py holds against scipy.optimize.brentq), over the cold corner's effort."""
+    from coilstage.analysis.conditions import corner_sources
+    from coilstage.analysis.worst import braking_effort
+
+    ps = parameters(coach)
+    xs = _samples(ps, 8, 5)
+    got = evaluate(coach, xs)[("field.braking_retained", "retarder")]
+    cold_t, cold_src = corner_sources(coach)["cold"]
+    cold = Circuit(coach).solve(cold_t, cold_src)
+    e_cold = braking_effort(coach, {s.id: abs(cold.current[s.id]) for s in coach.stages})
+    hot = hot_temperatures(coach)
+    b = 0.008447  # as the low-bus test
+    ratios = []
+    for i, x in enumerate(xs):
+        d, col = drawing_at_sample(coach, ps, x)
+        soc = col["supply.battery.state_of_charge"]
+        emf = 2 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
+        r = (
+            d.supply.battery.internal_resistance
+            * math.exp(b * (25.0 - col["environment.ambient"]))
+            * (1 + 0.4 * (1 - soc))
+            * col["supply.battery.age_factor"]
+        )
+        d = dataclasses.replace(
+            d,
+            supply=dataclasses.replace(d.supply, battery=dataclasses.replace(d.supply.battery, internal_resistance=r)),
+        )
+        shift = col["environment.ambient"] - d.environment.ambient_max
+        temps = {k: t + shift for k, t in hot.items()}
+        limit = d.supply.alternator.limit_idle * (1 - col["supply.alternator.hot_derating"])
+        sol = Circuit(d).solve(temps, SourceState(emf, _regulator(d, col), limit))
+        ratio = braking_effort(d, {s.id: abs(sol.current[s.id]) for s in d.stages}) / e_cold
+        ratios.append(ratio)
+        # rel 1e-9: two solves of the same network (batched numpy and the scalar MNA), round-off only
+        assert got.value[i] == pytest.approx(ratio, rel=1e-9)
+        assert got.margin[i] == pytest.approx((ratio - 0.25) / 0.25, rel=1e-9)
+        assert got.status[i] == (PASS if ratio >= 0.25 else FAIL)
+    assert max(ratios) - min(ratios) > 0.02  # the samples move it
+
+
 def test_a_regulating_and_an_off_alternator_in_one_batch(coach):
     ps = parameters(coach)
     k = {p.key: j for j, p in enumerate(ps)}

@@ -22,6 +22,7 @@ its metal's melting point, the battery at flat; the times they get there are fou
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -129,6 +130,13 @@ class DutyConditions:
     #: tolerance: at a given bus the lowest resistance draws the most current and dissipates the most,
     #: V²/R, the worst case of every heating rule) [fraction]
     coil_tolerance: dict[str, float] = field(default_factory=dict)
+
+
+def nominal_conditions(cond: DutyConditions) -> DutyConditions:
+    """``cond`` with every coil at its stated resistance: the nominal beside the heating verdicts,
+    which are decided at the low end of the coils' tolerance (:func:`duty_conditions`)."""
+    words = tuple(("coils", "resistance as stated (nominal)") if k == "coils" else (k, v) for k, v in cond.words)
+    return dataclasses.replace(cond, coil_tolerance={}, words=words)
 
 
 def rotor_zone_defaults() -> dict[str, dict]:

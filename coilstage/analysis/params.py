@@ -11,7 +11,7 @@ laid over them).
 :func:`evaluate` takes N parameter vectors (rows of X, columns in the order of :func:`parameters`) and
 returns, for each steady-state rule and subject, the margin and status of every sample, with the same
 limits and thresholds as the rules in ``coilstage.checks``. It is pure in X, so a sweep can feed it
-in chunks. Each sample is one consistent state of the vehicle, solved in four networks:
+in chunks. Each sample is one consistent state of the vehicle, solved in five networks:
 
 * **duty** (``fuse.continuous``, ``cable.ampacity``, ``relay.contact_rating``,
   ``circuit.voltage_drop``): coils and cables at the ambient, the bus held at the regulator's
@@ -28,6 +28,11 @@ in chunks. Each sample is one consistent state of the vehicle, solved in four ne
   The same bus feeds each relay's coil (``relay.coil_pickup``): it gets U_bus·R/(R + R_feed) against
   :data:`~coilstage.analysis.relay_coil.PICKUP_MARGIN` × the voltage it needs, the coil at its zone
   plus its own rise (as the rule).
+* **braking** (``field.braking_retained``): the low bus with every cable and winding at its
+  hot-corner temperature less the sample's ambient shortfall from the highest (the zones follow the
+  ambient; a winding keeps the hot corner's rise), so a cold battery does not meet the hottest
+  windings; the braking effort Σ B² of the stages' ampere-turns over the cold corner's
+  (:meth:`Model.braking_ratio`, the measure of ``analysis.worst.braking_effort``).
 * **largest fault** (``fuse.breaking_capacity``): a surface-charged battery at its low-end
   resistance, the alternator a current source of its rated output plus its cold excess, coils and
   cables at the ambient, the other loads disconnected, a bolted short from each fuse's load
@@ -72,7 +77,14 @@ import numpy as np
 
 from coilstage import tables
 from coilstage.analysis.circuit import Circuit, element_resistance
-from coilstage.analysis.conditions import cold_temperatures, hot_alternator_limit, hot_temperatures, zone_at_ambient
+from coilstage.analysis.conditions import (
+    cold_temperatures,
+    corner_sources,
+    hot_alternator_limit,
+    hot_temperatures,
+    zone_at_ambient,
+)
+from coilstage.analysis.field import circuit_of
 from coilstage.analysis.insulation import short_circuit_limit
 from coilstage.analysis.materials import metal
 from coilstage.analysis.ratings import cable_rating, fuse_gates, relay_contact
@@ -80,6 +92,7 @@ from coilstage.analysis.relay_coil import PICKUP_MARGIN, coil_at, hot_temperatur
 from coilstage.analysis.tolerances import battery_resistance, effective, element_key, lookup
 from coilstage.analysis.tolerances import cells as _cells
 from coilstage.analysis.topology import protected_cables
+from coilstage.analysis.worst import braking_effort
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.fault import adiabatic_final_temperature
@@ -99,6 +112,7 @@ RULES = (
     "fuse.breaking_capacity",
     "fuse.cable_short_circuit",
     "relay.coil_pickup",
+    "field.braking_retained",
 )
 
 #: the network each modelled rule reads (:func:`evaluate` solves only those a call asks for)
@@ -107,6 +121,7 @@ NETWORKS = {
     "low bus": ("supply.bus_minimum", "relay.coil_pickup"),
     "largest fault": ("fuse.breaking_capacity",),
     "smallest fault": ("fuse.cable_short_circuit",),
+    "braking": ("field.braking_retained",),
 }
 
 #: A conductor's melting point [°C] (CRC Handbook of Chemistry and Physics: copper 1084.62 °C,
@@ -597,6 +612,18 @@ class Model:
                 at = coil_at(r, 1.0, hot_temperature(r))
                 if at.need > 0:
                     self.pickups[r.id] = (at.have, at.need)
+        # braking retained: the cold corner's effort (all stages on) as the reference, and each stage's
+        # ampere-turns per ampere and magnetic circuit (None: (N·I)², as analysis.worst.braking_effort)
+        self.braking: tuple[float, float, list[tuple[int, float, object]]] | None = None
+        min_ratio = d.retarder.min_braking_ratio
+        if min_ratio is not None and d.stages:
+            cold_t, cold_src = corner_sources(d)["cold"]
+            cold = Circuit(d).solve(cold_t, cold_src)
+            e_cold = braking_effort(d, {st.id: abs(cold.current[st.id]) for st in d.stages})
+            circs = {name: circuit_of(c) for name, c in d.coils.items()}
+            per = [(self.el_ix[st.id], st.coil.turns * st.coil_current_factor, circs[st.coil.name]) for st in d.stages]
+            if e_cold > 0:
+                self.braking = (e_cold, float(min_ratio), per)
         net = self.net
         # resistor rows of the three networks: the elements, then the battery's resistance (Norton
         # networks) and the alternator's source resistance (the regulating low-bus network)
@@ -630,9 +657,12 @@ class Model:
     def fixed(self, key: str, end: str = "nominal") -> float:
         return float(self.tol[key][end])
 
-    def resistances(self, x: np.ndarray, temps: dict[str, float] | np.ndarray) -> np.ndarray:
+    def resistances(
+        self, x: np.ndarray, temps: dict[str, float] | np.ndarray, shift: np.ndarray | None = None
+    ) -> np.ndarray:
         """(N, E) element resistances [Ω]: at ``temps`` (element id -> °C, or (N,) one temperature for
-        every cable and stage) with each coil's and cable's tolerance applied."""
+        every cable and stage), raised by ``shift`` (N,) [K] where given, with each coil's and cable's
+        tolerance applied."""
         d = self.d
         n = x.shape[0]
         out = np.empty((n, len(d.elements)))
@@ -643,7 +673,7 @@ class Model:
         for j, e in enumerate(d.elements):
             if isinstance(e, (Cable, Stage)):
                 t = temps if isinstance(temps, np.ndarray) else temps.get(e.id, 20.0)
-                out[:, j] = element_resistance(e, t)
+                out[:, j] = element_resistance(e, t if shift is None else t + shift)
             else:
                 out[:, j] = element_resistance(e, 20.0)
         return out * scale
@@ -790,12 +820,14 @@ class Model:
         )
         return np.asarray(emf, dtype=float) * np.ones(x.shape[0]), rb * age
 
-    def low_bus(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    def low_bus(self, x: np.ndarray, r: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
         """(x of the network (N, size), the alternator's mode per sample: 0 regulating, 1
-        current-limited, 2 off, -1 absent)."""
+        current-limited, 2 off, -1 absent), with the element resistances ``r`` (N, E) where given (by
+        default the hot corner's temperatures)."""
         net = self.net
         n = x.shape[0]
-        r = self.resistances(x, self.hot_t)
+        if r is None:
+            r = self.resistances(x, self.hot_t)
         emf, rb = self.battery_low(x)
         size = net.size(False)
         rhs = np.zeros((n, size))
@@ -830,6 +862,29 @@ class Model:
         x_lim = xb + limit[:, None] * z
         out = np.where((mode == 0)[:, None], x_reg, np.where((mode == 1)[:, None], x_lim, xb))
         return out, mode
+
+    def braking_ratio(self, x: np.ndarray) -> np.ndarray:
+        """(N,) braking effort at the lowest bus over the cold corner's (``field.braking_retained``).
+
+        The low-bus network (battery and alternator as there) in one state of the vehicle: every cable
+        and winding at its hot-corner temperature less the sample's ambient shortfall from the highest
+        (the zones follow the ambient, :func:`~coilstage.analysis.conditions.zone_at_ambient`; a
+        winding keeps the rise the hot corner gives it), so that cold air, a cold weak battery and hot
+        coils are not taken together. The effort is the sum over stages of B² in the gap at each
+        coil's ampere-turns (:meth:`~coilstage.physics.magnetic.MagneticCircuit.gap_flux_density_array`),
+        or (N·I)², as :func:`coilstage.analysis.worst.braking_effort`."""
+        e_cold, _lim, per = self.braking
+        shift = self.ambient(x) - self.d.environment.ambient_max
+        r = self.resistances(x, self.hot_t, shift)
+        xl, _mode = self.low_bus(x, r)
+        net = self.net
+        v = np.concatenate([np.zeros((x.shape[0], 1)), xl[:, : net.n]], axis=1)
+        total = np.zeros(x.shape[0])
+        for j, at_per_amp, circ in per:
+            ni = np.abs(v[:, net.ea[j]] - v[:, net.eb[j]]) / r[:, j] * at_per_amp
+            b = circ.gap_flux_density_array(ni) if circ is not None else ni
+            total += b * b
+        return total / e_cold
 
     def largest_fault(self, x: np.ndarray) -> dict[str, np.ndarray]:
         """Fuse id -> (N,) bolted-short current at its load terminal at the largest fault [A]."""
@@ -1072,6 +1127,12 @@ def evaluate(d: Drawing, X: np.ndarray, rules: Collection[str] | None = None) ->
             out[("fuse.cable_short_circuit", f"{f.id} → {c.id}")] = Evaluated(
                 _ceiling(theta + 273.15, limit + 273.15), np.where(theta <= limit, PASS, FAIL), theta, limit, "degC", i
             )
+    if m.braking is not None and wanted("braking"):
+        ratio = m.braking_ratio(x)
+        lim_b = m.braking[1]
+        out[("field.braking_retained", "retarder")] = Evaluated(
+            (ratio - lim_b) / lim_b, np.where(ratio >= lim_b, PASS, FAIL), ratio, lim_b, "1"
+        )
     if want is not None:
         out = {k: v for k, v in out.items() if k[0] in want}
     return out

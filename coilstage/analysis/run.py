@@ -21,7 +21,7 @@ from coilstage.analysis.conditions import Conditions, conditions
 from coilstage.analysis.contacts import Contacts, contacts
 from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, solve_corner
 from coilstage.analysis.drops import StageDrops, largest_current_stages
-from coilstage.analysis.duty import DutyResult, continuous_duty, simulate
+from coilstage.analysis.duty import DutyResult, continuous_duty, duty_conditions, nominal_conditions, simulate
 from coilstage.analysis.field import FieldResult, analyse_field
 from coilstage.analysis.fuse_duty import FuseDuty, fuse_duty
 from coilstage.analysis.joints import JointFigures, joint_figures
@@ -58,6 +58,11 @@ class Analysis:
     contacts: Contacts  # each relay's break, load dump, arc, coil pick-up and feed; the stages' load dumps
     joints: dict[str, JointFigures]  # joint id -> its current, rating, I²R heat and lug fit
     largest_current_stages: StageDrops  # each stage's drop at the largest continuous current
+    #: the same two with every coil at its stated resistance (``descent`` and ``continuous`` take each at
+    #: the low end of its tolerance, the worst case of the heating rules): their nominal, made for a
+    #: report (``analyse`` with ``transients``), None otherwise or where no tolerance moves the coils
+    descent_nominal: DutyResult | None = None
+    continuous_nominal: DutyResult | None = None
     #: fuse id -> its share of the must-not-open time along ``descent`` (or why none); made from
     #: ``descent`` whenever an Analysis is built, so a copy with another descent
     #: (``dataclasses.replace(a, descent=...)``) carries its own
@@ -87,10 +92,15 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients
         b = worst.largest_break
         largest = None if b is None else (b.drawing, CaseNetwork(Circuit(b.drawing), b.temperatures, b.sources))
         sw = analyse_switching(d, nets, largest=largest, t95=transients)
-    descent = continuous = None
+    descent = continuous = descent_nominal = continuous_nominal = None
     if heating and d.duty is not None:
-        descent = simulate(d)
-        continuous = simulate(d, continuous_duty(d))
+        cond = duty_conditions(d)
+        descent = simulate(d, conditions=cond)
+        continuous = simulate(d, continuous_duty(d), conditions=cond)
+        if transients and any(cond.coil_tolerance.values()):  # a report's: the nominal beside the worst
+            nom = nominal_conditions(cond)
+            descent_nominal = simulate(d, conditions=nom)
+            continuous_nominal = simulate(d, continuous_duty(d), conditions=nom)
     switched = switched_stages(d)
     rated = _rated(d, corners, protected, far_end, duty, sw, worst, switched)
     return Analysis(
@@ -115,6 +125,8 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients
         rated.contacts,
         rated.joints,
         largest_current_stages(d, worst.largest_current_solution, corners["cold"].temperatures),
+        descent_nominal,
+        continuous_nominal,
     )
 
 

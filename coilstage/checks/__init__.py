@@ -22,7 +22,7 @@ from coilstage.checks import (
     switching,
     thermal,
 )
-from coilstage.checks.base import Rule, Sensitivity, Status, Verdict
+from coilstage.checks.base import Rule, Sensitivity, Status, Verdict, decided_at_worst
 from coilstage.checks.tolerance_corner import corner_figures, decide_at_corner, figures_at
 from coilstage.errors import AnalysisError
 
@@ -108,13 +108,57 @@ def with_worst_corners(a: Analysis, verdicts: list[Verdict], corners: dict | Non
     return out
 
 
+#: where the heating rules are decided (:func:`coilstage.analysis.duty.duty_conditions`)
+DUTY_WORST = "low end of the coils' resistance tolerance"
+
+
+def with_duty_nominal(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
+    """The heating rules' verdicts (:data:`DUTY_RULES`, decided on the duty simulated with each coil at
+    the low end of its resistance tolerance) with their nominal beside them: the same rules read off
+    the analysis' nominal simulations (``Analysis.descent_nominal``, ``continuous_nominal``: the coils
+    as stated). The verdicts as given where the analysis made no nominal simulation."""
+    if a.descent_nominal is None:
+        return verdicts
+    nominal_a = dataclasses.replace(
+        a, descent=a.descent_nominal, continuous=a.continuous_nominal if a.continuous_nominal else a.continuous
+    )
+    nominal = {(v.rule, v.subject): v for r in RULES if r.id in DUTY_RULES for v in r.evaluate(nominal_a)}
+    coils = dict(a.descent.conditions.words).get("coils") if a.descent is not None else None
+    deciding = (f"coils {coils}",) if coils else ()
+    out = []
+    for v in verdicts:
+        n = nominal.get((v.rule, v.subject))
+        if (
+            v.rule in DUTY_RULES
+            and v.worst is None
+            and n is not None
+            and Status.NOT_CHECKED not in (v.status, n.status)
+            and n.unit == v.unit
+        ):
+            v = decided_at_worst(v, n, DUTY_WORST)  # the note names its conditions already
+            v = dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=deciding))
+        out.append(v)
+    return out
+
+
 def run_checks(a: Analysis) -> list[Verdict]:
     """Every verdict of every rule on one analysed drawing; a verdict decided at its worst case carries
-    the sensitivities of its margin to the declared parameters, largest first."""
+    the sensitivities of its margin to the declared parameters, largest first; the heating rules'
+    carry their nominal (:func:`with_duty_nominal`)."""
     out: list[Verdict] = []
     for rule in RULES:
         out.extend(rule.evaluate(a))
-    return with_worst_corners(a, out)
+    return with_worst_corners(a, with_duty_nominal(a, out))
 
 
-__all__ = ["DUTY_RULES", "RULES", "Rule", "Status", "Verdict", "run_checks", "with_worst_corners"]
+__all__ = [
+    "DUTY_RULES",
+    "DUTY_WORST",
+    "RULES",
+    "Rule",
+    "Status",
+    "Verdict",
+    "run_checks",
+    "with_duty_nominal",
+    "with_worst_corners",
+]

@@ -94,7 +94,8 @@ def decide_at_corner(v: Verdict, figures: tuple | None) -> Verdict:
         if status is not v.status
         else f"margin {v.margin:.0%} at the {case}, {margin:.0%} at the {CONDITIONS}"
     )
-    note = f"{head} ({value:.4g} {unit} against {limit:.4g} {unit}); at the {case}: {v.note}"
+    u = "" if unit == "1" else f" {unit}"  # a ratio is written bare
+    note = f"{head} ({value:.4g}{u} against {limit:.4g}{u}); at the {case}: {v.note}"
     return dataclasses.replace(v, status=status, value=value, limit=limit, margin=margin, note=note, corner=CONDITIONS)
 
 

@@ -235,6 +235,7 @@ source_resistance = "{s.source_r}"  # the alternator and its cable as a source r
 limit_idle = "{s.idle}"  # output current limit at engine idle (invented)
 limit_rated = "{s.rated}"  # output current limit at rated speed (invented)
 # node = "ALT"  # its own node, if it feeds through a cable of its own (default: the battery node)
+# compensation_limit = "0.6 V"  # the most the temperature compensation moves the set-point (maker's figure)
 
 [environment]
 ambient_min = "-30 degC"  # lowest surrounding temperature: the cold corner (invented)

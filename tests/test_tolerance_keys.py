@@ -9,8 +9,10 @@ from __future__ import annotations
 import dataclasses
 import tomllib
 
+import numpy as np
 import pytest
 
+from coilstage import check
 from coilstage.analysis import tolerances, worst
 from coilstage.drawing.load import load_drawing
 from coilstage.drawing.schema import ToleranceSpec
@@ -329,3 +331,51 @@ def test_alternator_keys_without_an_alternator():
 def test_length_tolerance_only_on_a_cable():
     text = drawing_text().replace('rating = "300 A"', 'rating = "300 A"\nlength_tolerance = "5 %"')
     assert "no such key" in one(text, "harness[0] (FM).length_tolerance")
+
+
+# ---------------------------------------------------------------- the regulator's compensation limit
+
+
+def test_compensation_limit_is_read_refused_when_negative_and_assumed_when_absent():
+    text = drawing_text()
+    with_cap = text.replace('limit_idle = "60 A"', 'limit_idle = "60 A"\ncompensation_limit = "0.6 V"', 1)
+    assert with_cap != text
+    assert parse_drawing(with_cap, "x").supply.alternator.compensation_limit == pytest.approx(0.6)
+    plain = parse_drawing(text, "x")
+    assert plain.supply.alternator.compensation_limit is None
+    assert any(a.startswith("supply.alternator.compensation_limit not given") for a in plain.assumptions)
+    msg = one(with_cap.replace('"0.6 V"', '"-0.6 V"'), "supply.alternator.compensation_limit")
+    assert "-0.6 V" in msg
+    one(with_cap.replace('"0.6 V"', '"0.6 A"'), "supply.alternator.compensation_limit")
+
+
+def test_compensation_limit_caps_the_models_regulator_and_lifts_the_coachs_worst_corner():
+    """The vectorised model's regulator is the set-point with its tolerance plus the compensation
+    g·(θ − 25 °C) clipped to ±limit (written out here); on the coach, whose worst braking and pick-up
+    corners put the regulator at 105 °C with -35 mV/K (-2.8 V), a 0.6 V limit lifts both corners."""
+    from coilstage.analysis.params import evaluate, model, nominal
+
+    coach = load_drawing(COACH)
+    capped = dataclasses.replace(
+        coach,
+        supply=dataclasses.replace(
+            coach.supply, alternator=dataclasses.replace(coach.supply.alternator, compensation_limit=0.6)
+        ),
+    )
+    m = model(capped)
+    ix = m.index
+    x = np.tile(nominal(m.params), (3, 1))
+    x[:, ix["supply.alternator.regulator_temperature"]] = [-30.0, 30.0, 105.0]
+    x[:, ix["supply.alternator.compensation_24v"]] = -0.035
+    x[:, ix["supply.alternator.tolerance"]] = 0.01
+    u_set = 28.2 * 1.01
+    np.testing.assert_allclose(m.regulated(x), [u_set + 0.6, u_set - 0.175, u_set - 0.6], rtol=1e-12)
+    # the worst corners of the two rules, with and without the limit
+    _, base = check(coach)
+    _, lifted = check(capped)
+    for rule, subject in (("field.braking_retained", "retarder"), ("relay.coil_pickup", "K1")):
+        a = next(v for v in base if (v.rule, v.subject) == (rule, subject))
+        b = next(v for v in lifted if (v.rule, v.subject) == (rule, subject))
+        assert b.margin > a.margin + 0.005, (rule, a.margin, b.margin)
+    ev = evaluate(capped, x, {"supply.bus_minimum"})[("supply.bus_minimum", "bus")]
+    assert np.all(np.isfinite(ev.value))

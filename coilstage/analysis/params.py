@@ -687,7 +687,9 @@ class Model:
         t = self.column(
             x, "supply.alternator.regulator_temperature", self.fixed("supply.alternator.regulator_temperature")
         )
-        return regulator_setpoint(t, u_set, g, self.fixed("supply.alternator.compensation_reference"))
+        return regulator_setpoint(
+            t, u_set, g, self.fixed("supply.alternator.compensation_reference"), alt.compensation_limit
+        )
 
     def ambient(self, x: np.ndarray) -> np.ndarray:
         env = self.d.environment

@@ -460,11 +460,14 @@ def worst_cases(
     cold = cases["cold"]
     if alt is not None:
         reg_tol = regulator_tolerance(d, tol)
-        hi = regulated_bus_range(alt.setpoint, reg_tol, g, t_min, max(t_min, 25.0)).high
+        hi = regulated_bus_range(
+            alt.setpoint, reg_tol, g, t_min, max(t_min, 25.0), compensation_limit=alt.compensation_limit
+        ).high
         bus_high = max(hi, cold.sources.hold_bus or 0.0)
         reg_words = (
             f"held at {bus_high:.2f} V: set-point {alt.setpoint:.2f} V + {reg_tol:.2f} V tolerance + "
             f"{abs(g) * 1e3:g} mV/K compensation at {t_min:g} °C (from 25 °C)"
+            + (f", at most {alt.compensation_limit:g} V" if alt.compensation_limit is not None else "")
         )
     else:
         bus_high = cold.sources.hold_bus or cold.sources.battery_emf
@@ -536,7 +539,7 @@ def duty_sweep(
     nets = []
     for t in ambients:
         if alt is not None and g != 0.0:
-            bus = regulated_bus_range(alt.setpoint, reg_tol, g, t, t).high
+            bus = regulated_bus_range(alt.setpoint, reg_tol, g, t, t, compensation_limit=alt.compensation_limit).high
             if stated_bus:
                 bus = max(bus, d.corners.cold_bus)
         elif alt is not None:

@@ -54,6 +54,9 @@ class Alternator:
     limit_idle: float  # output current limit at engine idle [A]
     limit_rated: float  # output current limit at rated speed [A]
     node: str
+    #: the most the regulator's temperature compensation moves its set-point either way [V] (the
+    #: regulator maker's figure; None: linear over the whole temperature range)
+    compensation_limit: float | None = None
 
 
 @dataclass(frozen=True)

@@ -41,7 +41,15 @@ KEYS = {
         "peukert",
         "short_circuit_current",
     },
-    "supply.alternator": {"limit_idle", "limit_rated", "node", "setpoint", "source_resistance", "tolerance"},
+    "supply.alternator": {
+        "compensation_limit",
+        "limit_idle",
+        "limit_rated",
+        "node",
+        "setpoint",
+        "source_resistance",
+        "tolerance",
+    },
 }
 
 
@@ -130,8 +138,14 @@ def read_supply(r: Reader, raw: dict) -> Supply | None:
         )
         if idle is not None and rated is not None and idle > rated:
             r.problem("supply.alternator.limit_idle", a["limit_idle"], "no more than limit_rated")
-        if None not in (setpoint, tol, rs, idle, rated, node):
-            alternator = Alternator(setpoint, tol, rs, idle, rated, node)
+        clamp = r.quantity(a, "compensation_limit", "supply.alternator", "voltage", default=None, nonnegative=True)
+        if "compensation_limit" not in a:
+            r.assume(
+                "supply.alternator.compensation_limit not given: the regulator's temperature compensation is "
+                "taken as linear over the whole regulator temperature range (give the maker's limit)"
+            )
+        if None not in (setpoint, tol, rs, idle, rated, node) and (clamp is not None or "compensation_limit" not in a):
+            alternator = Alternator(setpoint, tol, rs, idle, rated, node, clamp)
     elif "alternator" not in s:
         r.assume("no alternator in the drawing: the battery alone feeds the bus")
 

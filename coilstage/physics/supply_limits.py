@@ -12,11 +12,15 @@ import numpy as np
 
 
 def regulator_setpoint(
-    temperature: float | np.ndarray, setpoint: float, gradient: float, t_reference: float = 25.0
+    temperature: float | np.ndarray,
+    setpoint: float,
+    gradient: float | np.ndarray,
+    t_reference: float = 25.0,
+    limit: float | None = None,
 ) -> float | np.ndarray:
     r"""Regulated voltage of a temperature-compensated regulator [V].
 
-    .. math:: U(\theta) = U_{set} + g\,(\theta - \theta_{ref})
+    .. math:: U(\theta) = U_{set} + \operatorname{clip}\big(g\,(\theta - \theta_{ref}),\,-\Delta U_c,\,+\Delta U_c\big)
 
     Parameters
     ----------
@@ -30,6 +34,9 @@ def regulator_setpoint(
         for 24 V (derived). [V/K]
     t_reference : float
         Temperature the set-point is stated at. [°C]
+    limit : float, optional
+        ΔU_c, the most the compensation moves the set-point either way, where the regulator's maker
+        gives it (None: linear over any temperature). [V]
 
     Returns
     -------
@@ -51,8 +58,13 @@ def regulator_setpoint(
     --------
     >>> round(regulator_setpoint(-30.0, 28.2, -0.020), 2)
     29.3
+    >>> round(regulator_setpoint(-30.0, 28.2, -0.020, limit=0.6), 2)
+    28.8
     """
-    u = setpoint + gradient * (np.asarray(temperature, dtype=float) - t_reference)
+    shift = gradient * (np.asarray(temperature, dtype=float) - t_reference)
+    if limit is not None:
+        shift = np.clip(shift, -limit, limit)
+    u = setpoint + shift
     return float(u) if np.ndim(u) == 0 else u
 
 
@@ -77,6 +89,7 @@ def regulated_bus_range(
     t_reference: float = 25.0,
     gradient_tolerance: float = 0.0,
     ceiling: float | None = None,
+    compensation_limit: float | None = None,
 ) -> RegulatedRange:
     r"""Smallest and largest regulated voltage over a regulator temperature range and its tolerances.
 
@@ -107,6 +120,9 @@ def regulated_bus_range(
         ± tolerance of the gradient. [V/K]
     ceiling : float, optional
         The regulator's own upper limit, if its maker gives one. [V]
+    compensation_limit : float, optional
+        The most the compensation moves the set-point either way, if its maker gives it (as
+        :func:`regulator_setpoint`'s ``limit``). [V]
 
     Returns
     -------
@@ -134,7 +150,7 @@ def regulated_bus_range(
     if t_max < t_min:
         raise ValueError("t_max must not lie below t_min")
     corners = [(t, g) for t in (t_min, t_max) for g in (gradient - gradient_tolerance, gradient + gradient_tolerance)]
-    values = [setpoint + g * (t - t_reference) for t, g in corners]
+    values = [float(regulator_setpoint(t, setpoint, g, t_reference, compensation_limit)) for t, g in corners]
     i_hi = int(np.argmax(values))
     i_lo = int(np.argmin(values))
     high = values[i_hi] + tolerance

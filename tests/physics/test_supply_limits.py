@@ -8,7 +8,7 @@ from importlib import resources
 
 import numpy as np
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from coilstage.physics.supply_limits import (
@@ -73,6 +73,38 @@ def test_regulator_range_equals_brute_force_over_a_grid(g, dg, tol, t_min, span)
     u = 28.0 + gg * (tt - 25.0)
     assert r.high == pytest.approx(u.max() + tol, abs=1e-9)
     assert r.low == pytest.approx(u.min() - tol, abs=1e-9)
+
+
+@settings(deadline=None)
+@given(
+    g=st.floats(-0.06, 0.0),
+    dg=st.floats(0.0, 0.01),
+    tol=st.floats(0.0, 1.0),
+    t_min=st.floats(-40.0, 20.0),
+    span=st.floats(0.0, 120.0),
+    cap=st.floats(0.0, 2.0),
+)
+def test_capped_compensation_equals_brute_force_over_a_grid(g, dg, tol, t_min, span, cap):
+    # The compensation capped at ±cap (the regulator maker's limit): clip(g (T - 25), -cap, cap) is
+    # still monotone in T and in g, so the four corners hold the extremes; the dense grid (numpy) with
+    # the cap written out is the independent check.
+    t_max = t_min + span
+    r = regulated_bus_range(28.0, tol, g, t_min, t_max, gradient_tolerance=dg, compensation_limit=cap)
+    tt, gg = np.meshgrid(np.linspace(t_min, t_max, 31), np.linspace(g - dg, g + dg, 11))
+    u = 28.0 + np.clip(gg * (tt - 25.0), -cap, cap)
+    assert r.high == pytest.approx(u.max() + tol, abs=1e-9)
+    assert r.low == pytest.approx(u.min() - tol, abs=1e-9)
+
+
+def test_capped_compensation_by_hand():
+    # 24 V: 28.2 ± 0.4 V at -20 mV/K from -30 to 80 °C, the compensation at most 0.6 V either way:
+    # uncapped +1.1 V cold and -1.1 V hot (the worked example above), capped to ±0.6 V
+    r = regulated_bus_range(28.2, 0.4, -0.020, -30.0, 80.0, compensation_limit=0.6)
+    assert (r.high, r.low) == (pytest.approx(29.2), pytest.approx(27.2))
+    assert regulator_setpoint(-30.0, 28.2, -0.020, limit=0.6) == pytest.approx(28.8)
+    assert regulator_setpoint(10.0, 28.2, -0.020, limit=0.6) == pytest.approx(28.5)  # inside the cap
+    got = regulator_setpoint(np.array([-30.0, 25.0, 105.0]), 28.2, -0.035, limit=0.6)
+    np.testing.assert_allclose(got, [28.8, 28.2, 27.6], rtol=1e-12)
 
 
 def test_regulator_ceiling_and_bad_range():

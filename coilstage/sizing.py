@@ -568,7 +568,7 @@ def duty_analysis(d: Drawing, rules: tuple[str, ...] = ()) -> Analysis:
     from coilstage.analysis.run import analyse
 
     if not rules or any(r.startswith(rules) for r in _CONTINUOUS_RULES) or d.duty is None:
-        return analyse(d)
+        return analyse(d, duty_nominal=False)  # sizing reads the statuses: no nominal simulations
     from coilstage.analysis.duty import simulate
 
     return replace(analyse(d, heating=False), descent=simulate(d))

@@ -200,9 +200,12 @@ def test_braking_retained_equals_the_scalar_solve_and_the_flux_law(coach):
     worked by hand (as the low-bus test above), every cable and winding at its hot-corner temperature
     less the sample's ambient shortfall from the highest (the zones follow the ambient), and the effort
     Σ B² from the scalar magnetic circuit (analysis.worst.braking_effort, whose root
-    tests/test_field.py holds against scipy.optimize.brentq), over the cold corner's effort."""
+    tests/test_field.py holds against scipy.optimize.brentq), over the cold corner's effort. The
+    windings stand at their steady state in the braking-retained state (analysis.worst.braking_drawing),
+    less the ambient's shortfall."""
     from coilstage.analysis.conditions import corner_sources
-    from coilstage.analysis.worst import braking_effort
+    from coilstage.analysis.tolerances import effective
+    from coilstage.analysis.worst import braking_drawing, braking_effort
 
     ps = parameters(coach)
     xs = _samples(ps, 8, 5)
@@ -210,7 +213,7 @@ def test_braking_retained_equals_the_scalar_solve_and_the_flux_law(coach):
     cold_t, cold_src = corner_sources(coach)["cold"]
     cold = Circuit(coach).solve(cold_t, cold_src)
     e_cold = braking_effort(coach, {s.id: abs(cold.current[s.id]) for s in coach.stages})
-    hot = hot_temperatures(coach)
+    hot = hot_temperatures(braking_drawing(coach, effective(coach)))
     b = 0.008447  # as the low-bus test
     ratios = []
     for i, x in enumerate(xs):
@@ -238,6 +241,27 @@ def test_braking_retained_equals_the_scalar_solve_and_the_flux_law(coach):
         assert got.margin[i] == pytest.approx((ratio - 0.25) / 0.25, rel=1e-9)
         assert got.status[i] == (PASS if ratio >= 0.25 else FAIL)
     assert max(ratios) - min(ratios) > 0.02  # the samples move it
+
+
+def test_braking_model_at_the_rules_own_state_gives_the_rules_ratio(coach):
+    """At the state analysis.worst decides field.braking_retained in (coils +5 %, cables +10 %, battery
+    at 50 % charge and aged × 1.5 at the highest ambient, alternator derated 35 %, regulator nominal)
+    the model's braking network gives the rule's own ratio, which worst.py solves by Circuit.solve
+    of the drawing changed to that state: the two paths agree to round-off (rel 1e-9)."""
+    a = analyse(coach, heating=False, transients=False)
+    m = model(coach)
+    x = nominal(m.params)
+    for key, value in {
+        "coils.RC4.resistance_tolerance": 0.05,
+        "tolerances.cable_length": 0.1,
+        "supply.alternator.hot_derating": 0.35,
+        "supply.battery.state_of_charge": 0.5,
+        "supply.battery.age_factor": 1.5,
+        "environment.ambient": coach.environment.ambient_max,
+    }.items():
+        x[m.index[key]] = value
+    got = evaluate(coach, x[None], {"field.braking_retained"})[("field.braking_retained", "retarder")]
+    assert got.value[0] == pytest.approx(a.worst.braking.ratio, rel=1e-9)
 
 
 def test_a_regulating_and_an_off_alternator_in_one_batch(coach):

@@ -40,10 +40,12 @@ def test_resistances_equal_the_element_law_at_every_temperature(name, coach_path
 @pytest.mark.parametrize("name", CONFIGS)
 def test_dense_solve_agrees_with_the_sparse_lu_of_the_same_network(name, coach_path, monkeypatch):
     """The quasi-static network's small systems are solved from the fixed part's matrix, summed once,
-    with the temperature-dependent stamps added; the same network through the general assembly and
-    SciPy's sparse LU (SuperLU, the path above SPARSE_THRESHOLD) must give the same currents, for
-    random temperatures, stages on and off, and each state of the alternator."""
+    with the temperature-dependent stamps added. Through the general assembly (mna_matrix and
+    Factorized, still dense) the same solves must be the same to the last bit; through SciPy's sparse
+    LU (SuperLU, the path above SPARSE_THRESHOLD) the same to round-off; for random temperatures,
+    stages on and off, and each state of the alternator."""
     import coilstage.analysis.quasistatic as qs
+    import coilstage.physics.network as nw
 
     d = load_drawing(coach_path.parent / f"{name}.toml")
     alt = d.supply.alternator
@@ -61,10 +63,15 @@ def test_dense_solve_agrees_with_the_sparse_lu_of_the_same_network(name, coach_p
         net = QuasiStatic(d, 25.2, alt.setpoint if alt else None)
         return [net.solve(*c) for c in cases]
 
-    dense = run()
-    monkeypatch.setattr(qs, "SPARSE_THRESHOLD", 0)
+    fast = run()
+    monkeypatch.setattr(qs, "SPARSE_THRESHOLD", 0)  # the general assembly, Factorized dense
+    general = run()
+    for a, b in zip(fast, general, strict=True):
+        for x, y in zip(a, b, strict=True):
+            np.testing.assert_array_equal(x, y)
+    monkeypatch.setattr(nw, "SPARSE_THRESHOLD", 0)  # and Factorized's SuperLU
     sparse = run()
-    for a, b in zip(dense, sparse, strict=True):
+    for a, b in zip(fast, sparse, strict=True):
         # two eliminations of the same matrix: round-off only (rel 1e-10 of currents of 1-300 A)
         for x, y in zip(a, b, strict=True):
             np.testing.assert_allclose(x, y, rtol=1e-10, atol=1e-9)

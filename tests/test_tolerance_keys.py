@@ -353,7 +353,7 @@ def test_compensation_limit_caps_the_models_regulator_and_lifts_the_coachs_worst
     """The vectorised model's regulator is the set-point with its tolerance plus the compensation
     g·(θ − 25 °C) clipped to ±limit (written out here); on the coach, whose worst braking and pick-up
     corners put the regulator at 105 °C with -35 mV/K (-2.8 V), a 0.6 V limit lifts both corners."""
-    from coilstage.analysis.params import evaluate, model, nominal
+    from coilstage.analysis.params import model, nominal
 
     coach = load_drawing(COACH)
     capped = dataclasses.replace(
@@ -376,6 +376,6 @@ def test_compensation_limit_caps_the_models_regulator_and_lifts_the_coachs_worst
     for rule, subject in (("field.braking_retained", "retarder"), ("relay.coil_pickup", "K1")):
         a = next(v for v in base if (v.rule, v.subject) == (rule, subject))
         b = next(v for v in lifted if (v.rule, v.subject) == (rule, subject))
+        # half a point: the cap takes 2.2 V of compensation off these corners (2.8 V to 0.6 V), which
+        # moves each margin by several points; round-off could not move it by 0.005
         assert b.margin > a.margin + 0.005, (rule, a.margin, b.margin)
-    ev = evaluate(capped, x, {"supply.bus_minimum"})[("supply.bus_minimum", "bus")]
-    assert np.all(np.isfinite(ev.value))

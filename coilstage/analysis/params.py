@@ -28,10 +28,11 @@ in chunks. Each sample is one consistent state of the vehicle, solved in five ne
   The same bus feeds each relay's coil (``relay.coil_pickup``): it gets U_bus·R/(R + R_feed) against
   :data:`~coilstage.analysis.relay_coil.PICKUP_MARGIN` × the voltage it needs, the coil at its zone
   plus its own rise (as the rule).
-* **braking** (``field.braking_retained``): the low bus with every cable and winding at its
-  hot-corner temperature less the sample's ambient shortfall from the highest (the zones follow the
-  ambient; a winding keeps the hot corner's rise), so a cold battery does not meet the hottest
-  windings; the braking effort Σ B² of the stages' ampere-turns over the cold corner's
+* **braking** (``field.braking_retained``): the low bus with every cable at its zone and every
+  winding at its steady state in the braking-retained state (``analysis.worst.braking_drawing``),
+  each less the sample's ambient shortfall from the highest (the zones follow the ambient; a winding
+  keeps its rise), so a cold battery does not meet the hottest windings (the regulator's temperature
+  stays a parameter of its own); the braking effort Σ B² of the stages' ampere-turns over the cold corner's
   (:meth:`Model.braking_ratio`, the measure of ``analysis.worst.braking_effort``).
 * **largest fault** (``fuse.breaking_capacity``): a surface-charged battery at its low-end
   resistance, the alternator a current source of its rated output plus its cold excess, coils and
@@ -92,7 +93,7 @@ from coilstage.analysis.relay_coil import PICKUP_MARGIN, coil_at, hot_temperatur
 from coilstage.analysis.tolerances import battery_resistance, effective, element_key, lookup
 from coilstage.analysis.tolerances import cells as _cells
 from coilstage.analysis.topology import protected_cables
-from coilstage.analysis.worst import braking_effort
+from coilstage.analysis.worst import braking_drawing, braking_effort
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
 from coilstage.physics.fault import adiabatic_final_temperature
@@ -624,6 +625,9 @@ class Model:
             per = [(self.el_ix[st.id], st.coil.turns * st.coil_current_factor, circs[st.coil.name]) for st in d.stages]
             if e_cold > 0:
                 self.braking = (e_cold, float(min_ratio), per)
+                # the windings' steady state in the braking-retained state (analysis.worst's view):
+                # held over the samples, as the low bus holds the hot corner's
+                self.braking_t = hot_temperatures(braking_drawing(d, self.tol))
         net = self.net
         # resistor rows of the three networks: the elements, then the battery's resistance (Norton
         # networks) and the alternator's source resistance (the regulating low-bus network)
@@ -869,15 +873,18 @@ class Model:
         """(N,) braking effort at the lowest bus over the cold corner's (``field.braking_retained``).
 
         The low-bus network (battery and alternator as there) in one state of the vehicle: every cable
-        and winding at its hot-corner temperature less the sample's ambient shortfall from the highest
-        (the zones follow the ambient, :func:`~coilstage.analysis.conditions.zone_at_ambient`; a
-        winding keeps the rise the hot corner gives it), so that cold air, a cold weak battery and hot
-        coils are not taken together. The effort is the sum over stages of B² in the gap at each
-        coil's ampere-turns (:meth:`~coilstage.physics.magnetic.MagneticCircuit.gap_flux_density_array`),
+        at its zone temperature and every winding at its steady state in the braking-retained state
+        (:func:`~coilstage.analysis.worst.braking_drawing`, as the rule's own view), each less the
+        sample's ambient shortfall from the highest (the zones follow the ambient,
+        :func:`~coilstage.analysis.conditions.zone_at_ambient`; a winding keeps its rise), so that
+        cold air, a cold weak battery and hot coils are not taken together. The regulator's
+        temperature is a parameter of its own (under the bonnet it does not follow the ambient).
+        The effort is the sum over stages of B² in the gap at each coil's ampere-turns
+        (:meth:`~coilstage.physics.magnetic.MagneticCircuit.gap_flux_density_array`),
         or (N·I)², as :func:`coilstage.analysis.worst.braking_effort`."""
         e_cold, _lim, per = self.braking
         shift = self.ambient(x) - self.d.environment.ambient_max
-        r = self.resistances(x, self.hot_t, shift)
+        r = self.resistances(x, self.braking_t, shift)
         xl, _mode = self.low_bus(x, r)
         net = self.net
         v = np.concatenate([np.zeros((x.shape[0], 1)), xl[:, : net.n]], axis=1)

@@ -72,13 +72,21 @@ class Analysis:
         object.__setattr__(self, "fuse_duty", fuse_duty(self.drawing, self.descent))
 
 
-def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients: bool = True) -> Analysis:
+def analyse(
+    d: Drawing,
+    switching: bool = True,
+    heating: bool = True,
+    transients: bool = True,
+    duty_nominal: bool | None = None,
+) -> Analysis:
     """Solve the three corners and the prospective fault currents of a drawing; with ``switching``,
     also the switch-on and switch-off scenarios; with ``heating``, the drawing's duty profile and
     continuous full retardation; with ``transients``, the field's saturating switch-on (its
     ``FieldResult.switch_on``) and the stages' switch-on times T0.95 (no rule reads either, the report
     shows them: an analysis made without them is for the re-analyses of :mod:`coilstage.effects` and
-    sizing's screens, never for a report)."""
+    sizing's screens, never for a report); with ``duty_nominal`` (by default as ``transients``) the
+    duty and continuous run again with the stated coils (``descent_nominal``, ``continuous_nominal``:
+    the heating verdicts' nominal, which only a report shows)."""
     circuit = Circuit(d)
     cases = conditions(d)
     nets = case_networks(circuit, cases)
@@ -97,7 +105,8 @@ def analyse(d: Drawing, switching: bool = True, heating: bool = True, transients
         cond = duty_conditions(d)
         descent = simulate(d, conditions=cond)
         continuous = simulate(d, continuous_duty(d), conditions=cond)
-        if transients and any(cond.coil_tolerance.values()):  # a report's: the nominal beside the worst
+        nominal_wanted = transients if duty_nominal is None else duty_nominal
+        if nominal_wanted and any(cond.coil_tolerance.values()):  # the nominal beside the worst
             nom = nominal_conditions(cond)
             descent_nominal = simulate(d, conditions=nom)
             continuous_nominal = simulate(d, continuous_duty(d), conditions=nom)

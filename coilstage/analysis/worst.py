@@ -94,6 +94,47 @@ class BrakingView:
     ratio: float  # effort / effort_cold
 
 
+def raised_battery_resistance(d: Drawing, tol: dict[str, dict], temperature: float) -> float:
+    """The battery's resistance at the low end of its charge, aged, at ``temperature`` [°C]: the
+    weakest battery its rating allows (:func:`coilstage.analysis.tolerances.battery_resistance`)
+    raised by :func:`coilstage.physics.battery.internal_resistance`, or the drawing's stated high end
+    where it gives one [Ω]."""
+    b_temp = tol["supply.battery.resistance_temperature_coefficient"]["nominal"]
+    bounds = battery_resistance(d, tol, b_temp)
+    if bounds.stated_high is not None:
+        return bounds.stated_high
+    return internal_resistance(
+        bounds.reference,
+        tol["supply.battery.state_of_charge"]["low"],
+        temperature,
+        t_reference=25.0,
+        temperature_coefficient=b_temp,
+        empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
+        age_factor=tol["supply.battery.age_factor"]["high"],
+    )
+
+
+def braking_drawing(d: Drawing, tol: dict[str, dict]) -> Drawing:
+    """The drawing in the braking-retained state (one state of the vehicle): the battery at the low end
+    of its charge and aged, its resistance taken at the highest ambient, which goes with hot coils (a
+    battery at -30 °C beside windings in an 80 °C retarder zone is two vehicles), as the hot corner's
+    battery; cables at the long end of their length tolerance; coils at the high end of their
+    resistance tolerance; the alternator hot-derated. Its hot corner's windings
+    (:func:`coilstage.analysis.conditions.hot_temperatures`) are solved again in this state (a lower
+    bus heats them less); the braking view and the tolerance model's braking network both read it."""
+    alt = d.supply.alternator
+    derate = tol["supply.alternator.hot_derating"]["high"]
+    emf_min = open_circuit_voltage(tol["supply.battery.state_of_charge"]["low"], cells=_cells(d))
+    rb_hot = raised_battery_resistance(d, tol, d.environment.ambient_max)
+    db = with_coil_tolerance(_with_cable_length(_with_battery(d, rb_hot), tol), coil_tolerances(d, tol, "high"))
+    if alt is not None:
+        alt_b = dataclasses.replace(
+            alt, limit_idle=alt.limit_idle * (1 - derate), limit_rated=alt.limit_rated * (1 - derate)
+        )
+        db = dataclasses.replace(db, supply=dataclasses.replace(db.supply, alternator=alt_b))
+    return dataclasses.replace(db, corners=dataclasses.replace(d.corners, hot_battery_emf=emf_min))
+
+
 def braking_effort(d: Drawing, currents: dict[str, float]) -> float:
     """Relative braking effort of all stages at the stage currents ``currents`` (stage id -> A): the sum
     over stages of B² in the gap at each coil's ampere-turns (the magnetic circuit), or (N·I)² for a
@@ -337,19 +378,7 @@ def worst_cases(
     )
 
     def raised_resistance(temperature: float) -> float:
-        """The battery's resistance at the low charge, aged, at ``temperature`` [°C] (the drawing's
-        stated high end where it gives one) [Ω]."""
-        if bounds.stated_high is not None:
-            return bounds.stated_high
-        return internal_resistance(
-            rb_ref,
-            soc,
-            temperature,
-            t_reference=25.0,
-            temperature_coefficient=b_temp,
-            empty_factor=tol["supply.battery.resistance_empty_factor"]["high"],
-            age_factor=age,
-        )
+        return raised_battery_resistance(d, tol, temperature)
 
     rb_max = raised_resistance(t_min)
     r_fault = tol["tolerances.fault_resistance"]["high"]
@@ -414,15 +443,7 @@ def worst_cases(
     # -30 °C beside windings in an 80 °C retarder zone is two vehicles)
     t_hot = d.environment.ambient_max
     rb_hot = raised_resistance(t_hot)
-    # the windings' steady state is solved again in this state (a lower bus heats them less), with the
-    # coils at the high end of their tolerance and the alternator hot-derated
-    db = with_coil_tolerance(_with_cable_length(_with_battery(d, rb_hot), tol), r_hi)
-    if alt is not None:
-        alt_b = dataclasses.replace(
-            alt, limit_idle=alt.limit_idle * (1 - derate), limit_rated=alt.limit_rated * (1 - derate)
-        )
-        db = dataclasses.replace(db, supply=dataclasses.replace(db.supply, alternator=alt_b))
-    db = dataclasses.replace(db, corners=dataclasses.replace(d.corners, hot_battery_emf=emf_min))
+    db = braking_drawing(d, tol)
     b_temps = hot_temperatures(db)
     bsol = Circuit(db).solve(b_temps, SourceState(emf_min, alt.setpoint if alt else None, hot_alternator_limit(db)))
     circuit = Circuit(d)

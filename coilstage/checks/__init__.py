@@ -6,6 +6,7 @@ import dataclasses
 
 import numpy as np
 
+from coilstage.analysis.duty import nominal_conditions
 from coilstage.analysis.run import Analysis
 from coilstage.analysis.sensitivities import VerdictSensitivity, analyse_sensitivities, corner_words
 from coilstage.checks import (
@@ -117,13 +118,18 @@ def with_duty_nominal(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
     the low end of its resistance tolerance) with their nominal beside them: the same rules read off
     the analysis' nominal simulations (``Analysis.descent_nominal``, ``continuous_nominal``: the coils
     as stated). The verdicts as given where the analysis made no nominal simulation."""
-    if a.descent_nominal is None:
+    if a.descent_nominal is None or a.descent is None:
+        return verdicts
+    # a nominal made for another descent (an Analysis copied with a new one) is not this one's
+    if a.descent_nominal.duty != a.descent.duty or a.descent_nominal.conditions != nominal_conditions(
+        a.descent.conditions
+    ):
         return verdicts
     nominal_a = dataclasses.replace(
         a, descent=a.descent_nominal, continuous=a.continuous_nominal if a.continuous_nominal else a.continuous
     )
     nominal = {(v.rule, v.subject): v for r in RULES if r.id in DUTY_RULES for v in r.evaluate(nominal_a)}
-    coils = dict(a.descent.conditions.words).get("coils") if a.descent is not None else None
+    coils = dict(a.descent.conditions.words).get("coils")
     deciding = (f"coils {coils}",) if coils else ()
     out = []
     for v in verdicts:
@@ -136,7 +142,8 @@ def with_duty_nominal(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
             and n.unit == v.unit
         ):
             v = decided_at_worst(v, n, DUTY_WORST)  # the note names its conditions already
-            v = dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=deciding))
+            if v.corner == DUTY_WORST:  # decided at the low end (not where the nominal is the harsher)
+                v = dataclasses.replace(v, worst=dataclasses.replace(v.worst, deciding=deciding))
         out.append(v)
     return out
 

@@ -322,11 +322,11 @@ def sensitivity_note(v: Verdict) -> str | None:
         )
     if v.worst is None and v.margin is None:
         return "not computed: this verdict has no margin to move (its limit is missing or unbounded)"
-    if v.worst is None and v.rule in DUTY_RULES:
+    if v.rule in DUTY_RULES:
         return (
             "not computed: this rule reads the simulation of the duty (the heating over the duty profile), which "
-            "the re-analyses leave out unless asked (coilstage check --duty-effects); it is decided at the "
-            "conditions it names, with no nominal beside it"
+            "the re-analyses leave out unless asked (coilstage check --duty-effects)"
+            + ("; it is decided at the conditions it names, with no nominal beside it" if v.worst is None else "")
         )
     if v.worst is None:
         return (

@@ -471,6 +471,8 @@ def build(drawing: Any, raw: dict | None = None) -> dict[str, Any]:
             _v("limit_idle", "output at idle", a.limit_idle, "A"),
             _v("limit_rated", "output at rated speed", a.limit_rated, "A"),
         ]
+        if a.compensation_limit is not None:
+            rows.append(_v("compensation_limit", "temperature compensation at most", a.compensation_limit, "V"))
         how.add(_resolve(rows, _section_keys(raw, "supply", "alternator"), _assumed(drawing, "supply.alternator")))
         parts.append(
             {

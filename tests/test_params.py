@@ -171,18 +171,10 @@ def test_lowest_bus_equals_the_scalar_solve(coach):
     xs = _samples(ps, 8, 2)
     got = evaluate(coach, xs)[("supply.bus_minimum", "bus")]
     temps = hot_temperatures(coach)
-    b = 0.008447  # ln(1.5)/48 K rounded as the shipped row states it (a 50 % rise from +30 to -18 °C)
     modes = set()
     for i, x in enumerate(xs):
         d, col = drawing_at_sample(coach, ps, x)
-        soc = col["supply.battery.state_of_charge"]
-        emf = 2 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
-        r = (
-            d.supply.battery.internal_resistance
-            * math.exp(b * (25.0 - col["environment.ambient"]))
-            * (1 + 0.4 * (1 - soc))
-            * col["supply.battery.age_factor"]
-        )
+        emf, r = _battery_by_hand(d, col)
         d = dataclasses.replace(
             d,
             supply=dataclasses.replace(d.supply, battery=dataclasses.replace(d.supply.battery, internal_resistance=r)),
@@ -214,18 +206,10 @@ def test_braking_retained_equals_the_scalar_solve_and_the_flux_law(coach):
     cold = Circuit(coach).solve(cold_t, cold_src)
     e_cold = braking_effort(coach, {s.id: abs(cold.current[s.id]) for s in coach.stages})
     hot = hot_temperatures(braking_drawing(coach, effective(coach)))
-    b = 0.008447  # as the low-bus test
     ratios = []
     for i, x in enumerate(xs):
         d, col = drawing_at_sample(coach, ps, x)
-        soc = col["supply.battery.state_of_charge"]
-        emf = 2 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
-        r = (
-            d.supply.battery.internal_resistance
-            * math.exp(b * (25.0 - col["environment.ambient"]))
-            * (1 + 0.4 * (1 - soc))
-            * col["supply.battery.age_factor"]
-        )
+        emf, r = _battery_by_hand(d, col)
         d = dataclasses.replace(
             d,
             supply=dataclasses.replace(d.supply, battery=dataclasses.replace(d.supply.battery, internal_resistance=r)),
@@ -459,12 +443,12 @@ def test_gate_reading_equals_the_rules_interpolation():
 
 
 def _battery_by_hand(d, col):
-    """EMF on the published OCV line and R = R_25 · e^{b (25 − θ)} · [1 + 0.4 (1 − SOC)] · age (as the
-    lowest-bus test above)."""
+    """EMF on the published OCV line and R = R_25 · e^{b (25 − θ)} · [1 + 0.4 (1 − SOC)] · age, the
+    battery of the low-bus and braking networks by hand."""
     cells = 12 if d.supply.system_voltage == 24 else 6
     soc = col["supply.battery.state_of_charge"]
     emf = cells / 6 * np.interp(soc, [0, 0.25, 0.5, 0.75, 1.0], OCV_12V)
-    b = 0.008447
+    b = 0.008447  # ln(1.5)/48 K rounded as the shipped row states it (a 50 % rise from +30 to -18 °C)
     r = (
         d.supply.battery.internal_resistance
         * math.exp(b * (25.0 - col["environment.ambient"]))

@@ -613,21 +613,6 @@ class Model:
                 at = coil_at(r, 1.0, hot_temperature(r))
                 if at.need > 0:
                     self.pickups[r.id] = (at.have, at.need)
-        # braking retained: the cold corner's effort (all stages on) as the reference, and each stage's
-        # ampere-turns per ampere and magnetic circuit (None: (N·I)², as analysis.worst.braking_effort)
-        self.braking: tuple[float, float, list[tuple[int, float, object]]] | None = None
-        min_ratio = d.retarder.min_braking_ratio
-        if min_ratio is not None and d.stages:
-            cold_t, cold_src = corner_sources(d)["cold"]
-            cold = Circuit(d).solve(cold_t, cold_src)
-            e_cold = braking_effort(d, {st.id: abs(cold.current[st.id]) for st in d.stages})
-            circs = {name: circuit_of(c) for name, c in d.coils.items()}
-            per = [(self.el_ix[st.id], st.coil.turns * st.coil_current_factor, circs[st.coil.name]) for st in d.stages]
-            if e_cold > 0:
-                self.braking = (e_cold, float(min_ratio), per)
-                # the windings' steady state in the braking-retained state (analysis.worst's view):
-                # held over the samples, as the low bus holds the hot corner's
-                self.braking_t = hot_temperatures(braking_drawing(d, self.tol))
         net = self.net
         # resistor rows of the three networks: the elements, then the battery's resistance (Norton
         # networks) and the alternator's source resistance (the regulating low-bus network)
@@ -652,6 +637,27 @@ class Model:
                     self.ports[net.ea[j] - 1, q] += 1.0
                 if net.eb[j] > 0:
                     self.ports[net.eb[j] - 1, q] -= 1.0
+
+    @functools.cached_property
+    def braking(self) -> tuple[float, float, list[tuple[int, float, object]], dict[str, float]] | None:
+        """What ``field.braking_retained`` is judged on, made at its first use (a sizing screen or a
+        sweep that does not ask for the rule does not pay for it): the cold corner's effort (all
+        stages on) as the reference, the drawing's minimum ratio, each stage's (element, ampere-turns
+        per ampere, magnetic circuit or None: (N·I)², as analysis.worst.braking_effort), and the
+        windings' steady state in the braking-retained state (analysis.worst's view; held over the
+        samples, as the low bus holds the hot corner's). None without a minimum or a cold effort."""
+        d = self.d
+        min_ratio = d.retarder.min_braking_ratio
+        if min_ratio is None or not d.stages:
+            return None
+        cold_t, cold_src = corner_sources(d)["cold"]
+        cold = Circuit(d).solve(cold_t, cold_src)
+        e_cold = braking_effort(d, {st.id: abs(cold.current[st.id]) for st in d.stages})
+        if e_cold <= 0:
+            return None
+        circs = {name: circuit_of(c) for name, c in d.coils.items()}
+        per = [(self.el_ix[st.id], st.coil.turns * st.coil_current_factor, circs[st.coil.name]) for st in d.stages]
+        return e_cold, float(min_ratio), per, hot_temperatures(braking_drawing(d, self.tol))
 
     # ---- the sample's inputs
     def column(self, x: np.ndarray, key: str, default: float) -> np.ndarray:
@@ -882,9 +888,9 @@ class Model:
         The effort is the sum over stages of B² in the gap at each coil's ampere-turns
         (:meth:`~coilstage.physics.magnetic.MagneticCircuit.gap_flux_density_array`),
         or (N·I)², as :func:`coilstage.analysis.worst.braking_effort`."""
-        e_cold, _lim, per = self.braking
+        e_cold, _lim, per, temps = self.braking
         shift = self.ambient(x) - self.d.environment.ambient_max
-        r = self.resistances(x, self.braking_t, shift)
+        r = self.resistances(x, temps, shift)
         xl, _mode = self.low_bus(x, r)
         net = self.net
         v = np.concatenate([np.zeros((x.shape[0], 1)), xl[:, : net.n]], axis=1)
@@ -1136,7 +1142,7 @@ def evaluate(d: Drawing, X: np.ndarray, rules: Collection[str] | None = None) ->
             out[("fuse.cable_short_circuit", f"{f.id} → {c.id}")] = Evaluated(
                 _ceiling(theta + 273.15, limit + 273.15), np.where(theta <= limit, PASS, FAIL), theta, limit, "degC", i
             )
-    if m.braking is not None and wanted("braking"):
+    if wanted("braking") and m.braking is not None:
         ratio = m.braking_ratio(x)
         lim_b = m.braking[1]
         out[("field.braking_retained", "retarder")] = Evaluated(

@@ -65,7 +65,7 @@ def figures_at(d: Drawing, corners: Mapping[tuple[str, str], Mapping[str, float]
 
 def _figures(d: Drawing, keys: list, xs: np.ndarray) -> dict[tuple[str, str], tuple]:
     uniq, row = np.unique(xs, axis=0, return_inverse=True)
-    ev: dict[tuple[str, str], Evaluated] = evaluate(d, uniq)
+    ev: dict[tuple[str, str], Evaluated] = evaluate(d, uniq, {k[0] for k in keys})  # only the networks read
     out = {}
     for k, r in zip(keys, np.ravel(row), strict=True):
         e = ev.get(k)

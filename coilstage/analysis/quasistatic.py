@@ -26,9 +26,11 @@ class QuasiStatic:
 
     The fixed part of the network (fuses, relay contacts, joints, measured grounds, the battery's
     Norton equivalent, the base load) is stamped once by :func:`coilstage.physics.network.mna_matrix`,
-    the one MNA assembly of the package; each solve stamps the temperature-dependent conductances of the
-    cables and energised stages with the same function and solves (dense below SPARSE_THRESHOLD
-    unknowns, sparse LU above).
+    the one MNA assembly of the package; each solve adds the temperature-dependent conductances of the
+    cables and energised stages and solves: below SPARSE_THRESHOLD unknowns onto the fixed part's dense
+    matrix, summed once, at the places :func:`~coilstage.physics.network.conductance_pattern` gives
+    (the same matrix :class:`~coilstage.physics.network.Factorized` would sum); above it through
+    ``mna_matrix`` and a sparse LU.
     """
 
     def __init__(self, d: Drawing, battery_emf: float, alt_setpoint: float | None) -> None:
@@ -76,8 +78,9 @@ class QuasiStatic:
         self.mode = "regulating"
         #: further (rows, cols, values) triplets added to every matrix after the variable stamps, or None
         self.extra_rows: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
-        self._fixed_dense: np.ndarray | None = None
-        self._var_stamps: tuple[np.ndarray, np.ndarray, np.ndarray] = ()  # type: ignore[assignment]
+        #: (the fixed part's dense matrix, flattened; where each variable stamp falls, its sign and its
+        #: branch), made at the first dense solve
+        self._dense_plan: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None = None
 
     def resistances(self, t_cables: np.ndarray, t_stages: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(cable resistances, stage resistances) [ohm] at these temperatures [degC]: the R(T) law of
@@ -108,18 +111,17 @@ class QuasiStatic:
 
     def _dense_solver(self, g: np.ndarray, on: np.ndarray, extra: float):
         size = self.size
-        if self._fixed_dense is None:
-            flat0 = self.r0 * size + self.c0
-            self._fixed_dense = np.bincount(flat0, weights=self.v0, minlength=size * size)
+        if self._dense_plan is None:
+            fixed = np.bincount(self.r0 * size + self.c0, weights=self.v0, minlength=size * size)
             # every variable branch and the alternator's source conductance (the last branch), stamped
             # by the one statement of the stamps
             vr, vc, vs, ve = conductance_pattern(np.append(self.var_a, self.alt_node), np.append(self.var_b, 0))
-            self._var_stamps = (vr * size + vc, vs, ve)
-        flat, signs, branch = self._var_stamps
+            self._dense_plan = (fixed, vr * size + vc, vs, ve)
+        fixed, flat, signs, branch = self._dense_plan
         # conductances as mna_matrix makes them from the resistances 1/g (so the values are its own)
         gfull = np.append(1.0 / (1.0 / np.where(on, g, 1.0)), 1.0 / (1.0 / extra) if extra else 0.0)
         live = np.append(on, bool(extra))[branch]
-        a = self._fixed_dense.copy()
+        a = fixed.copy()
         np.add.at(a, flat[live], (signs * gfull[branch])[live])
         if self.extra_rows is not None:
             er, ec, ev = self.extra_rows

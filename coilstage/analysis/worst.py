@@ -377,10 +377,7 @@ def worst_cases(
         else f"stated {rb * 1e3:.1f} mΩ at 25 °C, full"
     )
 
-    def raised_resistance(temperature: float) -> float:
-        return raised_battery_resistance(d, tol, temperature)
-
-    rb_max = raised_resistance(t_min)
+    rb_max = raised_battery_resistance(d, tol, t_min)
     r_fault = tol["tolerances.fault_resistance"]["high"]
     dmin = _with_cable_length(_with_battery(d, rb_max), tol)
     cmin = Circuit(dmin)
@@ -442,7 +439,7 @@ def worst_cases(
     # raised for its charge and age but taken at that ambient, not at the lowest one (a battery at
     # -30 °C beside windings in an 80 °C retarder zone is two vehicles)
     t_hot = d.environment.ambient_max
-    rb_hot = raised_resistance(t_hot)
+    rb_hot = raised_battery_resistance(d, tol, t_hot)
     db = braking_drawing(d, tol)
     b_temps = hot_temperatures(db)
     bsol = Circuit(db).solve(b_temps, SourceState(emf_min, alt.setpoint if alt else None, hot_alternator_limit(db)))

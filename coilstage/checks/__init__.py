@@ -125,9 +125,7 @@ def with_duty_nominal(a: Analysis, verdicts: list[Verdict]) -> list[Verdict]:
         a.descent.conditions
     ):
         return verdicts
-    nominal_a = dataclasses.replace(
-        a, descent=a.descent_nominal, continuous=a.continuous_nominal if a.continuous_nominal else a.continuous
-    )
+    nominal_a = dataclasses.replace(a, descent=a.descent_nominal, continuous=a.continuous_nominal or a.continuous)
     nominal = {(v.rule, v.subject): v for r in RULES if r.id in DUTY_RULES for v in r.evaluate(nominal_a)}
     coils = dict(a.descent.conditions.words).get("coils")
     deciding = (f"coils {coils}",) if coils else ()

@@ -103,9 +103,8 @@ def mna_matrix(
     """
     n = n_nodes - 1
     m = len(vsources.value)
-    rows, cols, take, sign = _stamp_plan(
-        n, *(np.asarray(x, dtype=np.int64).tobytes() for x in _nodes(resistors, vsources))
-    )
+    nodes = (resistors.a, resistors.b, vsources.a, vsources.b)
+    rows, cols, take, sign = _stamp_plan(n, *(np.asarray(x, dtype=np.int64).tobytes() for x in nodes))
     # each stamp's value: a conductance of its branch, or the +-1 of a source (the 1 after the last)
     x = sign * np.append(1.0 / resistors.value, 1.0)[take]
     rhs = np.zeros(n + m)
@@ -114,10 +113,6 @@ def mna_matrix(
     np.add.at(rhs, ib[ib > 0] - 1, isources.value[ib > 0])
     rhs[n:] = vsources.value
     return rows, cols, x, rhs, n
-
-
-def _nodes(resistors: Branches, vsources: Branches) -> tuple[np.ndarray, ...]:
-    return resistors.a, resistors.b, vsources.a, vsources.b
 
 
 @functools.lru_cache(maxsize=512)

@@ -442,6 +442,37 @@ def test_gate_reading_equals_the_rules_interpolation():
         assert got[fin] == pytest.approx(want[fin], rel=1e-12, abs=1e-15)
 
 
+@pytest.mark.parametrize("path", [COACH, "configs/light-truck-12v-2stage.toml", "configs/flawed-retrofit-24v.toml"])
+def test_the_models_resistances_equal_the_element_law_to_the_last_bit(path):
+    """Model.resistances (every element's constants as arrays) against
+    analysis.circuit.element_resistance called element by element, with each parameter's scale
+    applied by hand: equal bit for bit at a temperature per sample, at a temperature per element, and
+    with a per-sample shift (the three ways the networks read it)."""
+    from coilstage.analysis.circuit import element_resistance
+
+    d = load_drawing(path)
+    m = model(d)
+    x = _samples(m.params, 20, 3)
+    rng = np.random.default_rng(4)
+    ambient = rng.uniform(-30.0, 40.0, len(x))
+    shift = rng.uniform(-20.0, 0.0, len(x))
+    scale = np.ones((len(x), len(d.elements)))
+    for k, p in enumerate(m.params):
+        for eid in p.elements:
+            scale[:, m.el_ix[eid]] = 1.0 + x[:, k]
+    for temps, sh in ((ambient, None), (ambient, shift), (m.hot_t, None), (m.hot_t, shift)):
+        want = np.empty((len(x), len(d.elements)))
+        for j, e in enumerate(d.elements):
+            if isinstance(e, (Cable, Stage)):
+                t = temps if isinstance(temps, np.ndarray) else temps.get(e.id, 20.0)
+                want[:, j] = [
+                    element_resistance(e, float(v)) for v in np.broadcast_to(t if sh is None else t + sh, len(x))
+                ]
+            else:
+                want[:, j] = element_resistance(e, 20.0)
+        assert np.array_equal(m.resistances(x, temps, sh), want * scale)
+
+
 def _battery_by_hand(d, col):
     """EMF on the published OCV line and R = R_25 · e^{b (25 − θ)} · [1 + 0.4 (1 − SOC)] · age, the
     battery of the low-bus and braking networks by hand."""

@@ -577,6 +577,78 @@ def _limits(d: Drawing) -> _Limits:
     )
 
 
+def _distinct_rows(a: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The distinct rows of a 2-D array in the order they first appear, and the index of each row's
+    copy among them (as ``np.unique(a, axis=0, return_inverse=True)`` up to that order, found by the
+    rows' bytes instead of a lexicographic sort: O(N) where the samples are many and wide)."""
+    a = np.ascontiguousarray(a)
+    first: dict[bytes, int] = {}
+    inv = np.array([first.setdefault(row.tobytes(), len(first)) for row in a], dtype=np.int64)
+    keep = np.zeros(len(first), dtype=np.int64)
+    keep[inv[::-1]] = np.arange(len(a) - 1, -1, -1)  # the first row of each copy
+    return a[keep], inv
+
+
+class _ResistanceLaw:
+    """The element resistances of :meth:`Model.resistances` for N samples at once:
+    :func:`coilstage.analysis.circuit.element_resistance` (R(T) of
+    :func:`coilstage.physics.conductor.resistance_at_temperature` for cables and coils, times a
+    stage's resistance factor; the others fixed) on arrays of every element's constants, the same
+    operations in the same order, so each figure is that function's to the last bit
+    (``tests/test_params.py`` holds the two equal)."""
+
+    def __init__(self, d: Drawing, params: list[Parameter], el_ix: dict[str, int]) -> None:
+        elems = d.elements
+        self.ids = [e.id for e in elems]
+        self.thermal = np.array([j for j, e in enumerate(elems) if isinstance(e, (Cable, Stage))], dtype=np.int64)
+        ref, t_ref, alpha, factor = [], [], [], []
+        for j in self.thermal:
+            e = elems[j]
+            if isinstance(e, Cable):
+                ref.append(e.r20_per_m * e.length)
+                t_ref.append(20.0)
+                alpha.append(e.alpha20)
+                factor.append(1.0)
+            else:
+                ref.append(e.coil.r_ref)
+                t_ref.append(e.coil.t_ref)
+                alpha.append(e.coil.alpha20)
+                factor.append(e.r_factor)
+        self.r_ref = np.array(ref, dtype=float)
+        self.alpha = np.array(alpha, dtype=float)
+        self.t_ref = np.array(t_ref, dtype=float)
+        self.factor = np.array(factor, dtype=float)
+        self.fixed = np.array(
+            [0.0 if isinstance(e, (Cable, Stage)) else element_resistance(e, 20.0) for e in elems], dtype=float
+        )
+        self.thermal_ids = [self.ids[j] for j in self.thermal]
+        # each parameter's columns, in the parameters' order (a later one replaces an earlier one's scale)
+        self.scaled = [
+            (k, np.array([el_ix[eid] for eid in p.elements], dtype=np.int64))
+            for k, p in enumerate(params)
+            if p.elements
+        ]
+
+    def __call__(
+        self, x: np.ndarray, temps: dict[str, float] | np.ndarray, shift: np.ndarray | None = None
+    ) -> np.ndarray:
+        n = x.shape[0]
+        out = np.empty((n, len(self.ids)))
+        out[:] = self.fixed
+        if isinstance(temps, np.ndarray):
+            t = temps if shift is None else temps + shift
+            t = np.broadcast_to(t[:, None], (n, len(self.thermal)))
+        else:
+            t = np.array([temps.get(eid, 20.0) for eid in self.thermal_ids], dtype=float)
+            t = np.broadcast_to(t, (n, len(self.thermal))) if shift is None else t[None, :] + shift[:, None]
+        r = self.r_ref * (1.0 + self.alpha * (t - 20.0)) / (1.0 + self.alpha * (self.t_ref - 20.0))
+        out[:, self.thermal] = r * self.factor
+        scale = np.ones((n, len(self.ids)))
+        for k, cols in self.scaled:
+            scale[:, cols] = (1.0 + x[:, k])[:, None]
+        return out * scale
+
+
 class Model:
     """The vectorised model of one drawing (built once per drawing; :func:`model` caches it)."""
 
@@ -589,6 +661,7 @@ class Model:
         self.limits = _limits(d)
         self.tol = effective(d)
         self.stages = [k for k, e in enumerate(d.elements) if isinstance(e, Stage)]
+        self._resistance_law = _ResistanceLaw(d, self.params, self.el_ix)
         self.hot_t = hot_temperatures(d)
         self.hot_limit = hot_alternator_limit(d)
         # the battery's stated range, or its rated short-circuit current (the low end, where lower) and
@@ -606,6 +679,7 @@ class Model:
             if cid in cables and fuse_gates(f) is not None and cables[cid].material in MELTING_POINT
         ]
         self.far_nodes = sorted({self.net.nd[c.b] for _f, c in self.shorts})
+        self.short_groups = ShortGroup.of(self.shorts)
         # each relay coil at its hot temperature: (share of the bus it gets, the voltage it needs) [-, V]
         self.pickups: dict[str, tuple[float, float]] = {}
         for r in d.of_kind(Relay):
@@ -672,21 +746,8 @@ class Model:
     ) -> np.ndarray:
         """(N, E) element resistances [Ω]: at ``temps`` (element id -> °C, or (N,) one temperature for
         every cable and stage), raised by ``shift`` (N,) [K] where given, with each coil's and cable's
-        tolerance applied."""
-        d = self.d
-        n = x.shape[0]
-        out = np.empty((n, len(d.elements)))
-        scale = np.ones((n, len(d.elements)))
-        for k, pp in enumerate(self.params):
-            for eid in pp.elements:
-                scale[:, self.el_ix[eid]] = 1.0 + x[:, k]
-        for j, e in enumerate(d.elements):
-            if isinstance(e, (Cable, Stage)):
-                t = temps if isinstance(temps, np.ndarray) else temps.get(e.id, 20.0)
-                out[:, j] = element_resistance(e, t if shift is None else t + shift)
-            else:
-                out[:, j] = element_resistance(e, 20.0)
-        return out * scale
+        tolerance applied (:class:`_ResistanceLaw`)."""
+        return self._resistance_law(x, temps, shift)
 
     def regulated(self, x: np.ndarray) -> np.ndarray:
         """(N,) the regulator's voltage [V]: set-point with its tolerance, compensated to its temperature."""
@@ -783,10 +844,9 @@ class Model:
         solved once per network; the others are nonzero in a few entries (the sources), so each is its
         sample's values times the solutions for those unit vectors."""
         net = self.net
-        if const.shape[0] <= BATCH_SPARSE_ABOVE:
+        if const.shape[0] <= BATCH_SPARSE_ABOVE or len(g) < 2:
             return net.solve(g, stamps, const, rhs)
-        uniq, inv = np.unique(g, axis=0, return_inverse=True)
-        inv = np.ravel(inv)
+        uniq, inv = _distinct_rows(g)
         if len(uniq) == len(g):
             return net.solve(g, stamps, const, rhs)
         n, size, k = rhs.shape
@@ -967,20 +1027,18 @@ class Model:
             net.inject(rhs[:, 1 + j], net.chassis, -np.ones(n))
         g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
         sol = self._solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
-        rf = self.column(x, "tolerances.fault_resistance", self.fixed("tolerances.fault_resistance", "high"))
-
-        def at(vec: np.ndarray, node: int) -> np.ndarray:
-            return vec[:, node - 1] if node > 0 else np.zeros(vec.shape[0])
-
-        out = {}
-        for j, k in enumerate(self.far_nodes):
-            u = at(sol[:, :, 0], k) - at(sol[:, :, 0], net.chassis)
-            z = at(sol[:, :, 1 + j], k) - at(sol[:, :, 1 + j], net.chassis)
-            zs = np.where(z > 0, z, 1.0)
-            bolted = np.where(z > 0, np.abs(u) / zs, np.inf)
-            through = np.where((u > 0) & (z > 0), u / (zs + rf), 0.0)
-            out[k] = np.where(rf > 0, through, bolted)
-        return out
+        rf = self.column(x, "tolerances.fault_resistance", self.fixed("tolerances.fault_resistance", "high"))[:, None]
+        # every far end at once: the node voltages with the reference's 0 V in front (node k at row k)
+        v = np.concatenate([np.zeros((n, 1, sol.shape[2])), sol], axis=1)
+        far = np.array(self.far_nodes, dtype=np.int64)
+        col = np.arange(1, 1 + len(far))
+        u = v[:, far, 0] - v[:, net.chassis, 0][:, None]  # (N, F) open-circuit voltage
+        z = v[:, far, col] - v[:, net.chassis, col]  # (N, F) Z_kk
+        zs = np.where(z > 0, z, 1.0)
+        bolted = np.where(z > 0, np.abs(u) / zs, np.inf)
+        through = np.where((u > 0) & (z > 0), u / (zs + rf), 0.0)
+        current = np.where(rf > 0, through, bolted)
+        return {k: current[:, j] for j, k in enumerate(self.far_nodes)}
 
 
 def gate_t_max(points: tuple[tuple[float, float, float], ...], m: np.ndarray) -> np.ndarray:
@@ -1014,21 +1072,61 @@ def gate_t_max(points: tuple[tuple[float, float, float], ...], m: np.ndarray) ->
     return out
 
 
-def short_circuit_figures(f: Fuse, c: Cable, current: np.ndarray) -> tuple[np.ndarray, np.ndarray, float]:
-    """The far-end short of cable ``c`` behind fuse ``f`` at ``current`` (N,) [A]: the conductor's final
-    temperature [°C] (:data:`MELTING_POINT` where the fuse need not clear it or it melts), the fuse's
-    latest clearing time [s] (inf: need not open) and the insulation's short-circuit limit [°C]; the
-    figures of ``analysis.ratings.far_end_short`` and ``checks.fuse_timing`` over an array."""
-    gates = fuse_gates(f)
-    assert gates is not None
-    t = gate_t_max(gates.points, current / f.rating)
+@dataclass(frozen=True)
+class ShortGroup:
+    """The far-end shorts (fuse, protected cable) whose fuses share one set of gates (ISO 8820 points
+    of one type and characteristic), with each short's constants as arrays for
+    :func:`short_circuit_figures`."""
+
+    shorts: tuple[tuple[Fuse, Cable], ...]
+    points: tuple[tuple[float, float, float], ...]
+    rating: np.ndarray  # fuse rating [A]
+    area: np.ndarray  # conductor cross-section [m²]
+    k: np.ndarray  # material constant K [A·s^½/m²]
+    beta: np.ndarray  # [K]
+    start: np.ndarray  # conductor temperature at the start of the fault: its class maximum [°C]
+    melt: np.ndarray  # melting point [°C]
+    limit: np.ndarray  # insulation's short-circuit limit [°C]
+
+    @classmethod
+    def of(cls, shorts: list[tuple[Fuse, Cable]]) -> list[ShortGroup]:
+        """The shorts grouped by their fuses' gates, in the order each set of gates first appears."""
+        by: dict[tuple, list[tuple[Fuse, Cable]]] = {}
+        for f, c in shorts:
+            gates = fuse_gates(f)
+            assert gates is not None
+            by.setdefault(gates.points, []).append((f, c))
+        out = []
+        for points, group in by.items():
+            mts = [metal(c.material) for _f, c in group]
+            out.append(
+                cls(
+                    tuple(group),
+                    points,
+                    np.array([f.rating for f, _c in group], dtype=float),
+                    np.array([c.area for _f, c in group], dtype=float),
+                    np.array([mt.k for mt in mts], dtype=float),
+                    np.array([mt.beta for mt in mts], dtype=float),
+                    np.array([c.class_max for _f, c in group], dtype=float),
+                    np.array([MELTING_POINT[c.material] for _f, c in group], dtype=float),
+                    np.array([short_circuit_limit(c).limit for _f, c in group], dtype=float),
+                )
+            )
+        return out
+
+
+def short_circuit_figures(g: ShortGroup, current: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The far-end shorts of one group at ``current`` (N, S) [A] (a column per short): each conductor's
+    final temperature [°C] (its melting point where the fuse need not clear it or it melts) and the
+    fuse's latest clearing time [s] (inf: need not open); the figures of
+    ``analysis.ratings.far_end_short`` and ``checks.fuse_timing`` over an array (the gates read by
+    :func:`gate_t_max`, the heating by :func:`coilstage.physics.fault.adiabatic_final_temperature`)."""
+    t = gate_t_max(g.points, current / g.rating)
     opened = np.isfinite(t)
-    mt = metal(c.material)
     i2t = current * current * np.where(opened, t, 0.0)
-    theta = np.asarray(adiabatic_final_temperature(i2t, c.area, mt.k, mt.beta, c.class_max))
-    melt = MELTING_POINT[c.material]
-    value = np.where(opened & (theta < melt), theta, melt)
-    return value, t, short_circuit_limit(c).limit
+    theta = np.asarray(adiabatic_final_temperature(i2t, g.area, g.k, g.beta, g.start))
+    value = np.where(opened & (theta < g.melt), theta, g.melt)
+    return value, t
 
 
 _CACHE: dict[int, tuple[weakref.ref, Model]] = {}
@@ -1136,9 +1234,14 @@ def evaluate(d: Drawing, X: np.ndarray, rules: Collection[str] | None = None) ->
         out[("relay.coil_pickup", rid)] = Evaluated((have - limit) / limit, st, have, limit, "V")
     if m.shorts and wanted("smallest fault"):
         fault = m.smallest_fault(x)
-        for f, c in m.shorts:
-            i = fault[net.nd[c.b]]
-            theta, _t, limit = short_circuit_figures(f, c, i)
+        rows = {}
+        for g in m.short_groups:
+            current = np.stack([fault[net.nd[c.b]] for _f, c in g.shorts], axis=1)
+            theta, _t = short_circuit_figures(g, current)
+            for q, (f, c) in enumerate(g.shorts):
+                rows[(f.id, c.id)] = (theta[:, q], float(g.limit[q]), current[:, q])
+        for f, c in m.shorts:  # in the shorts' order
+            theta, limit, i = rows[(f.id, c.id)]
             out[("fuse.cable_short_circuit", f"{f.id} → {c.id}")] = Evaluated(
                 _ceiling(theta + 273.15, limit + 273.15), np.where(theta <= limit, PASS, FAIL), theta, limit, "degC", i
             )

@@ -190,8 +190,11 @@ def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
         return out
     cur = {k: seeds[k].copy() for k in keys}
     best: dict = {}
+    # a key whose corner no flip lowered is settled (every move from it was evaluated); only the keys
+    # that moved are searched on
+    live = list(keys)
     for _ in range(2 * len(idx) + 2):
-        uniq = {tuple(s): s for s in cur.values()}
+        uniq = {tuple(cur[k]): cur[k] for k in live}
         cand = []
         for s in uniq.values():
             cand.append(s)
@@ -199,8 +202,8 @@ def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
         cand = np.unique(np.array(cand), axis=0)
         ev = evaluate(d, rows_of(cand), rules)
         where = {tuple(s): r for r, s in enumerate(cand)}
-        moved = False
-        for k in keys:
+        moved = []
+        for k in live:
             s = cur[k]
             m = ev[k].margin
             here = where[tuple(s)]
@@ -208,10 +211,11 @@ def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
             r = min(trials, key=lambda r: m[r])
             if m[r] < m[here] - 1e-12:
                 cur[k] = cand[r].copy()
-                moved = True
+                moved.append(k)
             best[k] = (cur[k], float(m[r] if m[r] < m[here] - 1e-12 else m[here]), int(ev[k].status[r]))
         if not moved:
             break
+        live = moved
     return best
 
 

@@ -431,8 +431,9 @@ def simulate(
     i_rated = b.capacity / cond.rated_time if b.capacity else 0.0
 
     def q_shed(tc: np.ndarray) -> np.ndarray:
-        rise = np.clip(tc - cab_zone, 0.0, RISE_GRID[-1])
-        j = np.clip(np.searchsorted(RISE_GRID, rise, side="right") - 1, 0, len(RISE_GRID) - 2)
+        # (np.minimum(np.maximum(...)) is np.clip's value, at a ufunc's cost on these short arrays)
+        rise = np.minimum(np.maximum(tc - cab_zone, 0.0), RISE_GRID[-1])
+        j = np.minimum(np.maximum(np.searchsorted(RISE_GRID, rise, side="right") - 1, 0), len(RISE_GRID) - 2)
         f = (rise - RISE_GRID[j]) / (RISE_GRID[j + 1] - RISE_GRID[j])
         return shed[rows, j] * (1 - f) + shed[rows, j + 1] * f
 
@@ -471,12 +472,12 @@ def simulate(
         def rhs(_t, y):
             # a trial stage of the integrator may lie outside what a conductor can be (its error control
             # rejects such a step); the network is solved within that range so it stays solvable
-            tc = np.clip(y[:n_c], T_FLOOR, cab_melt)
-            ts = np.clip(y[n_c : n_c + n_s], T_FLOOR, st_melt)
+            tc = np.minimum(np.maximum(y[:n_c], T_FLOOR), cab_melt)
+            ts = np.minimum(np.maximum(y[n_c : n_c + n_s], T_FLOOR), st_melt)
             tz = y[iz:]
             set_battery(float(y[n_c + n_s + 1]))
-            i_c, i_s, i_bat, _ia, _x = net.solve(tc, ts, on, limit)
-            _rc, rs = net.resistances(tc, ts)
+            rc, rs = net.resistances(tc, ts)
+            i_c, i_s, i_bat, _ia, _x = net.solve_at(rc, rs, on, limit)
             p = i_s * i_s * rs
             dts = np.where(modelled, winding_heating_rate(p, ts, tz, np.where(modelled, rth, 1.0), st_cap), 0.0)
             # heat per metre: I^2 R'(T), R'(T) = R'20 times the R(T) law's ratio R(T)/R20 (written so, the

@@ -119,8 +119,8 @@ class QuasiStatic:
             self._dense_plan = (fixed, vr * size + vc, vs, ve)
         fixed, flat, signs, branch = self._dense_plan
         # conductances as mna_matrix makes them from the resistances 1/g (so the values are its own)
-        gfull = np.append(1.0 / (1.0 / np.where(on, g, 1.0)), 1.0 / (1.0 / extra) if extra else 0.0)
-        live = np.append(on, bool(extra))[branch]
+        gfull = np.concatenate((1.0 / (1.0 / np.where(on, g, 1.0)), (1.0 / (1.0 / extra) if extra else 0.0,)))
+        live = np.concatenate((on, (bool(extra),)))[branch]
         a = fixed.copy()
         np.add.at(a, flat[live], (signs * gfull[branch])[live])
         if self.extra_rows is not None:
@@ -136,7 +136,13 @@ class QuasiStatic:
 
         The alternator's state is kept from the call before and changed where the solution leaves it
         (:func:`coilstage.physics.network.charging_source_state` of what its regulator would deliver)."""
-        rc, rs = self.resistances(t_cables, t_stages)
+        return self.solve_at(*self.resistances(t_cables, t_stages), on, alt_limit)
+
+    def solve_at(
+        self, rc: np.ndarray, rs: np.ndarray, on: np.ndarray, alt_limit: float | None
+    ) -> tuple[np.ndarray, np.ndarray, float, float, np.ndarray]:
+        """:meth:`solve` with the cables' and stages' resistances ``rc``, ``rs`` [ohm] given (as
+        :meth:`resistances` makes them)."""
         g = np.concatenate([1.0 / rc, np.where(on, 1.0 / rs, 0.0)])
         rhs = self.rhs0
         i_alt = 0.0

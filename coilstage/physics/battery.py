@@ -13,6 +13,7 @@ and status; the defaults in the signatures below are the same values, named wher
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 
@@ -42,6 +43,19 @@ CRANKING_TESTS: dict[str, tuple[float, float]] = {
     "DIN 43539-2": (9.0, 30.0),  # DIN 43539-2 (withdrawn): U30 ≥ 9.0 V
     "IEC 60095-1": (8.4, 60.0),  # IEC 60095-1 (old IEC 95-1): ≥ 8.4 V after 60 s
 }
+
+
+@functools.lru_cache(maxsize=64)
+def _line_arrays(line: tuple[tuple[float, float], ...]) -> tuple[np.ndarray, np.ndarray]:
+    """The OCV line's states of charge and volts per cell as arrays, checked to ascend (made once per
+    line: a duty simulation reads the line at every step of its integrator)."""
+    xs = np.array([p[0] for p in line], dtype=float)
+    ys = np.array([p[1] for p in line], dtype=float)
+    if np.any(np.diff(xs) <= 0):
+        raise ValueError("the OCV line must ascend in state of charge")
+    xs.flags.writeable = False
+    ys.flags.writeable = False
+    return xs, ys
 
 
 def open_circuit_voltage(
@@ -90,10 +104,7 @@ def open_circuit_voltage(
     >>> round(open_circuit_voltage(0.5), 2), round(open_circuit_voltage(0.5, cells=12), 2)
     (12.24, 24.48)
     """
-    xs = np.array([p[0] for p in line], dtype=float)
-    ys = np.array([p[1] for p in line], dtype=float)
-    if np.any(np.diff(xs) <= 0):
-        raise ValueError("the OCV line must ascend in state of charge")
+    xs, ys = _line_arrays(tuple(map(tuple, line)))
     u = cells * (np.interp(soc, xs, ys) + offset_per_cell)
     return float(u) if np.ndim(u) == 0 else u
 
@@ -250,7 +261,7 @@ def internal_resistance(
     1.4
     """
     f_t = np.exp(temperature_coefficient * (t_reference - np.asarray(temperature, dtype=float)))
-    f_soc = 1.0 + (empty_factor - 1.0) * (1.0 - np.clip(soc, 0.0, 1.0))
+    f_soc = 1.0 + (empty_factor - 1.0) * (1.0 - np.minimum(np.maximum(soc, 0.0), 1.0))
     r = r_reference * f_t * f_soc * age_factor
     return float(r) if np.ndim(r) == 0 else r
 

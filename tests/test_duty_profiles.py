@@ -108,3 +108,33 @@ def test_the_loader_reports_a_profile_the_drawing_cannot_run(profiles):
         _drawing('[duty]\nprofile = "stepped"\n')
     assert [p.where for p in exc.value.problems] == ["duty.profile"]
     assert "'low'" in exc.value.problems[0].expected
+
+
+def test_a_drawing_whose_duty_is_the_continuous_profile_runs_it_once(monkeypatch):
+    """The flawed demo's own duty is the shipped continuous profile: analyse simulates it once per set of
+    conditions (worst and nominal), and each result names its own profile with the figures of a
+    separate simulation of the continuous profile, to the last bit."""
+    import numpy as np
+
+    from coilstage.analysis.duty import duty_conditions, nominal_conditions, simulate
+    from coilstage.analysis.run import analyse
+    from coilstage.drawing.load import load_drawing
+
+    d = load_drawing("configs/flawed-retrofit-24v.toml")
+    runs = []
+    real = duty_module.simulate
+
+    def counted(*args, **kwargs):
+        runs.append(1)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(duty_module, "simulate", counted)
+    a = analyse(d)
+    assert len(runs) == 2  # the worst and the nominal run, once each
+    cond = duty_conditions(d)
+    for got, c in ((a.continuous, cond), (a.continuous_nominal, nominal_conditions(cond))):
+        alone = simulate(d, continuous_duty(d), conditions=c)
+        assert got.duty == continuous_duty(d)
+        for name in ("t", "stage_temperature", "cable_temperature", "charge_drawn", "bus_voltage"):
+            np.testing.assert_array_equal(getattr(got, name), getattr(alone, name))
+    assert a.descent.duty == d.duty and a.descent.duty.description != a.continuous.duty.description

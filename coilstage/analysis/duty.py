@@ -596,3 +596,19 @@ def continuous_duty(d: Drawing) -> Duty:
     """The shipped continuous profile (full retardation, driving, until thermal steady state; the stages
     its stage column names), with the drawing's battery figures."""
     return shipped_duty(d, "continuous")
+
+
+def simulate_profiles(d: Drawing, profiles: list[Duty], conditions: DutyConditions) -> list[DutyResult]:
+    """:func:`simulate` of each profile under ``conditions``, each distinct run made once: a profile with
+    the same steps and starting charge as one before it (a drawing whose own duty is the shipped
+    continuous profile) gets that run's result with its own profile named on it (the simulation reads
+    nothing else of a profile, so the figures are the same to the last bit; the two share the cache
+    of the crossings found on that one trajectory)."""
+    done: list[tuple[Duty, DutyResult]] = []
+    out = []
+    for duty in profiles:
+        same = next((r for du, r in done if du.steps == duty.steps and du.start_soc == duty.start_soc), None)
+        result = simulate(d, duty, conditions=conditions) if same is None else dataclasses.replace(same, duty=duty)
+        done.append((duty, result))
+        out.append(result)
+    return out

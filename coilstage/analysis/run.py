@@ -21,7 +21,13 @@ from coilstage.analysis.conditions import Conditions, conditions
 from coilstage.analysis.contacts import Contacts, contacts
 from coilstage.analysis.corners import CornerResult, cold_duty, fault_currents, solve_corner
 from coilstage.analysis.drops import StageDrops, largest_current_stages
-from coilstage.analysis.duty import DutyResult, continuous_duty, duty_conditions, nominal_conditions, simulate
+from coilstage.analysis.duty import (
+    DutyResult,
+    continuous_duty,
+    duty_conditions,
+    nominal_conditions,
+    simulate_profiles,
+)
 from coilstage.analysis.field import FieldResult, analyse_field
 from coilstage.analysis.fuse_duty import FuseDuty, fuse_duty
 from coilstage.analysis.joints import JointFigures, joint_figures
@@ -103,13 +109,11 @@ def analyse(
     descent = continuous = descent_nominal = continuous_nominal = None
     if heating and d.duty is not None:
         cond = duty_conditions(d)
-        descent = simulate(d, conditions=cond)
-        continuous = simulate(d, continuous_duty(d), conditions=cond)
+        profiles = [d.duty, continuous_duty(d)]
+        descent, continuous = simulate_profiles(d, profiles, cond)
         nominal_wanted = transients if duty_nominal is None else duty_nominal
         if nominal_wanted and any(cond.coil_tolerance.values()):  # the nominal beside the worst
-            nom = nominal_conditions(cond)
-            descent_nominal = simulate(d, conditions=nom)
-            continuous_nominal = simulate(d, continuous_duty(d), conditions=nom)
+            descent_nominal, continuous_nominal = simulate_profiles(d, profiles, nominal_conditions(cond))
     switched = switched_stages(d)
     rated = _rated(d, corners, protected, far_end, duty, sw, worst, switched)
     return Analysis(

@@ -211,11 +211,37 @@ class TomlText:
         e = b.entries.get(key)
         if e is not None:
             self.text = self.text[: e.value_start] + value_text + self.text[e.value_end :]
+            if not self._shifted(e, len(value_text)):
+                self._blocks = scan(self.text)
         else:
             at = max((x.line_end for x in b.entries.values()), default=b.header_end)
             prefix = "" if at == 0 or self.text[at - 1] == "\n" else "\n"
             self.text = self.text[:at] + f"{prefix}{key} = {value_text}\n" + self.text[at:]
-        self._blocks = scan(self.text)
+            self._blocks = scan(self.text)
+
+    def _shifted(self, e: Entry, length: int) -> bool:
+        """After the value of ``e`` was replaced by ``length`` characters: the tables as :func:`scan`
+        would find them, by moving every offset past the old value (the text before it is unchanged
+        and the text after it only moved, so the scan would read the same entries there), where the
+        new value ends where the scan would end it; False (nothing changed) where it does not."""
+        end = e.value_start + length
+        if _value_end(self.text, e.value_start) != end:
+            return False
+        delta = end - e.value_end
+        old_end = e.value_end
+
+        def moved(x: int) -> int:
+            return x + delta if x >= old_end else x
+
+        for b in self._blocks:
+            b.header_end = moved(b.header_end)
+            for k, x in b.entries.items():
+                b.entries[k] = (
+                    Entry(k, x.value_start, end, x.line_start, x.line_end + delta)
+                    if x is e
+                    else Entry(k, moved(x.value_start), moved(x.value_end), moved(x.line_start), moved(x.line_end))
+                )
+        return True
 
     def delete(self, name: str, index: int, key: str) -> None:
         """Remove the line of ``key`` (with its trailing comment); nothing where it is absent."""

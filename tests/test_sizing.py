@@ -62,6 +62,51 @@ def test_edit_keeps_a_trailing_comment_and_multiline_arrays():
     assert tomllib.loads(doc.text)["harness"][0]["list"] == [1, 2]
 
 
+@settings(max_examples=40, deadline=None)
+@given(
+    st.lists(
+        st.tuples(
+            st.integers(0, 10_000),
+            st.one_of(
+                st.text(alphabet="ab #[]{}=,\"'x", max_size=8).map(format_value),
+                st.integers(-1000, 10**6).map(format_value),
+                st.lists(st.integers(0, 9), max_size=3).map(format_value),
+                st.dictionaries(st.sampled_from("pq"), st.integers(0, 9), max_size=2).map(format_value),
+                st.sampled_from(["[1,\n 2]", "1 # a comment", "{ a = 1 }"]),  # raw text the scan ends elsewhere
+            ),
+        ),
+        min_size=1,
+        max_size=6,
+    )
+)
+def test_an_edited_text_reads_as_a_fresh_scan_of_it(edits):
+    """After a run of value edits (each moving the offsets of everything after it), the editor reads as
+    an editor made afresh from the edited text: every key's value, and the lines it deletes and adds
+    (which read the lines' ends); tomllib (an independent reader) reads the result."""
+    doc = TomlText(FLAWED.read_text(encoding="utf-8"))
+    n = doc.count("harness")
+    for pick, value in edits:
+        index = pick % n
+        keys = doc.keys("harness", index)
+        doc.set("harness", index, keys[pick % len(keys)], value)
+        fresh = TomlText(doc.text)
+        for i in range(n):
+            assert doc.keys("harness", i) == fresh.keys("harness", i)
+            ks = fresh.keys("harness", i)
+            assert [doc.get("harness", i, k) for k in ks] == [fresh.get("harness", i, k) for k in ks]
+    # the lines' ends as the run of edits left them: the last edited key's line deleted, or a key added
+    # after its table's last line
+    fresh = TomlText(doc.text)
+    edited = keys[pick % len(keys)]
+    for t in (doc, fresh):
+        if pick % 2:
+            t.set("harness", index, "added_here", "1")
+        else:
+            t.delete("harness", index, edited)
+    assert doc.text == fresh.text
+    tomllib.loads(doc.text)
+
+
 # ---------------------------------------------------------------- hand-worked suggestions
 
 

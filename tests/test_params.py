@@ -585,11 +585,13 @@ def test_relay_pickup_by_hand(coach):
 def test_the_sparse_block_solve_equals_the_dense_batched_solve(coach, monkeypatch):
     """Above BATCH_SPARSE_ABOVE unknowns the samples are solved as one block-diagonal sparse system
     (scipy.sparse.linalg.splu); forced on the coach, every margin equals the batched dense solve
-    (numpy.linalg.solve) to round-off."""
+    (numpy.linalg.solve) to round-off; with samples repeated, so that each distinct network is solved
+    once and its right-hand sides that differ between samples are made from its unit solutions."""
     from coilstage.analysis import params
 
     ps = parameters(coach)
     xs = _samples(ps, 40, 7)
+    xs = np.concatenate([xs, xs[5:15], np.repeat(xs[:1], 4, axis=0)])
     dense = evaluate(coach, xs)
     monkeypatch.setattr(params, "BATCH_SPARSE_ABOVE", 0)
     sparse = evaluate(coach, xs)

@@ -582,10 +582,14 @@ def _distinct_rows(a: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     copy among them (as ``np.unique(a, axis=0, return_inverse=True)`` up to that order, found by the
     rows' bytes instead of a lexicographic sort: O(N) where the samples are many and wide)."""
     a = np.ascontiguousarray(a)
-    first: dict[bytes, int] = {}
-    inv = np.array([first.setdefault(row.tobytes(), len(first)) for row in a], dtype=np.int64)
-    keep = np.zeros(len(first), dtype=np.int64)
-    keep[inv[::-1]] = np.arange(len(a) - 1, -1, -1)  # the first row of each copy
+    slot: dict[bytes, int] = {}
+    keep: list[int] = []  # the first row of each distinct one
+    inv = np.empty(len(a), dtype=np.int64)
+    for r, row in enumerate(a):
+        j = slot.setdefault(row.tobytes(), len(keep))
+        if j == len(keep):
+            keep.append(r)
+        inv[r] = j
     return a[keep], inv
 
 

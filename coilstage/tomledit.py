@@ -225,7 +225,8 @@ class TomlText:
         and the text after it only moved, so the scan would read the same entries there), where the
         new value ends where the scan would end it; False (nothing changed) where it does not."""
         end = e.value_start + length
-        if _value_end(self.text, e.value_start) != end:
+        # (an empty value is no TOML value: the scan would skip the blanks after it)
+        if length == 0 or _value_end(self.text, e.value_start) != end:
             return False
         delta = end - e.value_end
         old_end = e.value_end

@@ -113,7 +113,9 @@ def test_the_loader_reports_a_profile_the_drawing_cannot_run(profiles):
 def test_a_drawing_whose_duty_is_the_continuous_profile_runs_it_once(monkeypatch):
     """The flawed demo's own duty is the shipped continuous profile: analyse simulates it once per set of
     conditions (worst and nominal), and each result names its own profile with the figures of a
-    separate simulation of the continuous profile, to the last bit."""
+    separate simulation of the continuous profile, to the last bit. (A profile with the same steps and
+    another starting charge cannot be written today: the shipped profiles take the drawing's; the
+    match on the starting charge is defensive.)"""
     import numpy as np
 
     from coilstage.analysis.duty import duty_conditions, nominal_conditions, simulate

@@ -447,7 +447,9 @@ def test_the_models_resistances_equal_the_element_law_to_the_last_bit(path):
     """Model.resistances (every element's constants as arrays) against
     analysis.circuit.element_resistance called element by element, with each parameter's scale
     applied by hand: equal bit for bit at a temperature per sample, at a temperature per element, and
-    with a per-sample shift (the three ways the networks read it)."""
+    with a per-sample shift (the three ways the networks read it). (parameters() gives no element to
+    two parameters, so the rule that a later parameter's scale replaces an earlier one's cannot be
+    reached from a drawing and is not tested here.)"""
     from coilstage.analysis.circuit import element_resistance
 
     d = load_drawing(path)

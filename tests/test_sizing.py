@@ -3,6 +3,7 @@ generated drawings, the coordinated `size` on the demos, the in-place TOML edito
 
 from __future__ import annotations
 
+import copy
 import difflib
 import math
 import tomllib
@@ -94,9 +95,16 @@ def test_an_edited_text_reads_as_a_fresh_scan_of_it(edits):
             assert doc.keys("harness", i) == fresh.keys("harness", i)
             ks = fresh.keys("harness", i)
             assert [doc.get("harness", i, k) for k in ks] == [fresh.get("harness", i, k) for k in ks]
+    # a later table's line deleted, from copies of the editor as the edits left it and of a fresh one
+    fresh = TomlText(doc.text)
+    later = (index + 1) % n
+    for key in fresh.keys("harness", later)[:3]:
+        a, b = copy.deepcopy(doc), copy.deepcopy(fresh)
+        a.delete("harness", later, key)
+        b.delete("harness", later, key)
+        assert a.text == b.text
     # the lines' ends as the run of edits left them: the last edited key's line deleted, or a key added
     # after its table's last line
-    fresh = TomlText(doc.text)
     edited = keys[pick % len(keys)]
     for t in (doc, fresh):
         if pick % 2:

@@ -431,7 +431,8 @@ def simulate(
     i_rated = b.capacity / cond.rated_time if b.capacity else 0.0
 
     def q_shed(tc: np.ndarray) -> np.ndarray:
-        # (np.minimum(np.maximum(...)) is np.clip's value, at a ufunc's cost on these short arrays)
+        # (np.minimum(np.maximum(...)) is np.clip's value up to the sign of a zero, at a ufunc's cost on
+        # these short arrays)
         rise = np.minimum(np.maximum(tc - cab_zone, 0.0), RISE_GRID[-1])
         j = np.minimum(np.maximum(np.searchsorted(RISE_GRID, rise, side="right") - 1, 0), len(RISE_GRID) - 2)
         f = (rise - RISE_GRID[j]) / (RISE_GRID[j + 1] - RISE_GRID[j])
@@ -601,9 +602,10 @@ def continuous_duty(d: Drawing) -> Duty:
 def simulate_profiles(d: Drawing, profiles: list[Duty], conditions: DutyConditions) -> list[DutyResult]:
     """:func:`simulate` of each profile under ``conditions``, each distinct run made once: a profile with
     the same steps and starting charge as one before it (a drawing whose own duty is the shipped
-    continuous profile) gets that run's result with its own profile named on it (the simulation reads
-    nothing else of a profile, so the figures are the same to the last bit; the two share the cache
-    of the crossings found on that one trajectory)."""
+    continuous profile) gets that run's result with its own profile named on it (nothing else of a
+    profile reaches a figure of the simulation, its name only labels an integrator's error, so the
+    figures are the same to the last bit; the two share the cache of the crossings found on that one
+    trajectory, and the network those crossings integrate again)."""
     done: list[tuple[Duty, DutyResult]] = []
     out = []
     for duty in profiles:

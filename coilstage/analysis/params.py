@@ -580,7 +580,9 @@ def _limits(d: Drawing) -> _Limits:
 def _distinct_rows(a: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The distinct rows of a 2-D array in the order they first appear, and the index of each row's
     copy among them (as ``np.unique(a, axis=0, return_inverse=True)`` up to that order, found by the
-    rows' bytes instead of a lexicographic sort: O(N) where the samples are many and wide)."""
+    rows' bytes instead of a lexicographic sort: O(N) where the samples are many and wide). Rows equal
+    but for the sign of a zero or holding NaN count as distinct: at most an extra solve, never a
+    wrong merge."""
     a = np.ascontiguousarray(a)
     slot: dict[bytes, int] = {}
     keep: list[int] = []  # the first row of each distinct one
@@ -1032,12 +1034,15 @@ class Model:
         g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
         sol = self._solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
         rf = self.column(x, "tolerances.fault_resistance", self.fixed("tolerances.fault_resistance", "high"))[:, None]
-        # every far end at once: the node voltages with the reference's 0 V in front (node k at row k)
-        v = np.concatenate([np.zeros((n, 1, sol.shape[2])), sol], axis=1)
-        far = np.array(self.far_nodes, dtype=np.int64)
-        col = np.arange(1, 1 + len(far))
-        u = v[:, far, 0] - v[:, net.chassis, 0][:, None]  # (N, F) open-circuit voltage
-        z = v[:, far, col] - v[:, net.chassis, col]  # (N, F) Z_kk
+        # every far end at once: the rows of the far ends and the chassis (node k is row k − 1; the
+        # reference, node 0, reads 0 V)
+        pick = np.array([*self.far_nodes, net.chassis], dtype=np.int64)
+        v = sol[:, np.maximum(pick - 1, 0), :]  # (N, F + 1, cols)
+        v[:, pick == 0, :] = 0.0
+        f = len(self.far_nodes)
+        col = np.arange(1, 1 + f)
+        u = v[:, :f, 0] - v[:, f, 0][:, None]  # (N, F) open-circuit voltage
+        z = v[:, np.arange(f), col] - v[:, f, col]  # (N, F) Z_kk
         zs = np.where(z > 0, z, 1.0)
         bolted = np.where(z > 0, np.abs(u) / zs, np.inf)
         through = np.where((u > 0) & (z > 0), u / (zs + rf), 0.0)
@@ -1078,8 +1083,8 @@ def gate_t_max(points: tuple[tuple[float, float, float], ...], m: np.ndarray) ->
 
 @dataclass(frozen=True)
 class ShortGroup:
-    """The far-end shorts (fuse, protected cable) whose fuses share one set of gates (ISO 8820 points
-    of one type and characteristic), with each short's constants as arrays for
+    """The far-end shorts (fuse, protected cable) whose fuses have equal gate points (ISO 8820 or the
+    maker's own, whatever their type), with each short's constants as arrays for
     :func:`short_circuit_figures`."""
 
     shorts: tuple[tuple[Fuse, Cable], ...]

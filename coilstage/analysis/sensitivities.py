@@ -191,7 +191,8 @@ def _corner_search(d, ps, keys, seeds, x0, active, exhaustive):
     cur = {k: seeds[k].copy() for k in keys}
     best: dict = {}
     # a key whose corner no flip lowered is settled (every move from it was evaluated); only the keys
-    # that moved are searched on
+    # that moved are searched on (the corners found are those of searching every key each time, to
+    # round-off: a batch's matrix product can round a row's last bits differently with the batch's size)
     live = list(keys)
     for _ in range(2 * len(idx) + 2):
         uniq = {tuple(cur[k]): cur[k] for k in live}

@@ -96,6 +96,7 @@ from coilstage.analysis.topology import protected_cables
 from coilstage.analysis.worst import braking_drawing, braking_effort
 from coilstage.drawing.schema import Cable, Drawing, Fuse, Relay, Stage
 from coilstage.physics.battery import internal_resistance, open_circuit_voltage
+from coilstage.physics.conductor import resistance_at_temperature
 from coilstage.physics.fault import adiabatic_final_temperature
 from coilstage.physics.network import PERMC_SPEC, Branches, charging_source_codes, conductance_pattern, mna_matrix
 from coilstage.physics.supply_limits import regulator_setpoint
@@ -599,8 +600,8 @@ class _ResistanceLaw:
     """The element resistances of :meth:`Model.resistances` for N samples at once:
     :func:`coilstage.analysis.circuit.element_resistance` (R(T) of
     :func:`coilstage.physics.conductor.resistance_at_temperature` for cables and coils, times a
-    stage's resistance factor; the others fixed) on arrays of every element's constants, the same
-    operations in the same order, so each figure is that function's to the last bit
+    stage's resistance factor; the others fixed) on arrays of every element's constants: the one law
+    on arrays, elementwise, so each figure is that function's to the last bit
     (``tests/test_params.py`` holds the two equal)."""
 
     def __init__(self, d: Drawing, params: list[Parameter], el_ix: dict[str, int]) -> None:
@@ -647,8 +648,7 @@ class _ResistanceLaw:
         else:
             t = np.array([temps.get(eid, 20.0) for eid in self.thermal_ids], dtype=float)
             t = np.broadcast_to(t, (n, len(self.thermal))) if shift is None else t[None, :] + shift[:, None]
-        r = self.r_ref * (1.0 + self.alpha * (t - 20.0)) / (1.0 + self.alpha * (self.t_ref - 20.0))
-        out[:, self.thermal] = r * self.factor
+        out[:, self.thermal] = resistance_at_temperature(self.r_ref, self.t_ref, t, self.alpha) * self.factor
         scale = np.ones((n, len(self.ids)))
         for k, cols in self.scaled:
             scale[:, cols] = (1.0 + x[:, k])[:, None]

@@ -1000,16 +1000,21 @@ class Model:
             net.inject(rhs[:, 1 + j], net.chassis, -np.ones(n))
         g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
         sol = self._solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
+        u, z = self._thevenin(sol, nodes)
+        current = np.abs(np.where(z > 0, u / np.where(z > 0, z, 1.0), np.inf))
+        return {f.id: current[:, j] for j, f in enumerate(fuses)}
 
-        def at(vec: np.ndarray, node: int) -> np.ndarray:
-            return vec[:, node - 1] if node > 0 else np.zeros(vec.shape[0])
-
-        out = {}
-        for j, (f, k) in enumerate(zip(fuses, nodes, strict=True)):
-            u = at(sol[:, :, 0], k) - at(sol[:, :, 0], net.chassis)
-            z = at(sol[:, :, 1 + j], k) - at(sol[:, :, 1 + j], net.chassis)
-            out[f.id] = np.abs(np.where(z > 0, u / np.where(z > 0, z, 1.0), np.inf))
-        return out
+    def _thevenin(self, sol: np.ndarray, nodes: list[int]) -> tuple[np.ndarray, np.ndarray]:
+        """(open-circuit voltage, driving-point impedance Z_kk) (N, F) of a short from each node of
+        ``nodes`` to chassis, from the solution ``sol`` (N, size, 1 + F): column 0 the network with its
+        sources, column 1 + j a unit current into node j and out of the chassis. Node k is row k − 1;
+        the reference, node 0, reads 0 V."""
+        pick = np.array([*nodes, self.net.chassis], dtype=np.int64)
+        v = sol[:, np.maximum(pick - 1, 0), :]  # (N, F + 1, cols): only the rows read
+        v[:, pick == 0, :] = 0.0
+        f = len(nodes)
+        col = np.arange(1, 1 + f)
+        return v[:, :f, 0] - v[:, f, 0][:, None], v[:, np.arange(f), col] - v[:, f, col]
 
     def smallest_fault(self, x: np.ndarray) -> dict[int, np.ndarray]:
         """Node index -> (N,) current of a short from each protected cable's far end to chassis through
@@ -1034,15 +1039,7 @@ class Model:
         g = np.concatenate([1.0 / r[:, net.res_el], 1.0 / rb[:, None]], axis=1)
         sol = self._solve(g, self.st_fault, self.c_open, np.swapaxes(rhs, 1, 2))  # (N, size, cols)
         rf = self.column(x, "tolerances.fault_resistance", self.fixed("tolerances.fault_resistance", "high"))[:, None]
-        # every far end at once: the rows of the far ends and the chassis (node k is row k − 1; the
-        # reference, node 0, reads 0 V)
-        pick = np.array([*self.far_nodes, net.chassis], dtype=np.int64)
-        v = sol[:, np.maximum(pick - 1, 0), :]  # (N, F + 1, cols)
-        v[:, pick == 0, :] = 0.0
-        f = len(self.far_nodes)
-        col = np.arange(1, 1 + f)
-        u = v[:, :f, 0] - v[:, f, 0][:, None]  # (N, F) open-circuit voltage
-        z = v[:, np.arange(f), col] - v[:, f, col]  # (N, F) Z_kk
+        u, z = self._thevenin(sol, self.far_nodes)
         zs = np.where(z > 0, z, 1.0)
         bolted = np.where(z > 0, np.abs(u) / zs, np.inf)
         through = np.where((u > 0) & (z > 0), u / (zs + rf), 0.0)

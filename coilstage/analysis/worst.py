@@ -439,8 +439,8 @@ def worst_cases(
     # raised for its charge and age but taken at that ambient, not at the lowest one (a battery at
     # -30 °C beside windings in an 80 °C retarder zone is two vehicles)
     t_hot = d.environment.ambient_max
-    rb_hot = raised_battery_resistance(d, tol, t_hot)
     db = braking_drawing(d, tol)
+    rb_hot = db.supply.battery.internal_resistance  # its battery, raised at the highest ambient
     b_temps = hot_temperatures(db)
     bsol = Circuit(db).solve(b_temps, SourceState(emf_min, alt.setpoint if alt else None, hot_alternator_limit(db)))
     circuit = Circuit(d)
